@@ -1,0 +1,41 @@
+import { and, eq, gt, isNull } from 'drizzle-orm';
+import { emailTokens } from '../../../drizzle/schema.js';
+import type { Db } from '../db/client.js';
+import { randomToken, sha256Hex } from './secrets.js';
+
+type Purpose = (typeof emailTokens.$inferInsert)['purpose'];
+type Executor = Pick<Db, 'insert' | 'update'>;
+
+export const EMAIL_TOKEN_TTL_MS: Record<Purpose, number> = {
+  verify_email: 48 * 3600 * 1000,
+  reset_password: 3600 * 1000,
+};
+
+/** Issue a mailed token; returns the plain token for the link (only its hash is stored). */
+export async function issueEmailToken(db: Executor, userId: string, purpose: Purpose): Promise<string> {
+  const token = randomToken();
+  await db.insert(emailTokens).values({
+    userId,
+    purpose,
+    tokenHash: sha256Hex(token),
+    expiresAt: new Date(Date.now() + EMAIL_TOKEN_TTL_MS[purpose]),
+  });
+  return token;
+}
+
+/** Use a token once: marks it used and returns its user, or null if unknown, used or expired. */
+export async function consumeEmailToken(db: Executor, token: string, purpose: Purpose): Promise<string | null> {
+  const [row] = await db
+    .update(emailTokens)
+    .set({ usedAt: new Date() })
+    .where(
+      and(
+        eq(emailTokens.tokenHash, sha256Hex(token)),
+        eq(emailTokens.purpose, purpose),
+        isNull(emailTokens.usedAt),
+        gt(emailTokens.expiresAt, new Date()),
+      ),
+    )
+    .returning({ userId: emailTokens.userId });
+  return row?.userId ?? null;
+}

@@ -1,0 +1,15 @@
+import { drizzle, type NodePgDatabase } from 'drizzle-orm/node-postgres';
+import pg from 'pg';
+import * as schema from '../../../drizzle/schema.js';
+
+export type Db = NodePgDatabase<typeof schema>;
+export type Database = { db: Db; pool: pg.Pool; close(): Promise<void> };
+
+/** One pool per process; `close()` ends it so tests and scripts exit cleanly. */
+export function connectDatabase(databaseUrl: string, maxConnections = 10): Database {
+  const pool = new pg.Pool({ connectionString: databaseUrl, max: maxConnections });
+  const db = drizzle(pool, { schema });
+  return { db, pool, close: () => pool.end() };
+}
+
+export { schema };

@@ -1,0 +1,60 @@
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import { JOBS_TO_QUEUE, QUEUE_NAMES, QUEUE_PREFIX, jobIdFor, type JobItem, type QueueName } from '../../../shared/jobs.js';
+
+/** The producer side of shared/jobs.ts. The only module in api/ that imports bullmq. */
+export interface JobQueue {
+  enqueue(item: JobItem): Promise<void>;
+  /** drop a job that has not started (cancelled runs); a running job sees the run's status instead */
+  remove(item: JobItem): Promise<void>;
+  ping(): Promise<boolean>;
+  close(): Promise<void>;
+}
+
+export type JobQueueOptions = {
+  /** BullMQ key prefix; tests use a unique one per file so they never see each other's jobs */
+  prefix?: string;
+};
+
+export function createJobQueue(redisUrl: string, options: JobQueueOptions = {}): JobQueue {
+  // BullMQ needs maxRetriesPerRequest: null on connections it blocks on (stack notes §4).
+  const connection = new Redis(redisUrl, { maxRetriesPerRequest: null, lazyConnect: false });
+  const queues = new Map<QueueName, Queue>();
+  const queueFor = (name: QueueName) => {
+    let q = queues.get(name);
+    if (!q) {
+      q = new Queue(name, { connection, prefix: options.prefix ?? QUEUE_PREFIX });
+      queues.set(name, q);
+    }
+    return q;
+  };
+  return {
+    async enqueue(item) {
+      await queueFor(JOBS_TO_QUEUE[item.name]).add(item.name, item.data, {
+        jobId: jobIdFor(item),
+        // Exact runs are deterministic: a failure with the same spec fails again, so retry only for crashes.
+        attempts: 2,
+        backoff: { type: 'exponential', delay: 5000 },
+        removeOnComplete: { age: 7 * 24 * 3600 },
+        removeOnFail: { age: 30 * 24 * 3600 },
+      });
+    },
+    async remove(item) {
+      const job = await queueFor(JOBS_TO_QUEUE[item.name]).getJob(jobIdFor(item));
+      if (job && (await job.isWaiting() || await job.isDelayed())) await job.remove();
+    },
+    async ping() {
+      try {
+        return (await connection.ping()) === 'PONG';
+      } catch {
+        return false;
+      }
+    },
+    async close() {
+      await Promise.all([...queues.values()].map((q) => q.close()));
+      await connection.quit().catch(() => connection.disconnect());
+    },
+  };
+}
+
+export { QUEUE_NAMES };

@@ -1,0 +1,83 @@
+import {
+  CreateBucketCommand,
+  DeleteObjectCommand,
+  GetObjectCommand,
+  HeadBucketCommand,
+  ListObjectsV2Command,
+  NoSuchKey,
+  PutObjectCommand,
+  S3Client,
+} from '@aws-sdk/client-s3';
+import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
+import type { Env } from '../../../shared/env.js';
+import type { BlobStore } from './blob-store.js';
+
+type S3Settings = Pick<Env, 'S3_ENDPOINT' | 'S3_REGION' | 'S3_BUCKET' | 'S3_ACCESS_KEY_ID' | 'S3_SECRET_ACCESS_KEY'>;
+
+function s3Client(env: S3Settings): S3Client {
+  return new S3Client({
+    region: env.S3_REGION,
+    endpoint: env.S3_ENDPOINT,
+    forcePathStyle: true,
+    credentials: { accessKeyId: env.S3_ACCESS_KEY_ID, secretAccessKey: env.S3_SECRET_ACCESS_KEY },
+    // The local fake does not speak the SDK's default CRC32 checksums (stack notes §6).
+    requestChecksumCalculation: 'WHEN_REQUIRED',
+    responseChecksumValidation: 'WHEN_REQUIRED',
+  });
+}
+
+export function createS3BlobStore(env: S3Settings): BlobStore {
+  const client = s3Client(env);
+  const Bucket = env.S3_BUCKET;
+  return {
+    async put(key, body, contentType) {
+      await client.send(new PutObjectCommand({ Bucket, Key: key, Body: body, ContentType: contentType }));
+    },
+    async get(key) {
+      try {
+        const out = await client.send(new GetObjectCommand({ Bucket, Key: key }));
+        return Buffer.from(await out.Body!.transformToByteArray());
+      } catch (err) {
+        if (err instanceof NoSuchKey || (err as Error).name === 'NoSuchKey') return null;
+        throw err;
+      }
+    },
+    async delete(key) {
+      await client.send(new DeleteObjectCommand({ Bucket, Key: key }));
+    },
+    async list(prefix) {
+      const keys: string[] = [];
+      let token: string | undefined;
+      do {
+        const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }));
+        for (const o of page.Contents ?? []) if (o.Key) keys.push(o.Key);
+        token = page.IsTruncated ? page.NextContinuationToken : undefined;
+      } while (token);
+      return keys;
+    },
+    signedUrl(key, expiresIn) {
+      return getSignedUrl(client, new GetObjectCommand({ Bucket, Key: key }), { expiresIn });
+    },
+    async ping() {
+      try {
+        await client.send(new HeadBucketCommand({ Bucket }));
+        return true;
+      } catch {
+        return false;
+      }
+    },
+    close: () => client.destroy(),
+  };
+}
+
+/** Create the bucket if it is missing (local fake and first deploys). */
+export async function ensureBucket(env: S3Settings): Promise<void> {
+  const client = s3Client(env);
+  try {
+    await client.send(new HeadBucketCommand({ Bucket: env.S3_BUCKET }));
+  } catch {
+    await client.send(new CreateBucketCommand({ Bucket: env.S3_BUCKET }));
+  } finally {
+    client.destroy();
+  }
+}

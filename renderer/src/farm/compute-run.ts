@@ -1,0 +1,111 @@
+import { UnrecoverableError, type Job } from 'bullmq';
+import type { Db } from '../../../api/src/db/client.js';
+import type { BlobStore } from '../../../api/src/storage/blob-store.js';
+import { JOB_NAMES, computeRunDataSchema, type JobOf } from '../../../shared/jobs.js';
+import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize, type Uploads } from '../engine/index.js';
+import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cli/export-arrays.js';
+import { toJson, type Sidecar } from '../cli/sidecar.js';
+import { heightsFromNpy } from '../cli/upload-array.js';
+import { writeNpy } from '../npy/index.js';
+import { arrayKeys, uploadKey } from './artifacts.js';
+import { runState } from './run-state.js';
+
+export interface ComputeDeps {
+  db: Db;
+  store: BlobStore;
+  /** queue the rendering of a computed run */
+  enqueueRender(runId: string): Promise<void>;
+  threads?: number;
+}
+
+/** How often the worker writes progress to PostgreSQL and looks for a cancellation. */
+const PROGRESS_EVERY_MS = 1000;
+
+/** Run outcomes the farm does not retry: the same specification would fail the same way. */
+function unrecoverable(err: unknown): err is Error {
+  return isEngineError(err);
+}
+
+async function loadUploads(store: BlobStore, data: JobOf<typeof JOB_NAMES.computeRun>): Promise<Uploads | undefined> {
+  const bg = data.spec.background;
+  if (bg.kind !== 'array') return undefined;
+  const bytes = await store.get(uploadKey(bg.sha256));
+  if (!bytes) throw new UnrecoverableError(`the uploaded background ${bg.sha256.slice(0, 12)}… is not in the store`);
+  try {
+    return { background: heightsFromNpy(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), 'uploaded background') };
+  } catch (err) {
+    throw new UnrecoverableError((err as Error).message);
+  }
+}
+
+/**
+ * Stabilizes one run: the spec travels in the job, the arrays and statistics go to the object store,
+ * the state to PostgreSQL; rendering is a job of its own so render workers can scale apart.
+ */
+export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished' | 'skipped'> {
+  const data = computeRunDataSchema.parse(job.data);
+  const state = runState(deps.db, data.runId);
+  const status = await state.current();
+  if (status === null || status === 'cancelled' || status === 'finished') return 'skipped';
+
+  await state.started('preparing');
+  const abort = new AbortController();
+  let lastWrite = 0;
+  let pending: Promise<unknown> = Promise.resolve();
+  try {
+    const problem = resolveProblem(data.spec, await loadUploads(deps.store, data));
+    const outcome = await stabilize(problem, {
+      threads: deps.threads,
+      signal: abort.signal,
+      onProgress: (p) => {
+        const now = Date.now();
+        if (now - lastWrite < PROGRESS_EVERY_MS) return;
+        lastWrite = now;
+        pending = pending.then(async () => {
+          await job.updateProgress({ stage: p.stage, fraction: p.fraction });
+          await state.progress(p.stage, p.fraction);
+          if ((await state.current()) === 'cancelled') abort.abort(new Error('cancelled by its author'));
+        });
+      },
+    });
+    await pending;
+
+    const keys = arrayKeys(data.runId);
+    const heights = heightsForExport(outcome.heights);
+    const odometer = odometerForExport(outcome.odometer, 'int64');
+    const stats = runStatsToJSON(outcome.stats);
+    const record = (file: string, arr: typeof heights | typeof odometer) => ({
+      file,
+      dtype: dtypeName(arr),
+      shape: outcome.shape,
+      origin: outcome.origin,
+      sha256: arrayHash(arr),
+    });
+    const sidecar: Sidecar = {
+      format: 'toppleworks.export/1',
+      engineVersion: ENGINE_VERSION,
+      spec: data.spec,
+      heights: record('heights.npy', heights),
+      odometer: record('odometer.npy', odometer),
+      stats,
+      createdAt: new Date().toISOString(),
+    };
+    await deps.store.put(keys.heights, Buffer.from(writeNpy(outcome.shape, heights)), 'application/octet-stream');
+    await deps.store.put(keys.odometer, Buffer.from(writeNpy(outcome.shape, odometer)), 'application/octet-stream');
+    // written last: its presence says the arrays beside it are complete
+    await deps.store.put(keys.sidecar, toJson(sidecar, 2), 'application/json');
+    await state.computed(stats);
+    await deps.enqueueRender(data.runId);
+    return 'finished';
+  } catch (err) {
+    await pending.catch(() => {});
+    if (abort.signal.aborted) return 'skipped';
+    if (unrecoverable(err) || err instanceof UnrecoverableError) {
+      await state.failed(err.message);
+      throw new UnrecoverableError(err.message);
+    }
+    // transient (store or database hiccup): BullMQ retries with backoff; mark failed on the last attempt
+    if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) await state.failed(`the farm could not finish this run: ${(err as Error).message}`);
+    throw err;
+  }
+}

@@ -1,0 +1,53 @@
+import { z } from 'zod';
+import { runSpecSchema } from './run-spec.js';
+
+/**
+ * The typed BullMQ job contract shared by the API (producer) and the renderer (consumer).
+ * Each job is a `{ name, data }` pair; `JOBS_TO_QUEUE` maps every job to its queue, so adding a
+ * job without choosing a queue fails to compile.
+ */
+
+/** BullMQ key prefix shared by producer and workers (BullMQ's own default is "bull"); tests use their own. */
+export const QUEUE_PREFIX = 'tw';
+
+export const QUEUE_NAMES = {
+  /** exact stabilisation: CPU-heavy, few at a time */
+  compute: 'tw-compute',
+  /** tiles, previews and print files from finished arrays */
+  render: 'tw-render',
+} as const;
+export type QueueName = (typeof QUEUE_NAMES)[keyof typeof QUEUE_NAMES];
+
+export const JOB_NAMES = {
+  /** stabilise a run's spec and store arrays + statistics */
+  computeRun: 'run.compute',
+  /** render the deep-zoom pyramid and previews of a computed run */
+  renderRun: 'run.render',
+} as const;
+export type JobName = (typeof JOB_NAMES)[keyof typeof JOB_NAMES];
+
+/** The spec travels with the job so the worker needs no database read to start (it is also the cache key). */
+export const computeRunDataSchema = z.strictObject({ runId: z.uuid(), spec: runSpecSchema });
+export const renderRunDataSchema = z.strictObject({ runId: z.uuid() });
+
+export type JobItem =
+  | { name: typeof JOB_NAMES.computeRun; data: z.infer<typeof computeRunDataSchema> }
+  | { name: typeof JOB_NAMES.renderRun; data: z.infer<typeof renderRunDataSchema> };
+
+export type JobOf<N extends JobName> = Extract<JobItem, { name: N }>['data'];
+
+/** Validators of each job's data, for the worker to parse `job.data` before acting on it. */
+export const JOB_DATA_SCHEMAS: { [N in JobName]: z.ZodType<JobOf<N>> } = {
+  [JOB_NAMES.computeRun]: computeRunDataSchema,
+  [JOB_NAMES.renderRun]: renderRunDataSchema,
+};
+
+export const JOBS_TO_QUEUE: Record<JobName, QueueName> = {
+  [JOB_NAMES.computeRun]: QUEUE_NAMES.compute,
+  [JOB_NAMES.renderRun]: QUEUE_NAMES.render,
+};
+
+/** One job per run and kind: the job id makes a repeated enqueue a no-op (BullMQ refuses ":" in custom ids). */
+export function jobIdFor(item: JobItem): string {
+  return `${item.name}--${item.data.runId}`;
+}

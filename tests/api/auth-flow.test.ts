@@ -1,0 +1,153 @@
+import { eq } from 'drizzle-orm';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { sessions, users } from '../../drizzle/schema.js';
+import { meResponseSchema, userResponseSchema } from '../../shared/api/auth.js';
+import { apiErrorSchema } from '../../shared/api/errors.js';
+import { as, sessionFrom, signIn, startHarness, userByEmail, type Harness } from './support/harness.js';
+import { linkToken, mailsTo, waitForMail } from './support/outbox.js';
+
+let h: Harness;
+beforeAll(async () => {
+  h = await startHarness('auth');
+});
+afterAll(async () => {
+  await h.close();
+});
+
+describe('sign-up, e-mail verification and sign-in', () => {
+  it('goes from sign-up through the mailed link to /api/me', async () => {
+    const email = h.email('Ada.Quist');
+    const up = await h.http.post('/api/auth/sign-up').send({ email: `  ${email.toUpperCase()} `, password: 'grains-of-sand-1', name: 'Ada Quist' });
+    expect(up.status).toBe(201);
+    const { user } = userResponseSchema.parse(up.body);
+    expect(user).toMatchObject({ email: email.toLowerCase(), name: 'Ada Quist', emailVerified: false, isAdmin: false });
+    const stored = await userByEmail(h, email.toLowerCase());
+    expect(stored!.passwordHash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$/);
+
+    // unverified: signed in, but labs wait for the address
+    const early = sessionFrom(up);
+    const lab = await as(h.http.post('/api/labs'), early).send({ name: `Unverified ${h.tag}` });
+    expect(lab.status).toBe(403);
+    expect(lab.body.error).toBe('verify your e-mail first');
+
+    // a second mail on request; the newest link is the one used below, and both are valid
+    await as(h.http.post('/api/auth/verify-email/resend'), early).expect(202);
+    const mail = await waitForMail(h.env, email.toLowerCase(), /confirm your e-mail/i);
+    expect(mail.text).toContain(`${h.env.PUBLIC_URL}/verify-email?token=`);
+    expect(mail.html).toContain('verify-email?token=');
+    const token = linkToken(mail.text, /verify-email\?token=([A-Za-z0-9_%-]+)/);
+
+    const verified = await h.http.post('/api/auth/verify-email').send({ token });
+    expect(verified.status).toBe(200);
+    expect(verified.body.user.emailVerified).toBe(true);
+    // single use
+    const again = await h.http.post('/api/auth/verify-email').send({ token });
+    expect(again.status).toBe(400);
+    expect(again.body.error).toMatch(/invalid, used or expired/);
+
+    const session = await signIn(h, email, 'grains-of-sand-1');
+    const me = await as(h.http.get('/api/me'), session);
+    expect(me.status).toBe(200);
+    expect(meResponseSchema.parse(me.body)).toEqual({
+      user: { id: user.id, email: email.toLowerCase(), name: 'Ada Quist', emailVerified: true, isAdmin: false },
+      labs: [],
+      activeLabId: null,
+    });
+  });
+
+  it('sets an httpOnly SameSite=Lax session cookie and a readable CSRF cookie', async () => {
+    const email = h.email('cookie');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'cookie-jar-pass', name: 'Cookie' }).expect(201);
+    const res = await h.http.post('/api/auth/sign-in').send({ email, password: 'cookie-jar-pass' }).expect(200);
+    const cookies = res.headers['set-cookie'] as unknown as string[];
+    const session = cookies.find((c) => c.startsWith('tw_session='))!;
+    const csrf = cookies.find((c) => c.startsWith('tw_csrf='))!;
+    expect(session).toMatch(/HttpOnly/i);
+    expect(session).toMatch(/SameSite=Lax/i);
+    expect(csrf).not.toMatch(/HttpOnly/i);
+    // 7 days, to the minute
+    const expires = new Date(/Expires=([^;]+)/i.exec(session)![1]!).getTime();
+    expect(Math.abs(expires - (Date.now() + 7 * 24 * 3600 * 1000))).toBeLessThan(60_000);
+  });
+
+  it('refuses a second account for the same address (any case) with 409', async () => {
+    const email = h.email('twice');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'first-password', name: 'One' }).expect(201);
+    const dup = await h.http.post('/api/auth/sign-up').send({ email: email.toUpperCase(), password: 'second-password', name: 'Two' });
+    expect(dup.status).toBe(409);
+    expect(apiErrorSchema.parse(dup.body).error).toBe('an account with this e-mail already exists');
+    const [row] = await h.deps.db.select().from(users).where(eq(users.email, email));
+    expect(row!.name).toBe('One');
+  });
+
+  it('answers a wrong password and an unknown address the same way', async () => {
+    const email = h.email('wrong');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'right-password', name: 'W' }).expect(201);
+    const bad = await h.http.post('/api/auth/sign-in').send({ email, password: 'wrong-password' });
+    const unknown = await h.http.post('/api/auth/sign-in').send({ email: h.email('nobody'), password: 'wrong-password' });
+    expect([bad.status, unknown.status]).toEqual([401, 401]);
+    expect(bad.body.error).toBe('wrong e-mail or password');
+    expect(unknown.body.error).toBe('wrong e-mail or password');
+    expect(bad.headers['set-cookie']).toBeUndefined();
+  });
+
+  it('revokes the session on sign-out', async () => {
+    const email = h.email('leaver');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'leaving-now-1', name: 'L' }).expect(201);
+    const s = await signIn(h, email, 'leaving-now-1');
+    await as(h.http.get('/api/me'), s).expect(200);
+    await as(h.http.post('/api/auth/sign-out'), s).expect(204);
+    const after = await as(h.http.get('/api/me'), s);
+    expect(after.status).toBe(401);
+    const u = await userByEmail(h, email);
+    const rows = await h.deps.db.select().from(sessions).where(eq(sessions.userId, u!.id));
+    // sign-up's session and the sign-in's; the latter is revoked
+    expect(rows.filter((r) => r.revokedAt !== null)).toHaveLength(1);
+  });
+});
+
+describe('password reset by mail', () => {
+  it('mails a one-hour single-use link, changes the password and ends every session', async () => {
+    const email = h.email('forgetful');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'old-password-1', name: 'Forgetful' }).expect(201);
+    const s1 = await signIn(h, email, 'old-password-1');
+    const s2 = await signIn(h, email, 'old-password-1');
+
+    const ask = await h.http.post('/api/auth/password-reset').send({ email });
+    expect(ask.status).toBe(202);
+    const mail = await waitForMail(h.env, email, /new toppleworks password/i);
+    expect(mail.text).toContain(`${h.env.PUBLIC_URL}/reset-password?token=`);
+    const token = linkToken(mail.text, /reset-password\?token=([A-Za-z0-9_%-]+)/);
+
+    const done = await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'new-password-22' });
+    expect(done.status).toBe(200);
+    expect(done.body.user.email).toBe(email);
+
+    await as(h.http.get('/api/me'), s1).expect(401);
+    await as(h.http.get('/api/me'), s2).expect(401);
+    await h.http.post('/api/auth/sign-in').send({ email, password: 'old-password-1' }).expect(401);
+    await signIn(h, email, 'new-password-22');
+    const reuse = await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'third-password-3' });
+    expect(reuse.status).toBe(400);
+    expect(reuse.body.error).toMatch(/password reset link is invalid, used or expired/);
+  });
+
+  it('answers 202 for an unknown address and sends nothing', async () => {
+    const email = h.email('ghost');
+    const res = await h.http.post('/api/auth/password-reset').send({ email });
+    expect(res.status).toBe(202);
+    await new Promise((r) => setTimeout(r, 300));
+    expect(await mailsTo(h.env, email)).toEqual([]);
+  });
+
+  it('refuses a short new password and keeps the token usable', async () => {
+    const email = h.email('short');
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'long-enough-1', name: 'S' }).expect(201);
+    await h.http.post('/api/auth/password-reset').send({ email }).expect(202);
+    const token = linkToken((await waitForMail(h.env, email, /password/i)).text, /reset-password\?token=([A-Za-z0-9_%-]+)/);
+    const short = await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'short' });
+    expect(short.status).toBe(400);
+    expect(short.body.issues).toEqual([{ path: 'password', message: 'password must be at least 10 characters' }]);
+    await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'long-enough-2' }).expect(200);
+  });
+});

@@ -1,0 +1,107 @@
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import { eq } from 'drizzle-orm';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { memberships, runs } from '../../drizzle/schema.js';
+import { listRunsResponseSchema, runResponseSchema } from '../../shared/api/runs.js';
+import { JOB_NAMES, JOBS_TO_QUEUE, jobIdFor, QUEUE_NAMES } from '../../shared/jobs.js';
+import { runSpecSchema } from '../../shared/run-spec.js';
+import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
+
+let h: Harness;
+let author: Session;
+let manager: Session;
+let authorId: string;
+let labId: string;
+let redis: Redis;
+let compute: Queue;
+
+beforeAll(async () => {
+  h = await startHarness('runs');
+  const a = await createUser(h, 'Run Author');
+  const m = await createUser(h, 'Run Manager');
+  authorId = a.id;
+  labId = await createLab(h, 'Runs Lab', [
+    { userId: a.id, role: 'author' },
+    { userId: m.id, role: 'manager' },
+  ]);
+  author = await signIn(h, a.email, TEST_PASSWORD);
+  manager = await signIn(h, m.email, TEST_PASSWORD);
+  redis = new Redis(h.env.REDIS_URL, { maxRetriesPerRequest: null });
+  compute = new Queue(QUEUE_NAMES.compute, { connection: redis, prefix: h.queuePrefix });
+});
+afterAll(async () => {
+  await compute.obliterate({ force: true });
+  await compute.close();
+  await redis.quit();
+  await h.close();
+});
+
+const create = (who: Session, title: string, spec: unknown) => as(h.http.post('/api/runs'), who).send({ labId, title, spec });
+
+describe('runs', () => {
+  it('stores a queued run with defaults filled in and enqueues its compute job', async () => {
+    const res = await create(author, 'First pile', { lattice: { preset: 'square' }, chips: 1000 });
+    expect(res.status).toBe(201);
+    const { run } = runResponseSchema.parse(res.body);
+    expect(run).toMatchObject({ status: 'queued', progress: 0, stats: null, author: { id: authorId, name: 'Run Author' }, labId });
+    expect(run.spec).toEqual({ lattice: { preset: 'square' }, chips: 1000, sources: [], background: { kind: 'constant', height: 0 } });
+    expect(JOBS_TO_QUEUE[JOB_NAMES.computeRun]).toBe(QUEUE_NAMES.compute);
+    const job = await compute.getJob(jobIdFor({ name: JOB_NAMES.computeRun, data: { runId: run.id, spec: run.spec } }));
+    expect(job?.name).toBe('run.compute');
+    expect(job?.data).toEqual({ runId: run.id, spec: run.spec });
+    expect(runSpecSchema.parse(job!.data.spec)).toEqual(run.spec);
+    const [row] = await h.deps.db.select().from(runs).where(eq(runs.id, run.id));
+    expect(row!.status).toBe('queued');
+    const got = await as(h.http.get(`/api/runs/${run.id}`), manager).expect(200);
+    expect(got.body.run.id).toBe(run.id);
+  });
+
+  it('lists with server-side filtering, sorting and pagination, defaulting to the active lab', async () => {
+    await create(author, 'Tri small', { lattice: { preset: 'triangular' }, chips: 300 }).expect(201);
+    await create(manager, 'Honey mid', { lattice: { preset: 'honeycomb' }, chips: 5000 }).expect(201);
+    await create(author, 'Tri big', { lattice: { preset: 'triangular' }, chips: 90000 }).expect(201);
+    await create(manager, 'Periodic', { lattice: { periodic: { period: [1, 1], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1]]]] }, name: 'plain grid' }, chips: 40 }).expect(201);
+
+    const all = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${labId}&sort=chips&order=asc`), author).expect(200)).body);
+    expect(all.total).toBe(5);
+    expect(all.runs.map((r) => r.spec.chips)).toEqual([40, 300, 1000, 5000, 90000]);
+
+    // no labId: the caller's only lab is the active one
+    const page2 = listRunsResponseSchema.parse((await as(h.http.get('/api/runs?sort=chips&order=desc&pageSize=2&page=2'), author).expect(200)).body);
+    expect(page2).toMatchObject({ total: 5, page: 2, pageSize: 2 });
+    expect(page2.runs.map((r) => r.title)).toEqual(['First pile', 'Tri small']);
+
+    const tri = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${labId}&lattice=triangular&sort=title&order=asc`), author)).body);
+    expect(tri.runs.map((r) => r.title)).toEqual(['Tri big', 'Tri small']);
+    const periodic = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${labId}&lattice=periodic`), author)).body);
+    expect(periodic.runs.map((r) => r.title)).toEqual(['Periodic']);
+    const mine = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${labId}&author=${authorId}`), manager)).body);
+    expect(mine.total).toBe(3);
+    const finished = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${labId}&status=finished`), manager)).body);
+    expect(finished).toMatchObject({ total: 0, runs: [] });
+  });
+
+  it('cancels a queued run, drops its waiting job, and refuses a second cancel', async () => {
+    const { run } = runResponseSchema.parse((await create(author, 'To cancel', { lattice: { preset: 'line' }, chips: 11 }).expect(201)).body);
+    const jobId = jobIdFor({ name: JOB_NAMES.computeRun, data: { runId: run.id, spec: run.spec } });
+    expect(await compute.getJob(jobId)).toBeDefined();
+    const res = await as(h.http.post(`/api/runs/${run.id}/cancel`), author);
+    expect(res.status).toBe(200);
+    expect(res.body.run.status).toBe('cancelled');
+    expect(res.body.run.finishedAt).not.toBeNull();
+    expect(await compute.getJob(jobId)).toBeUndefined();
+    const again = await as(h.http.post(`/api/runs/${run.id}/cancel`), manager);
+    expect(again.status).toBe(409);
+    expect(again.body.error).toBe('run is already cancelled');
+  });
+
+  it('needs a verified e-mail to start a run', async () => {
+    const u = await createUser(h, 'Unverified Member', { verified: false });
+    await h.deps.db.insert(memberships).values({ labId, userId: u.id, role: 'author' });
+    const s = await signIn(h, u.email, TEST_PASSWORD);
+    const res = await create(s, 'Not yet', { lattice: { preset: 'square' }, chips: 1 });
+    expect(res.status).toBe(403);
+    expect(res.body.error).toBe('verify your e-mail first');
+  });
+});
