@@ -1,7 +1,7 @@
 import { asc, sql } from 'drizzle-orm';
 import { Router } from 'express';
 import { adminLabsResponseSchema, adminUsersResponseSchema } from '../../../shared/api/admin.js';
-import { labs, memberships, runs, users } from '../../../drizzle/schema.js';
+import { labs, users } from '../../../drizzle/schema.js';
 import { requireAdmin, requireUser } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
 import { respond } from '../http/respond.js';
@@ -16,8 +16,9 @@ export function adminRouter({ db }: AppDeps): Router {
         id: labs.id,
         name: labs.name,
         createdAt: labs.createdAt,
-        members: sql<number>`(select count(*)::int from ${memberships} where ${memberships.labId} = ${labs.id})`,
-        runs: sql<number>`(select count(*)::int from ${runs} where ${runs.labId} = ${labs.id})`,
+        // drizzle writes columns inside sql`` unqualified, which a correlated subquery would bind to its own table
+        members: sql<number>`(select count(*)::int from "memberships" m where m."lab_id" = "labs"."id")`,
+        runs: sql<number>`(select count(*)::int from "runs" r where r."lab_id" = "labs"."id")`,
       })
       .from(labs)
       .orderBy(asc(labs.name));
@@ -32,7 +33,7 @@ export function adminRouter({ db }: AppDeps): Router {
         name: users.name,
         isAdmin: users.isAdmin,
         createdAt: users.createdAt,
-        labs: sql<string[]>`coalesce((select array_agg(${labs.name} order by ${labs.name}) from ${memberships} join ${labs} on ${labs.id} = ${memberships.labId} where ${memberships.userId} = ${users.id}), '{}')`,
+        labs: sql<string[]>`coalesce((select array_agg(l."name" order by l."name") from "memberships" m join "labs" l on l."id" = m."lab_id" where m."user_id" = "users"."id"), '{}')`,
       })
       .from(users)
       .orderBy(asc(users.email));

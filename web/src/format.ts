@@ -1,0 +1,93 @@
+/**
+ * Exact number display: thousands grouped, large counts also as a power of ten, units always named.
+ * Pure functions, so the same rules hold in tables, headings and tests.
+ */
+
+const grouped = new Intl.NumberFormat('en-US', { maximumFractionDigits: 0, useGrouping: true });
+
+/** 1234567 -> "1,234,567". Integers only; bigint keeps counts beyond 2^53 exact. */
+export function groupThousands(n: number | bigint): string {
+  if (typeof n === 'number' && !Number.isFinite(n)) return String(n);
+  return grouped.format(n);
+}
+
+export interface PowerOfTen {
+  /** decimal mantissa written exactly, e.g. "2.5"; "1" for an exact power of ten */
+  mantissa: string;
+  exponent: number;
+}
+
+/**
+ * Scientific form written from the integer's digits, so no rounding ever creeps in:
+ * 1000000 -> { mantissa: "1", exponent: 6 }, 2500000 -> { mantissa: "2.5", exponent: 6 }.
+ * Returns null for |n| < 1000, where the plain number says it all.
+ */
+export function powerOfTen(n: number | bigint): PowerOfTen | null {
+  if (typeof n === 'number' && (!Number.isInteger(n))) return null;
+  const negative = n < 0;
+  const digits = (negative ? -BigInt(n) : BigInt(n)).toString();
+  if (digits.length < 4) return null;
+  const exponent = digits.length - 1;
+  const rest = digits.slice(1).replace(/0+$/, '');
+  const mantissa = (negative ? '-' : '') + digits[0] + (rest ? `.${rest}` : '');
+  return { mantissa, exponent };
+}
+
+/** Plain-text form, e.g. "1,000,000 (10^6)" or "2,500,000 (2.5 × 10^6)"; used for titles and copy. */
+export function formatCountText(n: number | bigint): string {
+  const p = powerOfTen(n);
+  if (!p) return groupThousands(n);
+  const power = p.mantissa === '1' ? `10^${p.exponent}` : `${p.mantissa} × 10^${p.exponent}`;
+  return `${groupThousands(n)} (${power})`;
+}
+
+/** "1 grain", "2 grains": units are always named. */
+export function withUnit(n: number | bigint, singular: string, plural = `${singular}s`): string {
+  return `${groupThousands(n)} ${n === 1 || n === 1n ? singular : plural}`;
+}
+
+/** Whole seconds as "2 h 05 min", "3 min 20 s" or "45 s". */
+export function formatDuration(totalSeconds: number): string {
+  if (!Number.isFinite(totalSeconds) || totalSeconds < 0) return 'unknown';
+  const s = Math.round(totalSeconds);
+  const h = Math.floor(s / 3600);
+  const m = Math.floor((s % 3600) / 60);
+  const sec = s % 60;
+  if (h > 0) return `${h} h ${String(m).padStart(2, '0')} min`;
+  if (m > 0) return `${m} min ${String(sec).padStart(2, '0')} s`;
+  return `${sec} s`;
+}
+
+/** Progress 0..1 as a whole percent, never showing 100 % before the job is really done. */
+export function formatPercent(fraction: number): string {
+  const clamped = Math.min(1, Math.max(0, fraction));
+  const pct = Math.floor(clamped * 100);
+  return `${pct} %`;
+}
+
+const dateFormat = new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric' });
+const dateTimeFormat = new Intl.DateTimeFormat('en-GB', {
+  year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit',
+});
+
+/** ISO timestamp -> "1 Dec 2026"; anything unparsable is shown as a dash rather than "Invalid Date". */
+export function formatDate(iso: string | null | undefined): string {
+  if (!iso) return '—';
+  const d = new Date(iso);
+  return Number.isNaN(d.getTime()) ? '—' : dateFormat.format(d);
+}
+
+export function formatDateTime(iso: string | null | undefined): string {
+  if (!iso) return '—';
+  const d = new Date(iso);
+  return Number.isNaN(d.getTime()) ? '—' : dateTimeFormat.format(d);
+}
+
+/**
+ * Time left from progress so far, assuming the current rate holds; null until there is enough
+ * progress to say anything honest.
+ */
+export function estimateSecondsLeft(progress: number, elapsedSeconds: number): number | null {
+  if (!(progress > 0.01) || progress >= 1 || !(elapsedSeconds > 0)) return null;
+  return (elapsedSeconds * (1 - progress)) / progress;
+}

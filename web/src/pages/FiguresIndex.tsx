@@ -1,0 +1,98 @@
+import { Link, useSearchParams } from 'react-router';
+import { useFigures } from '../api/queries.js';
+import { FIGURES_PAGE_SIZE, LATTICE_PRESETS, type Figure } from '../api/contract.js';
+import { backgroundKindName, latticeName } from '../labels.js';
+import { formatDate } from '../format.js';
+import { Count, EmptyState, ErrorPanel, PageHeading, Pager, SelectField, SkeletonTable } from '../ui/index.js';
+
+const BACKGROUND_KINDS = ['constant', 'checkerboard', 'motif', 'random', 'annuli', 'array'] as const;
+
+export function FiguresIndex() {
+  const [params, setParams] = useSearchParams();
+  const lattice = params.get('lattice') ?? '';
+  const background = params.get('background') ?? '';
+  const page = Math.max(1, Number(params.get('page') ?? 1) || 1);
+  const figures = useFigures({ lattice: lattice || undefined, background: background || undefined, page });
+
+  function set(name: string, value: string) {
+    const next = new URLSearchParams(params);
+    if (value) next.set(name, value);
+    else next.delete(name);
+    if (name !== 'page') next.delete('page');
+    setParams(next);
+  }
+
+  return (
+    <div>
+      <PageHeading
+        overline="Open to every reader"
+        title="Published figures"
+        lede="Figures labs have published with a permanent link. Open one to read its caption, zoom in and cite it."
+      />
+      <div className="mb-6 flex items-end gap-4">
+        <SelectField label="Lattice" value={lattice} onChange={(e) => set('lattice', e.target.value)} fieldClassName="w-52">
+          <option value="">any lattice</option>
+          {[...LATTICE_PRESETS, 'periodic'].map((l) => (
+            <option key={l} value={l}>
+              {latticeName(l)}
+            </option>
+          ))}
+        </SelectField>
+        <SelectField label="Background" value={background} onChange={(e) => set('background', e.target.value)} fieldClassName="w-52">
+          <option value="">any background</option>
+          {BACKGROUND_KINDS.map((b) => (
+            <option key={b} value={b}>
+              {backgroundKindName(b)}
+            </option>
+          ))}
+        </SelectField>
+      </div>
+      {figures.isPending ? (
+        <SkeletonTable rows={4} columns={4} />
+      ) : figures.isError ? (
+        <ErrorPanel error={figures.error} />
+      ) : figures.data.figures.length === 0 ? (
+        <EmptyState title={lattice || background ? 'No figures match these filters' : 'Nothing published yet'}>
+          {lattice || background ? 'Try another lattice or background.' : 'When a lab publishes a figure, it appears here with its permanent link.'}
+        </EmptyState>
+      ) : (
+        <>
+          <ol className="divide-y divide-rule-soft overflow-hidden rounded-lg border border-rule bg-sheet">
+            {figures.data.figures.map((f) => (
+              <FigureEntry key={f.id} figure={f} />
+            ))}
+          </ol>
+          <Pager page={page} pageSize={FIGURES_PAGE_SIZE} total={figures.data.total} unit="figures" onPage={(p) => set('page', String(p))} />
+        </>
+      )}
+    </div>
+  );
+}
+
+function FigureEntry({ figure: f }: { figure: Figure }) {
+  return (
+    <li className="grid grid-cols-[1fr_auto] gap-8 px-6 py-5 hover:bg-paper/40">
+      <div>
+        <Link to={`/f/${f.slug}`} className="text-base font-semibold text-ink no-underline hover:text-press">
+          {f.title}
+        </Link>
+        <p className="mt-1 line-clamp-2 max-w-3xl text-sm text-ink-soft">{f.caption}</p>
+        <p className="mt-2 text-xs text-ink-faint">
+          {f.authors.join(', ')} · {f.labName}
+        </p>
+      </div>
+      <dl className="grid grid-cols-[auto_auto] content-start gap-x-4 gap-y-1 text-right text-xs">
+        <dt className="text-ink-faint">grains</dt>
+        <dd className="text-ink">
+          <Count n={f.chips} />
+        </dd>
+        <dt className="text-ink-faint">lattice</dt>
+        <dd className="text-ink">{latticeName(f.lattice)}</dd>
+        <dt className="text-ink-faint">background</dt>
+        <dd className="text-ink">{backgroundKindName(f.background)}</dd>
+        <dt className="text-ink-faint">published</dt>
+        <dd className="text-ink">{formatDate(f.publishedAt)}</dd>
+      </dl>
+    </li>
+  );
+}

@@ -1,0 +1,42 @@
+import { describe, expect, test } from 'vitest';
+import bibtexParse from '@orcid/bibtex-parse-js';
+import { figureBibtex } from './citation.js';
+import type { Figure } from '../api/contract.js';
+
+const figure: Figure = {
+  id: '8a6e0d8e-3f43-4a8f-9d53-0c1f1c7b2a10',
+  slug: 'honeycomb-fifty-thousand',
+  title: 'Fifty thousand grains on the honeycomb {lattice} & 100% of its sites',
+  caption: 'demo caption',
+  runId: '1f2e3d4c-5b6a-4789-8abc-def012345678',
+  lattice: 'honeycomb',
+  background: 'constant',
+  chips: 50_000,
+  publishedAt: '2026-11-30T12:00:00.000Z',
+  authors: ['Maren Tollis', 'Perrin Ashcombe'],
+  labName: 'Tessellate Hill Sandpile Group',
+};
+
+describe('BibTeX entry of a figure', () => {
+  test('parses with an independent BibTeX parser into the figure’s fields', () => {
+    // @orcid/bibtex-parse-js: a general-purpose BibTeX parser from npm
+    const [entry, ...rest] = bibtexParse.toJSON(figureBibtex(figure, 'https://example.org/f/honeycomb-fifty-thousand'));
+    expect(rest).toHaveLength(0);
+    expect(entry!.entryType.toLowerCase()).toBe('misc');
+    expect(entry!.citationKey).toBe('honeycomb-fifty-thousand');
+    expect(entry!.entryTags.year).toBe('2026');
+    // BibTeX separates authors with " and " (the format's own rule, common practice)
+    expect(entry!.entryTags.author).toBe('Maren Tollis and Perrin Ashcombe');
+    expect(entry!.entryTags.howpublished).toBe('\\url{https://example.org/f/honeycomb-fifty-thousand}');
+  });
+
+  test('braces, ampersands and percent signs in a title are escaped, so the entry stays balanced', () => {
+    const [entry] = bibtexParse.toJSON(figureBibtex(figure, 'https://example.org/f/x'));
+    expect(entry!.entryTags.title).toBe('Fifty thousand grains on the honeycomb \\{lattice\\} \\& 100\\% of its sites');
+  });
+
+  test('an unpublished figure has no year rather than a wrong one', () => {
+    const [entry] = bibtexParse.toJSON(figureBibtex({ ...figure, publishedAt: null }, 'https://example.org/f/x'));
+    expect(entry!.entryTags.year).toBeUndefined();
+  });
+});

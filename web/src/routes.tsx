@@ -1,0 +1,61 @@
+import type { ComponentType } from 'react';
+import { createBrowserRouter } from 'react-router';
+import { PageFrame } from './ui/PageFrame.js';
+import { RequireSignIn } from './auth/RequireSignIn.js';
+import { Landing } from './pages/Landing.js';
+import { SignIn } from './pages/SignIn.js';
+import { SignUp } from './pages/SignUp.js';
+import { VerifyEmail } from './pages/VerifyEmail.js';
+import { ForgotPassword } from './pages/ForgotPassword.js';
+import { ResetPassword } from './pages/ResetPassword.js';
+import { InvitationPage } from './pages/InvitationPage.js';
+import { FiguresIndex } from './pages/FiguresIndex.js';
+import { FigureReader } from './pages/FigureReader.js';
+import { NotFound } from './pages/NotFound.js';
+import { RouteError } from './pages/RouteError.js';
+
+/**
+ * Signed-in and development pages load on first visit, so a reader opening a figure link downloads
+ * only the public pages.
+ */
+const lazyPage = <M,>(load: () => Promise<M>, pick: (m: M) => ComponentType) => ({
+  lazy: async () => ({ Component: pick(await load()) }),
+});
+
+/** The route table of the contract; everything behind RequireSignIn needs a session. */
+export function createRouter() {
+  return createBrowserRouter([
+    {
+      element: <PageFrame />,
+      hydrateFallbackElement: null,
+      children: [
+        {
+          errorElement: <RouteError />,
+          children: [
+            { path: '/', element: <Landing /> },
+            { path: '/sign-in', element: <SignIn /> },
+            { path: '/sign-up', element: <SignUp /> },
+            { path: '/verify-email', element: <VerifyEmail /> },
+            { path: '/forgot-password', element: <ForgotPassword /> },
+            { path: '/reset-password', element: <ResetPassword /> },
+            { path: '/invitations/:token', element: <InvitationPage /> },
+            { path: '/figures', element: <FiguresIndex /> },
+            { path: '/f/:slug', element: <FigureReader /> },
+            { path: '/dev/outbox', ...lazyPage(() => import('./pages/DevOutbox.js'), (m) => m.DevOutbox) },
+            {
+              element: <RequireSignIn />,
+              children: [
+                { path: '/runs', ...lazyPage(() => import('./pages/RunsList.js'), (m) => m.RunsList) },
+                { path: '/runs/:id', ...lazyPage(() => import('./pages/RunPage.js'), (m) => m.RunPage) },
+                { path: '/lab', ...lazyPage(() => import('./pages/LabPage.js'), (m) => m.LabPage) },
+                { path: '/account', ...lazyPage(() => import('./pages/AccountPage.js'), (m) => m.AccountPage) },
+                { path: '/admin', ...lazyPage(() => import('./pages/AdminPage.js'), (m) => m.AdminPage) },
+              ],
+            },
+            { path: '*', element: <NotFound /> },
+          ],
+        },
+      ],
+    },
+  ]);
+}

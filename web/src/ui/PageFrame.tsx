@@ -1,0 +1,167 @@
+import type { ReactNode } from 'react';
+import { Link, NavLink, Outlet } from 'react-router';
+import { useMe, useSetActiveLab } from '../api/queries.js';
+import type { MeResponse } from '../api/contract.js';
+import { buttonClass } from './Button.js';
+
+/** The paper every page sits on: masthead with navigation, active lab and person, then the page. */
+export function PageFrame() {
+  return (
+    <div className="flex min-h-screen flex-col">
+      <Masthead />
+      <main className="mx-auto w-full max-w-7xl flex-1 px-8 pb-20 pt-10">
+        <Outlet />
+      </main>
+      <footer className="border-t border-rule-soft py-6 text-center text-xs text-ink-faint">
+        Toppleworks — exact sandpiles, printed to size
+      </footer>
+    </div>
+  );
+}
+
+function Masthead() {
+  const me = useMe();
+  const signedIn = me.data ?? null;
+  return (
+    <header className="border-b border-rule bg-sheet/80 backdrop-blur">
+      <div className="mx-auto flex h-16 max-w-7xl items-center gap-8 px-8">
+        <Link to="/" className="flex items-center gap-2.5 text-ink no-underline">
+          <Wordmark />
+          <span className="text-lg font-semibold tracking-tight">Toppleworks</span>
+        </Link>
+        <nav aria-label="main" className="flex items-center gap-1 text-sm">
+          {signedIn ? <NavItem to="/runs">Runs</NavItem> : null}
+          <NavItem to="/figures">Figures</NavItem>
+          {signedIn ? <NavItem to="/lab">Lab</NavItem> : null}
+          {signedIn?.user.isAdmin ? <NavItem to="/admin">Site admin</NavItem> : null}
+        </nav>
+        <div className="ml-auto flex items-center gap-4">
+          {me.isPending ? null : signedIn ? (
+            <>
+              <LabSwitcher me={signedIn} />
+              <Link to="/account" className="flex items-center gap-2 text-sm text-ink no-underline hover:text-press" title="Your account">
+                <Initials name={signedIn.user.name} />
+                <span className="max-w-40 truncate" data-testid="signed-in-name">{signedIn.user.name}</span>
+              </Link>
+            </>
+          ) : (
+            <>
+              <Link to="/sign-in" className="text-sm text-ink no-underline hover:text-press">
+                Sign in
+              </Link>
+              <Link to="/sign-up" className={buttonClass('primary', 'sm')}>
+                Create account
+              </Link>
+            </>
+          )}
+        </div>
+      </div>
+    </header>
+  );
+}
+
+function NavItem({ to, children }: { to: string; children: ReactNode }) {
+  return (
+    <NavLink
+      to={to}
+      className={({ isActive }) =>
+        `rounded-md px-3 py-1.5 no-underline ${isActive ? 'bg-press-tint font-medium text-press' : 'text-ink-soft hover:bg-paper hover:text-ink'}`
+      }
+    >
+      {children}
+    </NavLink>
+  );
+}
+
+/** The active lab decides whose runs, quotas and credits the person sees. */
+function LabSwitcher({ me }: { me: MeResponse }) {
+  const setLab = useSetActiveLab();
+  if (me.labs.length === 0) {
+    return (
+      <Link to="/lab" className="text-xs text-ink-soft">
+        no lab yet
+      </Link>
+    );
+  }
+  return (
+    <label className="flex items-center gap-2 text-xs text-ink-soft">
+      <span>Lab</span>
+      <select
+        aria-label="active lab"
+        className="max-w-72 rounded-md border border-rule bg-sheet px-2 py-1 text-sm text-ink"
+        value={me.activeLabId ?? ''}
+        disabled={setLab.isPending}
+        onChange={(e) => setLab.mutate(e.target.value)}
+      >
+        {me.activeLabId ? null : <option value="">choose a lab</option>}
+        {me.labs.map((l) => (
+          <option key={l.id} value={l.id}>
+            {l.name}
+          </option>
+        ))}
+      </select>
+    </label>
+  );
+}
+
+function Initials({ name }: { name: string }) {
+  const letters = name
+    .split(/\s+/)
+    .filter(Boolean)
+    .slice(0, 2)
+    .map((w) => w[0]!.toUpperCase())
+    .join('');
+  return (
+    <span aria-hidden="true" className="flex h-8 w-8 items-center justify-center rounded-full bg-press-tint text-xs font-semibold text-press">
+      {letters || '?'}
+    </span>
+  );
+}
+
+/** Three stacked cells of a pile, as a tiny press mark. */
+function Wordmark() {
+  return (
+    <svg aria-hidden="true" viewBox="0 0 24 24" className="h-7 w-7">
+      <rect x="9" y="2" width="6" height="6" rx="1" className="fill-press" />
+      <rect x="3" y="9" width="6" height="6" rx="1" className="fill-press/70" />
+      <rect x="9" y="9" width="6" height="6" rx="1" className="fill-stamp" />
+      <rect x="15" y="9" width="6" height="6" rx="1" className="fill-press/70" />
+      <rect x="9" y="16" width="6" height="6" rx="1" className="fill-press" />
+    </svg>
+  );
+}
+
+/** Title block of a page: small overline, heading, one-line lede, actions at the right. */
+export function PageHeading({ overline, title, lede, actions }: { overline?: ReactNode; title: ReactNode; lede?: ReactNode; actions?: ReactNode }) {
+  return (
+    <div className="mb-8 flex items-end justify-between gap-8">
+      <DocumentTitle title={title} />
+      <div>
+        {overline ? <p className="mb-1 text-xs font-semibold uppercase tracking-[0.14em] text-ink-faint">{overline}</p> : null}
+        <h1 className="text-3xl font-semibold tracking-tight text-ink">{title}</h1>
+        {lede ? <p className="mt-2 max-w-2xl text-base text-ink-soft">{lede}</p> : null}
+      </div>
+      {actions ? <div className="flex shrink-0 gap-3">{actions}</div> : null}
+    </div>
+  );
+}
+
+/** Narrow centred sheet for sign-in and other single-form pages. */
+export function FormSheet({ title, lede, children, footer }: { title: ReactNode; lede?: ReactNode; children: ReactNode; footer?: ReactNode }) {
+  return (
+    <div className="mx-auto mt-6 w-full max-w-md">
+      <DocumentTitle title={title} />
+      <div className="rounded-xl border border-rule bg-sheet px-9 py-8 shadow-[0_1px_0_rgba(0,0,0,0.03)]">
+        <h1 className="text-2xl font-semibold tracking-tight">{title}</h1>
+        {lede ? <p className="mt-2 text-sm text-ink-soft">{lede}</p> : null}
+        <div className="mt-6">{children}</div>
+      </div>
+      {footer ? <div className="mt-5 text-center text-sm text-ink-soft">{footer}</div> : null}
+    </div>
+  );
+}
+
+/** React 19 hoists <title> into the head; tabs and history then name the page. */
+function DocumentTitle({ title }: { title: ReactNode }) {
+  return typeof title === 'string' ? <title>{`${title} · Toppleworks`}</title> : null;
+}
