@@ -1,0 +1,97 @@
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+/** The repository root (infra/lib/ is two levels down). */
+export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
+
+export type ProfileName = 'dev' | 'test';
+
+/**
+ * Everything that differs between `npm start` (dev) and `npm test` (test): ports, folders,
+ * database name. The two never share a port or a folder, so a test run beside a running
+ * `npm start` touches none of its data.
+ */
+export interface Profile {
+  name: ProfileName;
+  /** .local/<name>: all state of this profile; test wipes it at each run */
+  dir: string;
+  ports: {
+    postgres: number;
+    redis: number;
+    s3: number;
+    payments: number;
+    smtp: number;
+    mailHttp: number;
+    /** the API + built web app; test runs start their own APIs on ephemeral ports */
+    api: number;
+  };
+  database: string;
+  /** dev keeps Redis data across restarts (queued jobs survive); test starts empty */
+  persistRedis: boolean;
+}
+
+export const S3_BUCKET = 'toppleworks';
+/** Where the payments fake delivers events unless FAKE_WEBHOOK_URL says otherwise. */
+export const DEFAULT_WEBHOOK_PATH = '/api/payments/webhook';
+
+const PORTS: Record<ProfileName, Profile['ports']> = {
+  dev: { postgres: 55432, redis: 56379, s3: 54569, payments: 54570, smtp: 54525, mailHttp: 54526, api: 5180 },
+  test: { postgres: 55532, redis: 56479, s3: 54669, payments: 54670, smtp: 54625, mailHttp: 54626, api: 5280 },
+};
+
+export function profileFor(name: ProfileName, root = ROOT): Profile {
+  return {
+    name,
+    dir: path.join(root, '.local', name),
+    ports: PORTS[name],
+    database: name === 'dev' ? 'toppleworks' : 'toppleworks_test',
+    persistRedis: name === 'dev',
+  };
+}
+
+/** Folders of one profile. PostgreSQL's folder must be owned by the postgres user (see postgres.ts). */
+export function profileDirs(p: Profile) {
+  return {
+    pg: path.join(p.dir, 'pg'),
+    pgData: path.join(p.dir, 'pg', 'data'),
+    redis: path.join(p.dir, 'redis'),
+    s3: path.join(p.dir, 's3'),
+    mail: path.join(p.dir, 'mail'),
+    payments: path.join(p.dir, 'payments'),
+    logs: path.join(p.dir, 'logs'),
+    run: path.join(p.dir, 'run'),
+  };
+}
+
+/**
+ * The environment handed to the API, the worker and the tests: the names of shared/env.ts plus
+ * the fakes' own addresses used by tests. It always points at this profile's own services (an
+ * outer DATABASE_URL must never send a test run to someone else's database); the caller's
+ * environment is merged underneath for PATH and the like.
+ */
+export function serviceEnv(p: Profile): Record<string, string> {
+  const h = '127.0.0.1';
+  const publicUrl = `http://${h}:${p.ports.api}`;
+  return {
+    NODE_ENV: p.name === 'test' ? 'test' : 'development',
+    HOST: h,
+    PORT: String(p.ports.api),
+    PUBLIC_URL: publicUrl,
+    DATABASE_URL: `postgres://postgres@${h}:${p.ports.postgres}/${p.database}`,
+    REDIS_URL: `redis://${h}:${p.ports.redis}`,
+    S3_ENDPOINT: `http://${h}:${p.ports.s3}`,
+    S3_REGION: 'us-east-1',
+    S3_BUCKET,
+    S3_ACCESS_KEY_ID: 'S3RVER',
+    S3_SECRET_ACCESS_KEY: 'S3RVER',
+    STRIPE_SECRET_KEY: 'sk_test_toppleworks_local',
+    STRIPE_API_BASE: `http://${h}:${p.ports.payments}`,
+    STRIPE_WEBHOOK_SECRET: 'whsec_toppleworks_local',
+    PAYMENTS_FAKE_URL: `http://${h}:${p.ports.payments}`,
+    FAKE_WEBHOOK_URL: `${publicUrl}${DEFAULT_WEBHOOK_PATH}`,
+    SMTP_URL: `smtp://${h}:${p.ports.smtp}`,
+    MAIL_OUTBOX_URL: `http://${h}:${p.ports.mailHttp}`,
+    // the pinned AWS SDK warns at every start that later releases need Node 22; we stay pinned
+    AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: 'true',
+  };
+}

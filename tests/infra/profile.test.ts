@@ -1,0 +1,42 @@
+import { describe, expect, it } from 'vitest';
+import { envSchema, loadEnv } from '../../shared/env.js';
+import { profileDirs, profileFor, serviceEnv } from '../../infra/lib/profile.js';
+
+/** The two profiles must never share a port or a folder, and their env must satisfy shared/env.ts. */
+describe('profiles', () => {
+  const dev = profileFor('dev', '/repo');
+  const test = profileFor('test', '/repo');
+
+  it('use the documented dev ports (infra/README.md)', () => {
+    expect(dev.ports).toEqual({ postgres: 55432, redis: 56379, s3: 54569, payments: 54570, smtp: 54525, mailHttp: 54526, api: 5180 });
+    expect(test.ports).toMatchObject({ postgres: 55532, redis: 56479, s3: 54669, payments: 54670, smtp: 54625, mailHttp: 54626 });
+  });
+
+  it('never share a port or a folder', () => {
+    const all = [...Object.values(dev.ports), ...Object.values(test.ports)];
+    expect(new Set(all).size).toBe(all.length);
+    expect(profileDirs(dev).pg).not.toBe(profileDirs(test).pg);
+    expect(dev.database).not.toBe(test.database);
+  });
+
+  it('export an environment the API and worker accept (shared/env.ts), pointing at the profile', () => {
+    for (const p of [dev, test]) {
+      const env = loadEnv(serviceEnv(p));
+      expect(env.DATABASE_URL).toBe(`postgres://postgres@127.0.0.1:${p.ports.postgres}/${p.database}`);
+      expect(env.REDIS_URL).toBe(`redis://127.0.0.1:${p.ports.redis}`);
+      expect(env.S3_ENDPOINT).toBe(`http://127.0.0.1:${p.ports.s3}`);
+      expect(env.STRIPE_API_BASE).toBe(`http://127.0.0.1:${p.ports.payments}`);
+      expect(env.SMTP_URL).toBe(`smtp://127.0.0.1:${p.ports.smtp}`);
+      expect(env.MAIL_OUTBOX_URL).toBe(`http://127.0.0.1:${p.ports.mailHttp}`);
+    }
+    expect(serviceEnv(test).NODE_ENV).toBe('test');
+    expect(serviceEnv(dev).NODE_ENV).toBe('development');
+  });
+
+  it('sets every address shared/env.ts reads (a new variable there shows up here)', () => {
+    // these have sensible local defaults in shared/env.ts and no address in them
+    const leftToDefaults = ['MAIL_FROM', 'SESSION_SECRET', 'LOG_LEVEL'];
+    const names = Object.keys(envSchema.shape);
+    expect(names.filter((n) => !(n in serviceEnv(dev)))).toEqual(leftToDefaults);
+  });
+});
