@@ -7,6 +7,7 @@ import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cl
 import { toJson, type Sidecar } from '../cli/sidecar.js';
 import { heightsFromNpy } from '../cli/upload-array.js';
 import { writeNpy } from '../npy/index.js';
+import { radialProfile, type RadialProfile } from '../analysis/radial-profile.js';
 import { arrayKeys, uploadKey } from './artifacts.js';
 import { runState } from './run-state.js';
 
@@ -45,10 +46,7 @@ async function loadUploads(store: BlobStore, data: JobOf<typeof JOB_NAMES.comput
 export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished' | 'skipped'> {
   const data = computeRunDataSchema.parse(job.data);
   const state = runState(deps.db, data.runId);
-  const status = await state.current();
-  if (status === null || status === 'cancelled' || status === 'finished') return 'skipped';
-
-  await state.started('preparing');
+  if (!(await state.started('preparing'))) return 'skipped';
   const abort = new AbortController();
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();
@@ -81,13 +79,14 @@ export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished
       origin: outcome.origin,
       sha256: arrayHash(arr),
     });
-    const sidecar: Sidecar = {
+    const sidecar: Sidecar & { radialProfile: RadialProfile } = {
       format: 'toppleworks.export/1',
       engineVersion: ENGINE_VERSION,
       spec: data.spec,
       heights: record('heights.npy', heights),
       odometer: record('odometer.npy', odometer),
       stats,
+      radialProfile: radialProfile(outcome, data.spec.chips),
       createdAt: new Date().toISOString(),
     };
     await deps.store.put(keys.heights, Buffer.from(writeNpy(outcome.shape, heights)), 'application/octet-stream');

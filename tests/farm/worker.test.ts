@@ -1,0 +1,69 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import { readNpy } from '../../renderer/src/npy/index.js';
+import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
+import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+
+let h: Harness;
+let author: Session;
+let labId: string;
+let farm: Awaited<ReturnType<typeof startFarmWorker>>;
+
+beforeAll(async () => {
+  h = await startHarness('farm');
+  const a = await createUser(h, 'Farm Author');
+  labId = await createLab(h, 'Farm Lab', [{ userId: a.id, role: 'author' }]);
+  author = await signIn(h, a.email, TEST_PASSWORD);
+  farm = await startFarmWorker(h.env, { prefix: h.queuePrefix, threads: 1 });
+});
+afterAll(async () => {
+  await farm?.close();
+  await h?.close();
+});
+
+async function submit(title: string, spec: unknown): Promise<Run> {
+  const res = await as(h.http.post('/api/runs'), author).send({ labId, title, spec });
+  expect(res.status, JSON.stringify(res.body)).toBe(201);
+  return runResponseSchema.parse(res.body).run;
+}
+
+async function settled(id: string, timeoutMs = 60_000): Promise<Run> {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const { run } = runResponseSchema.parse((await as(h.http.get(`/api/runs/${id}`), author).expect(200)).body);
+    if (['finished', 'failed', 'cancelled'].includes(run.status)) return run;
+    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} (${run.stage}) after ${timeoutMs} ms`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
+}
+
+describe('the renderer worker', () => {
+  it('computes a queued run, stores its arrays and statistics, and draws its pyramids', async () => {
+    const run = await settled((await submit('A thousand grains', { lattice: { preset: 'square' }, chips: 1000 })).id);
+    expect(run.status).toBe('finished');
+    // 18,226 topplings over 421 sites for n = 1000 on Z^2: regression values from an independent
+    // computation (not a published source; ../shared/facts.md §3 "computed only")
+    expect(run.stats).toMatchObject({ totalTopplings: '18226', toppledSites: 421, grainsIn: '1000', grainsOut: '1000' });
+
+    const keys = arrayKeys(run.id);
+    const heights = readNpy(new Uint8Array((await h.deps.blobs.get(keys.heights))!));
+    expect(heights.shape).toEqual(run.stats!.shape);
+    const sidecar = JSON.parse((await h.deps.blobs.get(keys.sidecar))!.toString('utf8'));
+    expect(sidecar.stats.totalTopplings).toBe('18226');
+    expect(sidecar.radialProfile.sites.reduce((a: number, b: number) => a + b, 0)).toBe(421);
+    // every final height is stable: below the degree 4 of Z^2 (common practice: the threshold rule)
+    expect(Math.max(...Array.from(heights.data as Uint8Array))).toBeLessThan(4);
+
+    const info = await h.deps.blobs.list(`runs/${run.id}/heights/`);
+    expect(info.some((k) => k.endsWith('iiif/info.json'))).toBe(true);
+  });
+
+  it('fails a run whose background can never stabilize at once, with the reason', async () => {
+    const run = await settled((await submit('All threes', { lattice: { preset: 'square' }, chips: 1, background: { kind: 'constant', height: 3 } })).id);
+    expect(run.status).toBe('failed');
+    // all-3 on Z^2 explodes for one grain (arXiv:1109.2908, Sadhu & Dhar; ../shared/facts.md §5)
+    expect(run.error).toMatch(/never stops/);
+    expect(run.error).toMatch(/arXiv:1109\.2908/);
+  });
+});
