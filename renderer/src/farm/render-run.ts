@@ -4,7 +4,7 @@ import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
 import { renderRunDataSchema } from '../../../shared/jobs.js';
 import { readNpy } from '../npy/index.js';
-import { createS3Sink, renderPyramid, type RenderInput } from '../render/index.js';
+import { computeStats, createS3Sink, planeOf, renderPyramid, type RenderInput } from '../render/index.js';
 import { arrayKeys } from './artifacts.js';
 import { runState } from './run-state.js';
 
@@ -50,9 +50,11 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
   if (status !== 'rendering') return 'skipped';
   const input = await readArrays(deps.store, runId);
   const sink = createS3Sink({ client: deps.s3, bucket: deps.bucket });
+  // one statistics pass serves every layer's colour scale
+  const stats = computeStats(planeOf(input));
   for (const [i, view] of DEFAULT_VIEWS.entries()) {
     await state.progress(`drawing ${view.layer} tiles`, i / DEFAULT_VIEWS.length);
-    await renderPyramid(input, sink, { runId, style: { layer: view.layer } });
+    await renderPyramid(input, sink, { runId, style: { layer: view.layer }, stats });
   }
   await state.finished();
   return 'finished';
