@@ -104,6 +104,15 @@ export const invitations = pgTable('invitations', {
   revokedAt: at('revoked_at'),
 }, (t) => [index('invitations_lab_idx').on(t.labId)]);
 
+/** A request for the same specification at several grain counts; its runs point here. */
+export const series = pgTable('series', {
+  id: id(),
+  labId: uuid('lab_id').notNull().references(() => labs.id, { onDelete: 'cascade' }),
+  authorId: uuid('author_id').notNull().references(() => users.id),
+  title: text('title').notNull(),
+  createdAt: createdAt(),
+}, (t) => [index('series_lab_idx').on(t.labId)]);
+
 export const runs = pgTable('runs', {
   id: id(),
   labId: uuid('lab_id').notNull().references(() => labs.id, { onDelete: 'cascade' }),
@@ -121,7 +130,32 @@ export const runs = pgTable('runs', {
   startedAt: at('started_at'),
   finishedAt: at('finished_at'),
   updatedAt: at('updated_at').notNull().defaultNow(),
-}, (t) => [index('runs_lab_created_idx').on(t.labId, t.createdAt), index('runs_status_idx').on(t.status)]);
+  seriesId: uuid('series_id').references(() => series.id, { onDelete: 'set null' }),
+  /** set when the finished/failed mail went out, so a retried worker never mails twice */
+  outcomeMailedAt: at('outcome_mailed_at'),
+}, (t) => [index('runs_lab_created_idx').on(t.labId, t.createdAt), index('runs_status_idx').on(t.status), index('runs_series_idx').on(t.seriesId)]);
+
+/**
+ * Uploaded background arrays, stored by content at uploads/<sha256>.npy (int32, C order). Content
+ * addressing makes an upload shared by everyone who sends the same heights; the row keeps what the
+ * run form and POST /api/runs need without reading the array back.
+ */
+export const backgroundUploads = pgTable('background_uploads', {
+  sha256: text('sha256').primaryKey(),
+  shape: jsonb('shape').$type<number[]>().notNull(),
+  minHeight: integer('min_height').notNull(),
+  maxHeight: integer('max_height').notNull(),
+  meanHeight: real('mean_height').notNull(),
+  /** what was sent: an .npy dtype such as "<u2", or "png" */
+  source: text('source').notNull(),
+  /** PNG uploads: the grey levels that became heights 0, 1, 2, ... */
+  levels: jsonb('levels').$type<number[]>(),
+  /** counts of heights 0..255 and of all heights above */
+  heightCounts: jsonb('height_counts').$type<number[]>().notNull(),
+  countAbove: bigint('count_above', { mode: 'number' }).notNull().default(0),
+  uploadedById: uuid('uploaded_by_id').references(() => users.id, { onDelete: 'set null' }),
+  createdAt: createdAt(),
+});
 
 export const figures = pgTable('figures', {
   id: id(),
@@ -136,17 +170,72 @@ export const figures = pgTable('figures', {
   withdrawnAt: at('withdrawn_at'),
 }, (t) => [index('figures_published_idx').on(t.publishedAt)]);
 
-/** Credits bought or granted (positive) and spent (negative); a lab's balance is the sum. */
-export const creditLedger = pgTable('credit_ledger', {
+/**
+ * Compute credits as a double-entry journal (api/src/billing/README.md). An entry is one event
+ * (a purchase, a reservation, a settlement, ...); its lines move credits between accounts such as
+ * `lab:<id>:available`, `lab:<id>:reserved`, `stripe:clearing`, `grants`, `spent`, and always sum to
+ * zero. Balances are SUMs over lines, never stored. Triggers (migration 0005) refuse UPDATE/DELETE,
+ * an entry whose lines do not sum to zero, and a lab account that would go below zero.
+ */
+export const ledgerEntryKind = pgEnum('ledger_entry_kind', ['purchase', 'allowance', 'reservation', 'settlement', 'release', 'grant', 'revocation']);
+
+export const ledgerEntries = pgTable('ledger_entries', {
   id: id(),
-  labId: uuid('lab_id').notNull().references(() => labs.id, { onDelete: 'cascade' }),
-  credits: bigint('credits', { mode: 'number' }).notNull(),
-  kind: text('kind', { enum: ['purchase', 'grant', 'run'] }).notNull(),
-  /** payment provider reference (checkout session) or run id; unique so a webhook replay books nothing twice */
-  reference: text('reference').unique(),
-  actorId: uuid('actor_id').references(() => users.id, { onDelete: 'set null' }),
+  labId: uuid('lab_id').notNull().references(() => labs.id),
+  kind: ledgerEntryKind('kind').notNull(),
+  /** what makes the entry happen at most once: purchase:<checkout session>, reservation:<run>, close:<run>, allowance:<lab>:<month>, ... */
+  idempotencyKey: text('idempotency_key').notNull().unique(),
+  /** the run a reservation, settlement or release belongs to (no foreign key: history outlives rows) */
+  runId: uuid('run_id'),
+  /** the member a run's credits count against (their monthly quota) */
+  memberId: uuid('member_id'),
+  purchaseId: uuid('purchase_id'),
+  actorId: uuid('actor_id'),
+  reason: text('reason'),
+  /** e.g. the estimate behind a reservation, the measured usage behind a settlement */
+  detail: jsonb('detail'),
   createdAt: createdAt(),
-}, (t) => [index('credit_ledger_lab_idx').on(t.labId)]);
+}, (t) => [index('ledger_entries_lab_idx').on(t.labId, t.createdAt), index('ledger_entries_run_idx').on(t.runId)]);
+
+export const ledgerLines = pgTable('ledger_lines', {
+  id: bigint('id', { mode: 'number' }).primaryKey().generatedAlwaysAsIdentity(),
+  entryId: uuid('entry_id').notNull().references(() => ledgerEntries.id),
+  account: text('account').notNull(),
+  /** whole credits; positive adds to the account, negative takes from it */
+  amount: bigint('amount', { mode: 'number' }).notNull(),
+}, (t) => [index('ledger_lines_account_idx').on(t.account), index('ledger_lines_entry_idx').on(t.entryId)]);
+
+export const purchaseStatus = pgEnum('purchase_status', ['open', 'paid', 'expired']);
+
+/** A credit pack a manager started to buy: one Checkout Session. The credits themselves are ledger lines. */
+export const creditPurchases = pgTable('credit_purchases', {
+  id: id(),
+  labId: uuid('lab_id').notNull().references(() => labs.id),
+  buyerId: uuid('buyer_id').references(() => users.id, { onDelete: 'set null' }),
+  pack: text('pack').notNull(),
+  credits: integer('credits').notNull(),
+  /** in the currency's minor unit (cents) */
+  amount: integer('amount').notNull(),
+  currency: text('currency').notNull(),
+  checkoutSessionId: text('checkout_session_id').notNull().unique(),
+  status: purchaseStatus('status').notNull().default('open'),
+  /** the card's refusal of the last attempt, shown until a later attempt pays */
+  lastError: text('last_error'),
+  /** printed on the receipt: TW-000001, ... */
+  receiptNumber: integer('receipt_number').generatedAlwaysAsIdentity(),
+  createdAt: createdAt(),
+  paidAt: at('paid_at'),
+  receiptMailedAt: at('receipt_mailed_at'),
+}, (t) => [index('credit_purchases_lab_idx').on(t.labId, t.createdAt)]);
+
+/** Payment provider events already handled, by event id: a replay or duplicate delivery finds its row and does nothing. */
+export const paymentEvents = pgTable('payment_events', {
+  id: text('id').primaryKey(),
+  type: text('type').notNull(),
+  /** what handling it did, e.g. "credited 500", "ignored: unknown checkout session" */
+  outcome: text('outcome').notNull(),
+  receivedAt: at('received_at').notNull().defaultNow(),
+});
 
 /**
  * Append-only trail of who did what, when, why and in which lab. No foreign keys, so deleting a user

@@ -5,8 +5,11 @@ import { z } from 'zod';
  * renderer worker. It is plain JSON, so it is also the job payload and part of the cache key.
  */
 
-/** Lattices the engine ships. Periodic presets are built on the same mechanism as uploaded graphs. */
-export const LATTICE_PRESETS = ['line', 'square', 'cubic', 'triangular', 'honeycomb'] as const;
+/**
+ * Lattices the engine ships. Periodic presets (the last two: oriented periodic subgraphs of Z^2) are
+ * built on the same mechanism as uploaded graphs; renderer/src/engine/README.md draws their unit cells.
+ */
+export const LATTICE_PRESETS = ['line', 'square', 'cubic', 'triangular', 'honeycomb', 'f-lattice', 'manhattan'] as const;
 export type LatticePreset = (typeof LATTICE_PRESETS)[number];
 
 const offset2 = z.tuple([z.number().int(), z.number().int()]);

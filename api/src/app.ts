@@ -19,20 +19,31 @@ import { healthRouter } from './routes/health.js';
 import { invitationsRouter } from './routes/invitations.js';
 import { labsRouter } from './routes/labs.js';
 import { meRouter } from './routes/me.js';
+import { artifactsRouter } from './routes/artifacts.js';
+import { estimatesRouter } from './routes/estimates.js';
+import { openapiRouter } from './routes/openapi.js';
 import { runsRouter } from './routes/runs.js';
+import { seriesRouter } from './routes/series.js';
+import { RAW_BODY_PATHS, uploadsRouter } from './routes/uploads.js';
+import { creditsRouter } from './routes/credits.js';
+import { PAYMENTS_WEBHOOK_PATH, paymentsRouter } from './routes/payments.js';
 
 export const BODY_LIMIT = '1mb';
 export const DEFAULT_DIST_DIR = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../dist');
 
 /** A body that is not JSON would otherwise reach the schemas as "undefined"; say what is expected instead. */
 const requireJsonBody: RequestHandler = (req, _res, next) => {
+  if (RAW_BODY_PATHS.includes(req.path)) return next();
   const hasBody = Number(req.get('content-length') ?? 0) > 0 || req.get('transfer-encoding') !== undefined;
   if (hasBody && !req.is('application/json')) throw new HttpError(415, 'send the request body as JSON (Content-Type: application/json)');
   next();
 };
 
 /** Every router under /api, in mount order; the route × role test walks these to prove it covers each route. */
-export const API_ROUTERS = { healthRouter, authRouter, meRouter, labsRouter, invitationsRouter, runsRouter, figuresRouter, adminRouter, devRouter } as const;
+export const API_ROUTERS = {
+  healthRouter, authRouter, meRouter, labsRouter, invitationsRouter, runsRouter, artifactsRouter, seriesRouter, uploadsRouter, estimatesRouter,
+  figuresRouter, adminRouter, openapiRouter, devRouter, creditsRouter, paymentsRouter,
+} as const;
 
 export type AppOptions = { distDir?: string };
 
@@ -60,6 +71,8 @@ export function createApp(deps: AppDeps, options: AppOptions = {}): Express {
   );
 
   const api = express.Router();
+  // the webhook's signature covers the exact bytes sent, so that one route keeps its raw body (express.json then skips it)
+  api.use(PAYMENTS_WEBHOOK_PATH, express.raw({ type: '*/*', limit: BODY_LIMIT }));
   api.use(requireJsonBody, express.json({ limit: BODY_LIMIT }), cookieParser(), authenticate(deps.db, env.SESSION_SECRET));
   // Guessing passwords or flooding mailboxes: a per-address budget on the anonymous auth forms.
   api.use(
@@ -67,10 +80,11 @@ export function createApp(deps: AppDeps, options: AppOptions = {}): Express {
     rateLimit({ windowMs: 15 * 60 * 1000, limit: 50, standardHeaders: 'draft-8', legacyHeaders: false, skip: () => env.NODE_ENV === 'test',
       handler: (_req, _res, next) => next(new HttpError(429, 'too many attempts; wait a few minutes and try again')) }),
   );
-  for (const router of [healthRouter, authRouter, meRouter, labsRouter, invitationsRouter, runsRouter, figuresRouter, adminRouter]) {
+  for (const [name, router] of Object.entries(API_ROUTERS)) {
+    // the mail outbox exists only on developers' machines and in tests
+    if (name === 'devRouter' && env.NODE_ENV === 'production') continue;
     api.use(router(deps));
   }
-  if (env.NODE_ENV !== 'production') api.use(devRouter(deps));
   api.use(apiNotFound);
   app.use('/api', api);
 

@@ -27,6 +27,8 @@ export const runSchema = z.object({
   createdAt: isoDateSchema,
   startedAt: isoDateSchema.nullable(),
   finishedAt: isoDateSchema.nullable(),
+  /** the series this run belongs to (POST /api/series), null for a single run */
+  seriesId: idSchema.nullable().default(null),
 });
 export type Run = z.infer<typeof runSchema>;
 
@@ -69,3 +71,14 @@ export type CreateRunRequestInput = z.input<typeof createRunRequestSchema>;
 /** GET /api/runs/:id, POST /api/runs (201), POST /api/runs/:id/cancel */
 export const runResponseSchema = z.object({ run: runSchema });
 export type RunResponse = z.infer<typeof runResponseSchema>;
+
+/** POST /api/runs/:id/rerun: a new run with the same specification; the title defaults to the old one. */
+export const rerunRequestSchema = z.strictObject({ title: runTitleSchema.optional() });
+export type RerunRequest = z.infer<typeof rerunRequestSchema>;
+
+/**
+ * GET /api/runs/:id/events (text/event-stream): an `run` event carrying `{ run }` whenever the run
+ * changes (and once at the start), then an `end` event once it is finished, failed or cancelled.
+ */
+export const RUN_EVENT_NAMES = { change: 'run', end: 'end' } as const;
+export const runEventSchema = runResponseSchema;

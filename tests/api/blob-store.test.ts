@@ -35,6 +35,23 @@ describe('S3 blob store', () => {
     expect(await store.list(`${prefix}dir/`)).toEqual([]);
   });
 
+  it('opens an object as a stream with its size, type and entity tag, and tells whether keys exist', async () => {
+    const bytes = Buffer.from(Array.from({ length: 70_000 }, (_, i) => (i * 7) % 251));
+    await store.put(`${prefix}c.bin`, bytes, 'image/png');
+    const obj = await store.open(`${prefix}c.bin`);
+    expect(obj).not.toBeNull();
+    const chunks: Buffer[] = [];
+    for await (const chunk of obj!.body) chunks.push(chunk as Buffer);
+    expect(Buffer.compare(Buffer.concat(chunks), bytes)).toBe(0);
+    expect(obj!.size).toBe(bytes.length);
+    expect(obj!.contentType).toBe('image/png');
+    // S3 entity tags are quoted strings (RFC 9110 section 8.8.3)
+    expect(obj!.etag).toMatch(/^"[^"]+"$/);
+    expect(await store.exists(`${prefix}c.bin`)).toBe(true);
+    expect(await store.exists(`${prefix}nothing-here`)).toBe(false);
+    expect(await store.open(`${prefix}nothing-here`)).toBeNull();
+  });
+
   it('signs a GET address a plain fetch can read', async () => {
     const url = await store.signedUrl(`${prefix}b.json`, 60);
     const res = await fetch(url);

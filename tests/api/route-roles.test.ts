@@ -1,7 +1,10 @@
-import { randomUUID } from 'node:crypto';
+import { randomInt, randomUUID } from 'node:crypto';
 import type supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { apiTokens, figures, invitations, memberships, runs } from '../../drizzle/schema.js';
+import { eq } from 'drizzle-orm';
+import sharp from 'sharp';
+import { apiTokens, figures, invitations, memberships, runs, series } from '../../drizzle/schema.js';
+import { writeNpy } from '../../renderer/src/npy/index.js';
 import { API_ROUTERS } from '../../api/src/app.js';
 import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
 import { randomToken, sha256Hex } from '../../api/src/auth/secrets.js';
@@ -28,6 +31,11 @@ let h: Harness;
 const people = {} as Record<Exclude<Role, 'reader'> | 'author2' | 'spare', User>;
 let labA: string;
 let runA: string;
+/** a finished, unpublished run of lab A with one stored tile and its arrays */
+let runDone: string;
+let seriesA: string;
+let uploadA: string;
+const TILE_PATH = '0,0,256,256/256,/0/default.png';
 let serial = 0;
 const fresh = () => `${h.tag}-${++serial}`;
 
@@ -46,6 +54,13 @@ async function newInvitation(labId: string, email: string, invitedById: string):
     .values({ labId, email, role: 'author', tokenHash: sha256Hex(token), invitedById, expiresAt: new Date(Date.now() + INVITATION_TTL_MS) })
     .returning();
   return { id: inv!.id, token };
+}
+
+/** A personal API token made directly in the database (the token flow has its own tests). */
+async function tokenFor(userId: string): Promise<string> {
+  const secret = `tw_${randomToken()}`;
+  await h.deps.db.insert(apiTokens).values({ userId, label: 'fixture', tokenHash: sha256Hex(secret), prefix: secret.slice(0, 9) });
+  return secret;
 }
 
 const ROWS: Row[] = [
@@ -176,6 +191,82 @@ const ROWS: Row[] = [
     expect: { reader: 401, author: 403, manager: 200, admin: 200, other: 404 },
     send: async (a) => as(h.http.post(`/api/runs/${await newRunInA()}/cancel`), a.session),
   },
+  {
+    route: 'POST /api/runs/:id/rerun',
+    expect: { reader: 401, author: 201, manager: 201, admin: 403, other: 404 },
+    send: (a) => as(h.http.post(`/api/runs/${runA}/rerun`), a.session).send({}),
+  },
+  {
+    // a finished run: the stream sends its state and ends at once
+    route: 'GET /api/runs/:id/events',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/runs/${runDone}/events`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/views/:layer/:palette/iiif/*path',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/runs/${runDone}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/views/:layer/:palette/iiif/*path (published)',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/runs/${runA}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/arrays/:name',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/runs/${runDone}/arrays/heights.npy`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/arrays/:name (published)',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/runs/${runA}/arrays/run.json`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/views/:layer/:palette/iiif/*path',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/views/:layer/:palette/iiif/*path (draft)',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/arrays/:name',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/arrays/heights.npy`), a.session),
+  },
+  {
+    route: 'POST /api/series',
+    expect: { reader: 401, author: 201, manager: 201, admin: 403, other: 404 },
+    send: (a) => as(h.http.post('/api/series'), a.session).send({ labId: labA, title: 'table series', spec: { lattice: { preset: 'square' } }, chips: [100, 400] }),
+  },
+  {
+    route: 'GET /api/series/:id',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/series/${seriesA}`), a.session),
+  },
+  {
+    // different heights on every call, so each one stores a new upload
+    route: 'POST /api/uploads/background',
+    expect: { reader: 401, author: 201, manager: 201, admin: 403, other: 404 },
+    send: (a) =>
+      as(h.http.post(`/api/uploads/background?labId=${labA}`), a.session)
+        .set('Content-Type', 'application/octet-stream')
+        .send(Buffer.from(writeNpy([2, 3], Int32Array.from([randomInt(2 ** 30), 1, 2, 0, 1, 2])))),
+  },
+  {
+    route: 'GET /api/uploads/background/:sha256',
+    expect: signedIn(200),
+    send: (a) => as(h.http.get(`/api/uploads/background/${uploadA}`), a.session),
+  },
+  {
+    route: 'POST /api/estimates',
+    expect: signedIn(200),
+    send: (a) => as(h.http.post('/api/estimates'), a.session).send({ spec: { lattice: { preset: 'square' }, chips: 10000 } }),
+  },
+  { route: 'GET /api/openapi.json', expect: all(200), send: (a) => as(h.http.get('/api/openapi.json'), a.session) },
   { route: 'GET /api/figures', expect: all(200), send: (a) => as(h.http.get('/api/figures'), a.session) },
   { route: 'GET /api/figures/:slug', expect: all(200), send: (a) => as(h.http.get(`/api/figures/published-${h.tag}`), a.session) },
   {
@@ -211,6 +302,22 @@ beforeAll(async () => {
   ]);
   await createLab(h, 'Lab B', [{ userId: people.other.id, role: 'manager' }]);
   runA = await newRunInA();
+  runDone = await newRunInA();
+  await h.deps.db.update(runs).set({ status: 'finished', finishedAt: new Date() }).where(eq(runs.id, runDone));
+  const png = await sharp({ create: { width: 4, height: 4, channels: 3, background: '#2f6db5' } }).png().toBuffer();
+  for (const id of [runA, runDone]) {
+    await h.deps.blobs.put(`runs/${id}/heights/tidewater/iiif/${TILE_PATH}`, png, 'image/png');
+    await h.deps.blobs.put(`runs/${id}/arrays/heights.npy`, Buffer.from(writeNpy([1], Uint8Array.from([4]))), 'application/octet-stream');
+    await h.deps.blobs.put(`runs/${id}/arrays/run.json`, '{}', 'application/json');
+  }
+  const [s] = await h.deps.db.insert(series).values({ labId: labA, authorId: people.author2.id, title: 'table fixture series' }).returning();
+  seriesA = s!.id;
+  const up = await h.http
+    .post(`/api/uploads/background?labId=${labA}`)
+    .set('Authorization', `Bearer ${await tokenFor(people.author2.id)}`)
+    .set('Content-Type', 'application/octet-stream')
+    .send(Buffer.from(writeNpy([2], Int32Array.from([1, 2]))));
+  uploadA = up.body.upload.sha256;
   await h.deps.db.insert(figures).values([
     { slug: `published-${h.tag}`, title: 'Published', runId: runA, createdById: people.author.id, publishedAt: new Date() },
     { slug: `draft-${h.tag}`, title: 'Draft', runId: runA, createdById: people.author.id },
@@ -231,7 +338,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(31);
+    expect(mounted.length).toBe(43);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

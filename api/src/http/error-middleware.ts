@@ -9,8 +9,12 @@ function bodyParserError(err: unknown): HttpError | null {
   switch ((err as { type: unknown }).type) {
     case 'entity.parse.failed':
       return new HttpError(400, 'malformed JSON in request body');
-    case 'entity.too.large':
-      return new HttpError(413, 'request body is too large (limit 1 MB)');
+    case 'entity.too.large': {
+      // each parser states its own limit (1 MB for JSON, more for file uploads)
+      const limit = Number((err as { limit?: unknown }).limit);
+      const mb = Number.isFinite(limit) && limit > 0 ? Math.round((limit / 2 ** 20) * 10) / 10 : 1;
+      return new HttpError(413, `request body is too large (limit ${mb} MB)`);
+    }
     case 'encoding.unsupported':
     case 'charset.unsupported':
       return new HttpError(415, 'unsupported request body encoding');

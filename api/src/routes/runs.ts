@@ -3,6 +3,7 @@ import { Router } from 'express';
 import {
   FINAL_RUN_STATUSES,
   createRunRequestSchema,
+  rerunRequestSchema,
   listRunsQuerySchema,
   listRunsResponseSchema,
   runParamsSchema,
@@ -17,6 +18,8 @@ import { badRequest, conflict, forbidden, notFound } from '../http/http-error.js
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
 import { audit } from '../services/audit.js';
+import { streamRunEvents } from '../services/run-events.js';
+import { createRuns } from '../services/runs.js';
 import { activeLabOf } from '../services/me.js';
 import { runView } from '../services/views.js';
 
@@ -88,14 +91,29 @@ export function runsRouter({ db, queue }: AppDeps): Router {
     const body = validate.body(req, createRunRequestSchema);
     const user = authOf(res).user;
     await checkLabAccess(db, user, body.labId, 'member');
-    // The job is enqueued inside the transaction: if Redis refuses it, no orphan "queued" row remains.
-    const run = await db.transaction(async (tx) => {
-      const [row] = await tx.insert(runs).values({ labId: body.labId, authorId: user.id, title: body.title, spec: body.spec }).returning();
-      await audit(tx, { actorId: user.id, labId: body.labId, action: 'run.create', subjectType: 'run', subjectId: row!.id, detail: { chips: body.spec.chips } });
-      await queue.enqueue({ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec: body.spec } });
-      return row!;
+    const { rows: [run] } = await createRuns({ db, queue }, user, body.labId, [{ title: body.title, spec: body.spec }]);
+    respond(res, 201, runResponseSchema, { run: runView(run!, { id: user.id, name: user.name }) });
+  });
+
+  /** The same specification again, as a new run in the same lab (say, after a failure or a cancel). */
+  r.post('/runs/:id/rerun', requireUser, requireVerified, async (req, res) => {
+    const { id } = validate.params(req, runParamsSchema);
+    const body = validate.body(req, rerunRequestSchema);
+    const user = authOf(res).user;
+    const { run } = await loadRun(id, res);
+    await checkLabAccess(db, user, run.labId, 'member');
+    const { rows: [again] } = await createRuns({ db, queue }, user, run.labId, [{ title: body.title ?? run.title, spec: run.spec }], { action: 'run.rerun', detail: { from: run.id } });
+    respond(res, 201, runResponseSchema, { run: runView(again!, { id: user.id, name: user.name }) });
+  });
+
+  /** Live progress as server-sent events, read from PostgreSQL (the source of truth) once a second. */
+  r.get('/runs/:id/events', requireUser, async (req, res) => {
+    const { id } = validate.params(req, runParamsSchema);
+    await loadRun(id, res);
+    streamRunEvents(res, async () => {
+      const [row] = await selectRun().where(eq(runs.id, id));
+      return row ? runView(row.run, row.author) : null;
     });
-    respond(res, 201, runResponseSchema, { run: runView(run, { id: user.id, name: user.name }) });
   });
 
   r.post('/runs/:id/cancel', requireUser, async (req, res) => {

@@ -4,7 +4,8 @@ import { count, eq, sql } from 'drizzle-orm';
 import { loadEnv, type Env } from '../../../shared/env.js';
 import { JOB_NAMES } from '../../../shared/jobs.js';
 import { runSpecSchema, type RunSpecInput } from '../../../shared/run-spec.js';
-import { creditLedger, figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
+import { figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
+import { bookOfflinePurchase } from '../billing/adjustments.js';
 import { hashPassword } from '../auth/passwords.js';
 import { connectDatabase } from '../db/client.js';
 import { createJobQueue } from '../queue/job-queue.js';
@@ -99,7 +100,7 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         createdById: who('author'),
         publishedAt: new Date(),
       });
-      await tx.insert(creditLedger).values({ labId: main!.id, credits: 5000, kind: 'purchase', reference: 'demo-purchase-0001', actorId: who('manager') });
+      await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
       await audit(tx, { actorId: null, labId: null, action: 'demo.seed', reason: 'empty database at start' });
       return true;
     });

@@ -26,6 +26,7 @@ export function runView(r: typeof runs.$inferSelect, author: { id: string; name:
     createdAt: r.createdAt.toISOString(),
     startedAt: iso(r.startedAt),
     finishedAt: iso(r.finishedAt),
+    seriesId: r.seriesId,
   };
 }
 

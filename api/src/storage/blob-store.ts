@@ -1,3 +1,5 @@
+import type { Readable } from 'node:stream';
+
 /**
  * Where run artifacts (.npy arrays, statistics, tiles, print files) live. An interface so the API,
  * the worker and tests share one contract; S3 (or its local fake) is the implementation.
@@ -6,6 +8,10 @@ export interface BlobStore {
   put(key: string, body: Buffer | string, contentType: string): Promise<void>;
   /** null when there is no such object */
   get(key: string): Promise<Buffer | null>;
+  /** a stored object as a stream with its metadata, for answering HTTP requests; null when missing */
+  open(key: string): Promise<BlobObject | null>;
+  /** whether an object exists, without reading it */
+  exists(key: string): Promise<boolean>;
   delete(key: string): Promise<void>;
   list(prefix: string): Promise<string[]>;
   /** a time-limited GET address for a reader's browser */
@@ -13,4 +19,13 @@ export interface BlobStore {
   /** cheap liveness check for /api/health/ready */
   ping(): Promise<boolean>;
   close(): void;
+}
+
+export interface BlobObject {
+  body: Readable;
+  size: number;
+  contentType: string | undefined;
+  /** the store's entity tag, quoted as in HTTP */
+  etag: string | undefined;
+  lastModified: Date | undefined;
 }

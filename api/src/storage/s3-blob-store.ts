@@ -3,6 +3,7 @@ import {
   DeleteObjectCommand,
   GetObjectCommand,
   HeadBucketCommand,
+  HeadObjectCommand,
   ListObjectsV2Command,
   NoSuchKey,
   PutObjectCommand,
@@ -10,6 +11,7 @@ import {
 } from '@aws-sdk/client-s3';
 import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
 import type { Env } from '../../../shared/env.js';
+import { Readable } from 'node:stream';
 import type { BlobStore } from './blob-store.js';
 
 type S3Settings = Pick<Env, 'S3_ENDPOINT' | 'S3_REGION' | 'S3_BUCKET' | 'S3_ACCESS_KEY_ID' | 'S3_SECRET_ACCESS_KEY'>;
@@ -39,6 +41,26 @@ export function createS3BlobStore(env: S3Settings): BlobStore {
         return Buffer.from(await out.Body!.transformToByteArray());
       } catch (err) {
         if (err instanceof NoSuchKey || (err as Error).name === 'NoSuchKey') return null;
+        throw err;
+      }
+    },
+    async open(key) {
+      try {
+        const out = await client.send(new GetObjectCommand({ Bucket, Key: key }));
+        const body = out.Body instanceof Readable ? out.Body : Readable.fromWeb(out.Body!.transformToWebStream() as Parameters<typeof Readable.fromWeb>[0]);
+        return { body, size: out.ContentLength ?? 0, contentType: out.ContentType, etag: out.ETag, lastModified: out.LastModified };
+      } catch (err) {
+        if (err instanceof NoSuchKey || (err as Error).name === 'NoSuchKey') return null;
+        throw err;
+      }
+    },
+    async exists(key) {
+      try {
+        await client.send(new HeadObjectCommand({ Bucket, Key: key }));
+        return true;
+      } catch (err) {
+        const name = (err as Error).name;
+        if (name === 'NotFound' || name === 'NoSuchKey' || (err as { $metadata?: { httpStatusCode?: number } }).$metadata?.httpStatusCode === 404) return false;
         throw err;
       }
     },

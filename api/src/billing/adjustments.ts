@@ -1,0 +1,39 @@
+import { randomUUID } from 'node:crypto';
+import type { CreditAdjustmentRequest } from '../../../shared/api/credits.js';
+import type { Db } from '../db/client.js';
+import { conflict } from '../http/http-error.js';
+import { audit } from '../services/audit.js';
+import { accounts } from './accounts.js';
+import { labBalance, lockLab, post, type Executor } from './ledger.js';
+
+/**
+ * A site admin's grant (credits from the `grants` account) or revocation (back to it), always with
+ * a reason, recorded in the ledger and the audit trail together. A revocation takes only what is
+ * available: credits held by running jobs cannot be taken.
+ */
+export async function adjustCredits(db: Db, labId: string, actorId: string, req: CreditAdjustmentRequest): Promise<string> {
+  return db.transaction(async (tx) => {
+    await lockLab(tx, labId);
+    const sign = req.kind === 'grant' ? 1 : -1;
+    if (req.kind === 'revocation') {
+      const { available } = await labBalance(tx, labId);
+      if (req.credits > available) throw conflict(`cannot revoke ${req.credits} credits: the lab has ${available} available`);
+    }
+    const booked = await post(tx, { labId, kind: req.kind, idempotencyKey: `${req.kind}:${randomUUID()}`, actorId, reason: req.reason, detail: { credits: req.credits } }, [
+      { account: accounts.available(labId), amount: sign * req.credits },
+      { account: accounts.grants, amount: -sign * req.credits },
+    ]);
+    await audit(tx, { actorId, labId, action: `credits.${req.kind}`, subjectType: 'lab', subjectId: labId, reason: req.reason, detail: { credits: req.credits } });
+    return booked!.id;
+  });
+}
+
+/** A purchase booked without the payment provider: the demo seed's invented purchase. */
+export async function bookOfflinePurchase(db: Executor, labId: string, credits: number, reference: string, actorId: string | null): Promise<void> {
+  await db.transaction(async (tx) => {
+    await post(tx, { labId, kind: 'purchase', idempotencyKey: `purchase:${reference}`, actorId, reason: 'offline purchase', detail: { reference } }, [
+      { account: accounts.available(labId), amount: credits },
+      { account: accounts.stripeClearing, amount: -credits },
+    ]);
+  });
+}

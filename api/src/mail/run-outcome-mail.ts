@@ -1,0 +1,28 @@
+import type { MailMessage } from './mailer.js';
+import { htmlMail } from './layout.js';
+
+export type RunOutcome = { id: string; title: string; status: 'finished' | 'failed'; chips: number; lattice: string; error: string | null; seconds: number };
+
+/** "1 h 02 min", "3 min 05 s", "42 s": how long the author waited. */
+export function waitedFor(seconds: number): string {
+  const s = Math.round(seconds);
+  if (s < 60) return `${s} s`;
+  const m = Math.floor(s / 60);
+  if (m < 60) return `${m} min ${String(s % 60).padStart(2, '0')} s`;
+  return `${Math.floor(m / 60)} h ${String(m % 60).padStart(2, '0')} min`;
+}
+
+export function runOutcomeMail(publicUrl: string, to: string, run: RunOutcome): MailMessage {
+  const href = `${publicUrl.replace(/\/+$/, '')}/runs/${run.id}`;
+  const what = `${run.lattice} lattice, n = ${run.chips.toLocaleString('en-US')} grains`;
+  const lines =
+    run.status === 'finished'
+      ? ['Hello,', `Your run "${run.title}" (${what}) is ready after ${waitedFor(run.seconds)}.`, 'Its arrays, statistics and deep-zoom views are on the run page.']
+      : ['Hello,', `Your run "${run.title}" (${what}) stopped after ${waitedFor(run.seconds)} without a result.`, `The farm said: ${run.error ?? 'no reason given'}`];
+  return {
+    to,
+    subject: run.status === 'finished' ? `Run ready: ${run.title}` : `Run failed: ${run.title}`,
+    text: `${lines.join('\n\n')}\n\n${href}\n`,
+    html: htmlMail(lines, { href, label: 'Open the run' }),
+  };
+}

@@ -1,0 +1,61 @@
+import { Router, type Request, type Response } from 'express';
+import {
+  figureArrayParamsSchema,
+  figureViewBase,
+  figureViewParamsSchema,
+  runArrayParamsSchema,
+  runViewBase,
+  runViewParamsSchema,
+  type ArrayName,
+} from '../../../shared/api/artifacts.js';
+import type { AppDeps } from '../deps.js';
+import { validate } from '../http/validate.js';
+import { arrayKey, assertPlainUrl, CACHE, figureSubject, runSubject, sendInfoJson, sendObject, shareIfPublic, viewKey, type ArtifactSubject } from '../services/artifacts.js';
+
+/**
+ * Deep-zoom tiles and downloads, streamed from the object store. The same handlers serve a run by id
+ * (its lab, or anyone once published) and a published figure by slug (anyone).
+ */
+export function artifactsRouter({ db, blobs, env }: AppDeps): Router {
+  const r = Router();
+
+  async function view(req: Request, res: Response, subject: ArtifactSubject, p: { layer: string; palette: string; path: string[] }, base: string) {
+    shareIfPublic(res, subject.visibility);
+    const key = viewKey(subject.runId, p.layer as Parameters<typeof viewKey>[1], p.palette, p.path);
+    if (p.path.length === 1 && p.path[0] === 'info.json') return sendInfoJson(res, blobs, key, base, CACHE.info[subject.visibility]);
+    return sendObject(req, res, blobs, key, { cacheControl: CACHE.tile[subject.visibility] });
+  }
+
+  async function array(req: Request, res: Response, subject: ArtifactSubject, name: ArrayName, stem: string) {
+    shareIfPublic(res, subject.visibility);
+    return sendObject(req, res, blobs, arrayKey(subject.runId, name), { cacheControl: CACHE.array[subject.visibility], attachmentName: `${stem}-${name}` });
+  }
+
+  r.get('/runs/:id/views/:layer/:palette/iiif/*path', async (req, res) => {
+    assertPlainUrl(req);
+    const p = validate.params(req, runViewParamsSchema);
+    const subject = await runSubject(db, res, p.id);
+    await view(req, res, subject, p, runViewBase(env.PUBLIC_URL, p.id, p.layer, p.palette));
+  });
+
+  r.get('/figures/:slug/views/:layer/:palette/iiif/*path', async (req, res) => {
+    assertPlainUrl(req);
+    const p = validate.params(req, figureViewParamsSchema);
+    const subject = await figureSubject(db, res, p.slug);
+    await view(req, res, subject, p, figureViewBase(env.PUBLIC_URL, p.slug, p.layer, p.palette));
+  });
+
+  r.get('/runs/:id/arrays/:name', async (req, res) => {
+    const p = validate.params(req, runArrayParamsSchema);
+    const subject = await runSubject(db, res, p.id);
+    await array(req, res, subject, p.name, `run-${p.id.slice(0, 8)}`);
+  });
+
+  r.get('/figures/:slug/arrays/:name', async (req, res) => {
+    const p = validate.params(req, figureArrayParamsSchema);
+    const subject = await figureSubject(db, res, p.slug);
+    await array(req, res, subject, p.name, p.slug);
+  });
+
+  return r;
+}

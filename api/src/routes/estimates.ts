@@ -1,0 +1,35 @@
+import { Router } from 'express';
+import { estimateRequestSchema, estimateResponseSchema } from '../../../shared/api/estimates.js';
+import { EstimateError, estimateRun } from '../../../shared/estimate.js';
+import { requireUser } from '../auth/middleware.js';
+import type { AppDeps } from '../deps.js';
+import { badRequest } from '../http/http-error.js';
+import { respond } from '../http/respond.js';
+import { validate } from '../http/validate.js';
+import { findBackground } from '../services/background-uploads.js';
+
+/** The estimator's own refusals (an unknown lattice preset) are the client's 400. */
+function estimateOrReject(...args: Parameters<typeof estimateRun>) {
+  try {
+    return estimateRun(...args);
+  } catch (err) {
+    if (err instanceof EstimateError) throw badRequest(`spec: ${err.message}`);
+    throw err;
+  }
+}
+
+export function estimatesRouter({ db }: AppDeps): Router {
+  const r = Router();
+
+  /** The run form's prediction (shared/estimate.ts); an uploaded background is read from its record. */
+  r.post('/estimates', requireUser, async (req, res) => {
+    const { spec } = validate.body(req, estimateRequestSchema);
+    const bg = spec.background;
+    const upload = bg.kind === 'array' ? await findBackground(db, bg.sha256) : null;
+    if (bg.kind === 'array' && !upload) throw badRequest(`spec.background: no uploaded background has sha256 ${bg.sha256}`);
+    const estimate = estimateOrReject(spec, upload ? { shape: upload.shape, meanHeight: upload.meanHeight } : undefined);
+    respond(res, 200, estimateResponseSchema, { estimate });
+  });
+
+  return r;
+}

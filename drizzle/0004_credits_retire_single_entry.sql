@@ -1,0 +1,1 @@
+DROP TABLE "credit_ledger" CASCADE;

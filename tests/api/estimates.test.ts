@@ -1,0 +1,117 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { estimateResponseSchema } from '../../shared/api/estimates.js';
+import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
+import { runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
+import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
+
+const spec = (s: RunSpecInput) => runSpecSchema.parse(s);
+const square = (chips: number, height = 0) => estimateRun(spec({ lattice: { preset: 'square' }, chips, background: { kind: 'constant', height } }));
+
+describe('the estimator (shared/estimate.ts)', () => {
+  it('gives the exact toppling count on Z^1: the total odometer of N grains', () => {
+    // N = 2m or 2m+1 grains: site x fires T(m − |x|) times, total m(m+1)(2m+1)/6 = OEIS A000330(m);
+    // for N = 1..10 that is 0, 1, 1, 5, 5, 14, 14, 30, 30, 55 (derived from the Laplacian equation)
+    const expected = [0, 1, 1, 5, 5, 14, 14, 30, 30, 55];
+    expect(expected.map((_, k) => estimateRun(spec({ lattice: { preset: 'line' }, chips: k + 1 })).topplings)).toEqual(expected);
+  });
+
+  it('covers the Z^1 pile: 2n + 1 grains end as one grain on each of −n..n', () => {
+    // Anderson, Lovász, Shor, Spencer, Tardos, Winograd, Amer. Math. Monthly 96 (1989) 481–493
+    for (const n of [5, 50, 5000]) {
+      const { shape } = estimateRun(spec({ lattice: { preset: 'line' }, chips: 2 * n + 1 }));
+      expect(shape[0]).toBeGreaterThanOrEqual(2 * n + 1);
+      expect(shape[0]).toBeLessThanOrEqual(2 * n + 1 + 4);
+    }
+  });
+
+  it('covers the outer radius bound of the square-lattice pile and stays close to it', () => {
+    // outer radius ≤ sqrt(n / (2π)) (1 + o(1)) for n grains at the origin of Z^2 (arXiv:0704.0688, abstract)
+    for (const n of [1e4, 1e5, 1e6, 1e8]) {
+      const e = square(n);
+      expect(e.radius).toBeGreaterThanOrEqual(Math.sqrt(n / (2 * Math.PI)));
+      expect(e.shape[0]).toBeGreaterThanOrEqual(2 * Math.sqrt(n / (2 * Math.PI)) + 1);
+      expect(e.shape).toEqual([e.shape[0], e.shape[0]]);
+      expect(e.cells).toBe(e.shape[0]! ** 2);
+      // and not wildly more: inside 10 % of the bound's box
+      expect(e.shape[0]).toBeLessThan(1.1 * 2 * Math.sqrt(n / (2 * Math.PI)) + 4);
+    }
+    // measured radius 119.85 at n = 10^5 (independent computation, not published) lies inside
+    expect(square(1e5).radius).toBeGreaterThan(119.85);
+  });
+
+  it('predicts square-lattice topplings from the fit, and says how far off it is below the fitted range', () => {
+    // regression values computed independently (numpy), not published: 10^4, 10^5, 10^6 grains
+    const reference: [number, number][] = [
+      [1e4, 1_830_917],
+      [1e5, 178_641_503],
+      [1e6, 17_448_261_875],
+    ];
+    for (const [n, t] of reference) expect(Math.abs(square(n).topplings / t - 1)).toBeLessThan(0.001);
+    // n = 1000: 18,226 topplings (same independent computation): extrapolated, within 5 %
+    expect(Math.abs(square(1000).topplings / 18_226 - 1)).toBeLessThan(0.05);
+    // time is work over the measured rate, plus the fixed start-up
+    const e = square(1e6);
+    expect(e.seconds).toBeCloseTo(2 + e.topplings / TOPPLINGS_PER_SECOND, 6);
+  });
+
+  it('grows like n^(1/3) on the cubic lattice and n^(1/2) on planar ones', () => {
+    // diameter Θ(n^(1/d)) on Z^d for backgrounds ≤ 2d − 2 (Fey, Levine, Peres, J. Stat. Phys. 138 (2010); arXiv:0901.3805)
+    const cubic = (n: number) => estimateRun(spec({ lattice: { preset: 'cubic' }, chips: n }));
+    expect(cubic(8e6).radius / cubic(1e6).radius).toBeCloseTo(2, 10);
+    expect(cubic(1e6).shape.length).toBe(3);
+    const tri = (n: number) => estimateRun(spec({ lattice: { preset: 'triangular' }, chips: n }));
+    expect(tri(4e6).radius / tri(1e6).radius).toBeCloseTo(2, 10);
+  });
+
+  it('warns where the pile need not stay compact, and not below 2d − 2', () => {
+    // constant 2d − 1 = 3 on Z^2: one grain already never stabilizes (Sadhu & Dhar, arXiv:1109.2908; FLP arXiv:0901.3805)
+    expect(square(10, 3).warnings.length).toBe(1);
+    // constant 2 = 2d − 2 on Z^2 is compact (arXiv:0901.3805); and the pile is larger than on an empty lattice
+    expect(square(1000, 2).warnings).toEqual([]);
+    expect(square(1000, 2).cells).toBeGreaterThan(square(1000, 0).cells);
+  });
+
+  it('prices memory at 16 bytes a cell and credits by the documented formula', () => {
+    const e = square(1e6);
+    expect(e.bytes).toBe(e.cells * BYTES_PER_CELL);
+    expect(e.credits).toBe(creditsFor(e.seconds, e.bytes));
+    // worked by hand: 61 s → 2 started minutes; 1 byte → 1 started GiB; 2 + 1 = 3
+    expect(creditsFor(61, 1)).toBe(3);
+    expect(creditsFor(0, 0)).toBe(1);
+  });
+
+  it('widens the box for far sources and refuses an unknown lattice', () => {
+    const far = estimateRun(spec({ lattice: { preset: 'square' }, chips: 100, sources: [{ at: [500, 0], chips: 100 }] }));
+    expect(far.shape[1]).toBeGreaterThan(1000);
+    expect(() => estimateRun(spec({ lattice: { preset: 'kagome-ish' }, chips: 10 }))).toThrow(EstimateError);
+  });
+});
+
+describe('POST /api/estimates', () => {
+  let h: Harness;
+  let who: Session;
+  beforeAll(async () => {
+    h = await startHarness('estimates');
+    const u = await createUser(h, 'Estimate Author');
+    await createLab(h, 'Estimate Lab', [{ userId: u.id, role: 'author' }]);
+    who = await signIn(h, u.email, TEST_PASSWORD);
+  });
+  afterAll(async () => {
+    await h.close();
+  });
+
+  it('answers what the form computes itself', async () => {
+    const s: RunSpecInput = { lattice: { preset: 'honeycomb' }, chips: 250_000, background: { kind: 'random', seed: 7, weights: [1, 1] } };
+    const res = await as(h.http.post('/api/estimates'), who).send({ spec: s }).expect(200);
+    expect(estimateResponseSchema.parse(res.body).estimate).toEqual(estimateRun(spec(s)));
+  });
+
+  it('refuses an unknown lattice or a bad spec with 400', async () => {
+    const unknown = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'nowhere' }, chips: 10 } });
+    expect(unknown.status).toBe(400);
+    expect(unknown.body.error).toMatch(/unknown lattice preset "nowhere"/);
+    const bad = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: -1 } });
+    expect(bad.status).toBe(400);
+    expect(bad.body.issues[0].path).toBe('spec.chips');
+  });
+});
