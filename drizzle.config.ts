@@ -5,5 +5,5 @@ export default defineConfig({
   dialect: 'postgresql',
   schema: './drizzle/schema.ts',
   out: './drizzle',
-  dbCredentials: { url: process.env.DATABASE_URL ?? 'postgres://postgres@127.0.0.1:55432/toppleworks' },
+  dbCredentials: { url: process.env.DATABASE_URL ?? 'postgres://postgres@127.0.0.1:15432/toppleworks' },
 });

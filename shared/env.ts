@@ -10,18 +10,18 @@ export const envSchema = z.object({
   PORT: z.coerce.number().int().min(1).max(65535).default(5180),
   /** the address users reach the web app at; used in mailed links */
   PUBLIC_URL: z.url().default('http://127.0.0.1:5180'),
-  DATABASE_URL: z.string().default('postgres://postgres@127.0.0.1:55432/toppleworks'),
-  REDIS_URL: z.string().default('redis://127.0.0.1:56379'),
-  S3_ENDPOINT: z.url().default('http://127.0.0.1:54569'),
+  DATABASE_URL: z.string().default('postgres://postgres@127.0.0.1:15432/toppleworks'),
+  REDIS_URL: z.string().default('redis://127.0.0.1:16379'),
+  S3_ENDPOINT: z.url().default('http://127.0.0.1:14569'),
   S3_REGION: z.string().default('us-east-1'),
   S3_BUCKET: z.string().min(3).default('toppleworks'),
   S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
   S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
   STRIPE_SECRET_KEY: z.string().default('sk_test_toppleworks_local'),
   /** unset means the real Stripe API; locally it points at the payments fake */
-  STRIPE_API_BASE: z.url().optional().default('http://127.0.0.1:54570'),
+  STRIPE_API_BASE: z.url().optional().default('http://127.0.0.1:14570'),
   STRIPE_WEBHOOK_SECRET: z.string().default('whsec_toppleworks_local'),
-  SMTP_URL: z.string().default('smtp://127.0.0.1:54525'),
+  SMTP_URL: z.string().default('smtp://127.0.0.1:14525'),
   MAIL_FROM: z.string().default('Toppleworks <press@toppleworks.local>'),
   /** development only: the mail fake's HTTP listing of captured mails, shown at /dev/outbox */
   MAIL_OUTBOX_URL: z.url().optional(),

@@ -128,8 +128,8 @@ if (isMain(import.meta.url)) {
   try {
     const fake = await startMailFake({
       host: flags.host,
-      smtpPort: portFlag(flags, 'port', 54525),
-      httpPort: portFlag(flags, 'http-port', 54526),
+      smtpPort: portFlag(flags, 'port', 14525),
+      httpPort: portFlag(flags, 'http-port', 14526),
       dir: flags.dir,
     });
     console.log(`mail fake: SMTP on ${fake.smtpPort}, outbox at ${fake.url}/messages (${fake.outbox.size} kept)`);

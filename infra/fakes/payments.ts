@@ -81,7 +81,7 @@ if (isMain(import.meta.url)) {
   try {
     const fake = await startPaymentsFake({
       host: flags.host,
-      port: portFlag(flags, 'port', 54570),
+      port: portFlag(flags, 'port', 14570),
       dir: flags.dir,
       webhook: webhookUrl && secret ? { url: webhookUrl, secret } : undefined,
       retry: retryBase ? { baseDelayMs: Number(retryBase) } : undefined,

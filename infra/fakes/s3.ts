@@ -58,9 +58,9 @@ export async function startS3Fake(opts: S3FakeOptions): Promise<S3Fake> {
 
 if (isMain(import.meta.url)) {
   const flags = readFlags(['host', 'port', 'dir', 'bucket']);
-  if (!flags.dir) exitWith(2, 'usage: s3.ts --dir FOLDER [--port 54569] [--host 127.0.0.1] [--bucket toppleworks]');
+  if (!flags.dir) exitWith(2, 'usage: s3.ts --dir FOLDER [--port 14569] [--host 127.0.0.1] [--bucket toppleworks]');
   try {
-    const fake = await startS3Fake({ host: flags.host, port: portFlag(flags, 'port', 54569), directory: flags.dir, bucket: flags.bucket });
+    const fake = await startS3Fake({ host: flags.host, port: portFlag(flags, 'port', 14569), directory: flags.dir, bucket: flags.bucket });
     console.log(`s3 fake: ${fake.endpoint}, bucket ${flags.bucket ?? 'toppleworks'}, data in ${flags.dir}`);
     closeOnSignals(() => fake.close());
   } catch (err) {

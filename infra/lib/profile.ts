@@ -34,9 +34,10 @@ export const S3_BUCKET = 'toppleworks';
 /** Where the payments fake delivers events unless FAKE_WEBHOOK_URL says otherwise. */
 export const DEFAULT_WEBHOOK_PATH = '/api/payments/webhook';
 
+// Below the ephemeral range (32768–60999): a stray outgoing connection can never hold one of these.
 const PORTS: Record<ProfileName, Profile['ports']> = {
-  dev: { postgres: 55432, redis: 56379, s3: 54569, payments: 54570, smtp: 54525, mailHttp: 54526, api: 5180 },
-  test: { postgres: 55532, redis: 56479, s3: 54669, payments: 54670, smtp: 54625, mailHttp: 54626, api: 5280 },
+  dev: { postgres: 15432, redis: 16379, s3: 14569, payments: 14570, smtp: 14525, mailHttp: 14526, api: 5180 },
+  test: { postgres: 25432, redis: 26379, s3: 24569, payments: 24570, smtp: 24525, mailHttp: 24526, api: 5280 },
 };
 
 export function profileFor(name: ProfileName, root = ROOT): Profile {

@@ -8,8 +8,8 @@ describe('profiles', () => {
   const test = profileFor('test', '/repo');
 
   it('use the documented dev ports (infra/README.md)', () => {
-    expect(dev.ports).toEqual({ postgres: 55432, redis: 56379, s3: 54569, payments: 54570, smtp: 54525, mailHttp: 54526, api: 5180 });
-    expect(test.ports).toMatchObject({ postgres: 55532, redis: 56479, s3: 54669, payments: 54670, smtp: 54625, mailHttp: 54626 });
+    expect(dev.ports).toEqual({ postgres: 15432, redis: 16379, s3: 14569, payments: 14570, smtp: 14525, mailHttp: 14526, api: 5180 });
+    expect(test.ports).toMatchObject({ postgres: 25432, redis: 26379, s3: 24569, payments: 24570, smtp: 24525, mailHttp: 24526 });
   });
 
   it('never share a port or a folder', () => {

@@ -16,7 +16,7 @@ describe.runIf(underNpmTest)('services started by npm test', () => {
     await client.connect();
     try {
       const r = await client.query('select current_database() as db, current_setting($$port$$) as port');
-      expect(r.rows[0]).toEqual({ db: 'toppleworks_test', port: '55532' });
+      expect(r.rows[0]).toEqual({ db: 'toppleworks_test', port: '25432' });
     } finally {
       await client.end();
     }

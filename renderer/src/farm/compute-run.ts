@@ -16,6 +16,8 @@ export interface ComputeDeps {
   store: BlobStore;
   /** queue the rendering of a computed run */
   enqueueRender(runId: string): Promise<void>;
+  /** tell the author a run has ended (mail); must not throw */
+  notifyOutcome(runId: string): Promise<void>;
   threads?: number;
 }
 
@@ -101,10 +103,14 @@ export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished
     if (abort.signal.aborted) return 'skipped';
     if (unrecoverable(err) || err instanceof UnrecoverableError) {
       await state.failed(err.message);
+      await deps.notifyOutcome(data.runId);
       throw new UnrecoverableError(err.message);
     }
     // transient (store or database hiccup): BullMQ retries with backoff; mark failed on the last attempt
-    if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) await state.failed(`the farm could not finish this run: ${(err as Error).message}`);
+    if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) {
+      await state.failed(`the farm could not finish this run: ${(err as Error).message}`);
+      await deps.notifyOutcome(data.runId);
+    }
     throw err;
   }
 }

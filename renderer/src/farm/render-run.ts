@@ -13,6 +13,8 @@ export interface RenderDeps {
   store: BlobStore;
   s3: S3Client;
   bucket: string;
+  /** tell the author a run has ended (mail); must not throw */
+  notifyOutcome(runId: string): Promise<void>;
 }
 
 /** The layers drawn for every run; the reader page switches between them. */
@@ -56,6 +58,6 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
     await state.progress(`drawing ${view.layer} tiles`, i / DEFAULT_VIEWS.length);
     await renderPyramid(input, sink, { runId, style: { layer: view.layer }, stats });
   }
-  await state.finished();
+  if (await state.finished()) await deps.notifyOutcome(runId);
   return 'finished';
 }
