@@ -1,0 +1,33 @@
+import { groupThousands, powerOfTen } from './numbers.js';
+import type { RunStatsJson } from '../../../shared/run-stats.js';
+
+/**
+ * The object printed by --json: the engine's statistics in their JSON form (bigint counts as decimal
+ * strings, see shared/run-stats.ts) plus what the command did. Field names are a scripting contract.
+ */
+export interface RunReport extends RunStatsJson {
+  sources: { at: number[]; chips: number }[];
+  /** the --background argument as given (constant:0 when omitted) */
+  background: string;
+  engineVersion: string;
+  files: { heights: string | null; odometer: string | null; sidecar: string | null };
+}
+
+/** The short human summary: numbers grouped by thousands, n also as a power of ten. */
+export function formatReport(r: RunReport): string {
+  const lines: string[] = [];
+  const row = (label: string, value: string) => lines.push(`${label.padEnd(17)}${value}`);
+  row('lattice', `${r.lattice}, background ${r.background}`);
+  row('grains', `n = ${groupThousands(r.chips)} (${powerOfTen(Number(r.chips))}) at the origin` + (r.sources.length ? ` + ${r.sources.length} more source(s)` : ''));
+  row('toppled sites', groupThousands(r.toppledSites));
+  row('topplings', groupThousands(r.totalTopplings));
+  row('origin odometer', groupThousands(r.originOdometer));
+  const radius = r.radiusOverSqrtN === null ? '' : ` (${r.radiusOverSqrtN.toFixed(3)} √n)`;
+  row('radius', `${r.radiusEuclidean.toFixed(2)} Euclidean${radius}, ${groupThousands(r.radiusLinf)} max-norm`);
+  row('array', `${r.shape.map(groupThousands).join(' × ')} cells, origin at [${r.origin.join(', ')}]`);
+  row('heights', r.heightCounts.map((c, h) => `${h}: ${groupThousands(c)}`).join('   ') + '  (toppled sites)');
+  row('time', `${r.seconds.toFixed(r.seconds < 10 ? 3 : 1)} s`);
+  const written = [r.files.heights, r.files.sidecar, r.files.odometer].filter((f): f is string => f !== null);
+  if (written.length) row('wrote', written.join(', '));
+  return lines.join('\n');
+}

@@ -1,0 +1,35 @@
+import { runSpecSchema, type RunSpec } from '../../../shared/run-spec.js';
+import type { CliOptions } from './args.js';
+import { resolveBackgroundArg } from './background-arg.js';
+import { CliInputError } from './errors.js';
+import { latticeDimension, resolveLatticeArg } from './lattice-arg.js';
+import { parseSourceArg } from './source-arg.js';
+import type { UploadedArray } from './upload-array.js';
+import { firstIssue } from './zod-message.js';
+
+export interface RunInputs {
+  spec: RunSpec;
+  upload: UploadedArray | undefined;
+  pngLevels: number[] | undefined;
+  /** files the run reads, so no output may replace them */
+  inputPaths: string[];
+}
+
+/** Read every input the options name and assemble the validated run specification. */
+export async function resolveRunInputs(options: CliOptions): Promise<RunInputs> {
+  const lattice = await resolveLatticeArg(options.lattice);
+  const dimension = latticeDimension(lattice);
+  const sources = options.sources.map((s) => parseSourceArg(s, dimension));
+  const { background, upload, pngLevels } = await resolveBackgroundArg(options.background);
+  if (upload && upload.shape.length !== dimension) {
+    throw new CliInputError(
+      `background array has shape (${upload.shape.join(', ')}) but the ${options.lattice} lattice needs a ${dimension}-dimensional array`,
+    );
+  }
+  const parsed = runSpecSchema.safeParse({ lattice, chips: options.chips, sources, background });
+  if (!parsed.success) throw new CliInputError(`invalid run specification: ${firstIssue(parsed.error)}`);
+  const inputPaths = [options.lattice, options.background ?? '']
+    .map((arg) => /^(?:periodic|motif|file):(.+)$/.exec(arg)?.[1])
+    .filter((p): p is string => p !== undefined);
+  return { spec: parsed.data, upload, pngLevels, inputPaths };
+}

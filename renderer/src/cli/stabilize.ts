@@ -1,0 +1,107 @@
+/**
+ * `npm run -s stabilize -- …`: the command-line adapter around the exact engine. It owns all I/O:
+ * arguments, input files (JSON, .npy, PNG), atomic output writing and the report.
+ * Run `--help` for the contract; exit codes are listed in errors.ts.
+ */
+import { basename, resolve } from 'node:path';
+import { ENGINE_VERSION, resolveProblem, runStatsToJSON, stabilize } from '../engine/index.js';
+import { encodeNpy } from '../npy/index.js';
+import { parseCliArgs, USAGE } from './args.js';
+import { assertWritable, writeFilesAtomically, type OutputFile } from './atomic-write.js';
+import { CliInputError, EXIT } from './errors.js';
+import { groupThousands } from './numbers.js';
+import { arrayHash, dtypeName, heightsForExport, odometerForExport } from './export-arrays.js';
+import { formatReport, type RunReport } from './report.js';
+import { resolveRunInputs } from './run-inputs.js';
+import { sidecarPath, toJson, type ArrayRecord, type Sidecar } from './sidecar.js';
+
+export async function main(argv: readonly string[], signal: AbortSignal): Promise<{ code: number; stdout: string }> {
+  const options = parseCliArgs(argv);
+  if (options.help) return { code: EXIT.ok, stdout: USAGE };
+
+  const { spec, upload, pngLevels, inputPaths } = await resolveRunInputs(options);
+
+  const sidecarFor = options.heights ?? options.odometer;
+  const sidecar = sidecarFor === undefined ? undefined : sidecarPath(sidecarFor);
+  const outputs = [options.heights, options.odometer, sidecar].filter((p): p is string => p !== undefined);
+  await assertWritable(outputs);
+  for (const out of outputs) {
+    if (inputPaths.some((input) => resolve(input) === resolve(out))) throw new CliInputError(`output ${out} would overwrite an input file`);
+  }
+
+  const problem = resolveProblem(spec, upload ? { background: upload } : undefined);
+  const outcome = await stabilize(problem, {
+    ...(options.threads !== undefined ? { threads: options.threads } : {}),
+    ...(options.maxSites !== undefined ? { maxSites: options.maxSites } : {}),
+    signal,
+    // the engine already throttles its reports; fraction is the share of grains fed in so far
+    onProgress: options.progress
+      ? (p) => process.stderr.write(`${p.stage}: ${(100 * p.fraction).toFixed(1)}% of grains fed, ${groupThousands(p.toppledSites)} sites toppled\n`)
+      : undefined,
+  });
+
+  const stats = runStatsToJSON(outcome.stats);
+  const report: RunReport = {
+    ...stats,
+    sources: spec.sources,
+    background: options.background ?? 'constant:0',
+    engineVersion: ENGINE_VERSION,
+    files: { heights: options.heights ?? null, odometer: options.odometer ?? null, sidecar: sidecar ?? null },
+  };
+
+  const files: OutputFile[] = [];
+  const record = (path: string, data: Uint8Array | Int32Array | BigInt64Array | Float64Array): ArrayRecord => {
+    files.push({ path, chunks: encodeNpy(outcome.shape, data) });
+    return { file: basename(path), dtype: dtypeName(data), shape: outcome.shape, origin: outcome.origin, sha256: arrayHash(data) };
+  };
+  const heightsRecord = options.heights ? record(options.heights, heightsForExport(outcome.heights)) : null;
+  const odometerRecord = options.odometer ? record(options.odometer, odometerForExport(outcome.odometer, options.odometerDtype)) : null;
+  if (sidecar) {
+    const body: Sidecar = {
+      format: 'toppleworks.export/1',
+      engineVersion: ENGINE_VERSION,
+      spec,
+      heights: heightsRecord,
+      odometer: odometerRecord,
+      ...(pngLevels ? { backgroundPngLevels: pngLevels } : {}),
+      stats,
+      createdAt: new Date().toISOString(),
+    };
+    files.push({ path: sidecar, chunks: [new TextEncoder().encode(toJson(body, 2) + '\n')] });
+  }
+  await writeFilesAtomically(files);
+
+  return { code: EXIT.ok, stdout: options.json ? toJson(report) : formatReport(report) };
+}
+
+/** Map a failure to its exit code and one stderr line. */
+export function describeFailure(error: unknown): { code: number; message: string } {
+  const name = (error as { name?: string })?.name;
+  const message = String((error as Error)?.message ?? error).replace(/\s*\n\s*/g, ' ');
+  if (error instanceof CliInputError || name === 'EngineInputError') return { code: EXIT.input, message };
+  if (name === 'ExplosionError' || name === 'NotStabilizedError') return { code: EXIT.engine, message };
+  if (name === 'AbortError') return { code: EXIT.interrupted, message: 'interrupted; no output written' };
+  return { code: EXIT.internal, message: `unexpected failure: ${message}` };
+}
+
+async function run(): Promise<void> {
+  const controller = new AbortController();
+  const stop = () => controller.abort(Object.assign(new Error('interrupted'), { name: 'AbortError' }));
+  process.once('SIGINT', stop);
+  process.once('SIGTERM', stop);
+  let code: number;
+  try {
+    const result = await main(process.argv.slice(2), controller.signal);
+    code = result.code;
+    await new Promise<void>((done) => process.stdout.write(result.stdout + '\n', () => done()));
+  } catch (error) {
+    const failure = controller.signal.aborted ? describeFailure(controller.signal.reason) : describeFailure(error);
+    code = failure.code;
+    process.stderr.write(`stabilize: ${failure.message}\n`);
+    if (code === EXIT.internal && process.env.TOPPLEWORKS_DEBUG) console.error(error);
+  }
+  // Engine worker threads must not keep a finished command alive.
+  process.exit(code);
+}
+
+if (process.argv[1] && /stabilize\.(ts|js)$/.test(process.argv[1])) void run();

@@ -1,0 +1,74 @@
+import { spawn } from 'node:child_process';
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { expect } from 'vitest';
+import { readNpy, type NpyReadResult } from '../../renderer/src/npy/index.js';
+
+const ROOT = resolve(import.meta.dirname, '../..');
+const TSX = join(ROOT, 'node_modules/.bin/tsx');
+const CLI = join(ROOT, 'renderer/src/cli/stabilize.ts');
+
+export interface CliRun {
+  status: number | null;
+  stdout: string;
+  stderr: string;
+}
+
+/** Run the real command (`tsx renderer/src/cli/stabilize.ts …`, what `npm run -s stabilize` runs) in `cwd`. */
+export function stabilizeCli(args: string[], cwd: string): Promise<CliRun> {
+  return new Promise((done, fail) => {
+    const child = spawn(TSX, [CLI, ...args], { cwd, stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.setEncoding('utf8').on('data', (s: string) => (stdout += s));
+    child.stderr.setEncoding('utf8').on('data', (s: string) => (stderr += s));
+    child.on('error', fail);
+    child.on('close', (status) => done({ status, stdout, stderr }));
+  });
+}
+
+/** A scratch folder for one test: run the CLI in it, list and read what it wrote. */
+export class Workspace {
+  readonly dir = mkdtempSync(join(tmpdir(), 'tw-cli-'));
+
+  constructor(onTestFinished: (fn: () => void) => void) {
+    onTestFinished(() => rmSync(this.dir, { recursive: true, force: true }));
+  }
+
+  path(name: string): string {
+    return join(this.dir, name);
+  }
+
+  files(): string[] {
+    return readdirSync(this.dir).sort();
+  }
+
+  run(args: string[]): Promise<CliRun> {
+    return stabilizeCli(args, this.dir);
+  }
+
+  /** Run, expect success with a clean stderr. */
+  async ok(args: string[]): Promise<CliRun> {
+    const r = await this.run(args);
+    expect(r.stderr).toBe('');
+    expect(r.status).toBe(0);
+    return r;
+  }
+
+  /** Run with --json and return the single JSON object printed on stdout. */
+  async json(args: string[]): Promise<Record<string, any>> {
+    const r = await this.ok([...args, '--json']);
+    const lines = r.stdout.trim().split('\n');
+    expect(lines).toHaveLength(1);
+    return JSON.parse(lines[0]!) as Record<string, any>;
+  }
+
+  array(name: string): NpyReadResult {
+    return readNpy(new Uint8Array(readFileSync(this.path(name))), { allowFloat: true });
+  }
+
+  readJson(name: string): any {
+    return JSON.parse(readFileSync(this.path(name), 'utf8'));
+  }
+}
