@@ -1,0 +1,113 @@
+import type { Rgba } from '../../../shared/palettes.js';
+import type { PxRect } from '../../../shared/print.js';
+import { PanelRaster } from './panel-raster.js';
+import { INK, PAPER, type PreparedFigure } from './prepare.js';
+
+/** Rows per strip: bounded memory (a strip of an A0 page at 600 DPI is ~1.3 MB of indices). */
+export const STRIP_ROWS = 64;
+
+/**
+ * The page's colours: paper, ink (scale bars), then every panel's table with duplicates merged.
+ * null `remap` entries mean the page needs more than 256 colours and is written as RGB.
+ */
+export interface PagePalette {
+  colours: Rgba[];
+  /** per panel: layer index → page index (only when indexed) */
+  remap: Uint8Array[] | null;
+}
+
+export function pagePalette(fig: PreparedFigure): PagePalette {
+  const colours: Rgba[] = [PAPER, INK];
+  const seen = new Map<string, number>([
+    [PAPER.join(','), 0],
+    [INK.join(','), 1],
+  ]);
+  const remaps = fig.panels.map((p) => {
+    const map = new Uint16Array(256);
+    p.table.forEach((c, i) => {
+      const key = c.join(',');
+      let at = seen.get(key);
+      if (at === undefined) {
+        at = colours.length;
+        colours.push(c);
+        seen.set(key, at);
+      }
+      map[i] = at;
+    });
+    return map;
+  });
+  if (colours.length > 256) return { colours, remap: null };
+  return { colours, remap: remaps.map((m) => Uint8Array.from(m)) };
+}
+
+export interface PageStrip {
+  /** first page row of the strip */
+  y: number;
+  rows: number;
+  /** rows × width indices (indexed) or rows × width × 3 bytes (RGB) */
+  data: Uint8Array;
+}
+
+function intersectRows(r: PxRect, y: number, rows: number): [number, number] | null {
+  const a = Math.max(y, r.y);
+  const b = Math.min(y + rows, r.y + r.height);
+  return a < b ? [a, b] : null;
+}
+
+/**
+ * The whole page, top to bottom, one strip at a time: paper, each panel's raster in its place, scale
+ * bars in ink. Memory: one strip of the page plus one strip per panel, whatever the page size.
+ */
+export function* pageStrips(fig: PreparedFigure, palette: PagePalette, stripRows = STRIP_ROWS): Generator<PageStrip> {
+  const { widthPx: W, heightPx: H } = fig.layout.page;
+  const indexed = palette.remap !== null;
+  const bpp = indexed ? 1 : 3;
+  const rasters = fig.panels.map((p) => new PanelRaster(p));
+  const panelBufs = rasters.map((r) => new Uint8Array(r.width * stripRows));
+  const bars = fig.panels.flatMap((p) => (p.layout.scaleBar ? [p.layout.scaleBar.bar] : []));
+  const rgbTables = fig.panels.map((p) => p.table);
+  const buf = new Uint8Array(W * stripRows * bpp);
+  for (let y = 0; y < H; y += stripRows) {
+    const rows = Math.min(stripRows, H - y);
+    const data = buf.subarray(0, W * rows * bpp);
+    data.fill(indexed ? 0 : 255);
+    fig.panels.forEach((p, pi) => {
+      const img = p.layout.image;
+      const span = intersectRows(img, y, rows);
+      if (!span) return;
+      const [a, b] = span;
+      const idx = rasters[pi].rows(a - img.y, b - a, panelBufs[pi]);
+      const x0 = Math.max(0, img.x);
+      const x1 = Math.min(W, img.x + img.width);
+      for (let py = a; py < b; py++) {
+        const src = (py - a) * img.width - img.x;
+        const dst = (py - y) * W;
+        if (indexed) {
+          const map = palette.remap![pi];
+          for (let x = x0; x < x1; x++) data[dst + x] = map[idx[src + x]];
+        } else {
+          const t = rgbTables[pi];
+          for (let x = x0; x < x1; x++) {
+            const c = t[idx[src + x]];
+            const o = (dst + x) * 3;
+            data[o] = c[0];
+            data[o + 1] = c[1];
+            data[o + 2] = c[2];
+          }
+        }
+      }
+    });
+    for (const bar of bars) {
+      const span = intersectRows(bar, y, rows);
+      if (!span) continue;
+      const x0 = Math.max(0, bar.x);
+      const x1 = Math.min(W, bar.x + bar.width);
+      for (let py = span[0]; py < span[1]; py++) {
+        const dst = (py - y) * W;
+        if (indexed) data.fill(1, dst + x0, dst + x1);
+        else data.fill(0, (dst + x0) * 3, (dst + x1) * 3);
+      }
+    }
+    yield { y, rows, data };
+  }
+}

@@ -1,0 +1,128 @@
+import { describe, expect, it } from 'vitest';
+import {
+  figureSpecSchema,
+  layoutFigure,
+  niceLength,
+  pageSizeMm,
+  panelLabelText,
+  pixelsFor,
+  type FigureSpecInput,
+  type RunGeometry,
+} from '../../shared/print.js';
+
+const run = (runId: string, side: number, chips = 1000): RunGeometry => ({ runId, shape: [side, side], origin: [side >> 1, side >> 1], chips });
+const layout = (spec: FigureSpecInput, runs: RunGeometry[]) => layoutFigure(figureSpecSchema.parse(spec), runs);
+
+describe('page size', () => {
+  it('is round(size in inches × dpi) pixels, with ISO 216 A sizes', () => {
+    // ISO 216: A4 = 210 × 297 mm, A0 = 841 × 1189 mm; 25.4 mm per inch (international inch, 1959)
+    const a4 = layout({ size: { kind: 'paper', paper: 'A4' }, dpi: 600, panels: [{ runId: 'r' }] }, [run('r', 101)]);
+    expect([a4.page.widthPx, a4.page.heightPx]).toEqual([4961, 7016]);
+    const a0 = layout({ size: { kind: 'paper', paper: 'A0' }, dpi: 600, panels: [{ runId: 'r' }] }, [run('r', 101)]);
+    expect([a0.page.widthPx, a0.page.heightPx]).toEqual([19866, 28087]);
+    // A4 in PDF points (1/72 in, ISO 32000-1 §8.3.2.3 default user space unit): 595.276 × 841.890 (common practice)
+    expect(a4.page.widthPt).toBeCloseTo(595.276, 3);
+    expect(a4.page.heightPt).toBeCloseTo(841.89, 3);
+  });
+
+  it('knows US paper and landscape orientation', () => {
+    // US Letter 8.5 × 11 in (ANSI A): 2550 × 3300 px at 300 DPI
+    const letter = layout({ size: { kind: 'paper', paper: 'letter' }, dpi: 300, panels: [{ runId: 'r' }] }, [run('r', 11)]);
+    expect([letter.page.widthPx, letter.page.heightPx]).toEqual([2550, 3300]);
+    expect(pageSizeMm({ kind: 'paper', paper: 'A3', orientation: 'landscape' })).toEqual({ width: 420, height: 297 });
+    const custom = pageSizeMm({ kind: 'custom', width: 4, height: 6, unit: 'in' });
+    expect(custom.width).toBeCloseTo(101.6, 9);
+    expect(custom.height).toBeCloseTo(152.4, 9);
+  });
+
+  it('gives a journal column its width and a height from the content', () => {
+    // 90 mm single column (common practice); at 600 DPI: round(90 / 25.4 × 600) = 2126
+    const l = layout({ size: { kind: 'column', column: 'single' }, dpi: 600, margins: { top: 0, right: 0, bottom: 0, left: 0 }, legend: false, labels: 'none', panels: [{ runId: 'r' }] }, [run('r', 200)]);
+    expect(l.page.widthPx).toBe(pixelsFor(90, 600));
+    expect(l.page.widthPx).toBe(2126);
+    // a square run in a square slot: page as tall as wide, cells of floor(2126 / 200) = 10 px
+    expect(l.page.heightPx).toBe(2126);
+    expect(l.panels[0].cellPx).toBe(10);
+    expect(l.printable).toBe(true);
+  });
+});
+
+describe('panels', () => {
+  it('reduces cells smaller than a pixel and says how', () => {
+    const l = layout({ size: { kind: 'column', column: 'single' }, dpi: 150, margins: { top: 0, right: 0, bottom: 0, left: 0 }, legend: false, labels: 'none', panels: [{ runId: 'r' }] }, [run('r', 1500)]);
+    // 90 mm at 150 DPI = 531 px for 1500 cells: 1500 / 531 = 2.8 → every 3 × 3 block
+    expect(l.page.widthPx).toBe(531);
+    expect(l.panels[0].reduction).toBe(3);
+    expect(l.panels[0].image.width).toBe(500);
+    expect(l.warnings.map((w) => w.message)).toContain(
+      'panel 1: cells are smaller than one printed pixel: every 3 × 3 block of cells becomes one pixel (most frequent height)',
+    );
+    expect(l.printable).toBe(true);
+  });
+
+  it('refuses a magnification that does not fit, naming the numbers', () => {
+    const l = layout({ size: { kind: 'paper', paper: 'A6' }, dpi: 300, panels: [{ runId: 'r', magnification: 8 }] }, [run('r', 501)]);
+    expect(l.printable).toBe(false);
+    const w = l.warnings.find((x) => x.code === 'size-not-met')!;
+    expect(w.blocking).toBe(true);
+    expect(w.message).toMatch(/^panel 1: the size asked for cannot be met at this resolution: 501 × 501 cells at 8 px per cell need 4,008 × 4,008 px/);
+  });
+
+  it('keeps a whole number of pixels per cell and centres the panel', () => {
+    const l = layout({ size: { kind: 'paper', paper: 'A5' }, dpi: 300, labels: 'none', legend: false, panels: [{ runId: 'r', magnification: 3, region: { xMin: -10, xMax: 9, yMin: -5, yMax: 5 } }] }, [run('r', 41)]);
+    const p = l.panels[0];
+    expect([p.cellPx, p.image.width, p.image.height]).toEqual([3, 60, 33]);
+    // lattice x = array index − origin: x −10 is array column 20 − 10 = 10
+    expect(p.window).toEqual({ x: 10, y: 15, width: 20, height: 11 });
+    expect(p.image.x - p.slot.x).toBe(Math.floor((p.slot.width - 60) / 2));
+  });
+
+  it('rejects regions outside the run and unknown runs', () => {
+    const l = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'r', region: { xMin: -30, xMax: 0, yMin: 0, yMax: 0 } }, { runId: 'zz' }], grid: { rows: 1, cols: 2 } }, [run('r', 41)]);
+    expect(l.printable).toBe(false);
+    expect(l.warnings.map((w) => w.code).sort()).toEqual(['region-outside-run', 'unknown-run']);
+  });
+
+  it('shares one lattice scale across panels when asked', () => {
+    const l = layout({ size: { kind: 'paper', paper: 'A4', orientation: 'landscape' }, dpi: 300, grid: { rows: 1, cols: 2, sharedScale: 'lattice' }, panels: [{ runId: 'a' }, { runId: 'b' }] }, [run('a', 51), run('b', 201)]);
+    expect(l.panels[0].cellPx).toBe(l.panels[1].cellPx);
+    const free = layout({ size: { kind: 'paper', paper: 'A4', orientation: 'landscape' }, dpi: 300, grid: { rows: 1, cols: 2 }, panels: [{ runId: 'a' }, { runId: 'b' }] }, [run('a', 51), run('b', 201)]);
+    expect(free.panels[0].cellPx).toBeGreaterThan(free.panels[1].cellPx);
+  });
+
+  it('rescales piles of different n to the same size in units of √n', () => {
+    // piles of n = 10^4 and 10^6 grains: diameters ∝ √n (common practice), arrays 101 and 1001 cells wide
+    const l = layout(
+      { size: { kind: 'paper', paper: 'A4', orientation: 'landscape' }, dpi: 600, grid: { rows: 1, cols: 2, sharedScale: 'rescaled' }, scaleBar: { unit: 'rescaled', length: 0.5 }, panels: [{ runId: 'a' }, { runId: 'b' }] },
+      [run('a', 101, 1e4), run('b', 1001, 1e6)],
+    );
+    const [a, b] = l.panels;
+    // px per unit of x/√n: k·√n, equal up to whole-pixel rounding
+    const ratio = (a.pixelsPerCell * 100) / (b.pixelsPerCell * 1000);
+    expect(ratio).toBeGreaterThan(0.85);
+    expect(ratio).toBeLessThan(1.18);
+    // each bar is exact for its own panel: 0.5 · √n cells at that panel's pixels per cell
+    expect(a.scaleBar!.cells).toBe(50);
+    expect(b.scaleBar!.cells).toBe(500);
+    expect(a.scaleBar!.bar.width).toBe(Math.round(50 * a.pixelsPerCell));
+    expect(b.scaleBar!.bar.width).toBe(Math.round(500 * b.pixelsPerCell));
+  });
+
+  it('labels panels and picks round scale-bar lengths', () => {
+    expect([0, 1, 25, 26].map((i) => panelLabelText(i, 'letters'))).toEqual(['(a)', '(b)', '(z)', '(aa)']);
+    expect(panelLabelText(2, 'numbers')).toBe('(3)');
+    expect(panelLabelText(0, 'none', 'A')).toBe('A');
+    expect([0.19, 7, 25, 480].map(niceLength)).toEqual([0.1, 5, 20, 200]);
+  });
+});
+
+describe('figure spec', () => {
+  it('rejects out-of-range resolutions and too many panels for the grid', () => {
+    expect(figureSpecSchema.safeParse({ size: { kind: 'paper', paper: 'A4' }, dpi: 100, panels: [{ runId: 'r' }] }).success).toBe(false);
+    expect(figureSpecSchema.safeParse({ size: { kind: 'paper', paper: 'A4' }, dpi: 1300, panels: [{ runId: 'r' }] }).success).toBe(false);
+    const r = figureSpecSchema.safeParse({ size: { kind: 'paper', paper: 'A4' }, grid: { rows: 1, cols: 1 }, panels: [{ runId: 'a' }, { runId: 'b' }] });
+    expect(r.success).toBe(false);
+    expect(r.error!.issues[0].message).toBe('2 panels do not fit a 1 × 1 grid');
+    expect(figureSpecSchema.safeParse({ size: { kind: 'paper', paper: 'A4' }, panels: [{ runId: 'r', magnification: 1.5 }] }).success).toBe(false);
+  });
+});
