@@ -1,0 +1,150 @@
+/**
+ * The relaxation kernel: topples one tile of the working box until every site in it is stable.
+ * Pure and allocation-free, so the same function runs on the main thread and in worker threads over
+ * SharedArrayBuffers. Replaceable: the driver only relies on the contract of relaxTile.
+ *
+ * Layout: the box is (nz, ny, nx) row-major, cell i = (z * ny + y) * nx + x. Tiles are TX x TY x TZ
+ * blocks; tile t = (tz * tny + ty) * tnx + tx. Grains sent out of the tile land in neighbouring tiles
+ * (reach <= tile size / 2), which are then flagged in `state` and reported in `activated`.
+ */
+
+/** Tile states: idle, pending with only its border band possibly unstable, pending with any site. */
+export const IDLE = 0;
+export const PENDING_BAND = 1;
+export const PENDING_FULL = 2;
+
+/** Lattice tables flattened for the kernel; see tablesFor in tiling.ts. */
+export interface KernelTables {
+  px: number;
+  py: number;
+  pz: number;
+  /** edges of class c are start[c] .. start[c+1]-1 */
+  start: Int32Array;
+  dx: Int32Array;
+  dy: Int32Array;
+  dz: Int32Array;
+  /** class of the edge's target site */
+  tcls: Int32Array;
+  deg: Int32Array;
+  reach: number;
+}
+
+export interface KernelGeometry {
+  dim: number;
+  nx: number;
+  ny: number;
+  nz: number;
+  /** class shift: the class of array x is (x + sx) mod px (and likewise y, z) */
+  sx: number;
+  sy: number;
+  sz: number;
+  TX: number;
+  TY: number;
+  TZ: number;
+  tnx: number;
+  tny: number;
+  tnz: number;
+}
+
+/**
+ * Relaxes tile `tile` with a stack of its unstable sites, toppling each site k = floor(h / deg) times
+ * at once (multi-toppling). Returns the number of toppling events (not topplings).
+ */
+export function relaxTile(
+  h: Int32Array,
+  od: Float64Array,
+  g: KernelGeometry,
+  t: KernelTables,
+  state: Uint8Array,
+  tile: number,
+  full: boolean,
+  stack: Int32Array,
+  activated: number[],
+): number {
+  const { nx, ny, dim, TX, TY, TZ, tnx, tny } = g;
+  const { px, py, pz, start, dx, dy, dz, tcls, deg, reach: r } = t;
+  const nxy = nx * ny;
+  const single = px * py * pz === 1;
+  const tx = tile % tnx;
+  const rest = (tile - tx) / tnx;
+  const ty = rest % tny;
+  const tz = (rest - ty) / tny;
+  const x0 = tx * TX, y0 = ty * TY, z0 = tz * TZ;
+  const sx = g.sx + x0, sy = g.sy + y0, sz = g.sz + z0;
+  // tile sides are powers of two: the stack holds local indices lz*TX*TY + ly*TX + lx, decoded by shifts
+  const bx = 31 - Math.clz32(TX), by = 31 - Math.clz32(TY);
+  const mx = TX - 1, my = TY - 1;
+  const base = (z0 * ny + y0) * nx + x0;
+
+  const ne = dx.length;
+  if (DELTA.length < ne) ((DELTA = new Int32Array(ne * 2)), (LDELTA = new Int32Array(ne * 2)));
+  const delta = DELTA, ldelta = LDELTA;
+  for (let e = 0; e < ne; e++) {
+    delta[e] = dz[e]! * nxy + dy[e]! * nx + dx[e]!;
+    ldelta[e] = (dz[e]! << (bx + by)) + (dy[e]! << bx) + dx[e]!;
+  }
+
+  let sp = 0;
+  for (let lz = 0; lz < TZ; lz++) {
+    const zb = dim === 3 && (lz < r || TZ - 1 - lz < r);
+    for (let ly = 0; ly < TY; ly++) {
+      const yb = dim >= 2 && (ly < r || TY - 1 - ly < r);
+      const row = base + lz * nxy + ly * nx;
+      const lrow = (lz << (bx + by)) + (ly << bx);
+      const cyz = single ? 0 : (((lz + sz) % pz) * py + ((ly + sy) % py)) * px;
+      const a = full || zb || yb ? TX : Math.min(r, TX);
+      for (let lx = 0; lx < a; lx++) if (h[row + lx]! >= deg[single ? 0 : cyz + ((lx + sx) % px)]!) stack[sp++] = lrow + lx;
+      if (a < TX)
+        for (let lx = Math.max(TX - r, a); lx < TX; lx++) if (h[row + lx]! >= deg[single ? 0 : cyz + ((lx + sx) % px)]!) stack[sp++] = lrow + lx;
+    }
+  }
+
+  let events = 0;
+  while (sp > 0) {
+    const loc = stack[--sp]!;
+    const lx = loc & mx;
+    const ly = (loc >> bx) & my;
+    const lz = loc >> (bx + by);
+    const i = base + lz * nxy + ly * nx + lx;
+    const c = single ? 0 : (((lz + sz) % pz) * py + ((ly + sy) % py)) * px + ((lx + sx) % px);
+    const d = deg[c]!;
+    const v = h[i]!;
+    if (v < d) continue;
+    const k = (v / d) | 0;
+    h[i] = v - k * d;
+    od[i] += k;
+    events++;
+    const e0 = start[c]!, e1 = start[c + 1]!;
+    if (lx >= r && lx < TX - r && (dim < 2 || (ly >= r && ly < TY - r)) && (dim < 3 || (lz >= r && lz < TZ - r))) {
+      for (let e = e0; e < e1; e++) {
+        const j = i + delta[e]!;
+        const before = h[j]!;
+        h[j] = before + k;
+        const dj = deg[tcls[e]!]!;
+        if (before < dj && before + k >= dj) stack[sp++] = loc + ldelta[e]!;
+      }
+    } else {
+      for (let e = e0; e < e1; e++) {
+        const j = i + delta[e]!;
+        const before = h[j]!;
+        h[j] = before + k;
+        const dj = deg[tcls[e]!]!;
+        if (before < dj && before + k >= dj) {
+          const ax = lx + dx[e]!, ay = ly + dy[e]!, az = lz + dz[e]!;
+          if (ax >= 0 && ax < TX && ay >= 0 && ay < TY && az >= 0 && az < TZ) stack[sp++] = loc + ldelta[e]!;
+          else {
+            const nt = (((z0 + az) / TZ | 0) * tny + (((y0 + ay) / TY) | 0)) * tnx + (((x0 + ax) / TX) | 0);
+            if (state[nt] === IDLE) {
+              state[nt] = PENDING_BAND;
+              activated.push(nt);
+            }
+          }
+        }
+      }
+    }
+  }
+  return events;
+}
+
+let DELTA = new Int32Array(64);
+let LDELTA = new Int32Array(64);
