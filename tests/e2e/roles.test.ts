@@ -126,7 +126,8 @@ describe('demo roles in the browser', () => {
     await page.getByRole('button', { name: 'New run' }).click();
     await page.getByLabel('Grains at the origin (n)').fill('10^6');
     // the hint restates the typed count exactly: "1,000,000 (10⁶) grains", with a real superscript
-    const hint = page.locator('p', { hasText: '1,000,000' });
+    // (anchored: the estimate beside the form names the same n as "n = 1,000,000")
+    const hint = page.locator('p', { hasText: /^1,000,000/ });
     await hint.waitFor();
     expect((await hint.textContent())?.replace(/\s+/g, ' ')).toBe('1,000,000 (106) grains');
     expect(await hint.locator('sup').textContent()).toBe('6');

@@ -23,6 +23,8 @@ export interface Stack {
   url: string;
   env: Env;
   deps: AppDeps;
+  /** the BullMQ key prefix the API enqueues under; a farm worker started with it receives this stack's jobs */
+  queuePrefix: string;
   close(): Promise<void>;
 }
 
@@ -90,6 +92,7 @@ export async function startStack(): Promise<Stack> {
     const url = `http://127.0.0.1:${port}`;
     const env = loadEnv({ ...process.env, NODE_ENV: 'test', LOG_LEVEL: base.LOG_LEVEL, DATABASE_URL: scratch.url, PORT: String(port), PUBLIC_URL: url });
     await ensureBucket(env);
+    const queuePrefix = `tw-e2e-${randomBytes(4).toString('hex')}`;
     const deps: AppDeps = {
       env,
       log: createLogger(env.LOG_LEVEL),
@@ -97,11 +100,11 @@ export async function startStack(): Promise<Stack> {
       mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
       blobs: createS3BlobStore(env),
       // a key prefix of its own, so jobs of this file never reach a worker or another test
-      queue: createJobQueue(env.REDIS_URL, { prefix: `tw-e2e-${randomBytes(4).toString('hex')}` }),
+      queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
     };
     cleanups.push(() => deps.queue.close(), () => deps.mailer.close(), () => deps.blobs.close());
     server.on('request', createApp(deps, { distDir: served }));
-    return { url, env, deps, close: release };
+    return { url, env, deps, queuePrefix, close: release };
   } catch (err) {
     await release();
     throw err;

@@ -7,6 +7,8 @@ const LATTICE_NAMES: Record<string, string> = {
   cubic: 'Z³ (cubic)',
   triangular: 'triangular',
   honeycomb: 'honeycomb',
+  'f-lattice': 'F-lattice',
+  manhattan: 'Manhattan lattice',
   periodic: 'periodic graph',
 };
 
@@ -55,3 +57,8 @@ export function backgroundOfSpec(b: Background): string {
 export function extraSources(spec: RunSpec): number {
   return spec.sources?.length ?? 0;
 }
+
+/** The layers the farm draws for every run (renderer/src/farm/render-run.ts DEFAULT_VIEWS). */
+export const DRAWN_LAYERS = ['heights', 'toppled', 'odometer'] as const;
+export type DrawnLayer = (typeof DRAWN_LAYERS)[number];
+export const LAYER_LABELS: Record<DrawnLayer, string> = { heights: 'Heights', toppled: 'Toppled sites', odometer: 'Odometer' };

@@ -25,6 +25,13 @@ const lazyPage = <M,>(load: () => Promise<M>, pick: (m: M) => ComponentType) => 
 /** The route table of the contract; everything behind RequireSignIn needs a session. */
 export function createRouter() {
   return createBrowserRouter([
+    // the deep-zoom reader is full-bleed on its dark ground, outside the paper frame; OpenSeadragon loads with it
+    {
+      errorElement: <RouteError />,
+      element: <RequireSignIn />,
+      hydrateFallbackElement: null,
+      children: [{ path: '/runs/:id/view', ...lazyPage(() => import('./viewer/ViewerPage.js'), (m) => m.ViewerPage) }],
+    },
     {
       element: <PageFrame />,
       hydrateFallbackElement: null,
@@ -46,10 +53,18 @@ export function createRouter() {
               element: <RequireSignIn />,
               children: [
                 { path: '/runs', ...lazyPage(() => import('./pages/RunsList.js'), (m) => m.RunsList) },
+                { path: '/runs/new', ...lazyPage(() => import('./pages/NewRunPage.js'), (m) => m.NewRunPage) },
                 { path: '/runs/:id', ...lazyPage(() => import('./pages/RunPage.js'), (m) => m.RunPage) },
+                { path: '/series/:id', ...lazyPage(() => import('./pages/SeriesPage.js'), (m) => m.SeriesPage) },
                 { path: '/lab', ...lazyPage(() => import('./pages/LabPage.js'), (m) => m.LabPage) },
+                { path: '/lab/figures', ...lazyPage(() => import('./pages/figures/LabFigures.js'), (m) => m.LabFigures) },
+                { path: '/lab/figures/:slug', ...lazyPage(() => import('./pages/figures/FigurePage.js'), (m) => m.FigurePage) },
+                { path: '/lab/figures/:slug/edit', ...lazyPage(() => import('./pages/figures/ComposePage.js'), (m) => m.ComposePage) },
+                { path: '/figures/new', ...lazyPage(() => import('./pages/figures/ComposePage.js'), (m) => m.ComposePage) },
+                { path: '/lab/credits', ...lazyPage(() => import('./pages/credits/CreditsPage.js'), (m) => m.CreditsPage) },
+                { path: '/lab/credits/receipts/:id', ...lazyPage(() => import('./pages/credits/ReceiptPage.js'), (m) => m.ReceiptPage) },
                 { path: '/account', ...lazyPage(() => import('./pages/AccountPage.js'), (m) => m.AccountPage) },
-                { path: '/admin', ...lazyPage(() => import('./pages/AdminPage.js'), (m) => m.AdminPage) },
+                { path: '/admin', ...lazyPage(() => import('./pages/admin/AdminConsole.js'), (m) => m.AdminConsole) },
               ],
             },
             { path: '*', element: <NotFound /> },

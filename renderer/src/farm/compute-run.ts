@@ -48,7 +48,11 @@ async function loadUploads(store: BlobStore, data: JobOf<typeof JOB_NAMES.comput
 export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished' | 'skipped'> {
   const data = computeRunDataSchema.parse(job.data);
   const state = runState(deps.db, data.runId);
-  if (!(await state.started('preparing'))) return 'skipped';
+  if (!(await state.started('preparing'))) {
+    // the API enqueues inside its transaction, so a fast worker can see the job before the row: retry
+    if ((await state.current()) === null) throw new Error(`run ${data.runId} is not in the database yet`);
+    return 'skipped';
+  }
   const abort = new AbortController();
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();

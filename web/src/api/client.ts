@@ -15,20 +15,24 @@ type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
  * header, and every non-2xx becomes an ApiError holding the server's message.
  */
 export async function api<T>(method: Method, path: string, body?: unknown): Promise<T> {
+  return send<T>(method, path, body === undefined ? undefined : JSON.stringify(body), body === undefined ? undefined : 'application/json');
+}
+
+/** POST a file itself as the request body (e.g. a background array), typed as given. */
+export function apiUpload<T>(path: string, file: Blob, contentType: string): Promise<T> {
+  return send<T>('POST', path, file, contentType);
+}
+
+async function send<T>(method: Method, path: string, body: BodyInit | undefined, contentType: string | undefined): Promise<T> {
   const headers: Record<string, string> = { Accept: 'application/json' };
-  if (body !== undefined) headers['Content-Type'] = 'application/json';
+  if (contentType) headers['Content-Type'] = contentType;
   if (UNSAFE.has(method)) {
     const token = csrfToken();
     if (token) headers['X-CSRF-Token'] = token;
   }
   let res: Response;
   try {
-    res = await fetch(path, {
-      method,
-      headers,
-      credentials: 'same-origin',
-      body: body === undefined ? undefined : JSON.stringify(body),
-    });
+    res = await fetch(path, { method, headers, credentials: 'same-origin', body });
   } catch {
     throw new ApiError(0, 'the server could not be reached; check your connection and try again');
   }

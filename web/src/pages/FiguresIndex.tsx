@@ -1,18 +1,26 @@
 import { Link, useSearchParams } from 'react-router';
-import { useFigures } from '../api/queries.js';
+import { useFigures, useMe } from '../api/queries.js';
 import { FIGURES_PAGE_SIZE, LATTICE_PRESETS, type Figure } from '../api/contract.js';
 import { backgroundKindName, latticeName } from '../labels.js';
 import { formatDate } from '../format.js';
-import { Count, EmptyState, ErrorPanel, PageHeading, Pager, SelectField, SkeletonTable } from '../ui/index.js';
+import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, SelectField, SkeletonTable } from '../ui/index.js';
 
 const BACKGROUND_KINDS = ['constant', 'checkerboard', 'motif', 'random', 'annuli', 'array'] as const;
+
+/** Grain counts by decade, the way piles are compared: 10^k ≤ n < 10^(k+1). */
+const N_BANDS = [2, 3, 4, 5, 6, 7, 8, 9].map((k) => ({ value: String(k), label: k === 9 ? 'n ≥ 10⁹' : `10${sup(k)} ≤ n < 10${sup(k + 1)}`, nMin: 10 ** k, nMax: k === 9 ? undefined : 10 ** (k + 1) - 1 }));
+function sup(k: number): string {
+  return String(k).replace(/\d/g, (d) => '⁰¹²³⁴⁵⁶⁷⁸⁹'[Number(d)]!);
+}
 
 export function FiguresIndex() {
   const [params, setParams] = useSearchParams();
   const lattice = params.get('lattice') ?? '';
   const background = params.get('background') ?? '';
+  const band = N_BANDS.find((b) => b.value === params.get('n')) ?? null;
   const page = Math.max(1, Number(params.get('page') ?? 1) || 1);
-  const figures = useFigures({ lattice: lattice || undefined, background: background || undefined, page });
+  const figures = useFigures({ lattice: lattice || undefined, background: background || undefined, nMin: band?.nMin, nMax: band?.nMax, page });
+  const me = useMe();
 
   function set(name: string, value: string) {
     const next = new URLSearchParams(params);
@@ -28,6 +36,7 @@ export function FiguresIndex() {
         overline="Open to every reader"
         title="Published figures"
         lede="Figures labs have published with a permanent link. Open one to read its caption, zoom in and cite it."
+        actions={me.data ? <LinkButton tone="quiet" to="/lab/figures">Your lab's figures</LinkButton> : undefined}
       />
       <div className="mb-6 flex items-end gap-4">
         <SelectField label="Lattice" value={lattice} onChange={(e) => set('lattice', e.target.value)} fieldClassName="w-52">
@@ -46,14 +55,22 @@ export function FiguresIndex() {
             </option>
           ))}
         </SelectField>
+        <SelectField label="Grains" value={band?.value ?? ''} onChange={(e) => set('n', e.target.value)} fieldClassName="w-52">
+          <option value="">any n</option>
+          {N_BANDS.map((b) => (
+            <option key={b.value} value={b.value}>
+              {b.label}
+            </option>
+          ))}
+        </SelectField>
       </div>
       {figures.isPending ? (
         <SkeletonTable rows={4} columns={4} />
       ) : figures.isError ? (
         <ErrorPanel error={figures.error} />
       ) : figures.data.figures.length === 0 ? (
-        <EmptyState title={lattice || background ? 'No figures match these filters' : 'Nothing published yet'}>
-          {lattice || background ? 'Try another lattice or background.' : 'When a lab publishes a figure, it appears here with its permanent link.'}
+        <EmptyState title={lattice || background || band ? 'No figures match these filters' : 'Nothing published yet'}>
+          {lattice || background || band ? 'Try another lattice, background or n.' : 'When a lab publishes a figure, it appears here with its permanent link.'}
         </EmptyState>
       ) : (
         <>

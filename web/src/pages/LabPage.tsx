@@ -10,7 +10,7 @@ import {
 import { useSignedIn } from '../auth/useSignedIn.js';
 import { formatDate, groupThousands } from '../format.js';
 import {
-  Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonTable,
+  Button, Count, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SelectField, SkeletonTable,
   SortableTable, TextField, validate, serverFieldErrors, type Column, type FieldErrors,
 } from '../ui/index.js';
 
@@ -87,6 +87,7 @@ function LabDetail({ labId, isManager, me }: { labId: string; isManager: boolean
         overline={isManager ? 'Your lab · you manage it' : 'Your lab'}
         title={lab.data.lab.name}
         lede={`${members.length} ${members.length === 1 ? 'member' : 'members'} · since ${formatDate(lab.data.lab.createdAt)}`}
+        actions={<LinkButton tone="quiet" to={`/lab/credits?labId=${labId}`}>Credits</LinkButton>}
       />
       <Section
         title="Members"

@@ -1,19 +1,26 @@
-import { Link, useParams } from 'react-router';
+import { useEffect, useState } from 'react';
+import { Link, useNavigate, useParams } from 'react-router';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
-import { keys, useRun } from '../api/queries.js';
+import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
+import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { isStatus } from '../api/ApiError.js';
 import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
-import { formatDateTime } from '../format.js';
+import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
-import { Button, Count, EmptyState, ErrorPanel, FactList, FormError, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
+import { Button, Count, EmptyState, ErrorPanel, FactList, FormError, LinkButton, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
 
 const ACTIVE: readonly RunStatus[] = ['queued', 'computing', 'rendering'];
 
 export function RunPage() {
   const { id = '' } = useParams();
-  const run = useRun(id);
+  const [working, setWorking] = useState(true);
+  // server-sent events while the run works; polling only when the stream is down
+  const live = useRunEvents(id, working);
+  const run = useRun(id, live);
+  const status = run.data?.run.status;
+  useEffect(() => setWorking(!status || ACTIVE.includes(status)), [status]);
   if (run.isPending) return <SkeletonBlock lines={8} />;
   if (run.isError) {
     if (isStatus(run.error, 404) || isStatus(run.error, 400)) {
@@ -30,10 +37,21 @@ export function RunPage() {
 
 function RunDetail({ run }: { run: Run }) {
   const qc = useQueryClient();
+  const navigate = useNavigate();
   const cancel = useMutation({
     mutationFn: () => api<RunResponse>('POST', `/api/runs/${run.id}/cancel`),
     onSuccess: (r) => qc.setQueryData(keys.run(run.id), r),
   });
+  const rerun = useMutation({
+    mutationFn: () => api<RunResponse>('POST', `/api/runs/${run.id}/rerun`, {}),
+    onSuccess: (r) => {
+      void qc.invalidateQueries({ queryKey: ['runs'] });
+      void navigate(`/runs/${r.run.id}`);
+    },
+  });
+  // the arrays (and run.json with the radial profile) exist once the computation is done
+  const computed = run.status === 'finished' || (run.status === 'rendering' && run.stats !== null);
+  const runJson = useRunJson({ kind: 'run', id: run.id }, computed);
   const active = ACTIVE.includes(run.status);
   const spec = run.spec;
   const wall = run.startedAt && run.finishedAt ? (Date.parse(run.finishedAt) - Date.parse(run.startedAt)) / 1000 : null;
@@ -53,17 +71,37 @@ function RunDetail({ run }: { run: Run }) {
           </span>
         }
         actions={
-          active ? (
-            <Button tone="danger" busy={cancel.isPending} busyLabel="Cancelling…" onClick={() => confirm('Cancel this run? Work done so far is discarded.') && cancel.mutate()}>
-              Cancel run
-            </Button>
-          ) : null
+          <>
+            {run.status === 'finished' ? <LinkButton to={`/runs/${run.id}/view`}>Deep zoom</LinkButton> : null}
+            <LinkButton tone="quiet" to={`/runs/new?from=${run.id}`}>
+              Duplicate
+            </LinkButton>
+            {active ? (
+              <Button tone="danger" busy={cancel.isPending} busyLabel="Cancelling…" onClick={() => confirm('Cancel this run? Work done so far is discarded.') && cancel.mutate()}>
+                Cancel run
+              </Button>
+            ) : (
+              <Button tone="quiet" busy={rerun.isPending} busyLabel="Queueing…" onClick={() => rerun.mutate()}>
+                Re-run
+              </Button>
+            )}
+          </>
         }
       />
       {cancel.isError ? <FormError error={cancel.error} /> : null}
+      {rerun.isError ? <FormError error={rerun.error} /> : null}
+      {run.seriesId ? (
+        <p className="-mt-4 mb-6 text-sm">
+          Part of a series: <Link to={`/series/${run.seriesId}`}>all grain counts side by side</Link>
+        </p>
+      ) : null}
       {active ? (
         <Section title={run.status === 'queued' ? 'Waiting for a worker' : 'In progress'}>
           <ProgressBar progress={run.progress} stage={run.stage ?? (run.status === 'queued' ? 'queued' : run.status)} startedAt={run.startedAt} />
+        </Section>
+      ) : run.status === 'finished' ? (
+        <Section title="Finished" description={wall !== null ? `Computed and drawn in ${formatDuration(wall)} of farm time.` : undefined}>
+          <ProgressBar progress={1} stage="finished" startedAt={run.startedAt} />
         </Section>
       ) : null}
       {run.status === 'failed' ? (
@@ -100,6 +138,24 @@ function RunDetail({ run }: { run: Run }) {
           <RunStatsTable stats={run.stats} wallSeconds={wall} />
         </Section>
       </div>
+      {run.stats ? (
+        <div className="grid grid-cols-2 gap-8">
+          <Section title="Toppled sites by final height" description="Only sites that toppled at least once are counted.">
+            <HeightBarsPlot heightCounts={run.stats.heightCounts} />
+          </Section>
+          <Section title="Radial profile" description="Mean final height of toppled sites against the rescaled distance |x|/√n from the origin.">
+            {runJson.data?.radialProfile ? (
+              <RadialProfilePlot profile={runJson.data.radialProfile} />
+            ) : runJson.isError ? (
+              <p className="text-sm text-ink-faint">{(runJson.error as Error).message}</p>
+            ) : runJson.data ? (
+              <p className="text-sm text-ink-faint">This run was computed before the worker recorded radial profiles.</p>
+            ) : (
+              <SkeletonBlock lines={4} />
+            )}
+          </Section>
+        </div>
+      ) : null}
     </div>
   );
 }

@@ -1,6 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import bibtexParse from '@orcid/bibtex-parse-js';
-import { figureBibtex } from './citation.js';
+import { figureBibtex, runBibtex } from './citation.js';
 import type { Figure } from '../api/contract.js';
 
 const figure: Figure = {
@@ -38,5 +38,26 @@ describe('BibTeX entry of a figure', () => {
   test('an unpublished figure has no year rather than a wrong one', () => {
     const [entry] = bibtexParse.toJSON(figureBibtex({ ...figure, publishedAt: null }, 'https://example.org/f/x'));
     expect(entry!.entryTags.year).toBeUndefined();
+  });
+});
+
+describe('BibTeX entry of a run', () => {
+  test('carries engine version and heights hash, and parses with an independent BibTeX parser', () => {
+    // @orcid/bibtex-parse-js: a general-purpose BibTeX parser from npm
+    const [entry] = bibtexParse.toJSON(
+      runBibtex({
+        runId: '1f2e3d4c-5b6a-4789-8abc-def012345678',
+        title: 'Square lattice, n = 10^5',
+        authors: ['Maren Tollis'],
+        finishedAt: '2026-12-01T23:00:00.000Z',
+        engineVersion: '0.3.1',
+        heightsSha256: 'ab'.repeat(32),
+        permalink: 'https://example.org/runs/1f2e3d4c/view',
+      }),
+    );
+    expect(entry!.citationKey).toBe('toppleworks-run-1f2e3d4c');
+    expect(entry!.entryTags.year).toBe('2026');
+    expect(entry!.entryTags.note).toContain('engine 0.3.1');
+    expect(entry!.entryTags.note).toContain(`sha256 ${'ab'.repeat(32)}`);
   });
 });

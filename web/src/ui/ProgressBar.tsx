@@ -39,7 +39,7 @@ export function ProgressBar({ progress, stage, startedAt, compact }: ProgressBar
           <span>
             {stage ?? 'working'} · <span className="tnum">{pct}</span>
           </span>
-          <span className="tnum">{left === null ? 'estimating time left' : `about ${formatDuration(left)} left`}</span>
+          <span className="tnum">{progress >= 1 ? 'done' : left === null ? 'estimating time left' : `about ${formatDuration(left)} left`}</span>
         </div>
       )}
     </div>

@@ -1,0 +1,103 @@
+import { Link, useParams } from 'react-router';
+import { useQueries } from '@tanstack/react-query';
+import { useSeries } from '../api/queries.js';
+import { isStatus } from '../api/ApiError.js';
+import type { Run } from '../api/contract.js';
+import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
+import { logLogSlope, type RadiusPoint } from '../plots/plotData.js';
+import { SeriesRadiusPlot } from '../plots/SeriesRadiusPlot.js';
+import { infoJsonUrl } from '../viewer/runArtifacts.js';
+import { Count, EmptyState, ErrorPanel, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
+
+/** Displayed width of the widest pile, in CSS pixels; every other pile is drawn at the same scale in units of √n. */
+const STRIP_WIDTH = 220;
+
+interface InfoSizes {
+  width: number;
+  sizes?: { width: number; height: number }[];
+}
+
+/**
+ * /series/:id — one specification at several n, side by side. Each pile is drawn at D/√n screen
+ * pixels per lattice spacing for one constant D, so piles of every n appear at the same size and
+ * their likeness (the scale invariance of the single-source pile) shows; below, the radius against
+ * n on log-log axes with a √n reference line.
+ */
+export function SeriesPage() {
+  const { id = '' } = useParams();
+  const series = useSeries(id);
+  const runs = series.data?.series.runs ?? [];
+  const infos = useQueries({
+    queries: runs.map((r) => ({
+      queryKey: ['artifacts', { kind: 'run', id: r.id }, 'info', 'heights'],
+      enabled: r.status === 'finished',
+      staleTime: Infinity,
+      queryFn: async (): Promise<InfoSizes> => {
+        const res = await fetch(infoJsonUrl({ kind: 'run', id: r.id }, 'heights', 'tidewater'), { credentials: 'same-origin' });
+        if (!res.ok) throw new Error(`info.json: ${res.status}`);
+        return (await res.json()) as InfoSizes;
+      },
+    })),
+  });
+
+  if (series.isPending) return <SkeletonBlock lines={8} />;
+  if (series.isError) {
+    if (isStatus(series.error, 404)) return <EmptyState title="No series at this address" action={<Link to="/runs">Back to runs</Link>}>It may belong to another lab.</EmptyState>;
+    return <ErrorPanel error={series.error} />;
+  }
+  const s = series.data.series;
+  const first = s.runs[0];
+  // widest pile in units of √n fixes D
+  const widthOverRoot = (r: Run) => (r.stats ? r.stats.shape[r.stats.shape.length - 1]! / Math.sqrt(Math.max(1, Number(r.stats.grainsIn))) : 0);
+  const maxRel = Math.max(0, ...s.runs.map(widthOverRoot));
+  const points: RadiusPoint[] = s.runs.filter((r) => r.stats && r.stats.radiusEuclidean > 0).map((r) => ({ n: Number(r.stats!.grainsIn), radius: r.stats!.radiusEuclidean }));
+  const slope = logLogSlope(points);
+
+  return (
+    <div className="space-y-8">
+      <PageHeading
+        overline={<Link to="/runs" className="text-ink-faint no-underline hover:text-press">← Runs</Link>}
+        title={s.title}
+        lede={first ? `${latticeOfSpec(first.spec.lattice)} · ${backgroundOfSpec(first.spec.background)} · ${s.runs.length} grain counts, by ${s.author.name}` : undefined}
+      />
+      <Section title="Side by side, rescaled by √n" description="Every pile is drawn at the same number of screen pixels per √n lattice spacings, so a larger n shows as a finer picture of the same shape.">
+        <div className="flex flex-wrap items-end gap-6 rounded-lg bg-night p-6" data-testid="series-strip">
+          {s.runs.map((r, i) => {
+            const info = infos[i]?.data;
+            const displayed = maxRel > 0 ? (widthOverRoot(r) / maxRel) * STRIP_WIDTH : STRIP_WIDTH;
+            const size = info?.sizes?.slice().sort((a, b) => a.width - b.width).find((z) => z.width >= displayed) ?? info?.sizes?.at(-1);
+            return (
+              <Link key={r.id} to={`/runs/${r.id}`} className="flex flex-col items-center gap-2 text-white/80 no-underline hover:text-white" style={{ width: STRIP_WIDTH }}>
+                <div className="flex items-center justify-center" style={{ width: STRIP_WIDTH, height: STRIP_WIDTH }}>
+                  {r.status === 'finished' && size ? (
+                    <img
+                      alt={`final heights, n = ${r.spec.chips}`}
+                      src={`${infoJsonUrl({ kind: 'run', id: r.id }, 'heights', 'tidewater').replace(/info\.json$/, '')}full/${size.width},${size.height}/0/default.png`}
+                      style={{ width: displayed, imageRendering: 'pixelated' }}
+                    />
+                  ) : r.status === 'finished' ? (
+                    <span className="text-xs text-white/50">drawing…</span>
+                  ) : (
+                    <div className="w-40">
+                      <StatusBadge status={r.status} />
+                      {r.status === 'computing' || r.status === 'rendering' ? <ProgressBar compact progress={r.progress} stage={r.stage} startedAt={r.startedAt} /> : null}
+                    </div>
+                  )}
+                </div>
+                <span className="text-xs">
+                  n = <Count n={r.spec.chips} />
+                </span>
+              </Link>
+            );
+          })}
+        </div>
+      </Section>
+      <Section
+        title="Radius against n"
+        description={slope === null ? 'Log-log axes; the dashed line grows like √n.' : `Log-log axes; the dashed line grows like √n. Fitted slope of the runs: ${slope.toFixed(3)} (½ for growth like √n).`}
+      >
+        <SeriesRadiusPlot points={points} />
+      </Section>
+    </div>
+  );
+}

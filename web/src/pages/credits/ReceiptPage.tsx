@@ -1,0 +1,48 @@
+import { useParams, useSearchParams } from 'react-router';
+import { usePurchase } from '../../api/queries.js';
+import { useSignedIn } from '../../auth/useSignedIn.js';
+import { formatDateTime } from '../../format.js';
+import { Button, Count, ErrorPanel, FactList, LinkButton, PageHeading, Section, SkeletonTable } from '../../ui/index.js';
+import { formatMoney } from './money.js';
+
+/** A printable receipt of one paid purchase. */
+export function ReceiptPage() {
+  const { id = '' } = useParams();
+  const [params] = useSearchParams();
+  const me = useSignedIn();
+  const labId = params.get('labId') ?? me.activeLabId ?? '';
+  const q = usePurchase(labId, id);
+  if (q.isPending) return <SkeletonTable rows={4} columns={2} />;
+  if (q.isError) return <ErrorPanel error={q.error} />;
+  const { purchase: p, labName } = q.data;
+  return (
+    <div className="space-y-8">
+      <PageHeading
+        overline="Receipt"
+        title={p.receiptNumber}
+        lede={`${labName} · ${p.status === 'paid' ? `paid ${formatDateTime(p.paidAt)}` : 'not paid'}`}
+        actions={
+          <>
+            <LinkButton tone="quiet" to={`/lab/credits?labId=${labId}`}>Back to credits</LinkButton>
+            <Button tone="quiet" onClick={() => window.print()}>Print</Button>
+          </>
+        }
+      />
+      <Section>
+        <FactList
+          items={[
+            { term: 'Receipt', value: <span className="font-mono">{p.receiptNumber}</span> },
+            { term: 'Lab', value: labName },
+            { term: 'Pack', value: p.pack },
+            { term: 'Credits', value: <Count n={p.credits} unit="credits" showPower={false} /> },
+            { term: 'Amount', value: formatMoney(p.amount, p.currency) },
+            { term: 'Bought by', value: p.buyer ? `${p.buyer.name} <${p.buyer.email}>` : '—' },
+            { term: 'Started', value: formatDateTime(p.createdAt) },
+            { term: 'Paid', value: formatDateTime(p.paidAt) },
+            { term: 'Receipt mailed', value: formatDateTime(p.receiptMailedAt) },
+          ]}
+        />
+      </Section>
+    </div>
+  );
+}

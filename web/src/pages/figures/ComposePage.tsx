@@ -1,0 +1,350 @@
+import { useMemo, useState } from 'react';
+import { useNavigate, useParams } from 'react-router';
+import { LAYERS, PALETTES } from '../../../../shared/palettes.js';
+import {
+  COLUMN_NAMES,
+  JOURNAL_WIDTHS_MM,
+  MAX_DPI,
+  MIN_DPI,
+  PAPER_NAMES,
+  figureSpecSchema,
+  layoutFigure,
+  type FigureSpec,
+  type FigureSpecInput,
+  type PanelSpec,
+} from '../../../../shared/print.js';
+import type { FigureDetail, Run } from '../../api/contract.js';
+import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';
+import { latticeName } from '../../labels.js';
+import { Button, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
+import { ProofPreview } from './ProofPreview.js';
+
+const DPI_PRESETS = [150, 300, 600, 1200] as const;
+const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled: 'toppled sites only', difference: 'difference from the background', odometer: 'odometer (log scale)' };
+
+type Draft = { title: string; caption: string; spec: FigureSpecInput };
+
+function newDraft(runId: string): Draft {
+  return { title: '', caption: '', spec: { panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, scaleBar: { unit: 'lattice' } } };
+}
+
+/** /figures/new and /lab/figures/:slug/edit: compose a figure from the lab's finished runs. */
+export function ComposePage() {
+  const { slug } = useParams();
+  const me = useMe();
+  const labId = me.data?.activeLabId ?? null;
+  const runs = useRuns({ labId: labId ?? undefined, status: 'finished', pageSize: 100, sort: 'finishedAt', order: 'desc' });
+  const existing = useFigure(slug ?? '');
+  if (me.isPending || runs.isPending || (slug && existing.isPending)) return <SkeletonBlock lines={10} />;
+  if (runs.isError) return <ErrorPanel error={runs.error} />;
+  if (slug && existing.isError) return <ErrorPanel error={existing.error} />;
+  if (!labId) return <EmptyState title="No lab yet">Join or create a lab to compose figures from its runs.</EmptyState>;
+  const finished = runs.data.runs.filter((r) => r.stats);
+  if (finished.length === 0) {
+    return <EmptyState title="No finished runs yet">Figures are composed from finished runs; submit a run and come back when it is done.</EmptyState>;
+  }
+  const figure = slug && existing.data && !existing.data.withdrawn ? existing.data.figure : null;
+  return <Composer key={figure?.id ?? 'new'} labId={labId} runs={finished} figure={figure} />;
+}
+
+function Composer({ labId, runs, figure }: { labId: string; runs: Run[]; figure: FigureDetail | null }) {
+  const navigate = useNavigate();
+  const [draft, setDraft] = useState<Draft>(() => (figure ? { title: figure.title, caption: figure.caption, spec: figure.spec } : newDraft(runs[0]!.id)));
+  const create = useCreateFigure();
+  const update = useUpdateFigure(figure?.slug ?? '');
+  const save = figure ? update : create;
+
+  const spec = draft.spec;
+  const setSpec = (patch: Partial<FigureSpecInput>) => setDraft((d) => ({ ...d, spec: { ...d.spec, ...patch } }));
+  const setPanel = (i: number, patch: Partial<PanelSpec>) =>
+    setSpec({ panels: spec.panels.map((p, j) => (j === i ? { ...p, ...patch } : p)) });
+
+  const parsed = figureSpecSchema.safeParse(spec);
+  const geometry = useMemo(
+    () => runs.map((r) => ({ runId: r.id, shape: r.stats!.shape, origin: r.stats!.origin, chips: r.spec.chips })),
+    [runs],
+  );
+  const layout = parsed.success ? layoutFigure(parsed.data, geometry) : null;
+  const shapes = useMemo(() => new Map(runs.map((r) => [r.id, r.stats!.shape] as const)), [runs]);
+  const issues = parsed.success ? [] : parsed.error.issues.map((i) => `${i.path.join('.') || 'figure'}: ${i.message}`);
+
+  async function submit(e: React.FormEvent) {
+    e.preventDefault();
+    if (!parsed.success) return;
+    const res = figure
+      ? await update.mutateAsync({ title: draft.title, caption: draft.caption, spec: parsed.data })
+      : await create.mutateAsync({ labId, title: draft.title, caption: draft.caption, spec: parsed.data });
+    if (!res.withdrawn) navigate(`/lab/figures/${res.figure.slug}`);
+  }
+
+  const size = spec.size;
+  return (
+    <form onSubmit={submit}>
+      <PageHeading
+        overline={figure ? `Figure · ${figure.slug}` : 'New figure'}
+        title={figure ? `Compose “${figure.title}”` : 'Compose a figure'}
+        lede="Choose runs, the region in lattice coordinates, the layer and palette, and the paper size and resolution. The proof on the right follows every change and warns in plain words when the print would lose detail or cannot be made."
+      />
+      <div className="grid grid-cols-[minmax(0,1.05fr)_minmax(0,1fr)] items-start gap-8">
+        <div className="flex flex-col gap-6">
+          <Section title="Title and caption">
+            <div className="flex flex-col gap-4">
+              <TextField label="Title" value={draft.title} required maxLength={200} onChange={(e) => setDraft({ ...draft, title: e.target.value })} placeholder="Square lattice, n = 10⁶" />
+              <label className="flex flex-col gap-1.5 text-sm font-medium text-ink">
+                Caption (printed under the panels, and shown on the reader page)
+                <textarea
+                  className="min-h-24 rounded-md border border-rule bg-sheet px-3 py-2 text-sm font-normal"
+                  value={draft.caption}
+                  maxLength={2000}
+                  onChange={(e) => {
+                    const text = e.target.value;
+                    setDraft({ ...draft, caption: text, spec: { ...draft.spec, caption: text.trim() ? { text, fontPt: draft.spec.caption?.fontPt ?? 9 } : undefined } });
+                  }}
+                />
+              </label>
+            </div>
+          </Section>
+
+          <Section title="Panels" description="Each panel is one finished run of your lab. Regions are inclusive lattice coordinates relative to the run's origin.">
+            <div className="flex flex-col gap-5">
+              {spec.panels.map((p, i) => (
+                <PanelFields key={i} index={i} panel={p} runs={runs} onChange={(patch) => setPanel(i, patch)} onRemove={spec.panels.length > 1 ? () => setSpec({ panels: spec.panels.filter((_, j) => j !== i) }) : undefined} />
+              ))}
+              <div className="flex flex-wrap items-end gap-4">
+                <Button
+                  tone="quiet"
+                  size="sm"
+                  disabled={spec.panels.length >= 16}
+                  onClick={() => {
+                    const panels = [...spec.panels, { runId: runs[Math.min(spec.panels.length, runs.length - 1)]!.id }];
+                    const cols = Math.min(4, panels.length);
+                    setSpec({ panels, grid: { ...spec.grid, cols, rows: Math.ceil(panels.length / cols) } });
+                  }}
+                >
+                  Add a panel
+                </Button>
+                <TextField label="Grid rows" type="number" min={1} max={8} value={spec.grid?.rows ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, rows: Number(e.target.value) } })} fieldClassName="w-24" />
+                <TextField label="Grid columns" type="number" min={1} max={8} value={spec.grid?.cols ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, cols: Number(e.target.value) } })} fieldClassName="w-28" />
+                <SelectField label="Shared scale" value={spec.grid?.sharedScale ?? 'none'} onChange={(e) => setSpec({ grid: { ...spec.grid, sharedScale: e.target.value as 'none' } })} fieldClassName="w-56">
+                  <option value="none">none: each panel fills its place</option>
+                  <option value="lattice">the same lattice unit</option>
+                  <option value="rescaled">the same rescaled unit x/√n</option>
+                </SelectField>
+              </div>
+            </div>
+          </Section>
+
+          <Section title="Size and resolution">
+            <div className="grid grid-cols-3 gap-4">
+              <SelectField
+                label="Size"
+                value={size.kind}
+                onChange={(e) =>
+                  setSpec({
+                    size: e.target.value === 'paper' ? { kind: 'paper', paper: 'A4' } : e.target.value === 'column' ? { kind: 'column', column: 'single' } : { kind: 'custom', width: 120, height: 90, unit: 'mm' },
+                  })
+                }
+              >
+                <option value="column">journal column width</option>
+                <option value="paper">paper size (ISO A, US)</option>
+                <option value="custom">custom size</option>
+              </SelectField>
+              {size.kind === 'paper' ? (
+                <>
+                  <SelectField label="Paper" value={size.paper} onChange={(e) => setSpec({ size: { ...size, paper: e.target.value as 'A4' } })}>
+                    {PAPER_NAMES.map((n) => (
+                      <option key={n} value={n}>
+                        {n.length === 2 ? n : n[0]!.toUpperCase() + n.slice(1)}
+                      </option>
+                    ))}
+                  </SelectField>
+                  <SelectField label="Orientation" value={size.orientation ?? 'portrait'} onChange={(e) => setSpec({ size: { ...size, orientation: e.target.value as 'portrait' } })}>
+                    <option value="portrait">portrait</option>
+                    <option value="landscape">landscape</option>
+                  </SelectField>
+                </>
+              ) : size.kind === 'column' ? (
+                <>
+                  <SelectField label="Column" value={size.column} onChange={(e) => setSpec({ size: { ...size, column: e.target.value as 'single' } })}>
+                    {COLUMN_NAMES.map((c) => (
+                      <option key={c} value={c}>
+                        {c.replace(/-/g, ' ')}, {JOURNAL_WIDTHS_MM[c]} mm
+                      </option>
+                    ))}
+                  </SelectField>
+                  <TextField
+                    label="Height (mm)"
+                    type="number"
+                    min={10}
+                    placeholder="as the panels need"
+                    value={size.heightMm ?? ''}
+                    onChange={(e) => setSpec({ size: { ...size, heightMm: e.target.value ? Number(e.target.value) : undefined } })}
+                  />
+                </>
+              ) : (
+                <>
+                  <TextField label={`Width (${size.unit ?? 'mm'})`} type="number" step="any" min={1} value={size.width} onChange={(e) => setSpec({ size: { ...size, width: Number(e.target.value) } })} />
+                  <div className="flex gap-2">
+                    <TextField label={`Height (${size.unit ?? 'mm'})`} type="number" step="any" min={1} value={size.height} onChange={(e) => setSpec({ size: { ...size, height: Number(e.target.value) } })} />
+                    <SelectField label="Unit" value={size.unit ?? 'mm'} onChange={(e) => setSpec({ size: { ...size, unit: e.target.value as 'mm' } })}>
+                      <option value="mm">mm</option>
+                      <option value="in">in</option>
+                    </SelectField>
+                  </div>
+                </>
+              )}
+              <SelectField label="Resolution" value={DPI_PRESETS.includes(spec.dpi as 300) ? String(spec.dpi) : 'other'} onChange={(e) => e.target.value !== 'other' && setSpec({ dpi: Number(e.target.value) })}>
+                {DPI_PRESETS.map((d) => (
+                  <option key={d} value={d}>
+                    {d} DPI
+                  </option>
+                ))}
+                <option value="other">other…</option>
+              </SelectField>
+              <TextField label="DPI" type="number" min={MIN_DPI} max={MAX_DPI} value={spec.dpi ?? 300} onChange={(e) => setSpec({ dpi: Number(e.target.value) })} hint={`${MIN_DPI} to ${MAX_DPI}`} />
+              <SelectField label="Panel labels" value={spec.labels ?? 'letters'} onChange={(e) => setSpec({ labels: e.target.value as 'letters' })}>
+                <option value="letters">(a), (b), …</option>
+                <option value="numbers">(1), (2), …</option>
+                <option value="none">none</option>
+              </SelectField>
+            </div>
+            <div className="mt-4 grid grid-cols-4 gap-4">
+              {(['top', 'right', 'bottom', 'left'] as const).map((side) => (
+                <TextField
+                  key={side}
+                  label={`Margin ${side} (mm)`}
+                  type="number"
+                  min={0}
+                  step="any"
+                  value={spec.margins?.[side] ?? 10}
+                  onChange={(e) => setSpec({ margins: { top: 10, right: 10, bottom: 10, left: 10, ...spec.margins, [side]: Number(e.target.value) } })}
+                />
+              ))}
+            </div>
+            <div className="mt-4 flex flex-wrap items-end gap-6">
+              <SelectField
+                label="Scale bar"
+                value={spec.scaleBar ? spec.scaleBar.unit ?? 'lattice' : 'none'}
+                onChange={(e) => setSpec({ scaleBar: e.target.value === 'none' ? undefined : { unit: e.target.value as 'lattice' } })}
+                fieldClassName="w-56"
+              >
+                <option value="none">none</option>
+                <option value="lattice">in lattice units</option>
+                <option value="rescaled">in rescaled units x/√n</option>
+              </SelectField>
+              <label className="flex items-center gap-2 pb-2 text-sm text-ink">
+                <input type="checkbox" checked={spec.legend ?? true} onChange={(e) => setSpec({ legend: e.target.checked })} /> colour legend
+              </label>
+            </div>
+          </Section>
+        </div>
+
+        <div className="sticky top-6 flex flex-col gap-4">
+          <Section title="Proof" description={layout ? `${layout.page.widthMm.toFixed(1)} × ${layout.page.heightMm.toFixed(1)} mm · ${layout.page.widthPx.toLocaleString('en-US')} × ${layout.page.heightPx.toLocaleString('en-US')} px at ${layout.dpi} DPI` : 'fix the settings below the form to see the page'}>
+            {layout && parsed.success ? <ProofPreview spec={parsed.data as FigureSpec} layout={layout} runShapes={shapes} /> : null}
+            {issues.length ? (
+              <div className="mt-3">
+                <Notice tone="warning" title="These settings are not valid yet">
+                  <ul className="list-disc pl-5">{issues.map((m) => <li key={m}>{m}</li>)}</ul>
+                </Notice>
+              </div>
+            ) : null}
+            {layout?.warnings.length ? (
+              <ul className="mt-4 flex flex-col gap-2" data-testid="proof-warnings">
+                {layout.warnings.map((w, i) => (
+                  <li key={i}>
+                    <Notice tone="warning" title={w.blocking ? 'Cannot be printed like this' : w.code === 'cells-reduced' ? 'Detail will be reduced' : 'Note'}>
+                      {w.message}
+                    </Notice>
+                  </li>
+                ))}
+              </ul>
+            ) : layout ? (
+              <p className="mt-3 text-sm text-ink-soft">
+                Every cell prints as {layout.panels.map((p) => `${p.cellPx} × ${p.cellPx}`).join(', ')} printed pixels: nothing is reduced.
+              </p>
+            ) : null}
+          </Section>
+          <FormError error={save.error} />
+          <div className="flex justify-end gap-3">
+            <Button type="submit" busy={save.isPending} busyLabel="Saving…" disabled={!parsed.success || !draft.title.trim()}>
+              {figure ? 'Save the composition' : 'Create the figure'}
+            </Button>
+          </div>
+        </div>
+      </div>
+    </form>
+  );
+}
+
+function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number; panel: FigureSpecInput['panels'][number]; runs: Run[]; onChange: (p: Partial<PanelSpec>) => void; onRemove?: () => void }) {
+  const run = runs.find((r) => r.id === panel.runId);
+  const whole = run?.stats ? wholeRegion(run.stats.shape, run.stats.origin) : null;
+  const region = panel.region ?? null;
+  return (
+    <fieldset className="rounded-lg border border-rule-soft px-4 pb-4 pt-2" data-testid={`panel-${index}`}>
+      <legend className="px-1 text-sm font-semibold text-ink">Panel {index + 1}</legend>
+      <div className="grid grid-cols-2 gap-4">
+        <SelectField label="Run" value={panel.runId} onChange={(e) => onChange({ runId: e.target.value, region: undefined })}>
+          {runs.map((r) => (
+            <option key={r.id} value={r.id}>
+              {r.title} — {latticeName('preset' in r.spec.lattice ? r.spec.lattice.preset : 'periodic')}, n = {r.spec.chips.toLocaleString('en-US')}
+            </option>
+          ))}
+        </SelectField>
+        <SelectField label="Layer" value={panel.layer ?? 'heights'} onChange={(e) => onChange({ layer: e.target.value as PanelSpec['layer'] })}>
+          {LAYERS.map((l) => (
+            <option key={l} value={l}>
+              {LAYER_NAMES[l]}
+            </option>
+          ))}
+        </SelectField>
+        <SelectField label="Palette" value={panel.palette ?? 'tidewater'} onChange={(e) => onChange({ palette: e.target.value as PanelSpec['palette'] })}>
+          {PALETTES.map((p) => (
+            <option key={p.id} value={p.id}>
+              {p.name}
+            </option>
+          ))}
+        </SelectField>
+        <div className="flex gap-2">
+          <SelectField label="Magnification" value={panel.magnification === undefined || panel.magnification === 'fit' ? 'fit' : 'fixed'} onChange={(e) => onChange({ magnification: e.target.value === 'fit' ? 'fit' : 4 })}>
+            <option value="fit">fit the panel</option>
+            <option value="fixed">pixels per cell…</option>
+          </SelectField>
+          {typeof panel.magnification === 'number' ? (
+            <TextField label="px per cell" type="number" min={1} max={256} value={panel.magnification} onChange={(e) => onChange({ magnification: Math.max(1, Math.round(Number(e.target.value))) })} fieldClassName="w-28" />
+          ) : null}
+        </div>
+      </div>
+      <div className="mt-4 flex flex-wrap items-end gap-3">
+        <label className="flex items-center gap-2 pb-2 text-sm text-ink">
+          <input type="checkbox" checked={region === null} onChange={(e) => onChange({ region: e.target.checked ? undefined : (whole ?? undefined) })} /> the whole run
+        </label>
+        {region
+          ? (['xMin', 'xMax', 'yMin', 'yMax'] as const).map((k) => (
+              <TextField key={k} label={k} mono type="number" value={region[k]} onChange={(e) => onChange({ region: { ...region, [k]: Math.round(Number(e.target.value)) } })} fieldClassName="w-24" />
+            ))
+          : whole ? (
+              <span className="pb-2 font-mono text-xs text-ink-soft">
+                x {whole.xMin}..{whole.xMax}, y {whole.yMin}..{whole.yMax}
+              </span>
+            ) : null}
+        <TextField label="Label" value={panel.label ?? ''} placeholder="automatic" maxLength={24} onChange={(e) => onChange({ label: e.target.value || undefined })} fieldClassName="w-32" />
+        {onRemove ? (
+          <Button tone="danger" size="sm" onClick={onRemove}>
+            Remove
+          </Button>
+        ) : null}
+      </div>
+    </fieldset>
+  );
+}
+
+function wholeRegion(shape: readonly number[], origin: readonly number[]) {
+  const d = shape.length;
+  const W = shape[d - 1]!;
+  const H = d >= 2 ? shape[d - 2]! : 1;
+  const ox = origin[d - 1] ?? 0;
+  const oy = d >= 2 ? origin[d - 2]! : 0;
+  return { xMin: -ox, xMax: W - 1 - ox, yMin: -oy, yMax: H - 1 - oy };
+}

@@ -1,0 +1,117 @@
+import { Link, useParams } from 'react-router';
+import type { FigureVersion } from '../../api/contract.js';
+import { useFigureLive, useOrderPrint, usePublishFigure } from '../../api/queries.js';
+import { formatDateTime } from '../../format.js';
+import { Button, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SkeletonBlock } from '../../ui/index.js';
+import { FileList } from './FileList.js';
+
+const STATUS_WORDS: Record<FigureVersion['status'], string> = { queued: 'waiting for the farm', printing: 'printing', ready: 'ready', failed: 'failed' };
+
+function sizeText(v: FigureVersion): string {
+  const s = v.spec.size;
+  const what = s.kind === 'paper' ? `${s.paper} ${s.orientation}` : s.kind === 'column' ? `${s.column} column` : `${s.width} × ${s.height} ${s.unit}`;
+  return `${what}, ${v.spec.dpi} DPI, ${v.spec.panels.length} ${v.spec.panels.length === 1 ? 'panel' : 'panels'}`;
+}
+
+/** /lab/figures/:slug — the lab's page of one figure: order prints, see versions and files, publish. */
+export function FigurePage() {
+  const { slug = '' } = useParams();
+  const q = useFigureLive(slug);
+  const order = useOrderPrint(slug);
+  const publish = usePublishFigure(slug);
+  if (q.isPending) return <SkeletonBlock lines={8} />;
+  if (q.isError) return <ErrorPanel error={q.error} />;
+  if (q.data.withdrawn) return <EmptyState title="Withdrawn">This figure was withdrawn and you are not a member of its lab.</EmptyState>;
+  const f = q.data.figure;
+  const shown = f.publishedAt !== null && f.withdrawnAt === null;
+  const busy = f.versions.some((v) => v.status === 'queued' || v.status === 'printing');
+  const ready = f.versions.find((v) => v.status === 'ready');
+  return (
+    <div>
+      <PageHeading
+        overline={`Figure · ${f.labName}`}
+        title={f.title}
+        lede={f.caption || undefined}
+        actions={
+          f.canEdit ? (
+            <>
+              <LinkButton tone="quiet" to={`/lab/figures/${f.slug}/edit`}>
+                Edit the composition
+              </LinkButton>
+              <Button onClick={() => order.mutate({})} busy={order.isPending} busyLabel="Ordering…">
+                {f.versions.length ? 'Print again' : 'Order the print'}
+              </Button>
+            </>
+          ) : null
+        }
+      />
+      <FormError error={order.error ?? publish.error} />
+      <div className="grid grid-cols-[minmax(0,1.6fr)_minmax(0,1fr)] items-start gap-8">
+        <Section title="Versions" description="Each order prints the composition as it is then; the permanent link shows the newest ready version.">
+          {f.versions.length === 0 ? (
+            <p className="text-sm text-ink-soft">Nothing ordered yet. Order the print to make the PNG, TIFF and PDF files.</p>
+          ) : (
+            <ol className="flex flex-col gap-6">
+              {f.versions.map((v) => (
+                <li key={v.number} data-testid={`version-${v.number}`} className="border-b border-rule-soft pb-5 last:border-b-0">
+                  <div className="flex items-baseline justify-between gap-4">
+                    <h3 className="text-base font-semibold">
+                      Version {v.number} <span className="ml-2 text-sm font-normal text-ink-soft">{sizeText(v)}</span>
+                    </h3>
+                    <span className={`text-sm font-medium ${v.status === 'ready' ? 'text-leaf' : v.status === 'failed' ? 'text-stamp' : 'text-amber'}`} data-testid={`version-${v.number}-status`}>
+                      {STATUS_WORDS[v.status]}
+                    </span>
+                  </div>
+                  <p className="mt-1 text-xs text-ink-faint">
+                    ordered {formatDateTime(v.createdAt)}
+                    {v.orderedBy ? ` by ${v.orderedBy}` : ''}
+                    {v.finishedAt ? ` · done ${formatDateTime(v.finishedAt)}` : ''}
+                    {v.stage ? ` · ${v.stage}` : ''}
+                  </p>
+                  {v.error ? <p className="mt-2 text-sm text-stamp">{v.error}</p> : null}
+                  {v.files.length ? (
+                    <div className="mt-3">
+                      <FileList files={v.files} />
+                    </div>
+                  ) : null}
+                </li>
+              ))}
+            </ol>
+          )}
+        </Section>
+        <Section title="Publishing">
+          {shown ? (
+            <Notice tone="success" title="Published">
+              Anyone with the link can read, zoom into, download and cite it: <Link to={`/f/${f.slug}`} className="font-mono">/f/{f.slug}</Link>
+            </Notice>
+          ) : f.withdrawnAt ? (
+            <Notice tone="warning" title={`Withdrawn on ${formatDateTime(f.withdrawnAt)}`}>
+              The permanent link tells readers the figure was withdrawn. Publish it again to bring it back.
+            </Notice>
+          ) : (
+            <Notice tone="info" title="Private to the lab">
+              Only members of {f.labName} see it. {ready ? 'Publish it to give readers the permanent link.' : 'Publishing needs a ready print.'}
+            </Notice>
+          )}
+          {f.canEdit ? (
+            <div className="mt-4 flex gap-3">
+              {shown ? (
+                <Button tone="danger" onClick={() => publish.mutate(false)} busy={publish.isPending}>
+                  Unpublish
+                </Button>
+              ) : (
+                <Button onClick={() => publish.mutate(true)} busy={publish.isPending} disabled={!ready}>
+                  Publish
+                </Button>
+              )}
+              <LinkButton tone="quiet" to={`/f/${f.slug}`}>
+                Open the reader page
+              </LinkButton>
+            </div>
+          ) : null}
+          {busy ? <p className="mt-4 text-sm text-ink-soft">A print is on the farm; this page updates by itself, and a mail with the download links follows.</p> : null}
+        </Section>
+      </div>
+    </div>
+  );
+}

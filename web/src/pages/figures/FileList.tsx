@@ -1,0 +1,37 @@
+import type { FigureFile } from '../../api/contract.js';
+import { groupThousands } from '../../format.js';
+
+const FORMAT_NAMES: Record<string, string> = { png: 'PNG', tiff: 'TIFF (LZW)', pdf: 'PDF, vector text' };
+
+/** Exact byte counts and the full checksum, so a downloaded file can be checked against the page. */
+export function FileList({ files }: { files: FigureFile[] }) {
+  return (
+    <table className="w-full text-sm" data-testid="figure-files">
+      <thead>
+        <tr className="border-b border-rule text-left text-xs uppercase tracking-wider text-ink-faint">
+          <th className="py-2 pr-4 font-medium">file</th>
+          <th className="py-2 pr-4 text-right font-medium">size</th>
+          <th className="py-2 pr-4 text-right font-medium">pixels</th>
+          <th className="py-2 font-medium">SHA-256</th>
+        </tr>
+      </thead>
+      <tbody>
+        {files.map((f) => (
+          <tr key={f.format} className="border-b border-rule-soft align-top">
+            <td className="py-2 pr-4">
+              <a href={f.href} download={f.name}>
+                {f.name}
+              </a>
+              <div className="text-xs text-ink-faint">{FORMAT_NAMES[f.format]}</div>
+            </td>
+            <td className="py-2 pr-4 text-right tabular-nums">{groupThousands(f.bytes)} bytes</td>
+            <td className="py-2 pr-4 text-right tabular-nums">
+              {groupThousands(f.widthPx)} × {groupThousands(f.heightPx)}
+            </td>
+            <td className="break-all py-2 font-mono text-[11px] leading-snug text-ink-soft">{f.sha256}</td>
+          </tr>
+        ))}
+      </tbody>
+    </table>
+  );
+}

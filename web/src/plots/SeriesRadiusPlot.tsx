@@ -1,0 +1,40 @@
+import { CartesianGrid, Legend, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis } from 'recharts';
+import { formatCountText } from '../format.js';
+import { INK } from './RunPlots.js';
+import { decadeTicks, sqrtFit, type RadiusPoint } from './plotData.js';
+
+const tick = { fontSize: 11, fill: INK.soft };
+const SUPERSCRIPT = '⁰¹²³⁴⁵⁶⁷⁸⁹';
+/** 1000 → "10³": SVG tick text cannot hold <sup>, so the exponent is written in superscript digits. */
+export const powerLabel = (v: number) => {
+  const e = Math.round(Math.log10(v));
+  return Math.abs(10 ** e - v) < 1e-9 * v ? `10${String(e).replace(/\d/g, (d) => SUPERSCRIPT[Number(d)]!)}` : v.toLocaleString('en-US');
+};
+
+/** Radius of the toppled region against n on log-log axes, with the reference line c·√n fitted through the points. */
+export function SeriesRadiusPlot({ points }: { points: RadiusPoint[] }) {
+  const c = sqrtFit(points);
+  if (!c || points.length === 0) return <p className="text-sm text-ink-faint">The plot appears once runs of the series have finished.</p>;
+  const ns = points.map((p) => p.n);
+  const lo = Math.min(...ns) / 2;
+  const hi = Math.max(...ns) * 2;
+  const reference = Array.from({ length: 25 }, (_, i) => lo * (hi / lo) ** (i / 24)).map((n) => ({ n, radius: c * Math.sqrt(n) }));
+  const rs = [...points.map((p) => p.radius), ...reference.map((p) => p.radius)];
+  return (
+    <figure aria-label="radius against n" data-testid="plot-series-radius">
+      <div className="h-72">
+        <ResponsiveContainer width="100%" height="100%">
+          <ScatterChart margin={{ top: 8, right: 16, bottom: 22, left: 12 }}>
+            <CartesianGrid stroke={INK.rule} />
+            <XAxis dataKey="n" type="number" scale="log" domain={[lo, hi]} ticks={decadeTicks(lo, hi).filter((t) => t >= lo && t <= hi)} tickFormatter={powerLabel} tick={tick} label={{ value: 'n (grains)', position: 'insideBottom', offset: -12, fontSize: 11 }} allowDataOverflow />
+            <YAxis dataKey="radius" type="number" scale="log" domain={[Math.min(...rs) / 1.5, Math.max(...rs) * 1.5]} tickFormatter={(v: number) => Number(v.toPrecision(2)).toLocaleString('en-US')} tick={tick} width={52} label={{ value: 'radius (lattice spacings)', angle: -90, position: 'insideLeft', fontSize: 11, dy: 60 }} allowDataOverflow />
+            <Tooltip formatter={(v, name) => [name === 'n' ? formatCountText(Number(v)) : Number(v).toFixed(2), name === 'n' ? 'n' : 'radius']} />
+            <Legend verticalAlign="top" height={24} wrapperStyle={{ fontSize: 11 }} />
+            <Scatter name={`${c.toFixed(3)} · √n`} data={reference} line={{ stroke: INK.soft, strokeDasharray: '4 3' }} shape={() => <g />} isAnimationActive={false} legendType="line" />
+            <Scatter name="runs (Euclidean radius)" data={points} fill={INK.stamp} isAnimationActive={false} />
+          </ScatterChart>
+        </ResponsiveContainer>
+      </div>
+    </figure>
+  );
+}

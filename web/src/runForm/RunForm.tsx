@@ -1,0 +1,260 @@
+import { useEffect, useMemo, useState, type FormEvent } from 'react';
+import { useNavigate } from 'react-router';
+import { useMutation, useQueryClient } from '@tanstack/react-query';
+import { api } from '../api/client.js';
+import { useEstimate } from '../api/queries.js';
+import {
+  createRunRequestSchema, createSeriesRequestSchema, runSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
+} from '../api/contract.js';
+import { DRAWN_LAYERS, LAYER_LABELS, backgroundKindName, latticeName } from '../labels.js';
+import { formatDuration } from '../format.js';
+import { Button, Count, FormError, SelectField, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
+import { BackgroundUpload } from './BackgroundUpload.js';
+import { UnitCellEditor } from './UnitCellEditor.js';
+import { CreditGate } from '../pages/credits/CreditGate.js';
+import {
+  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, parseGrainList, parseGrains, seriesChipsOfForm, specOfForm, type RunFormState,
+} from './formState.js';
+
+function useDebounced<T>(value: T, ms: number): T {
+  const [v, setV] = useState(value);
+  useEffect(() => {
+    const t = setTimeout(() => setV(value), ms);
+    return () => clearTimeout(t);
+  }, [value, ms]);
+  return v;
+}
+
+const bytesText = (b: number) => (b >= 2 ** 30 ? `${(b / 2 ** 30).toFixed(2)} GiB` : b >= 2 ** 20 ? `${(b / 2 ** 20).toFixed(1)} MiB` : `${Math.ceil(b / 1024)} KiB`);
+
+/**
+ * Everything a run can be: a preset or drawn/uploaded periodic lattice, every background kind, extra
+ * point sources, one n or a series of n. The cost prediction (POST /api/estimates) follows the typing,
+ * debounced, and shows before anything is submitted.
+ */
+export function RunForm({ labId, initial, onClose }: { labId: string; initial: RunFormState; onClose?: () => void }) {
+  const navigate = useNavigate();
+  const qc = useQueryClient();
+  const [f, setF] = useState<RunFormState>(initial);
+  const [errors, setErrors] = useState<FieldErrors>({});
+  const set = (patch: Partial<RunFormState>) => setF((old) => ({ ...old, ...patch }));
+
+  // the estimate is of the largest run the form would start
+  const specForEstimate = useMemo(() => {
+    const spec = specOfForm(f);
+    if (f.mode === 'series') {
+      const ns = seriesChipsOfForm(f).filter(Number.isSafeInteger);
+      spec.chips = ns.length ? Math.max(...ns) : NaN;
+    }
+    const r = runSpecSchema.safeParse(spec);
+    return r.success ? (r.data as RunSpecInput) : null;
+  }, [f]);
+  const specForEstimateDebounced = useDebounced(specForEstimate, 400);
+  const estimate = useEstimate(specForEstimateDebounced);
+
+  const create = useMutation({
+    mutationFn: async (body: { kind: 'run' | 'series'; data: unknown }) =>
+      body.kind === 'run'
+        ? `/runs/${(await api<RunResponse>('POST', '/api/runs', body.data)).run.id}`
+        : `/series/${(await api<SeriesResponse>('POST', '/api/series', body.data)).series.id}`,
+    onSuccess: (to) => {
+      void qc.invalidateQueries({ queryKey: ['runs'] });
+      void navigate(to);
+    },
+    onError: (e) => setErrors(serverFieldErrors(e)),
+  });
+
+  function submit(e: FormEvent) {
+    e.preventDefault();
+    const spec = specOfForm(f);
+    if (f.mode === 'single') {
+      const r = validate(createRunRequestSchema, { labId, title: f.title, spec });
+      if (!r.ok) return setErrors(r.errors);
+      setErrors({});
+      create.mutate({ kind: 'run', data: r.data });
+    } else {
+      const { chips: _n, ...rest } = spec;
+      const r = validate(createSeriesRequestSchema, { labId, title: f.title, spec: rest, chips: seriesChipsOfForm(f) });
+      if (!r.ok) return setErrors(Object.fromEntries(Object.entries(r.errors).map(([k, v]) => [k.startsWith('chips') ? 'seriesChips' : k, v])));
+      setErrors({});
+      create.mutate({ kind: 'series', data: r.data });
+    }
+  }
+
+  const grains = parseGrains(f.chips);
+  const bgErr = (k: string) => errors[`spec.background.${k}`] ?? (f.backgroundKind === 'array' ? undefined : errors['spec.background']);
+  const est = estimate.data?.estimate;
+  // which n the numbers shown are for (the previous answer stays up while the next one is fetched)
+  const shownKey = estimate.data ? (estimate.isPlaceholderData ? null : specForEstimateDebounced) : null;
+  const estimatedFor = shownKey ? Number(shownKey.chips) + (shownKey.sources ?? []).reduce((a, s) => a + s.chips, 0) : null;
+  return (
+    <form noValidate onSubmit={submit} className="grid grid-cols-[1fr_20rem] gap-8" aria-label="new run">
+      <div className="grid grid-cols-3 content-start gap-5">
+        <TextField label="Title" name="title" value={f.title} onChange={(e) => set({ title: e.target.value })} error={errors.title} fieldClassName="col-span-3" placeholder="e.g. Square lattice, one million grains" />
+
+        <SelectField
+          label="Lattice"
+          value={f.latticeMode === 'cell' ? '@cell' : f.preset}
+          onChange={(e) => (e.target.value === '@cell' ? set({ latticeMode: 'cell' }) : set({ latticeMode: 'preset', preset: e.target.value }))}
+          error={errors['spec.lattice.preset'] ?? errors['spec.lattice']}
+        >
+          {BUILTIN_PRESETS.map((l) => (
+            <option key={l} value={l}>
+              {latticeName(l)}
+            </option>
+          ))}
+          {PERIODIC_PRESET_NAMES.map((l) => (
+            <option key={l} value={l}>
+              {latticeName(l)} (periodic)
+            </option>
+          ))}
+          <option value="@cell">unit cell: draw or upload…</option>
+        </SelectField>
+        <SelectField label="How many runs" value={f.mode} onChange={(e) => set({ mode: e.target.value as RunFormState['mode'] })}>
+          <option value="single">one run</option>
+          <option value="series">a series over n (side by side by √n)</option>
+        </SelectField>
+        {f.mode === 'single' ? (
+          <TextField
+            label="Grains at the origin (n)"
+            name="chips"
+            inputMode="numeric"
+            value={f.chips}
+            onChange={(e) => set({ chips: e.target.value })}
+            error={errors['spec.chips']}
+            hint={Number.isSafeInteger(grains) && grains >= 0 ? <Count n={grains} unit="grains" /> : 'a whole number, e.g. 1000000 or 10^6'}
+          />
+        ) : (
+          <TextField
+            label="Grain counts n of the series"
+            value={f.seriesChips}
+            onChange={(e) => set({ seriesChips: e.target.value })}
+            error={errors.seriesChips}
+            hint={<SeriesHint text={f.seriesChips} />}
+            mono
+          />
+        )}
+        {f.latticeMode === 'cell' ? (
+          <div className="col-span-3">
+            <UnitCellEditor value={f.cell} onChange={(cell) => set({ cell })} name={f.cellName} onName={(cellName) => set({ cellName })} />
+            {errors['spec.lattice.periodic'] || errors['spec.lattice'] ? <p className="mt-1 text-xs text-stamp">{errors['spec.lattice.periodic'] ?? errors['spec.lattice']}</p> : null}
+          </div>
+        ) : null}
+
+        <SelectField label="Background" value={f.backgroundKind} onChange={(e) => set({ backgroundKind: e.target.value as RunFormState['backgroundKind'] })}>
+          {BACKGROUND_KINDS.map((k) => (
+            <option key={k} value={k}>
+              {backgroundKindName(k)}
+            </option>
+          ))}
+        </SelectField>
+        {f.backgroundKind === 'constant' ? (
+          <TextField label="Height everywhere" inputMode="numeric" value={f.height} onChange={(e) => set({ height: e.target.value })} error={bgErr('height')} />
+        ) : f.backgroundKind === 'checkerboard' || f.backgroundKind === 'annuli' ? (
+          <>
+            <TextField label={f.backgroundKind === 'annuli' ? 'Height of the inner annulus' : 'Height where x + y is even'} inputMode="numeric" value={f.a} onChange={(e) => set({ a: e.target.value })} error={bgErr('a')} />
+            <TextField label={f.backgroundKind === 'annuli' ? 'Height of the next annulus' : 'Height where x + y is odd'} inputMode="numeric" value={f.b} onChange={(e) => set({ b: e.target.value })} error={bgErr('b')} />
+          </>
+        ) : f.backgroundKind === 'random' ? (
+          <>
+            <TextField label="Seed" inputMode="numeric" value={f.seed} onChange={(e) => set({ seed: e.target.value })} error={bgErr('seed')} />
+            <TextField label="Weights of heights 0, 1, 2, …" value={f.weights} onChange={(e) => set({ weights: e.target.value })} error={bgErr('weights')} hint="relative chances, separated by spaces" mono />
+          </>
+        ) : f.backgroundKind === 'motif' ? (
+          <label className="col-span-2 flex flex-col gap-1.5 text-sm">
+            <span className="font-medium">Motif: one line per row (y mod rows), heights separated by spaces</span>
+            <textarea value={f.motif} onChange={(e) => set({ motif: e.target.value })} rows={4} className="rounded-md border border-rule bg-sheet px-3 py-2 font-mono text-sm" aria-invalid={bgErr('cells') ? true : undefined} />
+            {bgErr('cells') ? <span role="alert" className="text-xs font-medium text-stamp">{bgErr('cells')}</span> : null}
+          </label>
+        ) : (
+          <span className="col-span-2" />
+        )}
+        {f.backgroundKind === 'array' ? (
+          <>
+            <BackgroundUpload labId={labId} chosen={f.upload} onChosen={(u) => set({ upload: u ? { sha256: u.sha256, shape: u.shape } : null })} />
+            {errors['spec.background.sha256'] || errors['spec.background'] ? <p className="col-span-3 -mt-3 text-xs font-medium text-stamp">choose and upload a file first</p> : null}
+          </>
+        ) : null}
+
+        <fieldset className="col-span-3">
+          <legend className="text-sm font-medium">Further point sources</legend>
+          {f.sources.length === 0 ? <p className="mt-1 text-xs text-ink-soft">Only the origin gets grains.</p> : null}
+          <div className="mt-2 space-y-2">
+            {f.sources.map((s, i) => (
+              <div key={i} className="flex items-start gap-3">
+                <TextField label={`Site ${i + 1}`} value={s.at} mono placeholder="e.g. 40, -12" onChange={(e) => set({ sources: f.sources.map((t, j) => (j === i ? { ...t, at: e.target.value } : t)) })} error={errors[`spec.sources.${i}.at`]} />
+                <TextField label="Grains" value={s.chips} inputMode="numeric" onChange={(e) => set({ sources: f.sources.map((t, j) => (j === i ? { ...t, chips: e.target.value } : t)) })} error={errors[`spec.sources.${i}.chips`]} />
+                <Button tone="quiet" size="sm" className="mt-7" onClick={() => set({ sources: f.sources.filter((_, j) => j !== i) })}>
+                  Remove
+                </Button>
+              </div>
+            ))}
+          </div>
+          <Button tone="quiet" size="sm" className="mt-2" onClick={() => set({ sources: [...f.sources, { at: '', chips: '1000' }] })}>
+            Add a source
+          </Button>
+        </fieldset>
+        <p className="col-span-3 text-xs text-ink-soft">
+          Drawn for every run: {DRAWN_LAYERS.map((l) => LAYER_LABELS[l].toLowerCase()).join(', ')} (deep zoom, with legends).
+        </p>
+      </div>
+
+      <aside className="flex flex-col gap-4">
+        <div className="rounded-lg border border-rule bg-paper px-5 py-4 text-sm" aria-label="estimate" data-testid="estimate">
+          <h3 className="mb-2 font-semibold">Before you start</h3>
+          {estimatedFor !== null ? (
+            <p className="-mt-1 mb-2 text-xs text-ink-soft" data-testid="estimate-for">
+              {f.mode === 'series' ? 'largest run, ' : ''}n = <Count n={estimatedFor} />
+              {estimate.isFetching || specForEstimate !== specForEstimateDebounced ? ' · updating…' : ''}
+            </p>
+          ) : null}
+          {!specForEstimate ? (
+            <p className="text-ink-soft">Complete the form to see the size, time and cost.</p>
+          ) : estimate.isError ? (
+            <FormError error={estimate.error} />
+          ) : !est ? (
+            <p className="text-ink-soft">Estimating…</p>
+          ) : (
+            <dl className={`grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 ${estimate.isFetching || specForEstimate !== specForEstimateDebounced ? 'opacity-50' : ''}`}>
+              <dt className="text-ink-soft">Domain</dt>
+              <dd className="text-right">
+                <Count n={est.cells} unit="cells" />
+                <span className="block font-mono text-[11px] text-ink-faint">{est.shape.join(' × ')}</span>
+              </dd>
+              <dt className="text-ink-soft">Memory</dt>
+              <dd className="text-right tnum">{bytesText(est.bytes)}</dd>
+              <dt className="text-ink-soft">Time</dt>
+              <dd className="text-right tnum">about {formatDuration(est.seconds)}</dd>
+              <dt className="text-ink-soft">Credits</dt>
+              <dd className="text-right font-semibold tnum" data-testid="estimate-credits">{est.credits.toLocaleString('en-US')}</dd>
+            </dl>
+          )}
+          {est?.warnings.map((w) => (
+            <p key={w} className="mt-2 rounded bg-amber-tint px-2 py-1 text-xs text-amber">
+              {w}
+            </p>
+          ))}
+          {est && f.mode !== 'series' ? <CreditGate labId={labId} credits={est.credits} /> : null}
+        </div>
+        {create.isError && !Object.keys(errors).length ? <FormError error={create.error} /> : null}
+        {errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
+        <div className="flex justify-end gap-3">
+          {onClose ? (
+            <Button tone="quiet" onClick={onClose}>
+              Cancel
+            </Button>
+          ) : null}
+          <Button type="submit" busy={create.isPending} busyLabel="Starting…">
+            {f.mode === 'series' ? 'Start series' : 'Start run'}
+          </Button>
+        </div>
+      </aside>
+    </form>
+  );
+}
+
+function SeriesHint({ text }: { text: string }) {
+  const ns = parseGrainList(text);
+  if (!ns.length || !ns.every(Number.isSafeInteger)) return <>separated by commas, e.g. 10^4, 10^5, 10^6</>;
+  return <>{ns.length} runs: {ns.map((n, i) => <span key={i}>{i ? ', ' : ''}<Count n={n} /></span>)}</>;
+}

@@ -1,0 +1,72 @@
+import { describe, expect, test } from 'vitest';
+import { runSpecSchema } from '../api/contract.js';
+import { checkCell } from './UnitCellEditor.js';
+import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, specOfForm, SQUARE_CELL, toggleOffset } from './formState.js';
+
+describe('grain counts as people type them', () => {
+  test('grouped, powers of ten and exponent notation', () => {
+    expect(parseGrains('1,000,000')).toBe(1_000_000);
+    expect(parseGrains('10^6')).toBe(1_000_000);
+    expect(parseGrains('2.5×10^6')).toBe(2_500_000);
+    expect(parseGrains('1e5')).toBe(100_000);
+    expect(parseGrains('')).toBeNaN();
+    expect(parseGrainList('10^4, 10^5, 10^6')).toEqual([1e4, 1e5, 1e6]);
+    expect(parseGrainList('10000 40000')).toEqual([1e4, 4e4]);
+  });
+});
+
+describe('form ↔ specification', () => {
+  test('the default form is a valid square-lattice spec', () => {
+    const spec = runSpecSchema.parse(specOfForm(emptyForm()));
+    expect(spec).toEqual({ lattice: { preset: 'square' }, chips: 1_000_000, sources: [], background: { kind: 'constant', height: 0 } });
+  });
+
+  test('every background kind and extra sources survive duplicate-with-edits unchanged', () => {
+    const specs = [
+      { lattice: { preset: 'honeycomb' }, chips: 5000, sources: [{ at: [4, -3], chips: 200 }], background: { kind: 'checkerboard', a: 1, b: 0 } },
+      { lattice: { preset: 'triangular' }, chips: 7, sources: [], background: { kind: 'random', seed: 42, weights: [1, 2, 1] } },
+      { lattice: { preset: 'square' }, chips: 9, sources: [], background: { kind: 'motif', cells: [[2, 1], [1, 2], [0, 0]] } },
+      { lattice: { preset: 'square' }, chips: 9, sources: [], background: { kind: 'annuli', a: 2, b: 1 } },
+      { lattice: { preset: 'square' }, chips: 9, sources: [], background: { kind: 'array', sha256: 'a'.repeat(64), shape: [3, 5] } },
+      { lattice: { periodic: { period: [2, 1], neighbours: [[[[1, 0], [-1, 0]], [[1, 0], [-1, 0], [0, 1], [0, -1]]]] }, name: 'ladder-ish' }, chips: 11, sources: [], background: { kind: 'constant', height: 1 } },
+    ];
+    for (const s of specs) {
+      const spec = runSpecSchema.parse(s);
+      expect(runSpecSchema.parse(specOfForm(formOfSpec(spec, 'copy')))).toEqual(spec);
+    }
+  });
+
+  test("the engine's periodic presets are sent as their unit cell with their name", () => {
+    const f = { ...emptyForm(), preset: 'f-lattice' };
+    const spec = runSpecSchema.parse(specOfForm(f));
+    expect(spec.lattice).toMatchObject({ name: 'f-lattice', periodic: { period: [2, 2] } });
+    expect(formOfSpec(spec, 'x').preset).toBe('f-lattice');
+  });
+});
+
+describe('unit cell editor', () => {
+  test('Z² as one class with its four neighbours is symmetric, degree 4 (common practice)', () => {
+    expect(checkCell(SQUARE_CELL)).toEqual({ ok: true, symmetric: true, degrees: [4] });
+  });
+
+  test('dropping one direction makes the graph directed', () => {
+    const g = toggleOffset(SQUARE_CELL, 0, 0, -1, 0);
+    expect(checkCell(g)).toMatchObject({ ok: true, symmetric: false, degrees: [3] });
+    expect(toggleOffset(g, 0, 0, -1, 0).neighbours[0]![0]).toHaveLength(4);
+  });
+
+  test('the brick wall (honeycomb as a subgraph of Z², up from even x+y, down from odd) is symmetric, degree 3 (common practice)', () => {
+    let g = resizeCell(SQUARE_CELL, 2, 2);
+    for (const [x, y] of [[0, 0], [1, 1]]) g = toggleOffset(g, x!, y!, 0, -1);
+    for (const [x, y] of [[1, 0], [0, 1]]) g = toggleOffset(g, x!, y!, 0, 1);
+    expect(checkCell(g)).toEqual({ ok: true, symmetric: true, degrees: [3, 3, 3, 3] });
+  });
+
+  test('a class with no outgoing edge is refused with the engine’s message', () => {
+    let g = SQUARE_CELL;
+    for (const [dx, dy] of [[1, 0], [-1, 0], [0, 1], [0, -1]]) g = toggleOffset(g, 0, 0, dx!, dy!);
+    const c = checkCell(g);
+    expect(c.ok).toBe(false);
+    if (!c.ok) expect(c.message).toMatch(/no outgoing edges/);
+  });
+});

@@ -1,0 +1,64 @@
+import { useState } from 'react';
+import { DEFAULT_PALETTE_ID } from '../../../shared/palettes.js';
+import { DRAWN_LAYERS, DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type PaneSpec } from './PileViewer.js';
+import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
+
+/**
+ * The reader's deep zoom on a published figure's page: the same viewer as the lab's, served by the
+ * figure's slug so no account is needed. Loaded lazily with OpenSeadragon.
+ */
+export function FigureZoom({ slug, title }: { slug: string; title: string }) {
+  const base: ArtifactBase = { kind: 'figure', slug };
+  const [layer, setLayer] = useState<DrawnLayer>('heights');
+  const [palette, setPalette] = useState<string>(DEFAULT_PALETTE_ID);
+  const [beside, setBeside] = useState<DrawnLayer | ''>('');
+  const panes: PaneSpec[] = [{ base, layer, palette, label: title }];
+  if (beside) panes.push({ base, layer: beside, palette, label: title });
+  return (
+    <PileViewer
+      panes={panes}
+      lock="cells"
+      height="h-[72vh]"
+      toolbar={
+        <>
+          <DarkSelect label="Layer" value={layer} onChange={(e) => setLayer(e.target.value as DrawnLayer)}>
+            {DRAWN_LAYERS.map((l) => (
+              <option key={l} value={l}>
+                {LAYER_LABELS[l]}
+              </option>
+            ))}
+          </DarkSelect>
+          <DarkSelect label="Palette" value={palette} onChange={(e) => setPalette(e.target.value)}>
+            {PALETTE_OPTIONS.map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name}
+              </option>
+            ))}
+          </DarkSelect>
+          <DarkSelect label="Beside it" value={beside} onChange={(e) => setBeside(e.target.value as DrawnLayer | '')}>
+            <option value="">nothing</option>
+            {DRAWN_LAYERS.filter((l) => l !== layer).map((l) => (
+              <option key={l} value={l}>
+                {LAYER_LABELS[l].toLowerCase()}
+              </option>
+            ))}
+          </DarkSelect>
+          <span className="ml-3 text-white/60">
+            Download{' '}
+            <a className="text-sky-300" href={arrayUrl(base, 'heights.npy')} download>
+              heights.npy
+            </a>{' '}
+            ·{' '}
+            <a className="text-sky-300" href={arrayUrl(base, 'odometer.npy')} download>
+              odometer.npy
+            </a>{' '}
+            ·{' '}
+            <a className="text-sky-300" href={arrayUrl(base, 'run.json')} download>
+              run.json
+            </a>
+          </span>
+        </>
+      }
+    />
+  );
+}

@@ -1,0 +1,265 @@
+import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
+import { DEFAULT_PALETTE_ID, PALETTES, legendFor, paletteById } from '../../../shared/palettes.js';
+import { DRAWN_LAYERS, LAYER_LABELS, type DrawnLayer } from '../labels.js';
+import { useLayerStats, useRunJson, useViewDrawn } from '../api/queries.js';
+import { groupThousands } from '../format.js';
+import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type RunGeometry } from './cells.js';
+import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
+import { LegendCard } from './LegendCard.js';
+import { arrayUrl, infoJsonUrl, type ArtifactBase, type RunJson } from './runArtifacts.js';
+import { useCellReadout } from './useCellReadout.js';
+
+
+/** Screen pixels per cell of the origin close-up: large enough to see and check single cells. */
+export const CLOSE_UP_PX_PER_CELL = 40;
+
+export interface PaneSpec {
+  base: ArtifactBase;
+  layer: DrawnLayer;
+  palette: string;
+  /** shown in the pane's corner */
+  label: string;
+}
+
+export type Lock = 'cells' | 'rescaled';
+
+interface PaneState {
+  handle: DeepZoomHandle;
+  geometry: RunGeometry;
+}
+
+function geometryOf(run: RunJson): RunGeometry {
+  return { shape: run.heights.shape, origin: run.heights.origin, grains: Number(run.stats.grainsIn) };
+}
+
+/**
+ * One or two deep-zoom panes on a dark ground. With two panes, zoom and pan are locked together in
+ * lattice units (the same cell under the same screen point) or rescaled by √n (the same x/√n), so a
+ * run can be compared with another layer of itself or with another run.
+ */
+export function PileViewer({ panes, lock, toolbar, height = 'h-[calc(100vh-3.5rem)]' }: { panes: PaneSpec[]; lock: Lock; toolbar?: ReactNode; height?: string }) {
+  const states = useRef<(PaneState | null)[]>([]);
+  const leader = useRef(0);
+  const syncing = useRef(false);
+
+  const follow = useCallback(
+    (from: number) => {
+      const a = states.current[from];
+      if (!a || syncing.current || from !== leader.current) return;
+      const v = a.handle.view();
+      const lv = toLatticeView(v.centre, v.visibleWidth, pixelsPerCell(a.handle.imageWidth, a.geometry), a.geometry, lock === 'rescaled');
+      syncing.current = true;
+      try {
+        states.current.forEach((b, i) => {
+          if (!b || i === from) return;
+          const t = fromLatticeView(lv, pixelsPerCell(b.handle.imageWidth, b.geometry), b.geometry, lock === 'rescaled');
+          b.handle.show(t.centrePx, t.imageWidthVisible);
+        });
+      } finally {
+        syncing.current = false;
+      }
+    },
+    [lock],
+  );
+
+  const closeUp = () => {
+    for (const s of states.current) {
+      if (!s) continue;
+      const k = pixelsPerCell(s.handle.imageWidth, s.geometry);
+      const { px, py } = pixelOfLattice(0, 0, k, s.geometry);
+      const across = s.handle.viewer.container.clientWidth / CLOSE_UP_PX_PER_CELL;
+      s.handle.show({ x: px, y: py }, across * k);
+    }
+  };
+  const home = () => {
+    states.current[leader.current]?.handle.viewer.viewport.goHome(true);
+    follow(leader.current);
+  };
+  const zoomBy = (f: number) => {
+    const s = states.current[leader.current];
+    if (!s) return;
+    const v = s.handle.view();
+    s.handle.show(v.centre, v.visibleWidth / f);
+    follow(leader.current);
+  };
+
+  const savePng = async () => {
+    const s = states.current[leader.current];
+    if (!s) return;
+    const url = URL.createObjectURL(await s.handle.snapshot());
+    const a = document.createElement('a');
+    a.href = url;
+    a.download = `${panes[leader.current]?.label ?? 'view'}-${panes[leader.current]?.layer ?? ''}.png`.replace(/[^\w.-]+/g, '-');
+    a.click();
+    setTimeout(() => URL.revokeObjectURL(url), 10_000);
+  };
+
+  return (
+    <div className="flex flex-col bg-night text-white">
+      <div className="flex flex-wrap items-center gap-2 border-b border-white/10 px-4 py-2 text-xs">
+        {toolbar}
+        <span className="ml-auto" />
+        <DarkButton onClick={home}>Whole pile</DarkButton>
+        <DarkButton onClick={closeUp}>Origin, single cells</DarkButton>
+        <DarkButton onClick={() => zoomBy(2)} aria-label="zoom in">
+          +
+        </DarkButton>
+        <DarkButton onClick={() => zoomBy(0.5)} aria-label="zoom out">
+          −
+        </DarkButton>
+        <DarkButton onClick={() => void savePng()}>PNG of this view</DarkButton>
+      </div>
+      <div className={`grid ${panes.length > 1 ? 'grid-cols-2' : 'grid-cols-1'} gap-px bg-white/10 ${height}`}>
+        {panes.map((p, i) => (
+          <Pane
+            key={`${i}:${JSON.stringify(p.base)}:${p.layer}:${p.palette}`}
+            spec={p}
+            onState={(s) => {
+              states.current[i] = s;
+              if (s && i !== leader.current) {
+                // a pane that opens late takes the leader's view
+                follow(leader.current);
+              }
+            }}
+            onLead={() => (leader.current = i)}
+            onView={() => follow(i)}
+          />
+        ))}
+      </div>
+    </div>
+  );
+}
+
+function Pane({ spec, onState, onLead, onView }: { spec: PaneSpec; onState: (s: PaneState | null) => void; onLead: () => void; onView: () => void }) {
+  const run = useRunJson(spec.base);
+  const stats = useLayerStats(spec.base, run.data);
+  const drawn = useViewDrawn(spec.base, spec.layer, spec.palette);
+  const [hover, setHover] = useState<CellAt | null>(null);
+  const [handle, setHandle] = useState<DeepZoomHandle | null>(null);
+  // bumped on every view change, so the outline of the hovered cell follows pan and zoom
+  const [, setViewTick] = useState(0);
+  // a pane that goes away (another layer or run chosen) must not be followed any more
+  const release = useRef(onState);
+  release.current = onState;
+  useEffect(() => () => release.current(null), []);
+  const geometry = useMemo(() => (run.data ? geometryOf(run.data) : null), [run.data]);
+  const readout = useCellReadout(spec.base, hover);
+  const legend = useMemo(() => {
+    if (!stats.data) return null;
+    try {
+      return legendFor(paletteById(spec.palette), spec.layer, stats.data, 'neutral');
+    } catch {
+      return null;
+    }
+  }, [stats.data, spec.layer, spec.palette]);
+
+  let body: ReactNode;
+  if (run.isError) body = <Centred>{(run.error as Error).message}</Centred>;
+  else if (drawn.data === false)
+    body = (
+      <Centred>
+        The {LAYER_LABELS[spec.layer].toLowerCase()} view in {paletteById(spec.palette).name} has not been drawn for this run
+        {spec.palette === DEFAULT_PALETTE_ID ? ' yet.' : `; the farm draws ${paletteById(DEFAULT_PALETTE_ID).name}.`}
+      </Centred>
+    );
+  else if (!geometry || drawn.isPending) body = <Centred>Opening…</Centred>;
+  else
+    body = (
+      <DeepZoom
+        className="absolute inset-0"
+        infoUrl={infoJsonUrl(spec.base, spec.layer, spec.palette)}
+        label={`${spec.label}: ${LAYER_LABELS[spec.layer]}`}
+        onReady={(h) => {
+          setHandle(h);
+          onState({ handle: h, geometry });
+        }}
+        onView={() => {
+          setViewTick((t) => t + 1);
+          onView();
+        }}
+        onHover={(p, handle) => setHover(p ? cellAt(p.x, p.y, pixelsPerCell(handle.imageWidth, geometry), geometry) : null)}
+      />
+    );
+
+  return (
+    <div className="relative overflow-hidden bg-night" onPointerEnter={onLead} onPointerDown={onLead} onWheel={onLead} data-testid="viewer-pane">
+      {body}
+      <p className="pointer-events-none absolute left-3 top-2 rounded bg-black/50 px-2 py-0.5 text-[11px] text-white/80">
+        {spec.label} · {LAYER_LABELS[spec.layer]} · {paletteById(spec.palette).name}
+      </p>
+      <div className="pointer-events-none absolute bottom-3 left-3">
+        {legend ? <LegendCard legend={legend} /> : stats.data === null ? <p className="rounded bg-black/55 px-2 py-1 text-[11px] text-white/70">legend: the arrays are too large to read the colour scale in the browser</p> : null}
+      </div>
+      {hover && handle && geometry ? <CellOutline cell={hover} handle={handle} geometry={geometry} /> : null}
+      <Readout cell={hover} values={readout.values} error={readout.error} />
+    </div>
+  );
+}
+
+/** A thin frame around the cell under the cursor, once cells are large enough on screen to frame. */
+function CellOutline({ cell, handle, geometry }: { cell: CellAt; handle: DeepZoomHandle; geometry: RunGeometry }) {
+  const k = pixelsPerCell(handle.imageWidth, geometry);
+  const a = handle.elementPoint(cell.column * k, cell.row * k);
+  const b = handle.elementPoint((cell.column + 1) * k, (cell.row + 1) * k);
+  if (b.x - a.x < 8) return null;
+  return <div aria-hidden="true" className="pointer-events-none absolute outline outline-1 outline-white/80 ring-1 ring-black/60" style={{ left: a.x, top: a.y, width: b.x - a.x, height: b.y - a.y }} />;
+}
+
+const fmt = (v: number) => (v < 0 ? `−${Math.abs(v)}` : String(v));
+const fmt4 = (v: number) => (v < 0 ? `−${Math.abs(v).toFixed(4)}` : v.toFixed(4));
+
+/** Coordinates and values of the cell under the cursor; monospace so columns of digits stay put. */
+function Readout({ cell, values, error }: { cell: CellAt | null; values: ReturnType<typeof useCellReadout>['values']; error: string | null }) {
+  if (!cell) return null;
+  const v = values && values.cell.index === cell.index ? values : null;
+  const names = ['x', 'y', 'z'].slice(0, cell.lattice.length);
+  return (
+    <dl
+      aria-label="cell readout"
+      data-testid="cell-readout"
+      className="pointer-events-none absolute bottom-3 right-3 grid grid-cols-[auto_auto] gap-x-3 gap-y-0.5 rounded-md bg-black/60 px-3 py-2 text-[11px] text-white/90 backdrop-blur"
+    >
+      <dt className="text-white/60">({names.join(', ')})</dt>
+      <dd className="font-mono" data-testid="readout-lattice">
+        ({cell.lattice.map(fmt).join(', ')})
+      </dd>
+      <dt className="text-white/60">({names.map((n) => `${n}/√n`).join(', ')})</dt>
+      <dd className="font-mono">{cell.rescaled.length ? `(${cell.rescaled.map(fmt4).join(', ')})` : '—'}</dd>
+      <dt className="text-white/60">height</dt>
+      <dd className="font-mono" data-testid="readout-height">
+        {v ? `${String(v.height)} grains` : error ? '?' : '…'}
+      </dd>
+      <dt className="text-white/60">odometer</dt>
+      <dd className="font-mono" data-testid="readout-odometer">
+        {v && v.odometer !== null ? `${groupThousands(typeof v.odometer === 'bigint' ? v.odometer : Math.round(v.odometer))} topplings` : error ? '?' : '…'}
+      </dd>
+      {error ? <dd className="col-span-2 text-amber-200">{error}</dd> : null}
+    </dl>
+  );
+}
+
+function Centred({ children }: { children: ReactNode }) {
+  return <p className="absolute inset-x-8 top-1/3 text-center text-sm text-white/70">{children}</p>;
+}
+
+export function DarkButton({ children, className = '', ...rest }: React.ButtonHTMLAttributes<HTMLButtonElement>) {
+  return (
+    <button type="button" className={`rounded border border-white/20 bg-white/5 px-2.5 py-1 text-xs text-white hover:bg-white/15 ${className}`} {...rest}>
+      {children}
+    </button>
+  );
+}
+
+export function DarkSelect({ label, children, ...rest }: React.SelectHTMLAttributes<HTMLSelectElement> & { label: string }) {
+  return (
+    <label className="flex items-center gap-1.5 text-white/70">
+      {label}
+      <select className="max-w-56 rounded border border-white/20 bg-night px-2 py-1 text-xs text-white" {...rest}>
+        {children}
+      </select>
+    </label>
+  );
+}
+
+export const PALETTE_OPTIONS = PALETTES.map((p) => ({ id: p.id, name: p.name }));
+export { DRAWN_LAYERS, LAYER_LABELS, arrayUrl, type DrawnLayer };

@@ -1,0 +1,140 @@
+import { Link, useParams, useSearchParams } from 'react-router';
+import { DEFAULT_PALETTE_ID, PALETTE_IDS } from '../../../shared/palettes.js';
+import { useRun, useRunJson, useRuns } from '../api/queries.js';
+import { formatCountText } from '../format.js';
+import { runBibtex } from '../pages/citation.js';
+import { DRAWN_LAYERS, DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
+import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
+
+const isLayer = (s: string | null): s is DrawnLayer => (DRAWN_LAYERS as readonly string[]).includes(s ?? '');
+
+/**
+ * /runs/:id/view — the lab's deep-zoom reader of one run, full-bleed on the dark ground. The address
+ * holds the whole view state (layer, palette, the compared layer or run, the lock), so a view can be
+ * shared inside the lab by copying the link.
+ */
+export function ViewerPage() {
+  const { id = '' } = useParams();
+  const [params, setParams] = useSearchParams();
+  const run = useRun(id);
+  const base: ArtifactBase = { kind: 'run', id };
+  const runJson = useRunJson(base);
+  const layer: DrawnLayer = isLayer(params.get('layer')) ? (params.get('layer') as DrawnLayer) : 'heights';
+  const palette = (PALETTE_IDS as readonly string[]).includes(params.get('palette') ?? '') ? params.get('palette')! : DEFAULT_PALETTE_ID;
+  const compare = params.get('with') ?? '';
+  const otherRunId = compare.startsWith('run:') ? compare.slice(4) : null;
+  const otherLayer = compare.startsWith('layer:') && isLayer(compare.slice(6)) ? (compare.slice(6) as DrawnLayer) : null;
+  const lock: Lock = params.get('lock') === 'rescaled' || (params.get('lock') === null && otherRunId) ? 'rescaled' : 'cells';
+  const otherRun = useRun(otherRunId ?? '', false);
+  const finished = useRuns({ status: 'finished', pageSize: 100 });
+
+  const set = (patch: Record<string, string | null>) => {
+    const next = new URLSearchParams(params);
+    for (const [k, v] of Object.entries(patch)) {
+      if (v === null || v === '') next.delete(k);
+      else next.set(k, v);
+    }
+    setParams(next, { replace: true });
+  };
+
+  const title = run.data?.run.title ?? 'Run';
+  const panes: PaneSpec[] = [{ base, layer, palette, label: title }];
+  if (otherLayer) panes.push({ base, layer: otherLayer, palette, label: title });
+  if (otherRunId) panes.push({ base: { kind: 'run', id: otherRunId }, layer, palette, label: otherRun.data?.run.title ?? 'other run' });
+
+  const toolbar = (
+    <>
+      <Link to={`/runs/${id}`} className="mr-2 max-w-64 truncate text-white/70 no-underline hover:text-white" title={title}>
+        ← {title}
+      </Link>
+      <DarkSelect label="Layer" value={layer} onChange={(e) => set({ layer: e.target.value })}>
+        {DRAWN_LAYERS.map((l) => (
+          <option key={l} value={l}>
+            {LAYER_LABELS[l]}
+          </option>
+        ))}
+      </DarkSelect>
+      <DarkSelect label="Palette" value={palette} onChange={(e) => set({ palette: e.target.value })}>
+        {PALETTE_OPTIONS.map((p) => (
+          <option key={p.id} value={p.id}>
+            {p.name}
+          </option>
+        ))}
+      </DarkSelect>
+      <DarkSelect label="Beside it" value={compare} onChange={(e) => set({ with: e.target.value, lock: null })}>
+        <option value="">nothing</option>
+        {DRAWN_LAYERS.filter((l) => l !== layer).map((l) => (
+          <option key={l} value={`layer:${l}`}>
+            {LAYER_LABELS[l].toLowerCase()} of this run
+          </option>
+        ))}
+        {(finished.data?.runs ?? [])
+          .filter((r) => r.id !== id)
+          .map((r) => (
+            <option key={r.id} value={`run:${r.id}`}>
+              run: {r.title}
+            </option>
+          ))}
+      </DarkSelect>
+      {panes.length > 1 ? (
+        <DarkSelect label="Lock" value={lock} onChange={(e) => set({ lock: e.target.value })}>
+          <option value="cells">same lattice cells</option>
+          <option value="rescaled">same x/√n</option>
+        </DarkSelect>
+      ) : null}
+    </>
+  );
+
+  const r = run.data?.run;
+  const meta = runJson.data;
+  return (
+    <div className="min-h-screen bg-night text-white">
+      <title>{`${title} · deep zoom · Toppleworks`}</title>
+      <PileViewer panes={panes} lock={lock} toolbar={toolbar} />
+      <section className="mx-auto grid max-w-6xl grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)] gap-10 px-8 py-10 text-sm">
+        <div>
+          <h2 className="mb-3 text-base font-semibold">Downloads</h2>
+          <ul className="space-y-1.5">
+            <li>
+              <a className="text-sky-300" href={arrayUrl(base, 'heights.npy')} download>
+                heights.npy
+              </a>{' '}
+              <span className="text-white/60">final heights{meta ? `, ${meta.heights.dtype}, ${meta.heights.shape.join(' × ')} cells` : ''}</span>
+            </li>
+            <li>
+              <a className="text-sky-300" href={arrayUrl(base, 'odometer.npy')} download>
+                odometer.npy
+              </a>{' '}
+              <span className="text-white/60">topplings per site{meta?.odometer ? `, ${meta.odometer.dtype}` : ''}</span>
+            </li>
+            <li>
+              <a className="text-sky-300" href={arrayUrl(base, 'run.json')} download>
+                run.json
+              </a>{' '}
+              <span className="text-white/60">specification, engine version, statistics, hashes</span>
+            </li>
+          </ul>
+          {r ? <p className="mt-4 text-white/60">n = {formatCountText(r.spec.chips)} grains · lattice coordinates are relative to the origin, y growing downward as in the array.</p> : null}
+        </div>
+        <div>
+          <h2 className="mb-3 text-base font-semibold">Cite this run</h2>
+          {r && meta ? (
+            <pre className="overflow-x-auto rounded-md border border-white/15 bg-black/30 px-4 py-3 font-mono text-xs leading-relaxed text-white/90" data-testid="run-bibtex">
+              {runBibtex({
+                runId: r.id,
+                title: r.title,
+                authors: [r.author.name],
+                finishedAt: r.finishedAt,
+                engineVersion: meta.engineVersion,
+                heightsSha256: meta.heights.sha256,
+                permalink: `${window.location.origin}/runs/${r.id}/view`,
+              })}
+            </pre>
+          ) : (
+            <p className="text-white/60">{runJson.isError ? (runJson.error as Error).message : 'Reading run.json…'}</p>
+          )}
+        </div>
+      </section>
+    </div>
+  );
+}
