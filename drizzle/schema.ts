@@ -16,6 +16,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import type { RunSpec } from '../shared/run-spec.js';
 import type { RunStatsJson } from '../shared/run-stats.js';
+import type { FigureSpec } from '../shared/print.js';
 
 /**
  * The database schema. Migrations are generated from this file with `npx drizzle-kit generate`
@@ -34,6 +35,11 @@ export const labs = pgTable('labs', {
   id: id(),
   name: text('name').notNull(),
   createdAt: createdAt(),
+  /** set by a site admin: members cannot submit and queued jobs stop; nothing is deleted (api/src/services/admin-suspension.ts) */
+  suspendedAt: at('suspended_at'),
+  suspendedReason: text('suspended_reason'),
+  /** credits of free allowance per month set by a site admin; null = FREE_MONTHLY_ALLOWANCE */
+  freeAllowance: integer('free_allowance'),
 }, (t) => [uniqueIndex('labs_name_lower_idx').on(sql`lower(${t.name})`)]);
 
 export const users = pgTable('users', {
@@ -168,7 +174,38 @@ export const figures = pgTable('figures', {
   publishedAt: at('published_at'),
   /** a withdrawn figure keeps its slug (permanent links never point at something else) but is no longer shown */
   withdrawnAt: at('withdrawn_at'),
+  /** the composition the next print order uses (shared/print.ts FigureSpec); null: one panel of runId */
+  spec: jsonb('spec').$type<FigureSpec>(),
+  updatedAt: at('updated_at').notNull().defaultNow(),
 }, (t) => [index('figures_published_idx').on(t.publishedAt)]);
+
+export const figureVersionStatus = pgEnum('figure_version_status', ['queued', 'printing', 'ready', 'failed']);
+
+/** One printed file of a figure version, as stored (api/src/services/figures.ts turns it into a download). */
+export type FigureFileRecord = { format: 'png' | 'tiff' | 'pdf'; key: string; name: string; bytes: number; sha256: string; widthPx: number; heightPx: number };
+
+/**
+ * Print orders of a figure: each order is a new numbered version with the spec it printed, so a
+ * re-rendered figure keeps its history and the permanent link shows the newest ready one.
+ */
+export const figureVersions = pgTable('figure_versions', {
+  id: id(),
+  figureId: uuid('figure_id').notNull().references(() => figures.id, { onDelete: 'cascade' }),
+  number: integer('number').notNull(),
+  /** the validated FigureSpec (shared/print.ts), defaults filled in */
+  spec: jsonb('spec').$type<FigureSpec>().notNull(),
+  formats: jsonb('formats').$type<('png' | 'tiff' | 'pdf')[]>().notNull(),
+  status: figureVersionStatus('status').notNull().default('queued'),
+  stage: text('stage'),
+  files: jsonb('files').$type<FigureFileRecord[]>().notNull().default([]),
+  error: text('error'),
+  orderedById: uuid('ordered_by_id').references(() => users.id, { onDelete: 'set null' }),
+  createdAt: createdAt(),
+  startedAt: at('started_at'),
+  finishedAt: at('finished_at'),
+  /** set when the "print ready" mail went out, so a retried job never mails twice */
+  mailedAt: at('mailed_at'),
+}, (t) => [uniqueIndex('figure_versions_number_idx').on(t.figureId, t.number)]);
 
 /**
  * Compute credits as a double-entry journal (api/src/billing/README.md). An entry is one event

@@ -15,6 +15,8 @@ export const QUEUE_NAMES = {
   compute: 'tw-compute',
   /** tiles, previews and print files from finished arrays */
   render: 'tw-render',
+  /** print files of figure versions (renderer/src/farm/print-run.ts): memory-bound, one at a time */
+  print: 'tw-print',
 } as const;
 export type QueueName = (typeof QUEUE_NAMES)[keyof typeof QUEUE_NAMES];
 
@@ -23,16 +25,21 @@ export const JOB_NAMES = {
   computeRun: 'run.compute',
   /** render the deep-zoom pyramid and previews of a computed run */
   renderRun: 'run.render',
+  /** print one figure version (PNG, TIFF, PDF) and store its files */
+  printFigure: 'figure.print',
 } as const;
 export type JobName = (typeof JOB_NAMES)[keyof typeof JOB_NAMES];
 
 /** The spec travels with the job so the worker needs no database read to start (it is also the cache key). */
 export const computeRunDataSchema = z.strictObject({ runId: z.uuid(), spec: runSpecSchema });
 export const renderRunDataSchema = z.strictObject({ runId: z.uuid() });
+/** The version row holds the spec and formats; the worker reads it so a retried job prints the same order. */
+export const printFigureDataSchema = z.strictObject({ versionId: z.uuid() });
 
 export type JobItem =
   | { name: typeof JOB_NAMES.computeRun; data: z.infer<typeof computeRunDataSchema> }
-  | { name: typeof JOB_NAMES.renderRun; data: z.infer<typeof renderRunDataSchema> };
+  | { name: typeof JOB_NAMES.renderRun; data: z.infer<typeof renderRunDataSchema> }
+  | { name: typeof JOB_NAMES.printFigure; data: z.infer<typeof printFigureDataSchema> };
 
 export type JobOf<N extends JobName> = Extract<JobItem, { name: N }>['data'];
 
@@ -40,14 +47,16 @@ export type JobOf<N extends JobName> = Extract<JobItem, { name: N }>['data'];
 export const JOB_DATA_SCHEMAS: { [N in JobName]: z.ZodType<JobOf<N>> } = {
   [JOB_NAMES.computeRun]: computeRunDataSchema,
   [JOB_NAMES.renderRun]: renderRunDataSchema,
+  [JOB_NAMES.printFigure]: printFigureDataSchema,
 };
 
 export const JOBS_TO_QUEUE: Record<JobName, QueueName> = {
   [JOB_NAMES.computeRun]: QUEUE_NAMES.compute,
   [JOB_NAMES.renderRun]: QUEUE_NAMES.render,
+  [JOB_NAMES.printFigure]: QUEUE_NAMES.print,
 };
 
-/** One job per run and kind: the job id makes a repeated enqueue a no-op (BullMQ refuses ":" in custom ids). */
+/** One job per run (or figure version) and kind: the job id makes a repeated enqueue a no-op (BullMQ refuses ":" in custom ids). */
 export function jobIdFor(item: JobItem): string {
-  return `${item.name}--${item.data.runId}`;
+  return `${item.name}--${'runId' in item.data ? item.data.runId : item.data.versionId}`;
 }

@@ -8,6 +8,32 @@ import { z } from 'zod';
 const decimal = z.string().regex(/^-?\d+$/, 'expected an integer as a decimal string');
 const axisRange = z.tuple([z.number().int(), z.number().int()]);
 
+/**
+ * Computed from the final state of every run and stored with it: a run is published only when
+ * `passed`. Minimality is the burning-type peeling test (least action principle, arXiv:0901.3805);
+ * it applies on lattices whose classes have as many in- as out-edges (every preset), and is null
+ * elsewhere (there the odometer comes from legal topplings only, which never exceed the true one).
+ */
+export const certificateSchema = z.strictObject({
+  /** every final height is below its site's threshold */
+  stable: z.boolean(),
+  /** every final height is at least 0 */
+  nonNegative: z.boolean(),
+  /** final grains minus background grains equal the grains added */
+  massConserved: z.boolean(),
+  /** the peeled set is empty: no set of toppled sites could topple once less and stay stable */
+  minimal: z.boolean().nullable(),
+  /** sites left in the peeled set (0 when minimal) */
+  peeledSites: z.number().int().min(0),
+  /** rounds of "topple S* once less" the fast path needed before this certificate passed */
+  repairRounds: z.number().int().min(0),
+  /** how the odometer was computed: plain legal toppling, or coarse-to-fine seeding */
+  method: z.enum(['legal', 'seeded']),
+  passed: z.boolean(),
+  seconds: z.number().min(0),
+});
+export type Certificate = z.infer<typeof certificateSchema>;
+
 export const runStatsSchema = z.strictObject({
   lattice: z.string(),
   /** grains at the origin (the spec's n) */
@@ -35,6 +61,8 @@ export const runStatsSchema = z.strictObject({
   /** whether the lattice graph is undirected (every edge listed both ways) */
   symmetric: z.boolean(),
   seconds: z.number().min(0),
+  /** optional so statistics stored before certificates existed still parse */
+  certificate: certificateSchema.optional(),
 });
 export type RunStatsJson = z.infer<typeof runStatsSchema>;
 

@@ -12,6 +12,7 @@ import { HttpError } from './http/http-error.js';
 import './http/locals.js';
 import { requestId } from './http/request-id.js';
 import { adminRouter } from './routes/admin.js';
+import { adminConsoleRouter } from './routes/admin-console.js';
 import { authRouter } from './routes/auth.js';
 import { devRouter } from './routes/dev.js';
 import { figuresRouter } from './routes/figures.js';
@@ -42,7 +43,7 @@ const requireJsonBody: RequestHandler = (req, _res, next) => {
 /** Every router under /api, in mount order; the route × role test walks these to prove it covers each route. */
 export const API_ROUTERS = {
   healthRouter, authRouter, meRouter, labsRouter, invitationsRouter, runsRouter, artifactsRouter, seriesRouter, uploadsRouter, estimatesRouter,
-  figuresRouter, adminRouter, openapiRouter, devRouter, creditsRouter, paymentsRouter,
+  figuresRouter, adminRouter, adminConsoleRouter, openapiRouter, devRouter, creditsRouter, paymentsRouter,
 } as const;
 
 export type AppOptions = { distDir?: string };

@@ -113,6 +113,7 @@ export const creditCheckSchema = z.object({
 });
 export type CreditCheck = z.infer<typeof creditCheckSchema>;
 export const creditCheckResponseSchema = z.object({ check: creditCheckSchema });
+export type CreditCheckResponse = z.infer<typeof creditCheckResponseSchema>;
 
 export const LEDGER_ENTRY_KINDS = ['purchase', 'allowance', 'reservation', 'settlement', 'release', 'grant', 'revocation'] as const;
 export const ledgerEntrySchema = z.object({

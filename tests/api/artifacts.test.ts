@@ -112,6 +112,13 @@ describe('views of an unpublished run', () => {
     const [rows, cols] = [Number(m![1]), Number(m![2])];
     const heights = bytes.subarray(10 + headerLength);
     expect(heights.length).toBe(rows * cols);
+    // one cell by an HTTP byte range (RFC 9110 §14): the origin's height, as the viewer's readout reads it
+    const origin = run.stats!.origin as number[];
+    const at = 10 + headerLength + origin[0]! * cols + origin[1]!;
+    const cell = await as(h.http.get(`/api/runs/${run.id}/arrays/heights.npy`), author).set('Range', `bytes=${at}-${at}`).buffer(true).parse(binary);
+    expect(cell.status).toBe(206);
+    expect(cell.headers['content-range']).toBe(`bytes ${at}-${at}/${bytes.length}`);
+    expect([...(cell.body as Buffer)]).toEqual([bytes[at]]);
     // a whole number of pixels per cell at the deepest level
     const ppc = info.width / cols;
     expect(Number.isInteger(ppc)).toBe(true);

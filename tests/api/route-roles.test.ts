@@ -3,8 +3,10 @@ import type supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import sharp from 'sharp';
-import { apiTokens, figures, invitations, memberships, runs, series } from '../../drizzle/schema.js';
+import { labs, apiTokens, creditPurchases, figures, invitations, memberships, runs, series, figureVersions } from '../../drizzle/schema.js';
 import { writeNpy } from '../../renderer/src/npy/index.js';
+import { figureSpecSchema } from '../../shared/print.js';
+import { finishedRun } from './figures-fixtures.js';
 import { API_ROUTERS } from '../../api/src/app.js';
 import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
 import { randomToken, sha256Hex } from '../../api/src/auth/secrets.js';
@@ -33,6 +35,8 @@ let labA: string;
 let runA: string;
 /** a finished, unpublished run of lab A with one stored tile and its arrays */
 let runDone: string;
+/** a finished run of lab A with statistics, which figures can be composed from */
+let runPrintable: string;
 let seriesA: string;
 let uploadA: string;
 const TILE_PATH = '0,0,256,256/256,/0/default.png';
@@ -61,6 +65,41 @@ async function tokenFor(userId: string): Promise<string> {
   const secret = `tw_${randomToken()}`;
   await h.deps.db.insert(apiTokens).values({ userId, label: 'fixture', tokenHash: sha256Hex(secret), prefix: secret.slice(0, 9) });
   return secret;
+}
+
+/** A lab managed by the table's manager for the admin rows that change a lab (suspension, notices), fresh per call. */
+async function spareLab(opts: { suspended?: boolean; expiringRun?: boolean } = {}): Promise<string> {
+  const id = await createLab(h, `Spare Lab ${fresh()}`, [{ userId: people.manager.id, role: 'manager' }]);
+  if (opts.suspended) await h.deps.db.update(labs).set({ suspendedAt: new Date(), suspendedReason: 'fixture' }).where(eq(labs.id, id));
+  if (opts.expiringRun) {
+    const [r] = await h.deps.db
+      .insert(runs)
+      .values({ labId: id, authorId: people.manager.id, title: `old ${fresh()}`, spec: { lattice: { preset: 'square' }, chips: 10, sources: [], background: { kind: 'constant', height: 0 } }, status: 'finished', finishedAt: new Date(Date.now() - 179 * 86400_000) })
+      .returning();
+    await h.deps.blobs.put(`runs/${r!.id}/arrays/run.json`, '{}', 'application/json');
+  }
+  return id;
+}
+
+/** A figure of lab A with a ready first version (published or not), fresh per call; returns its slug. */
+async function figureWithPrint(published: boolean): Promise<string> {
+  const slug = `printed-${fresh()}`;
+  const [f] = await h.deps.db.insert(figures).values({ slug, title: 'Printed', runId: runPrintable, createdById: people.author.id, publishedAt: published ? new Date() : null }).returning();
+  await readyVersion(f!.id);
+  return slug;
+}
+
+async function readyVersion(figureId: string): Promise<void> {
+  const key = `figures/${figureId}/v1/fixture.png`;
+  await h.deps.blobs.put(key, Buffer.from('png fixture'), 'image/png');
+  await h.deps.db.insert(figureVersions).values({
+    figureId,
+    number: 1,
+    spec: figureSpecSchema.parse({ panels: [{ runId: runPrintable }], size: { kind: 'column', column: 'single' } }),
+    formats: ['png'],
+    status: 'ready',
+    files: [{ format: 'png', key, name: 'fixture.png', bytes: 11, sha256: '0'.repeat(64), widthPx: 1063, heightPx: 800 }],
+  });
 }
 
 const ROWS: Row[] = [
@@ -284,7 +323,135 @@ const ROWS: Row[] = [
     expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 },
     send: (a) => as(h.http.get('/api/admin/users'), a.session),
   },
+  { route: 'GET /api/admin/usage', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get('/api/admin/usage'), a.session) },
+  { route: 'GET /api/admin/usage.csv', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get('/api/admin/usage.csv'), a.session) },
+  {
+    route: 'PUT /api/admin/labs/:labId/allowance',
+    expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 },
+    send: async (a) => as(h.http.put(`/api/admin/labs/${await spareLab()}/allowance`), a.session).send({ freeAllowance: 50, reason: 'table row' }),
+  },
+  {
+    // a lab of its own each time, so lab A keeps taking runs
+    route: 'POST /api/admin/labs/:labId/suspension',
+    expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 },
+    send: async (a) => as(h.http.post(`/api/admin/labs/${await spareLab()}/suspension`), a.session).send({ reason: 'table row' }),
+  },
+  {
+    route: 'POST /api/admin/labs/:labId/reinstatement',
+    expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 },
+    send: async (a) => as(h.http.post(`/api/admin/labs/${await spareLab({ suspended: true })}/reinstatement`), a.session).send({ reason: 'table row' }),
+  },
+  {
+    route: 'POST /api/admin/labs/:labId/retention-notice',
+    expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 },
+    send: async (a) => as(h.http.post(`/api/admin/labs/${await spareLab({ expiringRun: true })}/retention-notice`), a.session),
+  },
+  { route: 'GET /api/admin/farm', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get('/api/admin/farm'), a.session) },
+  {
+    // no failed job has this id: the row checks the guard; tests/api/admin-console.test.ts retries a real one
+    route: 'POST /api/admin/farm/jobs/:queue/:jobId/retry',
+    expect: { reader: 401, author: 403, manager: 403, admin: 404, other: 403 },
+    send: (a) => as(h.http.post('/api/admin/farm/jobs/tw-compute/run.compute--00000000-0000-4000-8000-000000000000/retry'), a.session),
+  },
+  { route: 'GET /api/admin/storage', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get('/api/admin/storage'), a.session) },
+  { route: 'GET /api/admin/audit', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get(`/api/admin/audit?labId=${labA}`), a.session) },
+  { route: 'GET /api/admin/audit.csv', expect: { reader: 401, author: 403, manager: 403, admin: 200, other: 403 }, send: (a) => as(h.http.get(`/api/admin/audit.csv?labId=${labA}`), a.session) },
+  {
+    route: 'GET /api/labs/:labId/figures',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/labs/${labA}/figures`), a.session),
+  },
+  {
+    route: 'POST /api/figures',
+    expect: { reader: 401, author: 201, manager: 201, admin: 403, other: 404 },
+    send: (a) => as(h.http.post('/api/figures'), a.session).send({ labId: labA, title: `Table figure ${fresh()}`, spec: { panels: [{ runId: runPrintable }], size: { kind: 'column', column: 'single' } } }),
+  },
+  {
+    route: 'PUT /api/figures/:slug',
+    expect: { reader: 401, author: 200, manager: 200, admin: 403, other: 404 },
+    send: (a) => as(h.http.put(`/api/figures/draft-${h.tag}`), a.session).send({ caption: `edited ${fresh()}` }),
+  },
+  {
+    route: 'POST /api/figures/:slug/versions',
+    expect: { reader: 401, author: 202, manager: 202, admin: 403, other: 404 },
+    send: (a) => as(h.http.post(`/api/figures/print-${h.tag}/versions`), a.session).send({ formats: ['png'] }),
+  },
+  {
+    // a fresh draft with a ready version each time
+    route: 'POST /api/figures/:slug/publish',
+    expect: { reader: 401, author: 200, manager: 200, admin: 403, other: 404 },
+    send: async (a) => as(h.http.post(`/api/figures/${await figureWithPrint(false)}/publish`), a.session),
+  },
+  {
+    // published figures are public, so outsiders learn they may not change it (403) rather than 404
+    route: 'POST /api/figures/:slug/unpublish',
+    expect: { reader: 401, author: 200, manager: 200, admin: 403, other: 403 },
+    send: async (a) => as(h.http.post(`/api/figures/${await figureWithPrint(true)}/unpublish`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/versions/:number/files/:format',
+    expect: all(302),
+    send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/versions/1/files/png`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/versions/:number/files/:format (draft)',
+    expect: { reader: 404, author: 302, manager: 302, admin: 302, other: 404 },
+    send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/versions/1/files/png`), a.session),
+  },
   { route: 'GET /api/dev/outbox', expect: all(200), send: (a) => as(h.http.get('/api/dev/outbox'), a.session) },
+  {
+    route: 'GET /api/labs/:labId/credits',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/labs/${labA}/credits`), a.session),
+  },
+  {
+    route: 'GET /api/labs/:labId/credits/ledger',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/labs/${labA}/credits/ledger`), a.session),
+  },
+  {
+    route: 'GET /api/labs/:labId/credits/usage',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/labs/${labA}/credits/usage`), a.session),
+  },
+  {
+    route: 'GET /api/labs/:labId/credits/usage.csv',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/labs/${labA}/credits/usage.csv`), a.session),
+  },
+  {
+    route: 'GET /api/labs/:labId/credits/purchases/:id',
+    expect: { reader: 401, author: 200, manager: 200, admin: 200, other: 404 },
+    send: async (a) => {
+      const [p] = await h.deps.db
+        .insert(creditPurchases)
+        .values({ labId: labA, buyerId: people.manager.id, pack: 'sheet', credits: 1000, amount: 2000, currency: 'eur', checkoutSessionId: `cs_test_table_${fresh()}` })
+        .returning();
+      return as(h.http.get(`/api/labs/${labA}/credits/purchases/${p!.id}`), a.session);
+    },
+  },
+  {
+    route: 'POST /api/labs/:labId/credits/check',
+    expect: { reader: 401, author: 200, manager: 200, admin: 403, other: 404 },
+    send: (a) => as(h.http.post(`/api/labs/${labA}/credits/check`), a.session).send({ credits: 3 }),
+  },
+  {
+    // a real Checkout Session on the payments fake
+    route: 'POST /api/labs/:labId/credits/checkout',
+    expect: { reader: 401, author: 403, manager: 201, admin: 403, other: 404 },
+    send: (a) => as(h.http.post(`/api/labs/${labA}/credits/checkout`), a.session).send({ pack: 'sheet' }),
+  },
+  {
+    route: 'POST /api/labs/:labId/credits/adjustments',
+    expect: { reader: 401, author: 403, manager: 403, admin: 201, other: 403 },
+    send: (a) => as(h.http.post(`/api/labs/${labA}/credits/adjustments`), a.session).send({ kind: 'grant', credits: 10, reason: 'route table' }),
+  },
+  {
+    // unsigned: refused whoever sends it; the signature is the only credential this route knows
+    route: 'POST /api/payments/webhook',
+    expect: all(400),
+    send: (a) => as(h.http.post('/api/payments/webhook'), a.session).set('Content-Type', 'application/json').send('{"id":"evt_unsigned","type":"checkout.session.completed"}'),
+  },
 ];
 
 beforeAll(async () => {
@@ -322,6 +489,18 @@ beforeAll(async () => {
     { slug: `published-${h.tag}`, title: 'Published', runId: runA, createdById: people.author.id, publishedAt: new Date() },
     { slug: `draft-${h.tag}`, title: 'Draft', runId: runA, createdById: people.author.id },
   ]);
+  runPrintable = await finishedRun(h, labA, people.author2.id, 'printable');
+  await h.deps.db.insert(figures).values({
+    slug: `print-${h.tag}`,
+    title: 'To print',
+    runId: runPrintable,
+    createdById: people.author.id,
+    spec: figureSpecSchema.parse({ panels: [{ runId: runPrintable }], size: { kind: 'column', column: 'single' } }),
+  });
+  for (const slug of [`published-${h.tag}`, `draft-${h.tag}`]) {
+    const [f] = await h.deps.db.select().from(figures).where(eq(figures.slug, slug));
+    await readyVersion(f!.id);
+  }
 });
 afterAll(async () => {
   await h.close();
@@ -338,7 +517,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(43);
+    expect(mounted.length).toBe(70);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

@@ -1,5 +1,6 @@
 import { randomUUID } from 'node:crypto';
-import type { CreditAdjustmentRequest } from '../../../shared/api/credits.js';
+import { creditPurchases } from '../../../drizzle/schema.js';
+import { CREDIT_PACKS, type CreditAdjustmentRequest } from '../../../shared/api/credits.js';
 import type { Db } from '../db/client.js';
 import { conflict } from '../http/http-error.js';
 import { audit } from '../services/audit.js';
@@ -28,10 +29,22 @@ export async function adjustCredits(db: Db, labId: string, actorId: string, req:
   });
 }
 
-/** A purchase booked without the payment provider: the demo seed's invented purchase. */
+/**
+ * A paid purchase booked without the payment provider (the demo seed's invented ones): its ledger
+ * entry, and when the amount is one of the packs also the purchase row, shown with its receipt.
+ */
 export async function bookOfflinePurchase(db: Executor, labId: string, credits: number, reference: string, actorId: string | null): Promise<void> {
+  const pack = CREDIT_PACKS.find((p) => p.credits === credits);
   await db.transaction(async (tx) => {
-    await post(tx, { labId, kind: 'purchase', idempotencyKey: `purchase:${reference}`, actorId, reason: 'offline purchase', detail: { reference } }, [
+    const now = new Date();
+    const [p] = pack
+      ? await tx
+          .insert(creditPurchases)
+          .values({ labId, buyerId: actorId, pack: pack.id, credits, amount: pack.amount, currency: pack.currency, checkoutSessionId: reference, status: 'paid', paidAt: now, receiptMailedAt: now })
+          .onConflictDoNothing({ target: creditPurchases.checkoutSessionId })
+          .returning({ id: creditPurchases.id })
+      : [];
+    await post(tx, { labId, kind: 'purchase', idempotencyKey: `purchase:${reference}`, purchaseId: p?.id ?? null, actorId, reason: 'offline purchase', detail: { reference } }, [
       { account: accounts.available(labId), amount: credits },
       { account: accounts.stripeClearing, amount: -credits },
     ]);

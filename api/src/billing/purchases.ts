@@ -7,6 +7,7 @@ import type { Env } from '../../../shared/env.js';
 import type { Db } from '../db/client.js';
 import type { Logger } from '../logger.js';
 import type { Mailer } from '../mail/mailer.js';
+import { HttpError } from '../http/http-error.js';
 import { audit } from '../services/audit.js';
 import { accounts } from './accounts.js';
 import { post, type Executor, type Tx } from './ledger.js';
@@ -57,16 +58,21 @@ export async function startCheckout(
   const purchaseId = randomUUID();
   const back = `${deps.env.PUBLIC_URL}/lab/credits?labId=${labId}`;
   const metadata = { purchaseId, labId, pack: pack.id, credits: String(pack.credits) };
-  const session = await deps.stripe.checkout.sessions.create({
-    mode: 'payment',
-    line_items: [{ price_data: { currency: pack.currency, unit_amount: pack.amount, product_data: { name: `${pack.name}: ${pack.credits.toLocaleString('en-US')} compute credits` } }, quantity: 1 }],
-    success_url: `${back}&paid={CHECKOUT_SESSION_ID}`,
-    cancel_url: `${back}&cancelled=1`,
-    client_reference_id: purchaseId,
-    customer_email: buyer.email,
-    metadata,
-    payment_intent_data: { metadata },
-  });
+  const session = await deps.stripe.checkout.sessions
+    .create({
+      mode: 'payment',
+      line_items: [{ price_data: { currency: pack.currency, unit_amount: pack.amount, product_data: { name: `${pack.name}: ${pack.credits.toLocaleString('en-US')} compute credits` } }, quantity: 1 }],
+      success_url: `${back}&paid={CHECKOUT_SESSION_ID}`,
+      cancel_url: `${back}&cancelled=1`,
+      client_reference_id: purchaseId,
+      customer_email: buyer.email,
+      metadata,
+      payment_intent_data: { metadata },
+    })
+    .catch((err: unknown) => {
+      // the provider down or refusing us is not the buyer's fault, and nothing was recorded yet
+      throw new HttpError(502, `the payment provider did not open a checkout (${(err as Error).message}); nothing was charged, try again shortly`);
+    });
   if (!session.url) throw new Error('the payment provider returned a checkout session without a URL');
   await deps.db.transaction(async (tx) => {
     await tx.insert(creditPurchases).values({
@@ -108,6 +114,8 @@ async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; pu
           { account: accounts.stripeClearing, amount: -p.credits },
         ],
       );
+      // the trail records each billing event with the money it moved
+      if (booked) await audit(tx, { actorId: p.buyerId, labId: p.labId, action: 'credits.purchase', subjectType: 'purchase', subjectId: p.id, reason: `${p.pack} pack`, detail: { credits: p.credits, amount: p.amount, currency: p.currency, session: s.id } });
       // paid is final: an "expired" or "declined" event arriving late never undoes it
       if (p.status !== 'paid') await tx.update(creditPurchases).set({ status: 'paid', paidAt: new Date(event.created * 1000), lastError: null }).where(eq(creditPurchases.id, p.id));
       return { outcome: booked ? `credited ${p.credits}` : 'already credited', purchaseId: p.id };

@@ -1,70 +1,232 @@
 import { and, count, desc, eq, isNotNull, isNull, sql, type SQL } from 'drizzle-orm';
 import { Router } from 'express';
-import { figureParamsSchema, figureResponseSchema, FIGURES_PAGE_SIZE, listFiguresQuerySchema, listFiguresResponseSchema, type Figure } from '../../../shared/api/figures.js';
-import { figures, labs, runs, users } from '../../../drizzle/schema.js';
-import { checkLabAccess } from '../auth/middleware.js';
+import {
+  createFigureRequestSchema,
+  figureFileParamsSchema,
+  figureParamsSchema,
+  figureResponseSchema,
+  figureVersionResponseSchema,
+  FIGURES_PAGE_SIZE,
+  labFiguresParamsSchema,
+  labFiguresResponseSchema,
+  listFiguresQuerySchema,
+  listFiguresResponseSchema,
+  orderPrintRequestSchema,
+  updateFigureRequestSchema,
+  type Figure,
+} from '../../../shared/api/figures.js';
+import { JOB_NAMES } from '../../../shared/jobs.js';
+import { figures, figureVersions, runs } from '../../../drizzle/schema.js';
+import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
-import { notFound } from '../http/http-error.js';
+import { uniqueAs } from '../db/errors.js';
+import { badRequest, conflict, notFound } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
-import { latticeLabel } from '../services/views.js';
+import { audit } from '../services/audit.js';
+import {
+  blockingWarnings,
+  compositionRuns,
+  figureAccess,
+  figureDetail,
+  figureMissing,
+  freeSlug,
+  isPublic,
+  labFigureView,
+  loadFigure,
+  selectFigures,
+  slugFrom,
+  specOf,
+  versionView,
+  type FigureRow,
+} from '../services/figures.js';
 
-export function figuresRouter({ db }: AppDeps): Router {
+/**
+ * Figures: composing from a lab's finished runs, print orders (each a numbered version printed by
+ * the farm), publishing with a permanent link that keeps answering after it is withdrawn, the
+ * public index, and downloads through presigned, expiring addresses.
+ */
+export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
   const r = Router();
 
-  const creator = sql<string>`(select ${users.name} from ${users} where ${users.id} = ${figures.createdById})`;
-  const select = () =>
-    db
-      .select({ figure: figures, run: runs, labName: labs.name, author: users.name, creator })
-      .from(figures)
-      .innerJoin(runs, eq(runs.id, figures.runId))
-      .innerJoin(labs, eq(labs.id, runs.labId))
-      .innerJoin(users, eq(users.id, runs.authorId));
-  type Row = Awaited<ReturnType<ReturnType<typeof select>['execute']>>[number];
+  const publicView = (row: FigureRow): Figure => {
+    const { labId: _l, withdrawnAt: _w, latestVersion: _v, newestStatus: _s, ...entry } = labFigureView(row);
+    return entry;
+  };
 
-  const view = ({ figure, run, labName, author, creator }: Row): Figure => ({
-    id: figure.id,
-    slug: figure.slug,
-    title: figure.title,
-    caption: figure.caption,
-    runId: run.id,
-    lattice: latticeLabel(run.spec),
-    background: run.spec.background.kind,
-    chips: run.spec.chips,
-    publishedAt: figure.publishedAt?.toISOString() ?? null,
-    // the run's author first, then whoever composed the figure if that is someone else
-    authors: [...new Set([author, creator])],
-    labName,
-  });
+  async function editable(slug: string, res: Parameters<typeof authOf>[0]): Promise<FigureRow> {
+    const row = await loadFigure(db, slug);
+    if (!row) throw figureMissing();
+    await figureAccess(db, res, row, 'member');
+    return row;
+  }
 
   const published = and(isNotNull(figures.publishedAt), isNull(figures.withdrawnAt));
 
   r.get('/figures', async (req, res) => {
     const q = validate.query(req, listFiguresQuerySchema);
     const filters: (SQL | undefined)[] = [published];
-    if (q.lattice) filters.push(sql`(${runs.spec}->'lattice'->>'preset' = ${q.lattice} or ${runs.spec}->'lattice'->>'name' = ${q.lattice})`);
+    if (q.lattice === 'periodic') filters.push(sql`${runs.spec}->'lattice' ? 'periodic'`);
+    else if (q.lattice) filters.push(sql`(${runs.spec}->'lattice'->>'preset' = ${q.lattice} or ${runs.spec}->'lattice'->>'name' = ${q.lattice})`);
     if (q.background) filters.push(sql`${runs.spec}->'background'->>'kind' = ${q.background}`);
+    if (q.nMin !== undefined) filters.push(sql`(${runs.spec}->>'chips')::numeric >= ${q.nMin}`);
+    if (q.nMax !== undefined) filters.push(sql`(${runs.spec}->>'chips')::numeric <= ${q.nMax}`);
     const where = and(...filters);
     const [rows, [total]] = await Promise.all([
-      select().where(where).orderBy(desc(figures.publishedAt), desc(figures.id)).limit(FIGURES_PAGE_SIZE).offset((q.page - 1) * FIGURES_PAGE_SIZE),
+      selectFigures(db).where(where).orderBy(desc(figures.publishedAt), desc(figures.id)).limit(FIGURES_PAGE_SIZE).offset((q.page - 1) * FIGURES_PAGE_SIZE),
       db.select({ n: count() }).from(figures).innerJoin(runs, eq(runs.id, figures.runId)).where(where),
     ]);
-    respond(res, 200, listFiguresResponseSchema, { figures: rows.map(view), total: total!.n });
+    respond(res, 200, listFiguresResponseSchema, { figures: rows.map(publicView), total: total!.n });
+  });
+
+  /** Every figure of a lab, drafts and withdrawn ones included. */
+  r.get('/labs/:labId/figures', requireUser, async (req, res) => {
+    const { labId } = validate.params(req, labFiguresParamsSchema);
+    await checkLabAccess(db, authOf(res).user, labId, 'read');
+    const rows = await selectFigures(db).where(eq(runs.labId, labId)).orderBy(desc(figures.updatedAt), desc(figures.id));
+    respond(res, 200, labFiguresResponseSchema, { figures: rows.map(labFigureView) });
   });
 
   r.get('/figures/:slug', async (req, res) => {
     const { slug } = validate.params(req, figureParamsSchema);
-    const missing = notFound('figure not found');
-    const [row] = await select().where(eq(figures.slug, slug));
-    if (!row) throw missing;
-    const isPublic = row.figure.publishedAt !== null && row.figure.withdrawnAt === null;
-    if (!isPublic) {
-      // drafts and withdrawn figures: only the lab (and admins) may look
+    const row = await loadFigure(db, slug);
+    if (!row) throw figureMissing();
+    const { figure } = row;
+    if (figure.withdrawnAt && figure.publishedAt) {
+      // the permanent link keeps answering: readers learn it was withdrawn, its lab still manages it
       const user = res.locals.auth?.user;
-      if (!user) throw missing;
-      await checkLabAccess(db, user, row.run.labId, 'read', missing);
+      const access = user ? await checkLabAccess(db, user, row.run.labId, 'read').catch(() => null) : null;
+      if (!access) {
+        return respond(res, 200, figureResponseSchema, { withdrawn: true, slug: figure.slug, title: figure.title, withdrawnAt: figure.withdrawnAt.toISOString() });
+      }
+      return respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, access.role !== null) });
     }
-    respond(res, 200, figureResponseSchema, { figure: view(row) });
+    const { canEdit } = await figureAccess(db, res, row, 'read');
+    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, canEdit) });
+  });
+
+  r.post('/figures', requireUser, requireVerified, async (req, res) => {
+    const body = validate.body(req, createFigureRequestSchema);
+    const user = authOf(res).user;
+    await checkLabAccess(db, user, body.labId, 'member');
+    await compositionRuns(db, body.labId, body.spec);
+    const row = await db
+      .transaction(async (tx) => {
+        const slug = body.slug ?? (await freeSlug(tx, slugFrom(body.title)));
+        const [f] = await tx
+          .insert(figures)
+          .values({ slug, title: body.title, caption: body.caption, runId: body.spec.panels[0]!.runId, createdById: user.id, spec: body.spec })
+          .returning();
+        await audit(tx, { actorId: user.id, labId: body.labId, action: 'figure.create', subjectType: 'figure', subjectId: f!.id, detail: { slug } });
+        return f!;
+      })
+      .catch(uniqueAs(conflict('that permanent link is taken; choose another slug')));
+    const loaded = (await loadFigure(db, row.slug))!;
+    respond(res, 201, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, loaded, true) });
+  });
+
+  r.put('/figures/:slug', requireUser, requireVerified, async (req, res) => {
+    const { slug } = validate.params(req, figureParamsSchema);
+    const body = validate.body(req, updateFigureRequestSchema);
+    const row = await editable(slug, res);
+    const user = authOf(res).user;
+    if (body.spec) {
+      await compositionRuns(db, row.run.labId, body.spec);
+      // the lead run decides the lab and the reader's deep zoom; it may change, the lab may not
+      if (body.spec.panels[0]!.runId !== row.figure.runId && row.figure.publishedAt && !row.figure.withdrawnAt) {
+        throw conflict('a published figure keeps its first panel\'s run; unpublish it first to change that run');
+      }
+    }
+    await db.transaction(async (tx) => {
+      await tx
+        .update(figures)
+        .set({
+          title: body.title ?? row.figure.title,
+          caption: body.caption ?? row.figure.caption,
+          spec: body.spec ?? row.figure.spec,
+          runId: body.spec ? body.spec.panels[0]!.runId : row.figure.runId,
+          updatedAt: new Date(),
+        })
+        .where(eq(figures.id, row.figure.id));
+      await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.edit', subjectType: 'figure', subjectId: row.figure.id, detail: { fields: Object.keys(body) } });
+    });
+    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, (await loadFigure(db, slug))!, true) });
+  });
+
+  /** Order a print of the current composition: a new numbered version, printed by the farm. */
+  r.post('/figures/:slug/versions', requireUser, requireVerified, async (req, res) => {
+    const { slug } = validate.params(req, figureParamsSchema);
+    const body = validate.body(req, orderPrintRequestSchema);
+    const row = await editable(slug, res);
+    const user = authOf(res).user;
+    const spec = specOf(row.figure);
+    const used = await compositionRuns(db, row.run.labId, spec);
+    const blocking = blockingWarnings(spec, used);
+    if (blocking.length > 0) throw badRequest(`this figure cannot be printed as composed: ${blocking.map((w) => w.message).join('; ')}`);
+    const formats = [...new Set(body.formats)];
+    const version = await db
+      .transaction(async (tx) => {
+        // the figure row is the lock that numbers versions one after another
+        await tx.execute(sql`select 1 from ${figures} where ${figures.id} = ${row.figure.id} for update`);
+        const [{ next }] = (await tx
+          .select({ next: sql<number>`coalesce(max(${figureVersions.number}), 0) + 1` })
+          .from(figureVersions)
+          .where(eq(figureVersions.figureId, row.figure.id))) as [{ next: number }];
+        const [v] = await tx.insert(figureVersions).values({ figureId: row.figure.id, number: Number(next), spec, formats, orderedById: user.id }).returning();
+        await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.order', subjectType: 'figure', subjectId: row.figure.id, detail: { version: v!.number, formats } });
+        return v!;
+      });
+    // after the commit, so the worker always finds the row; an order that cannot be queued is removed again
+    try {
+      await queue.enqueue({ name: JOB_NAMES.printFigure, data: { versionId: version.id } });
+    } catch (err) {
+      await db.delete(figureVersions).where(eq(figureVersions.id, version.id));
+      throw err;
+    }
+    respond(res, 202, figureVersionResponseSchema, { version: versionView(slug, { ...version, orderedBy: user.name }) });
+  });
+
+  r.post('/figures/:slug/publish', requireUser, requireVerified, async (req, res) => {
+    const { slug } = validate.params(req, figureParamsSchema);
+    const row = await editable(slug, res);
+    if (isPublic(row.figure)) throw conflict('the figure is already published');
+    if (row.latestVersion === null) throw conflict('order a print and wait until it is ready before publishing: readers download the printed files');
+    const user = authOf(res).user;
+    await db.transaction(async (tx) => {
+      await tx
+        .update(figures)
+        .set({ publishedAt: row.figure.publishedAt ?? new Date(), withdrawnAt: null, updatedAt: new Date() })
+        .where(eq(figures.id, row.figure.id));
+      await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.publish', subjectType: 'figure', subjectId: row.figure.id });
+    });
+    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, (await loadFigure(db, slug))!, true) });
+  });
+
+  /** Withdraw a published figure: the link answers "withdrawn", the lab keeps everything. */
+  r.post('/figures/:slug/unpublish', requireUser, requireVerified, async (req, res) => {
+    const { slug } = validate.params(req, figureParamsSchema);
+    const row = await editable(slug, res);
+    if (!isPublic(row.figure)) throw conflict('the figure is not published');
+    const user = authOf(res).user;
+    await db.transaction(async (tx) => {
+      await tx.update(figures).set({ withdrawnAt: new Date(), updatedAt: new Date() }).where(eq(figures.id, row.figure.id));
+      await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.unpublish', subjectType: 'figure', subjectId: row.figure.id });
+    });
+    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, (await loadFigure(db, slug))!, true) });
+  });
+
+  /** A printed file: a redirect to a presigned address of the object store that expires. */
+  r.get('/figures/:slug/versions/:number/files/:format', async (req, res) => {
+    const { slug, number, format } = validate.params(req, figureFileParamsSchema);
+    const row = await loadFigure(db, slug);
+    if (!row) throw figureMissing();
+    await figureAccess(db, res, row, 'read');
+    const [v] = await db.select().from(figureVersions).where(and(eq(figureVersions.figureId, row.figure.id), eq(figureVersions.number, number)));
+    const file = v?.status === 'ready' ? v.files.find((f) => f.format === format) : undefined;
+    if (!file) throw notFound(`version ${number} has no ${format.toUpperCase()} file`);
+    res.set('Cache-Control', 'no-store');
+    // an hour is plenty for a click; the mail carries week-long links
+    res.redirect(302, await blobs.signedUrl(file.key, 3600));
   });
 
   return r;

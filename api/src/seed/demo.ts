@@ -6,6 +6,8 @@ import { JOB_NAMES } from '../../../shared/jobs.js';
 import { runSpecSchema, type RunSpecInput } from '../../../shared/run-spec.js';
 import { figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
 import { bookOfflinePurchase } from '../billing/adjustments.js';
+import { reserveForRuns } from '../billing/gate.js';
+import { setAllowance } from '../services/admin-allowance.js';
 import { hashPassword } from '../auth/passwords.js';
 import { connectDatabase } from '../db/client.js';
 import { createJobQueue } from '../queue/job-queue.js';
@@ -46,6 +48,7 @@ const DEMO_RUNS: DemoRun[] = [
   { lab: 'main', by: 'manager', title: 'Honeycomb on a 1/0 checkerboard', spec: { lattice: { preset: 'honeycomb' }, chips: 30_000, background: { kind: 'checkerboard', a: 1, b: 0 } } },
   { lab: 'main', by: 'manager', title: 'Square lattice on i.i.d. heights 0 to 2', spec: { lattice: { preset: 'square' }, chips: 20_000, background: { kind: 'random', seed: 20261201, weights: [1, 1, 1] } } },
   { lab: 'other', by: 'other lab', title: 'A thousand and one grains on the line', spec: { lattice: { preset: 'line' }, chips: 1001 } },
+  { lab: 'other', by: 'other lab', title: 'Twenty thousand grains on the honeycomb', spec: { lattice: { preset: 'honeycomb' }, chips: 20_000 } },
 ];
 
 export type SeedOptions = { /** BullMQ key prefix (tests keep their jobs apart) */ queuePrefix?: string };
@@ -101,6 +104,14 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         publishedAt: new Date(),
       });
       await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
+      await audit(tx, { actorId: who('manager'), labId: main!.id, action: 'credits.purchase', subjectType: 'lab', subjectId: main!.id, reason: 'offline purchase', detail: { credits: 5000, reference: 'demo-purchase-0001' } });
+      await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.publish', subjectType: 'figure', subjectId: 'square-lattice-one-hundred-thousand' });
+      // The other lab is over quota (for the admin console): an admin cut its free allowance for a pilot,
+      // it bought a little, and its queued runs hold every credit it has.
+      await setAllowance(tx, other!.id, who('admin'), { freeAllowance: 2, reason: 'pilot lab: a small free allowance while the farm is busy' });
+      await bookOfflinePurchase(tx, other!.id, 2, 'demo-purchase-0002', who('other lab'));
+      await audit(tx, { actorId: who('other lab'), labId: other!.id, action: 'credits.purchase', subjectType: 'lab', subjectId: other!.id, reason: 'offline purchase', detail: { credits: 2, reference: 'demo-purchase-0002' } });
+      await reserveForRuns(tx, other!.id, who('other lab'), await tx.select().from(runs).where(eq(runs.labId, other!.id)));
       await audit(tx, { actorId: null, labId: null, action: 'demo.seed', reason: 'empty database at start' });
       return true;
     });

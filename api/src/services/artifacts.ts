@@ -8,7 +8,7 @@ import type { ArrayName } from '../../../shared/api/artifacts.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkLabAccess } from '../auth/middleware.js';
 import type { Db } from '../db/client.js';
-import { badRequest, notFound } from '../http/http-error.js';
+import { badRequest, HttpError, notFound } from '../http/http-error.js';
 import type { BlobStore } from '../storage/blob-store.js';
 
 /**
@@ -106,7 +106,15 @@ export function shareIfPublic(res: Response, visibility: Visibility): void {
  * A missing object is a 404 that no cache keeps (the tile may be drawn a minute later).
  */
 export async function sendObject(req: Request, res: Response, blobs: BlobStore, key: string, opts: SendOptions): Promise<void> {
-  const obj = await blobs.open(key);
+  // one byte range (the deep-zoom readout reads single cells of large .npy arrays); anything else gets the whole object
+  const range = /^bytes=(\d+-\d*|-\d+)$/.test(req.headers.range ?? '') && req.method === 'GET' ? req.headers.range : undefined;
+  let obj;
+  try {
+    obj = await blobs.open(key, range);
+  } catch (err) {
+    if ((err as Error).name === 'InvalidRange') throw new HttpError(416, `the range ${range} lies outside the file`);
+    throw err;
+  }
   if (!obj) {
     res.set('Cache-Control', 'no-store');
     throw notFound(opts.attachmentName ? `${opts.attachmentName} is not available (yet)` : 'no such tile or file in this view');
@@ -122,6 +130,8 @@ export async function sendObject(req: Request, res: Response, blobs: BlobStore, 
     res.status(304).end();
     return;
   }
+  res.set('Accept-Ranges', 'bytes');
+  if (obj.contentRange) res.status(206).set('Content-Range', obj.contentRange);
   res.set('Content-Length', String(obj.size));
   if (req.method === 'HEAD') {
     obj.body.destroy();

@@ -1,3 +1,4 @@
+import { inArray } from 'drizzle-orm';
 import { runs, series } from '../../../drizzle/schema.js';
 import { JOB_NAMES, type JobItem } from '../../../shared/jobs.js';
 import type { RunSpec } from '../../../shared/run-spec.js';
@@ -6,13 +7,16 @@ import type { JobQueue } from '../queue/job-queue.js';
 import { audit } from './audit.js';
 import { checkArrayBackground } from './background-uploads.js';
 import { reserveForRuns } from '../billing/gate.js';
+import { refuseIfSuspended } from './admin-suspension.js';
+import { issueLabAllowance } from './admin-allowance.js';
 
 export type NewRun = { title: string; spec: RunSpec };
 type RunRow = typeof runs.$inferSelect;
 
 /**
- * Record runs and enqueue their compute jobs in one transaction: if Redis refuses a job, no orphan
- * "queued" row remains. Used by POST /api/runs, re-runs and series, so all three check the same things.
+ * Record runs (and reserve their credits) in one transaction, then enqueue their compute jobs; if
+ * Redis refuses a job, the runs are marked failed, so no orphan "queued" row remains.
+ * Used by POST /api/runs, re-runs and series, so all three check the same things.
  */
 export async function createRuns(
   deps: { db: Db; queue: JobQueue },
@@ -21,8 +25,12 @@ export async function createRuns(
   items: NewRun[],
   options: { series?: { title: string }; action?: string; detail?: Record<string, unknown> } = {},
 ): Promise<{ rows: RunRow[]; seriesId: string | null }> {
+  // a lab suspended by a site admin takes no new runs (403 with the reason)
+  await refuseIfSuspended(deps.db, labId);
+  // a lab whose allowance an admin set gets this month's at that amount, before the ledger issues the default
+  await issueLabAllowance(deps.db, labId);
   for (const item of items) await checkArrayBackground(deps.db, item.spec.background, item.spec.lattice);
-  return deps.db.transaction(async (tx) => {
+  const created = await deps.db.transaction(async (tx) => {
     let seriesId: string | null = null;
     if (options.series) {
       const [row] = await tx.insert(series).values({ labId, authorId: actor.id, title: options.series.title }).returning({ id: series.id });
@@ -38,18 +46,25 @@ export async function createRuns(
     for (const row of rows) {
       await audit(tx, { actorId: actor.id, labId, action: options.action ?? 'run.create', subjectType: 'run', subjectId: row.id, detail: { chips: row.spec.chips, ...(seriesId ? { series: seriesId } : {}), ...options.detail } });
     }
-    const enqueued: JobItem[] = [];
-    try {
-      for (const row of rows) {
-        const job: JobItem = { name: JOB_NAMES.computeRun, data: { runId: row.id, spec: row.spec } };
-        await deps.queue.enqueue(job);
-        enqueued.push(job);
-      }
-    } catch (err) {
-      // the rows roll back; take back the jobs of a series that did get in (workers would skip them anyway)
-      await Promise.allSettled(enqueued.map((job) => deps.queue.remove(job)));
-      throw err;
-    }
     return { rows, seriesId };
   });
+  // Enqueue only after the commit: a worker that takes the job at once must find the run queued
+  // (inside the transaction it saw no such row and skipped the job, leaving the run queued for ever).
+  const enqueued: JobItem[] = [];
+  try {
+    for (const row of created.rows) {
+      const job: JobItem = { name: JOB_NAMES.computeRun, data: { runId: row.id, spec: row.spec } };
+      await deps.queue.enqueue(job);
+      enqueued.push(job);
+    }
+  } catch (err) {
+    // no orphan "queued" rows: take back the jobs that got in and mark every run failed (its credits are then released)
+    await Promise.allSettled(enqueued.map((job) => deps.queue.remove(job)));
+    await deps.db
+      .update(runs)
+      .set({ status: 'failed', error: 'the farm queue did not accept this run; submit it again', finishedAt: new Date(), updatedAt: new Date() })
+      .where(inArray(runs.id, created.rows.map((r) => r.id)));
+    throw err;
+  }
+  return created;
 }

@@ -8,8 +8,11 @@ export interface BlobStore {
   put(key: string, body: Buffer | string, contentType: string): Promise<void>;
   /** null when there is no such object */
   get(key: string): Promise<Buffer | null>;
-  /** a stored object as a stream with its metadata, for answering HTTP requests; null when missing */
-  open(key: string): Promise<BlobObject | null>;
+  /**
+   * A stored object as a stream with its metadata, for answering HTTP requests; null when missing.
+   * `range` is an HTTP byte range (`bytes=0-99`); the answer then carries `contentRange`.
+   */
+  open(key: string, range?: string): Promise<BlobObject | null>;
   /** whether an object exists, without reading it */
   exists(key: string): Promise<boolean>;
   delete(key: string): Promise<void>;
@@ -23,7 +26,10 @@ export interface BlobStore {
 
 export interface BlobObject {
   body: Readable;
+  /** bytes in `body` (the range's length when a range was asked for) */
   size: number;
+  /** `bytes a-b/total` when a range was asked for */
+  contentRange?: string;
   contentType: string | undefined;
   /** the store's entity tag, quoted as in HTTP */
   etag: string | undefined;

@@ -44,11 +44,11 @@ export function createS3BlobStore(env: S3Settings): BlobStore {
         throw err;
       }
     },
-    async open(key) {
+    async open(key, range) {
       try {
-        const out = await client.send(new GetObjectCommand({ Bucket, Key: key }));
+        const out = await client.send(new GetObjectCommand({ Bucket, Key: key, Range: range }));
         const body = out.Body instanceof Readable ? out.Body : Readable.fromWeb(out.Body!.transformToWebStream() as Parameters<typeof Readable.fromWeb>[0]);
-        return { body, size: out.ContentLength ?? 0, contentType: out.ContentType, etag: out.ETag, lastModified: out.LastModified };
+        return { body, size: out.ContentLength ?? 0, contentRange: range ? out.ContentRange : undefined, contentType: out.ContentType, etag: out.ETag, lastModified: out.LastModified };
       } catch (err) {
         if (err instanceof NoSuchKey || (err as Error).name === 'NoSuchKey') return null;
         throw err;

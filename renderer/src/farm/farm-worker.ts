@@ -1,14 +1,18 @@
+import { hostname } from 'node:os';
 import { Queue, Worker, type Job } from 'bullmq';
 import { Redis } from 'ioredis';
 import { connectDatabase } from '../../../api/src/db/client.js';
 import { createS3BlobStore } from '../../../api/src/storage/s3-blob-store.js';
 import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
-import { sendRunOutcomeMail } from '../../../api/src/services/run-outcome-mail.js';
 import type { Env } from '../../../shared/env.js';
+import { HEARTBEAT_EVERY_MS, HEARTBEAT_TTL_SECONDS, heartbeatKey } from '../../../shared/api/admin.js';
 import { JOB_NAMES, JOBS_TO_QUEUE, QUEUE_NAMES, jobIdFor, type JobItem } from '../../../shared/jobs.js';
 import { createS3Client } from '../render/index.js';
 import { computeRun } from './compute-run.js';
 import { renderRun } from './render-run.js';
+import { runEnded } from './run-ended.js';
+import { printRun } from './print-run.js';
+import { sendFigureReadyMail } from '../../../api/src/services/figures-ready-mail.js';
 
 export interface FarmWorkerOptions {
   /** BullMQ key prefix; tests use their own */
@@ -36,11 +40,12 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     await queue.add(item.name, item.data, { jobId: jobIdFor(item), attempts: 3, backoff: { type: 'exponential', delay: 2000 } });
   };
   const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
-  const notifyOutcome = async (runId: string) => {
-    // a mail that cannot be sent must not fail a finished run
-    await sendRunOutcomeMail({ db: database.db, mailer, env }, runId).catch((err: Error) => console.error(`outcome mail for run ${runId}: ${err.message}`));
-  };
+  const notifyOutcome = runEnded({ db: database.db, mailer, env });
   const concurrency = { compute: options.computeConcurrency ?? 1, render: options.renderConcurrency ?? 1 };
+  const notifyPrintReady = async (versionId: string) => {
+    // as above: the print is stored and ready even if its mail cannot go out now
+    await sendFigureReadyMail({ db: database.db, mailer, blobs: store, env }, versionId).catch((err: Error) => console.error(`print-ready mail for version ${versionId}: ${err.message}`));
+  };
 
   const compute = new Worker(
     QUEUE_NAMES.compute,
@@ -58,12 +63,38 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     (job: Job) => renderRun(job, { db: database.db, store, s3, bucket: env.S3_BUCKET, notifyOutcome }),
     { connection, prefix, concurrency: concurrency.render },
   );
-  for (const w of [compute, render]) w.on('failed', (job, err) => console.error(`job ${job?.id} failed: ${err.message}`));
+  // print orders hold a page strip and the runs' arrays: one at a time per worker process
+  const print = new Worker(
+    QUEUE_NAMES.print,
+    (job: Job) => printRun(job, { db: database.db, store, s3, bucket: env.S3_BUCKET, notifyReady: notifyPrintReady }),
+    { connection, prefix, concurrency: 1 },
+  );
+  for (const w of [compute, render, print]) w.on('failed', (job, err) => console.error(`job ${job?.id} failed: ${err.message}`));
+
+  // Heartbeat for the admin console's farm page: who is alive and which jobs each holds; the key expires if the process dies.
+  const farmWorkers = [compute, render, print];
+  const startedAt = new Date().toISOString();
+  const holding = new Map<string, { queue: string; jobId: string; runId: string | null; since: string }>();
+  for (const w of farmWorkers) {
+    w.on('active', (job) => holding.set(`${w.name}/${job.id}`, { queue: w.name, jobId: job.id ?? '', runId: typeof job.data?.runId === 'string' ? job.data.runId : null, since: new Date().toISOString() }));
+    w.on('completed', (job) => holding.delete(`${w.name}/${job.id}`));
+    w.on('failed', (job) => job && holding.delete(`${w.name}/${job.id}`));
+  }
+  const beatKey = heartbeatKey(prefix, hostname(), process.pid);
+  const beat = () =>
+    connection
+      .set(beatKey, JSON.stringify({ host: hostname(), pid: process.pid, startedAt, at: new Date().toISOString(), queues: farmWorkers.map((w) => w.name), active: [...holding.values()] }), 'EX', HEARTBEAT_TTL_SECONDS)
+      .catch(() => {});
+  void beat();
+  const heartbeat = setInterval(beat, HEARTBEAT_EVERY_MS);
+  heartbeat.unref();
 
   return {
     concurrency,
     async close() {
-      await Promise.all([compute.close(), render.close()]);
+      clearInterval(heartbeat);
+      await connection.del(beatKey).catch(() => {});
+      await Promise.all([compute.close(), render.close(), print.close()]);
       await renderQueue.close();
       store.close();
       mailer.close();

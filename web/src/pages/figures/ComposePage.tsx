@@ -1,5 +1,5 @@
 import { useMemo, useState } from 'react';
-import { useNavigate, useParams } from 'react-router';
+import { useNavigate, useParams, useSearchParams } from 'react-router';
 import { LAYERS, PALETTES } from '../../../../shared/palettes.js';
 import {
   COLUMN_NAMES,
@@ -28,9 +28,10 @@ function newDraft(runId: string): Draft {
   return { title: '', caption: '', spec: { panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, scaleBar: { unit: 'lattice' } } };
 }
 
-/** /figures/new and /lab/figures/:slug/edit: compose a figure from the lab's finished runs. */
+/** /figures/new (?run=<id> to start from that run) and /lab/figures/:slug/edit: compose a figure from the lab's finished runs. */
 export function ComposePage() {
   const { slug } = useParams();
+  const [params] = useSearchParams();
   const me = useMe();
   const labId = me.data?.activeLabId ?? null;
   const runs = useRuns({ labId: labId ?? undefined, status: 'finished', pageSize: 100, sort: 'finishedAt', order: 'desc' });
@@ -44,12 +45,13 @@ export function ComposePage() {
     return <EmptyState title="No finished runs yet">Figures are composed from finished runs; submit a run and come back when it is done.</EmptyState>;
   }
   const figure = slug && existing.data && !existing.data.withdrawn ? existing.data.figure : null;
-  return <Composer key={figure?.id ?? 'new'} labId={labId} runs={finished} figure={figure} />;
+  const first = finished.find((r) => r.id === params.get('run')) ?? finished[0]!;
+  return <Composer key={figure?.id ?? 'new'} labId={labId} runs={finished} figure={figure} firstRunId={first.id} />;
 }
 
-function Composer({ labId, runs, figure }: { labId: string; runs: Run[]; figure: FigureDetail | null }) {
+function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Run[]; figure: FigureDetail | null; firstRunId: string }) {
   const navigate = useNavigate();
-  const [draft, setDraft] = useState<Draft>(() => (figure ? { title: figure.title, caption: figure.caption, spec: figure.spec } : newDraft(runs[0]!.id)));
+  const [draft, setDraft] = useState<Draft>(() => (figure ? { title: figure.title, caption: figure.caption, spec: figure.spec } : newDraft(firstRunId)));
   const create = useCreateFigure();
   const update = useUpdateFigure(figure?.slug ?? '');
   const save = figure ? update : create;
@@ -309,7 +311,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
         <div className="flex gap-2">
           <SelectField label="Magnification" value={panel.magnification === undefined || panel.magnification === 'fit' ? 'fit' : 'fixed'} onChange={(e) => onChange({ magnification: e.target.value === 'fit' ? 'fit' : 4 })}>
             <option value="fit">fit the panel</option>
-            <option value="fixed">pixels per cell…</option>
+            <option value="fixed">fixed</option>
           </SelectField>
           {typeof panel.magnification === 'number' ? (
             <TextField label="px per cell" type="number" min={1} max={256} value={panel.magnification} onChange={(e) => onChange({ magnification: Math.max(1, Math.round(Number(e.target.value))) })} fieldClassName="w-28" />

@@ -11,24 +11,25 @@ export function FileList({ files }: { files: FigureFile[] }) {
         <tr className="border-b border-rule text-left text-xs uppercase tracking-wider text-ink-faint">
           <th className="py-2 pr-4 font-medium">file</th>
           <th className="py-2 pr-4 text-right font-medium">size</th>
-          <th className="py-2 pr-4 text-right font-medium">pixels</th>
-          <th className="py-2 font-medium">SHA-256</th>
+          <th className="py-2 text-right font-medium">pixels</th>
         </tr>
       </thead>
       <tbody>
         {files.map((f) => (
           <tr key={f.format} className="border-b border-rule-soft align-top">
             <td className="py-2 pr-4">
-              <a href={f.href} download={f.name}>
+              <a href={f.href} download={f.name} className="break-all">
                 {f.name}
               </a>
-              <div className="text-xs text-ink-faint">{FORMAT_NAMES[f.format]}</div>
+              <span className="ml-2 text-xs text-ink-faint">{FORMAT_NAMES[f.format]}</span>
+              <div className="mt-0.5 break-all font-mono text-[11px] leading-snug text-ink-soft" title="SHA-256 of the file">
+                sha256 {f.sha256}
+              </div>
             </td>
-            <td className="py-2 pr-4 text-right tabular-nums">{groupThousands(f.bytes)} bytes</td>
-            <td className="py-2 pr-4 text-right tabular-nums">
+            <td className="whitespace-nowrap py-2 pr-4 text-right tabular-nums">{groupThousands(f.bytes)} bytes</td>
+            <td className="whitespace-nowrap py-2 text-right tabular-nums">
               {groupThousands(f.widthPx)} × {groupThousands(f.heightPx)}
             </td>
-            <td className="break-all py-2 font-mono text-[11px] leading-snug text-ink-soft">{f.sha256}</td>
           </tr>
         ))}
       </tbody>

@@ -1,0 +1,57 @@
+import { and, desc, eq, gte, like, lt, sql } from 'drizzle-orm';
+import { auditEvents, labs, users } from '../../../drizzle/schema.js';
+import type { AuditEvent, auditQuerySchema } from '../../../shared/api/admin.js';
+import type { z } from 'zod';
+import type { Db } from '../db/client.js';
+import { toCsv } from './admin-csv.js';
+
+type AuditQuery = z.output<typeof auditQuerySchema>;
+
+const nextDay = (day: string) => new Date(Date.parse(`${day}T00:00:00Z`) + 86400_000);
+
+/** The trail, newest first, filtered by lab, person (the actor), kind (an action or a "prefix.") and UTC dates (both ends included). */
+export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
+  const kind = q.kind ? (q.kind.endsWith('.') ? like(auditEvents.action, `${q.kind}%`) : eq(auditEvents.action, q.kind)) : undefined;
+  const rows = await db
+    .select({ e: auditEvents, actorName: users.name, labName: labs.name })
+    .from(auditEvents)
+    .leftJoin(users, eq(users.id, auditEvents.actorId))
+    .leftJoin(labs, eq(labs.id, auditEvents.labId))
+    .where(
+      and(
+        q.labId ? eq(auditEvents.labId, q.labId) : undefined,
+        q.actorId ? eq(auditEvents.actorId, q.actorId) : undefined,
+        kind,
+        q.from ? gte(auditEvents.at, new Date(`${q.from}T00:00:00Z`)) : undefined,
+        q.to ? lt(auditEvents.at, nextDay(q.to)) : undefined,
+      ),
+    )
+    .orderBy(desc(auditEvents.at), desc(auditEvents.id))
+    .limit(q.limit);
+  return rows.map(({ e, actorName, labName }) => ({
+    id: e.id,
+    at: e.at.toISOString(),
+    actorId: e.actorId,
+    actorName,
+    labId: e.labId,
+    labName,
+    action: e.action,
+    subjectType: e.subjectType,
+    subjectId: e.subjectId,
+    reason: e.reason,
+    detail: (e.detail as Record<string, unknown> | null) ?? null,
+  }));
+}
+
+/** Every action name recorded so far, for the kind filter. */
+export async function auditKinds(db: Db): Promise<string[]> {
+  const rows = await db.selectDistinct({ action: auditEvents.action }).from(auditEvents).orderBy(sql`1`);
+  return rows.map((r) => r.action);
+}
+
+export function auditCsv(events: AuditEvent[]): string {
+  return toCsv(
+    ['id', 'at', 'actor_id', 'actor', 'lab_id', 'lab', 'action', 'subject_type', 'subject_id', 'reason', 'detail'],
+    events.map((e) => [e.id, e.at, e.actorId, e.actorName, e.labId, e.labName, e.action, e.subjectType, e.subjectId, e.reason, e.detail ? JSON.stringify(e.detail) : null]),
+  );
+}

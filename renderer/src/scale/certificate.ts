@@ -1,0 +1,50 @@
+import type { Certificate } from '../../../shared/run-stats.js';
+import type { Outcome } from '../engine/outcome.js';
+import type { Problem } from '../engine/problem.js';
+import { classAt, latticeKernel, UnstableStack } from './kernel.js';
+import { peel } from './peel.js';
+
+/**
+ * The certificate of a finished run, computed from its final arrays alone (any engine): heights below
+ * threshold and non-negative, grains conserved, odometer minimal by the peeling test (see peel.ts).
+ * Sites outside the arrays never changed (outcomes cover every toppled site plus the band its grains
+ * reach), so the arrays are all that needs checking.
+ */
+export function certify(problem: Problem, o: Outcome, extra: { method: Certificate['method']; repairRounds?: number }): Certificate {
+  const t0 = performance.now();
+  const g = problem.lattice;
+  const d = o.shape.length;
+  const W = o.shape[d - 1]!, H = d >= 2 ? o.shape[d - 2]! : 1;
+  const ox = o.origin[d - 1]!, oy = d >= 2 ? o.origin[d - 2]! : 0, oz = d === 3 ? o.origin[0]! : 0;
+  const k = latticeKernel(g, W, ox, oy, H);
+  const { heights: h, odometer: od } = o;
+  let stable = true;
+  let nonNegative = true;
+  let mass = 0n;
+  let small = 0;
+  const bg = problem.background;
+  const D = h.length / (W * H);
+  for (let z = 0; z < D; z++)
+    for (let y = 0; y < H; y++) {
+      const row = (z * H + y) * W;
+      for (let x = 0; x < W; x++) {
+        const i = row + x;
+        const v = h[i]!;
+        if (v >= k.deg[classAt(k, i)]!) stable = false;
+        if (v < 0) nonNegative = false;
+        small += v - (bg.uniform ?? bg.heightAt(x - ox, y - oy, z - oz));
+        if (small > 2 ** 52 || small < -(2 ** 52)) ((mass += BigInt(small)), (small = 0));
+      }
+    }
+  mass += BigInt(small);
+  const massConserved = mass === problem.grainsIn;
+  let minimal: boolean | null = null;
+  let peeledSites = 0;
+  if (k.eulerian) {
+    const stack = new UnstableStack();
+    peeledSites = peel(h, od, k, stack, new Uint8Array(h.length));
+    minimal = peeledSites === 0;
+  }
+  const passed = stable && nonNegative && massConserved && minimal !== false;
+  return { stable, nonNegative, massConserved, minimal, peeledSites, repairRounds: extra.repairRounds ?? 0, method: extra.method, passed, seconds: (performance.now() - t0) / 1000 };
+}

@@ -1,0 +1,191 @@
+import type { LatticeGraph } from '../engine/lattice.js';
+import { FROZEN, forEachGuard, type ScaleGrid } from './grid.js';
+
+/**
+ * The lattice flattened for one grid width: per class its threshold and out-edges as index deltas.
+ * Class of cell i = cls[i % period] (see ScaleGrid); a single-class lattice has period 1.
+ */
+export interface LatticeKernel {
+  single: boolean;
+  period: number;
+  cls: Uint8Array;
+  deg: Int32Array;
+  /** edges of class c: start[c] .. start[c + 1] - 1 */
+  start: Int32Array;
+  delta: Int32Array;
+  /** threshold of each edge's target */
+  tdeg: Int32Array;
+  /** reversed edges of class c (for the certificate): rstart / rdelta */
+  rstart: Int32Array;
+  rdelta: Int32Array;
+  maxDeg: number;
+  /** in-degree equals out-degree on every class (needed by the minimality certificate) */
+  eulerian: boolean;
+  /** the plain square lattice, which gets an unrolled kernel */
+  square: boolean;
+  /** longest offset component */
+  reach: number;
+}
+
+/**
+ * ox, oy: array position of the lattice origin (only its residues matter). H is the array's height,
+ * used only by 3-D offsets (single-class lattices only; the certificate checks cubic runs too).
+ */
+export function latticeKernel(g: LatticeGraph, W: number, ox = 0, oy = 0, H = 1): LatticeKernel {
+  if (g.dim === 3 && g.classes.length !== 1) throw new Error('periodic 3-D lattices are not supported here');
+  const [px, py] = g.period;
+  const nc = px * py;
+  const period = W * py;
+  const mod = (a: number, m: number) => ((a % m) + m) % m;
+  const cls = new Uint8Array(nc === 1 ? 1 : period);
+  if (nc > 1) for (let y = 0; y < py; y++) for (let x = 0; x < W; x++) cls[y * W + x] = mod(y - oy, py) * px + mod(x - ox, px);
+  const start = new Int32Array(nc + 1);
+  for (let c = 0; c < nc; c++) start[c + 1] = start[c]! + g.classes[c]!.length;
+  const delta = new Int32Array(start[nc]!);
+  const tdeg = new Int32Array(start[nc]!);
+  const deg = new Int32Array(nc);
+  const indeg = new Int32Array(nc);
+  const rev: number[][] = Array.from({ length: nc }, () => []);
+  for (let c = 0; c < nc; c++) {
+    const cx = c % px, cy = (c - cx) / px;
+    deg[c] = g.classes[c]!.length;
+    g.classes[c]!.forEach((o, k) => {
+      const e = start[c]! + k;
+      delta[e] = o[2] * W * H + o[1] * W + o[0];
+      const t = mod(cy + o[1], py) * px + mod(cx + o[0], px);
+      tdeg[e] = g.classes[t]!.length;
+      indeg[t]!++;
+      rev[t]!.push(-(o[2] * W * H + o[1] * W + o[0]));
+    });
+  }
+  const rstart = new Int32Array(nc + 1);
+  for (let c = 0; c < nc; c++) rstart[c + 1] = rstart[c]! + rev[c]!.length;
+  const rdelta = Int32Array.from(rev.flat());
+  const sq = g.classes.length === 1 && g.classes[0]!.length === 4 && [[1, 0], [-1, 0], [0, 1], [0, -1]].every(([a, b]) => g.classes[0]!.some((o) => o[0] === a && o[1] === b));
+  return {
+    single: nc === 1, period, cls, deg, start, delta, tdeg, rstart, rdelta,
+    maxDeg: Math.max(...deg), reach: g.reach, eulerian: deg.every((d, c) => indeg[c] === d), square: sq,
+  };
+}
+
+export const classAt = (k: LatticeKernel, i: number): number => (k.single ? 0 : k.cls[i % k.period]!);
+
+/**
+ * A stack of unstable cells over the whole grid. Each cell is on the stack at most once (it is pushed
+ * when its height crosses its threshold, and stays unstable until popped), so the stack never holds
+ * more than the grid's cells; it starts small and doubles on demand.
+ */
+export class UnstableStack {
+  data: Int32Array;
+  sp = 0;
+  constructor(capacity = 1 << 16) {
+    this.data = new Int32Array(capacity);
+  }
+  reserve(extra: number): void {
+    if (this.sp + extra <= this.data.length) return;
+    let cap = this.data.length * 2;
+    while (cap < this.sp + extra) cap *= 2;
+    const d = new Int32Array(cap);
+    d.set(this.data.subarray(0, this.sp));
+    this.data = d;
+  }
+}
+
+/** Pushes every unstable non-guard cell (after seeding, growth or a resume). */
+export function pushAllUnstable(grid: ScaleGrid, k: LatticeKernel, stack: UnstableStack): void {
+  const { W, H, guard: G, h } = grid;
+  stack.sp = 0;
+  for (let y = G; y < H - G; y++) {
+    const row = y * W;
+    let count = 0;
+    for (let x = G; x < W - G; x++) if (h[row + x]! >= k.deg[classAt(k, row + x)]!) count++;
+    if (!count) continue;
+    stack.reserve(count);
+    for (let x = G; x < W - G; x++) if (h[row + x]! >= k.deg[classAt(k, row + x)]!) stack.data[stack.sp++] = row + x;
+  }
+}
+
+/** True when some guard cell's real height reached its threshold: the pile touched the edge. */
+export function guardUnstable(grid: ScaleGrid, k: LatticeKernel): boolean {
+  const h = grid.h;
+  let hit = false;
+  forEachGuard(grid, (i) => {
+    if (h[i]! + FROZEN >= k.deg[classAt(k, i)]!) hit = true;
+  });
+  return hit;
+}
+
+/**
+ * Pops and topples up to `budget` cells (each k = floor(h / deg) times at once). Returns the number
+ * of toppling events; the stack is empty when the grid is stable apart from its frozen guard.
+ */
+export function relaxSome(grid: ScaleGrid, k: LatticeKernel, stack: UnstableStack, budget: number): number {
+  if (k.square) return relaxSquare(grid.h, grid.od, grid.W, stack, budget);
+  return relaxGeneric(grid.h, grid.od, k, stack, budget);
+}
+
+function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: UnstableStack, budget: number): number {
+  let data = stack.data;
+  let sp = stack.sp;
+  let events = 0;
+  while (sp > 0 && events < budget) {
+    if (sp + 4 > data.length) {
+      stack.sp = sp;
+      stack.reserve(4);
+      data = stack.data;
+    }
+    const i = data[--sp]!;
+    const v = h[i]!;
+    if (v < 4) continue;
+    const t = v >> 2;
+    h[i] = v & 3;
+    od[i] += t;
+    events++;
+    let j = i - 1, b = h[j]!;
+    h[j] = b + t;
+    if (b < 4 && b + t >= 4) data[sp++] = j;
+    j = i + 1; b = h[j]!;
+    h[j] = b + t;
+    if (b < 4 && b + t >= 4) data[sp++] = j;
+    j = i - W; b = h[j]!;
+    h[j] = b + t;
+    if (b < 4 && b + t >= 4) data[sp++] = j;
+    j = i + W; b = h[j]!;
+    h[j] = b + t;
+    if (b < 4 && b + t >= 4) data[sp++] = j;
+  }
+  stack.sp = sp;
+  return events;
+}
+
+function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, budget: number): number {
+  const { single, period, cls, deg, start, delta, tdeg, maxDeg } = k;
+  let data = stack.data;
+  let sp = stack.sp;
+  let events = 0;
+  while (sp > 0 && events < budget) {
+    if (sp + maxDeg > data.length) {
+      stack.sp = sp;
+      stack.reserve(maxDeg);
+      data = stack.data;
+    }
+    const i = data[--sp]!;
+    const c = single ? 0 : cls[i % period]!;
+    const d = deg[c]!;
+    const v = h[i]!;
+    if (v < d) continue;
+    const t = (v - (v % d)) / d;
+    h[i] = v - t * d;
+    od[i] += t;
+    events++;
+    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
+      const j = i + delta[e]!;
+      const b = h[j]!;
+      h[j] = b + t;
+      const dj = tdeg[e]!;
+      if (b < dj && b + t >= dj) data[sp++] = j;
+    }
+  }
+  stack.sp = sp;
+  return events;
+}

@@ -1,0 +1,102 @@
+import { classAt, type LatticeKernel, type UnstableStack } from './kernel.js';
+
+/**
+ * The burning-type test behind the minimality certificate. Starting from S = every toppled cell, it
+ * peels off each cell x whose height could not take back one toppling of S, h(x) >= (edges from S
+ * into x); what is left is the largest set S* whose toppling can be undone once with every cell of S*
+ * still below threshold (other cells only lose grains). On a lattice where every class has as many
+ * in- as out-edges, S* is empty exactly when the odometer is minimal, i.e. the true one: for any
+ * stable odometer v above the true u, the cells where v - u is largest form such a set (least action
+ * principle, Fey, Levine & Peres, arXiv:0901.3805).
+ *
+ * Works on any dense row-major array of width W whose toppled cells are at least the lattice's reach
+ * away from the array's edges. Returns the cells of S* on `stack` (data[0 .. sp-1]); `mark` is scratch.
+ */
+export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, mark: Uint8Array, win?: Window): number {
+  const { start, delta } = k;
+  const IN = 128;
+  // the window: whole array unless given (cells outside it count as not in S)
+  const W = win?.W ?? h.length, x0 = win?.x0 ?? 0, x1 = win?.x1 ?? W - 1, y0 = win?.y0 ?? 0, y1 = win?.y1 ?? Math.floor(h.length / W) - 1;
+  const each = (f: (i: number) => void) => {
+    for (let y = y0; y <= y1; y++) for (let i = y * W + x0, e = y * W + x1; i <= e; i++) f(i);
+  };
+  each((i) => (mark[i] = od[i]! > 0 ? IN : 0));
+  if (win) {
+    // the ring around the window must read as "not in S"
+    for (let y = Math.max(0, y0 - k.reach); y <= y1 + k.reach; y++)
+      for (let x = x0 - k.reach; x <= x1 + k.reach; x++) if (y < y0 || y > y1 || x < x0 || x > x1) mark[y * W + x] = 0;
+  }
+  let count = 0;
+  each((i) => {
+    if (!(mark[i]! & IN)) return;
+    count++;
+    const c = classAt(k, i);
+    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
+      const j = i + delta[e]!;
+      if (mark[j]! & IN) mark[j]!++;
+    }
+  });
+  // queue of peeled cells: a cell is peeled at most once, so the queue holds at most |S| cells
+  stack.sp = 0;
+  stack.reserve(count);
+  const q = stack.data;
+  let tail = 0;
+  each((i) => {
+    const m = mark[i]!;
+    if (m & IN && h[i]! >= (m & 127)) ((mark[i] = m & 127), (q[tail++] = i));
+  });
+  let head = 0;
+  while (head < tail) {
+    const x = q[head++]!;
+    const c = classAt(k, x);
+    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
+      const y = x + delta[e]!;
+      const m = mark[y]!;
+      if (!(m & IN)) continue;
+      const left = (m & 127) - 1;
+      if (h[y]! >= left) ((mark[y] = left), (q[tail++] = y));
+      else mark[y] = IN | left;
+    }
+  }
+  let sp = 0;
+  each((i) => {
+    if (mark[i]! & IN) q[sp++] = i;
+  });
+  stack.sp = sp;
+  return sp;
+}
+
+/** A rectangle of a row-major array of width W (inclusive bounds), at least `reach` inside it. */
+export interface Window {
+  W: number;
+  x0: number;
+  x1: number;
+  y0: number;
+  y1: number;
+}
+
+/** The bounding window of the cells on the stack, widened by `margin` and clipped to [lo, W-1-lo]. */
+export function windowOf(stack: UnstableStack, W: number, H: number, margin: number, lo: number): Window {
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  for (let s = 0; s < stack.sp; s++) {
+    const i = stack.data[s]!;
+    const x = i % W, y = (i - x) / W;
+    if (x < x0) x0 = x;
+    if (x > x1) x1 = x;
+    if (y < y0) y0 = y;
+    if (y > y1) y1 = y;
+  }
+  return { W, x0: Math.max(lo, x0 - margin), x1: Math.min(W - 1 - lo, x1 + margin), y0: Math.max(lo, y0 - margin), y1: Math.min(H - 1 - lo, y1 + margin) };
+}
+
+/** Undoes one toppling of every cell on the stack (the set S* that peel found). */
+export function untopple(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack): void {
+  const { start, delta, deg } = k;
+  for (let s = 0; s < stack.sp; s++) {
+    const x = stack.data[s]!;
+    const c = classAt(k, x);
+    od[x] = od[x]! - 1;
+    h[x] = h[x]! + deg[c]!;
+    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) h[x + delta[e]!]!--;
+  }
+}

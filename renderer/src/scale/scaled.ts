@@ -1,0 +1,251 @@
+import { NotStabilizedError } from '../engine/errors.js';
+import { DEFAULT_MAX_SITES } from '../engine/limits.js';
+import { buildOutcome, type Outcome } from '../engine/outcome.js';
+import type { Problem } from '../engine/problem.js';
+import { certify } from './certificate.js';
+import type { Snapshot } from './checkpoint.js';
+import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
+import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
+import { peel, untopple, windowOf } from './peel.js';
+import { applySeed, bulkGainOf, peakOf, seedBox, seedError, type CoarseLevel } from './seed.js';
+
+export interface ScaleProgress {
+  stage: string;
+  /** estimated fraction of the work done, 0..1, never decreasing */
+  fraction: number;
+  toppledSites: number;
+  /** estimated seconds left (null until there is something to extrapolate from) */
+  secondsLeft: number | null;
+  level: number;
+  levels: number;
+}
+
+export interface LevelInfo {
+  chips: number;
+  cells: number;
+  /** toppling events of the legal relaxation */
+  events: number;
+  repairRounds: number;
+  relaxSeconds: number;
+  repairSeconds: number;
+  gain: number | null;
+}
+
+export interface ScaleOptions {
+  onProgress?: (p: ScaleProgress) => void;
+  signal?: AbortSignal;
+  maxSites?: number;
+  /** the coarsest level has at most this many grains and starts from a zero seed (default 2^12) */
+  baseChips?: number;
+  /** flat safety offset subtracted from each seed (default 32) */
+  offset?: number;
+  /** weight of the extrapolated error of the previous level (default 0.9) */
+  alpha?: number;
+  /** called after each level with what it cost (benchmarks and tuning) */
+  onLevel?: (info: LevelInfo) => void;
+  /** growth of the seed error away from the source per level, beyond the value scaling (default 2) */
+  bulkGain?: number;
+  /** periodic snapshots; `save` runs synchronously while the state is still */
+  checkpoint?: { everySeconds: number; save: (s: Snapshot) => void };
+  /** continue from a snapshot of the same problem */
+  resume?: Snapshot;
+}
+
+/** Where the fast path applies: planar lattices, grains at the origin only, no uploaded array. */
+export function scaledPathApplies(p: Problem): boolean {
+  return (
+    p.lattice.dim === 2 &&
+    p.sources.length === 1 &&
+    p.sources[0]!.chips > 0 &&
+    p.sources[0]!.chips < 2 ** 30 &&
+    p.background.extent === undefined &&
+    p.lattice.classes.length <= 256 &&
+    p.lattice.classes.every((c) => c.length <= 64)
+  );
+}
+
+/** Grain counts of the levels, finest first: n, floor(n/4), … down to baseChips or less. */
+export function levelChips(n: number, base: number): number[] {
+  const out = [n];
+  while (out[out.length - 1]! > base) out.push(Math.floor(out[out.length - 1]! / 4));
+  return out;
+}
+
+export function specKey(p: Problem): string {
+  return JSON.stringify({ lattice: p.spec.lattice, chips: p.spec.chips, background: p.spec.background, sources: p.spec.sources });
+}
+
+const abortError = (signal: AbortSignal) => signal.reason ?? new DOMException('stabilization aborted', 'AbortError');
+
+/**
+ * The exact fast path: coarse-to-fine odometer seeding. Level l solves n_l = floor(n / 4^l) grains;
+ * each finer level starts from the coarser odometer scaled by 2 in space and by n_l / n_{l+1} in
+ * value, plus the coarser level's own seed error extrapolated the same way, minus a flat offset
+ * (odometers behave like n·w(x/√n)). A seed below the true odometer makes the legal relaxation that
+ * follows end exactly on it (least action principle, arXiv:0901.3805); any overshoot is found by the
+ * peeling test and removed one unit at a time, so the result is exact either way and certified.
+ * @throws NotStabilizedError past maxSites; the signal's reason when aborted.
+ */
+export async function stabilizeScaled(problem: Problem, options: ScaleOptions = {}): Promise<Outcome> {
+  const t0 = performance.now();
+  if (!scaledPathApplies(problem)) throw new Error('the scaled path does not apply to this problem');
+  const g = problem.lattice;
+  const bg = problem.background;
+  const n = problem.sources[0]!.chips;
+  const maxSites = options.maxSites ?? DEFAULT_MAX_SITES;
+  const chips = levelChips(n, Math.max(1, options.baseChips ?? 2 ** 12));
+  const seedOpts = { alpha: options.alpha ?? 0.9, offset: options.offset ?? 32, bulkGain: options.bulkGain ?? 2 };
+  const L = chips.length;
+  // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
+  const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
+  const totalWeight = weights.reduce((a, b) => a + b, 0);
+  const stack = new UnstableStack();
+  const peak = peakOf(g);
+  let coarse: CoarseLevel | null = null;
+  let startLevel = L - 1;
+  let resumeGrid: ScaleGrid | null = null;
+  let repairRounds = 0;
+  let prevEvents = 0;
+
+  if (options.resume) {
+    const s = options.resume;
+    if (s.specKey !== specKey(problem)) throw new Error('the checkpoint belongs to a different run');
+    startLevel = s.level;
+    coarse = s.coarse;
+    resumeGrid = s.grid;
+    repairRounds = s.repairRounds;
+    prevEvents = s.prevEvents;
+  }
+
+  let best = 0;
+  let lastReport = 0;
+  let lastYield = performance.now();
+  let lastSave = performance.now();
+  const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false) => {
+    if (!options.onProgress) return;
+    const now = performance.now();
+    if (!force && now - lastReport < 500) return;
+    lastReport = now;
+    let done = 0;
+    for (let l = L - 1; l > level; l--) done += weights[l]!;
+    const f = stage === 'done' ? 1 : Math.min(0.99, (done + weights[level]! * Math.min(0.99, inLevel)) / totalWeight);
+    best = Math.max(best, f);
+    const elapsed = (now - t0) / 1000;
+    let toppled = 0;
+    if (grid) for (let i = 0; i < grid.od.length; i++) if (grid.od[i] !== 0) toppled++;
+    options.onProgress({
+      stage, fraction: best, toppledSites: toppled, level: L - 1 - level, levels: L,
+      secondsLeft: stage === 'done' ? 0 : best > 0.01 ? (elapsed * (1 - best)) / best : null,
+    });
+  };
+
+  let grid!: ScaleGrid;
+  for (let level = startLevel; level >= 0; level--) {
+    const c = chips[level]!;
+    let k: LatticeKernel;
+    if (resumeGrid) {
+      grid = resumeGrid;
+      resumeGrid = null;
+      k = latticeKernel(g, grid.W);
+    } else if (!coarse) {
+      const r = Math.ceil(0.5 * Math.sqrt(c / Math.max(1, Math.min(...g.classes.map((x) => x.length)) / 4))) + 2;
+      grid = makeGrid(g, bg, { x0: -r, x1: r, y0: -r, y1: r });
+      if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+      grid.h[grid.oy * grid.W + grid.ox] += c;
+      k = latticeKernel(g, grid.W);
+    } else {
+      grid = makeGrid(g, bg, seedBox(coarse, 4 + g.reach));
+      if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+      k = latticeKernel(g, grid.W);
+      grid.h[grid.oy * grid.W + grid.ox] += c;
+      if (!applySeed(grid, k, coarse, c, seedOpts, peak)) {
+        // a seed this rough is useless: start the level from zero instead (still exact)
+        grid = makeGrid(g, bg, seedBox(coarse, 4 + g.reach));
+        grid.h[grid.oy * grid.W + grid.ox] += c;
+      }
+    }
+    const tLevel = performance.now();
+    const repairsBefore = repairRounds;
+    let tRepair = tLevel;
+    pushAllUnstable(grid, k, stack);
+    const expected = Math.max(1, prevEvents * 12);
+    let events = 0;
+    for (;;) {
+      while (stack.sp > 0) {
+        events += relaxSome(grid, k, stack, 1 << 20);
+        const now = performance.now();
+        if (now - lastYield > 100) {
+          // let timers, progress listeners and abort requests run on this event loop
+          await new Promise<void>((resolve) => setImmediate(resolve));
+          lastYield = performance.now();
+          if (options.signal?.aborted) throw abortError(options.signal);
+          report('relax', level, prevEvents ? events / expected : 0.5, grid);
+          if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
+            options.checkpoint.save({ format: 1, specKey: specKey(problem), level, grid, coarse, repairRounds, prevEvents });
+            lastSave = performance.now();
+          }
+        }
+      }
+      if (guardUnstable(grid, k)) {
+        const b = innerBox(grid);
+        const w = b.x1 - b.x0 + 1, hgt = b.y1 - b.y0 + 1;
+        const ax = Math.max(8, Math.ceil(w / 4)), ay = Math.max(8, Math.ceil(hgt / 4));
+        const next: Box = { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
+        grid = growGrid(g, bg, grid, next);
+        if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+        k = latticeKernel(g, grid.W);
+        pushAllUnstable(grid, k, stack);
+        report('grow', level, prevEvents ? events / expected : 0.5, grid, true);
+        continue;
+      }
+      // stable: any overshoot of the seed shows up as a non-empty peeled set; undo it unit by unit
+      tRepair = performance.now();
+      if (level === L - 1 && !options.resume) break; // zero seed: legal topplings only, nothing to repair
+      const mark = new Uint8Array(grid.h.length);
+      // global test; repairs continue in the window of the last peeled set, then the global test again
+      while (peel(grid.h, grid.od, k, stack, mark) > 0) {
+        do {
+          const win = windowOf(stack, grid.W, grid.H, 2 * g.reach + 2, grid.guard);
+          untopple(grid.h, grid.od, k, stack);
+          repairRounds++;
+          if (options.signal?.aborted) throw abortError(options.signal);
+          if (peel(grid.h, grid.od, k, stack, mark, win) === 0) break;
+        } while (stack.sp > 0);
+      }
+      stack.sp = 0;
+      break;
+    }
+    prevEvents = events;
+    if (level > 0) {
+      const err = coarse ? seedError(grid, coarse, c, peak) : null;
+      const gain = err && coarse ? bulkGainOf(grid, err, coarse, c) : null;
+      coarse = { chips: c, W: grid.W, H: grid.H, ox: grid.ox, oy: grid.oy, u: grid.od, err, gain, toppled: toppledBox(grid) };
+    }
+    const tEnd = performance.now();
+    options.onLevel?.({ chips: c, cells: grid.W * grid.H, events, repairRounds: repairRounds - repairsBefore, relaxSeconds: (tRepair - tLevel) / 1000, repairSeconds: (tEnd - tRepair) / 1000, gain: coarse?.gain ?? null });
+    report('level', level, 1, grid, true);
+  }
+  coarse = null;
+  forEachGuard(grid, (i) => (grid.h[i] = grid.h[i]! + FROZEN));
+  const outcome = buildOutcome(problem, { nx: grid.W, ny: grid.H, nz: 1, ox: grid.ox, oy: grid.oy, oz: 0, heights: grid.h, odometer: grid.od }, 0);
+  const certificate = certify(problem, outcome, { method: 'seeded', repairRounds });
+  outcome.stats.certificate = certificate;
+  outcome.stats.seconds = (performance.now() - t0) / 1000;
+  report('done', 0, 1, null, true);
+  return outcome;
+}
+
+function toppledBox(grid: ScaleGrid): Box {
+  const { W, H, ox, oy, od } = grid;
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  for (let y = 0; y < H; y++)
+    for (let x = 0; x < W; x++)
+      if (od[y * W + x]! > 0) {
+        if (x < x0) x0 = x;
+        if (x > x1) x1 = x;
+        if (y < y0) y0 = y;
+        if (y > y1) y1 = y;
+      }
+  if (x0 === Infinity) return { x0: 0, x1: 0, y0: 0, y1: 0 };
+  return { x0: x0 - ox, x1: x1 - ox, y0: y0 - oy, y1: y1 - oy };
+}

@@ -1,0 +1,247 @@
+import { createHash } from 'node:crypto';
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import { eq } from 'drizzle-orm';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { figureVersions, runs } from '../../drizzle/schema.js';
+import {
+  figureResponseSchema,
+  figureVersionResponseSchema,
+  labFiguresResponseSchema,
+  listFiguresResponseSchema,
+  type FigureDetail,
+} from '../../shared/api/figures.js';
+import { JOB_NAMES, QUEUE_NAMES, jobIdFor } from '../../shared/jobs.js';
+import { pixelsFor } from '../../shared/print.js';
+import { sendFigureReadyMail } from '../../api/src/services/figures-ready-mail.js';
+import { finishedRun, markReady } from './figures-fixtures.js';
+import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
+import { waitForMail } from './support/outbox.js';
+
+let h: Harness;
+let author: Session;
+let outsider: Session;
+let authorEmail: string;
+let labId: string;
+let otherLabRun: string;
+let runSquare: string;
+let runChecker: string;
+let queuedRun: string;
+
+const detail = (body: unknown): FigureDetail => {
+  const parsed = figureResponseSchema.parse(body);
+  if (parsed.withdrawn) throw new Error('expected the figure, got "withdrawn"');
+  return parsed.figure;
+};
+
+const spec = (runId: string, extra: Record<string, unknown> = {}) => ({ panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, ...extra });
+
+beforeAll(async () => {
+  h = await startHarness('figures');
+  const a = await createUser(h, 'Figure Author');
+  const o = await createUser(h, 'Figure Outsider');
+  authorEmail = a.email;
+  labId = await createLab(h, 'Figure Lab', [{ userId: a.id, role: 'author' }]);
+  const otherLab = await createLab(h, 'Other Figure Lab', [{ userId: o.id, role: 'manager' }]);
+  author = await signIn(h, a.email, TEST_PASSWORD);
+  outsider = await signIn(h, o.email, TEST_PASSWORD);
+  runSquare = await finishedRun(h, labId, a.id, 'square pile');
+  runChecker = await finishedRun(h, labId, a.id, 'checkered pile', 'checkerboard');
+  otherLabRun = await finishedRun(h, otherLab, o.id, 'their pile');
+  queuedRun = await finishedRun(h, labId, a.id, 'not yet');
+  await h.deps.db.update(runs).set({ status: 'computing', stats: null }).where(eq(runs.id, queuedRun));
+});
+afterAll(async () => {
+  await h?.close();
+});
+
+describe('composing a figure', () => {
+  it('creates a figure from a finished run of the lab, with a slug from its title and the spec defaults filled in', async () => {
+    const res = await as(h.http.post('/api/figures'), author).send({ labId, title: `Square pile, n = 16 ${h.tag}`, caption: 'Sixteen grains.', spec: spec(runSquare) });
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    const f = detail(res.body);
+    expect(f.slug).toBe(`square-pile-n-16-${h.tag}`);
+    expect(f.labId).toBe(labId);
+    expect(f.runId).toBe(runSquare);
+    expect(f.publishedAt).toBeNull();
+    expect(f.versions).toEqual([]);
+    expect(f.canEdit).toBe(true);
+    // defaults from shared/print.ts: heights layer, letters for labels, 10 mm margins
+    expect(f.spec.panels[0]).toMatchObject({ layer: 'heights', magnification: 'fit' });
+    expect(f.spec.margins).toEqual({ top: 10, right: 10, bottom: 10, left: 10 });
+    expect(f.runs.find((r) => r.id === runSquare)).toMatchObject({ shape: [7, 7], origin: [3, 3], chips: 16 });
+
+    // the same title again gets a numbered slug; an asked-for slug that is taken is a conflict
+    const again = await as(h.http.post('/api/figures'), author).send({ labId, title: `Square pile, n = 16 ${h.tag}`, spec: spec(runSquare) }).expect(201);
+    expect(detail(again.body).slug).toBe(`square-pile-n-16-${h.tag}-2`);
+    const taken = await as(h.http.post('/api/figures'), author).send({ labId, title: 'x', slug: f.slug, spec: spec(runSquare) });
+    expect(taken.status).toBe(409);
+    expect(taken.body.error).toMatch(/permanent link is taken/);
+  });
+
+  it('refuses runs that are unfinished or of another lab, and bad specs, with a clear message', async () => {
+    const unfinished = await as(h.http.post('/api/figures'), author).send({ labId, title: 'unfinished', spec: spec(queuedRun) });
+    expect(unfinished.status).toBe(400);
+    expect(unfinished.body.error).toMatch(/is computing; figures are composed from finished runs/);
+    const foreign = await as(h.http.post('/api/figures'), author).send({ labId, title: 'foreign', spec: spec(otherLabRun) });
+    expect(foreign.status).toBe(400);
+    expect(foreign.body.error).toMatch(/not a run of this lab/);
+    const badDpi = await as(h.http.post('/api/figures'), author).send({ labId, title: 'bad', spec: spec(runSquare, { dpi: 2400 }) });
+    expect(badDpi.status).toBe(400);
+    expect(badDpi.body.issues.some((i: { path: string }) => i.path === 'spec.dpi')).toBe(true);
+    const notMember = await as(h.http.post('/api/figures'), outsider).send({ labId, title: 'theirs', spec: spec(runSquare) });
+    expect(notMember.status).toBe(404);
+    const anonymous = await h.http.post('/api/figures').send({ labId, title: 'anon', spec: spec(runSquare) });
+    expect(anonymous.status).toBe(401);
+  });
+
+  it('edits title, caption and composition; strangers cannot see a draft', async () => {
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Two panels ${h.tag}`, spec: spec(runSquare) }).expect(201)).body);
+    const two = {
+      panels: [{ runId: runSquare, label: 'left' }, { runId: runChecker, layer: 'toppled' }],
+      grid: { rows: 1, cols: 2 },
+      size: { kind: 'paper', paper: 'A5', orientation: 'landscape' },
+      dpi: 150,
+    };
+    const res = await as(h.http.put(`/api/figures/${f.slug}`), author).send({ caption: 'Side by side.', spec: two }).expect(200);
+    const edited = detail(res.body);
+    expect(edited.caption).toBe('Side by side.');
+    expect(edited.spec.panels.map((p) => p.runId)).toEqual([runSquare, runChecker]);
+    expect(edited.slug).toBe(f.slug);
+    expect((await as(h.http.put(`/api/figures/${f.slug}`), author).send({})).status).toBe(400);
+    expect((await as(h.http.put(`/api/figures/${f.slug}`), outsider).send({ title: 'mine now' })).status).toBe(404);
+    expect((await h.http.get(`/api/figures/${f.slug}`)).status).toBe(404);
+    expect((await as(h.http.get(`/api/figures/${f.slug}`), outsider)).status).toBe(404);
+
+    const list = labFiguresResponseSchema.parse((await as(h.http.get(`/api/labs/${labId}/figures`), author).expect(200)).body);
+    expect(list.figures.map((x) => x.slug)).toContain(f.slug);
+    expect((await as(h.http.get(`/api/labs/${labId}/figures`), outsider)).status).toBe(404);
+  });
+});
+
+describe('ordering, publishing and withdrawing', () => {
+  let slug: string;
+  let figureId: string;
+
+  it('orders a print as a numbered version and enqueues one figure.print job for it', async () => {
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Ordered ${h.tag}`, caption: 'For print.', spec: spec(runSquare) }).expect(201)).body);
+    slug = f.slug;
+    figureId = f.id;
+    const res = await as(h.http.post(`/api/figures/${slug}/versions`), author).send({ formats: ['png', 'pdf'] });
+    expect(res.status, JSON.stringify(res.body)).toBe(202);
+    const { version } = figureVersionResponseSchema.parse(res.body);
+    expect(version).toMatchObject({ number: 1, status: 'queued', formats: ['png', 'pdf'], files: [] });
+
+    const [row] = await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, figureId));
+    const connection = new Redis(h.env.REDIS_URL, { maxRetriesPerRequest: null });
+    const queue = new Queue(QUEUE_NAMES.print, { connection, prefix: h.queuePrefix });
+    try {
+      const job = await queue.getJob(jobIdFor({ name: JOB_NAMES.printFigure, data: { versionId: row!.id } }));
+      expect(job?.name).toBe('figure.print');
+      expect(job?.data).toEqual({ versionId: row!.id });
+    } finally {
+      await queue.close();
+      await connection.quit();
+    }
+    const second = figureVersionResponseSchema.parse((await as(h.http.post(`/api/figures/${slug}/versions`), author).send({}).expect(202)).body);
+    expect(second.version.number).toBe(2);
+    expect(second.version.formats).toEqual(['png', 'tiff', 'pdf']);
+  });
+
+  it('refuses an order the print engine could not make, quoting its reason', async () => {
+    // 7 cells at 200 px per cell = 1400 px, wider than a 90 mm column at 150 DPI (pixels = round(in × DPI), ../shared/facts.md §7)
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Too big ${h.tag}`, spec: { ...spec(runSquare), dpi: 150, panels: [{ runId: runSquare, magnification: 200 }] } }).expect(201)).body);
+    expect(pixelsFor(90, 150)).toBe(531);
+    const res = await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({});
+    expect(res.status).toBe(400);
+    expect(res.body.error).toMatch(/cannot be met at this resolution/);
+    expect(await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id))).toEqual([]);
+  });
+
+  it('publishes only with a ready version; readers then see it, its ready versions and its files', async () => {
+    const early = await as(h.http.post(`/api/figures/${slug}/publish`), author);
+    expect(early.status).toBe(409);
+    expect(early.body.error).toMatch(/wait until it is ready/);
+    const file = await markReady(h, figureId, 1);
+    const pub = detail((await as(h.http.post(`/api/figures/${slug}/publish`), author).expect(200)).body);
+    expect(pub.publishedAt).not.toBeNull();
+    expect(pub.latestVersion).toBe(1);
+    expect((await as(h.http.post(`/api/figures/${slug}/publish`), author)).status).toBe(409);
+
+    const reader = detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
+    expect(reader.canEdit).toBe(false);
+    // version 2 is still queued: readers see only ready versions
+    expect(reader.versions.map((v) => v.number)).toEqual([1]);
+    expect(reader.versions[0]!.files[0]).toMatchObject({ format: 'png', bytes: file.bytes, sha256: file.sha256, name: file.name });
+    const lab = detail((await as(h.http.get(`/api/figures/${slug}`), author).expect(200)).body);
+    expect(lab.versions.map((v) => [v.number, v.status])).toEqual([[2, 'queued'], [1, 'ready']]);
+
+    // a download is a redirect to a presigned, expiring address of the object store
+    const dl = await h.http.get(reader.versions[0]!.files[0]!.href).expect(302);
+    const location = new URL(dl.headers.location!);
+    expect(location.origin).toBe(new URL(h.env.S3_ENDPOINT).origin);
+    expect(location.searchParams.get('X-Amz-Expires')).toBe('3600');
+    const bytes = Buffer.from(await (await fetch(location)).arrayBuffer());
+    expect(createHash('sha256').update(bytes).digest('hex')).toBe(file.sha256);
+    expect((await h.http.get(`/api/figures/${slug}/versions/2/files/png`)).status).toBe(404);
+    expect((await h.http.get(`/api/figures/${slug}/versions/1/files/tiff`)).status).toBe(404);
+    expect((await as(h.http.post(`/api/figures/${slug}/unpublish`), outsider)).status).toBe(403);
+  });
+
+  it('lists published figures publicly, filtered by lattice, background and n on the server', async () => {
+    const mine = (q: string) =>
+      h.http
+        .get(`/api/figures${q}`)
+        .expect(200)
+        .then((r) => listFiguresResponseSchema.parse(r.body).figures.filter((f) => f.slug === slug));
+    expect(await mine('')).toHaveLength(1);
+    expect(await mine('?lattice=square&background=constant&nMin=16&nMax=16')).toHaveLength(1);
+    expect(await mine('?lattice=triangular')).toHaveLength(0);
+    expect(await mine('?background=checkerboard')).toHaveLength(0);
+    expect(await mine('?nMin=17')).toHaveLength(0);
+    expect(await mine('?nMax=15')).toHaveLength(0);
+    const bad = await h.http.get('/api/figures?nMin=10&nMax=5');
+    expect(bad.status).toBe(400);
+    expect(bad.body.error).toMatch(/nMin must not exceed nMax/);
+  });
+
+  it('mails whoever ordered a ready version a presigned link, once', async () => {
+    const [v1] = await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, figureId)).orderBy(figureVersions.number);
+    const deps = { db: h.deps.db, mailer: h.deps.mailer, blobs: h.deps.blobs, env: h.env };
+    expect(await sendFigureReadyMail(deps, v1!.id)).toBe('sent');
+    expect(await sendFigureReadyMail(deps, v1!.id)).toBe('already-sent');
+    const mail = await waitForMail(h.env, authorEmail, /Print ready/);
+    expect(mail.subject).toContain('version 1');
+    const link = /(http:\/\/\S+X-Amz-Signature=\S+)/.exec(mail.text)?.[1];
+    expect(link).toBeDefined();
+    expect((await fetch(link!)).status).toBe(200);
+    expect(mail.text).toContain(v1!.files[0]!.sha256);
+  });
+
+  it('unpublishing keeps the link answering "withdrawn"; the lab still sees everything', async () => {
+    await as(h.http.post(`/api/figures/${slug}/unpublish`), author).expect(200);
+    const reader = figureResponseSchema.parse((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
+    expect(reader).toMatchObject({ withdrawn: true, slug, title: `Ordered ${h.tag}` });
+    expect(reader.withdrawn && Date.parse(reader.withdrawnAt)).toBeGreaterThan(0);
+    const stranger = figureResponseSchema.parse((await as(h.http.get(`/api/figures/${slug}`), outsider).expect(200)).body);
+    expect(stranger.withdrawn).toBe(true);
+    const lab = detail((await as(h.http.get(`/api/figures/${slug}`), author).expect(200)).body);
+    expect(lab.withdrawnAt).not.toBeNull();
+    const listed = listFiguresResponseSchema.parse((await h.http.get('/api/figures').expect(200)).body).figures;
+    expect(listed.map((f) => f.slug)).not.toContain(slug);
+    expect((await h.http.get(`/api/figures/${slug}/versions/1/files/png`)).status).toBe(404);
+    expect((await as(h.http.post(`/api/figures/${slug}/unpublish`), author)).status).toBe(409);
+
+    // publishing again restores it, keeping the first publication date
+    const again = detail((await as(h.http.post(`/api/figures/${slug}/publish`), author).expect(200)).body);
+    expect(again.withdrawnAt).toBeNull();
+    expect(detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body).slug).toBe(slug);
+  });
+
+  it('re-rendering makes the newest ready version the one the link shows, with the history kept', async () => {
+    await markReady(h, figureId, 2);
+    const reader = detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
+    expect(reader.latestVersion).toBe(2);
+    expect(reader.versions.map((v) => v.number)).toEqual([2, 1]);
+  });
+});

@@ -1,0 +1,126 @@
+import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import type { Browser } from 'playwright-core';
+import { DEMO_OTHER_LAB, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
+import http, { type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { createApp } from '../../api/src/app.js';
+import type { AppDeps } from '../../api/src/deps.js';
+import { createFarmHealth, type FarmHealth } from '../../api/src/queue/farm-health.js';
+import { DIST_DIR, startStack, type Stack } from './stack.js';
+
+/**
+ * The admin console's "done when", as a newcomer would do it in headless Chromium on the demo data:
+ * sign in as the demo admin, follow the masthead to the console, find the lab over quota, grant it
+ * credits with a reason, and see the grant and the new balance in the audit trail and the charts.
+ */
+describe('the admin console in the browser', () => {
+  let stack: Stack;
+  let browser: Browser;
+  let farm: FarmHealth;
+  let server: Server;
+  /** the same app and services as the stack, with the farm page reading the stack's own BullMQ prefix */
+  let url: string;
+  const admin = DEMO_SIGN_INS.find((d) => d.role === 'admin')!;
+
+  beforeAll(async () => {
+    stack = await startStack();
+    await seedDemo(stack.env, { queuePrefix: stack.queuePrefix });
+    farm = createFarmHealth(stack.env.REDIS_URL, { prefix: stack.queuePrefix });
+    server = http.createServer(createApp({ ...stack.deps, farm } as AppDeps, { distDir: DIST_DIR }));
+    await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', () => resolve()));
+    url = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+    browser = await launchBrowser();
+  });
+  afterAll(async () => {
+    await browser?.close();
+    server?.closeAllConnections();
+    await new Promise((r) => server?.close(r));
+    await farm?.close();
+    await stack?.close();
+  });
+
+  test('an admin finds the lab over quota, grants it credits with a reason, and sees grant and balance in the trail and the charts', async () => {
+    const page = await newPage(browser, url);
+    await signIn(page, admin.email, admin.password);
+    await page.getByRole('navigation', { name: 'main' }).getByRole('link', { name: 'Site admin' }).click();
+    await page.waitForURL((u) => u.pathname === '/admin');
+
+    // the overview names the lab over quota first thing
+    const attention = page.getByRole('list', { name: 'needs attention' });
+    const flagged = attention.locator('li', { hasText: DEMO_OTHER_LAB });
+    await flagged.getByText('over quota').waitFor();
+    await screenshot(page, 'admin-overview');
+    await flagged.getByRole('link', { name: DEMO_OTHER_LAB }).click();
+    await page.waitForURL((u) => u.searchParams.get('tab') === 'usage');
+
+    // the usage table agrees, the lab's detail opens with its charts
+    const table = page.getByRole('table', { name: 'lab usage' });
+    const row = table.locator('tbody tr', { hasText: DEMO_OTHER_LAB });
+    await row.getByText('over quota').waitFor();
+    // sorted by standing, so the lab over quota is the first row
+    expect(await table.locator('tbody tr').first().textContent()).toContain(DEMO_OTHER_LAB);
+    const detail = page.getByTestId('lab-detail');
+    await detail.getByRole('heading', { name: DEMO_OTHER_LAB }).waitFor();
+    expect(await detail.getByTestId('lab-available').textContent()).toBe('0 credits');
+    const balanceChart = detail.getByTestId('chart-balance');
+    await balanceChart.locator('.recharts-line-dot').first().waitFor();
+    const dotsBefore = await balanceChart.locator('.recharts-line-dot').count();
+    await screenshot(page, 'admin-over-quota');
+
+    // the reason is required: the form says so beside the field and books nothing
+    const form = page.getByRole('form', { name: 'grant or revoke credits' });
+    await form.getByLabel('Credits').fill('1500');
+    await form.getByRole('button', { name: 'Grant credits' }).click();
+    await form.getByText('give a reason of at least 3 characters').waitFor();
+    await form.getByLabel('Reason').fill('pilot extended to the spring term');
+    await form.getByRole('button', { name: 'Grant credits' }).click();
+    await form.getByText('Granted 1,500 credits').waitFor();
+
+    // the new balance, the standing and the balance chart follow
+    await expect.poll(() => detail.getByTestId('lab-available').textContent()).toBe('1,500 credits');
+    await row.getByText('within quota').waitFor();
+    await expect.poll(() => balanceChart.locator('.recharts-line-dot').count()).toBe(dotsBefore + 1);
+    expect(await balanceChart.textContent()).toContain('now 1,500 credits');
+    // the month's "granted" bar appears in the credits chart and in the month table
+    await detail.getByTestId('chart-credits').locator('.recharts-bar-rectangle path').first().waitFor();
+    const month = new Date().toISOString().slice(0, 7);
+    const monthRow = page.getByRole('table', { name: 'usage by month' }).locator('tbody tr', { hasText: month });
+    expect(await monthRow.locator('td').nth(2).textContent()).toBe('1,500');
+    await detail.scrollIntoViewIfNeeded();
+    await screenshot(page, 'admin-after-grant');
+
+    // the trail, filtered to the lab and the kind, shows who granted how much and why
+    await page.getByRole('navigation', { name: 'admin sections' }).getByRole('link', { name: 'Audit trail' }).click();
+    const filters = page.getByRole('form', { name: 'filter the trail' });
+    await filters.getByLabel('Lab').selectOption({ label: DEMO_OTHER_LAB });
+    await filters.getByLabel('Kind').selectOption('credits.grant');
+    const trail = page.getByRole('table', { name: 'audit trail' });
+    const grant = trail.locator('tbody tr', { hasText: 'credits.grant' });
+    await grant.waitFor();
+    await expect.poll(() => trail.locator('tbody tr').count()).toBe(1);
+    expect(await grant.textContent()).toContain('Ysolde Marchetti');
+    expect(await grant.textContent()).toContain('pilot extended to the spring term');
+    expect(await grant.textContent()).toContain('credits: 1500');
+    await screenshot(page, 'admin-audit-trail');
+
+    // the lab-wide trail also holds the allowance cut that put it over quota, with its reason
+    await filters.getByLabel('Kind').selectOption('');
+    await trail.locator('tbody tr', { hasText: 'lab.allowance' }).getByText('pilot lab: a small free allowance while the farm is busy').waitFor();
+  });
+
+  test('the farm page lists the demo runs waiting on the compute queue, and storage shows the retention rule', async () => {
+    const page = await newPage(browser, url);
+    await signIn(page, admin.email, admin.password, '/admin?tab=farm');
+    const queues = page.getByRole('table', { name: 'queues' });
+    const compute = queues.locator('tbody tr', { hasText: 'tw-compute' });
+    // the seed queues every demo run (api/src/seed/demo.ts) and no worker runs in this test
+    await expect.poll(() => compute.locator('td').nth(1).textContent()).toBe('6');
+    await page.getByText('No worker is alive').waitFor();
+    await screenshot(page, 'admin-farm');
+    await page.getByRole('navigation', { name: 'admin sections' }).getByRole('link', { name: 'Storage' }).click();
+    await page.getByText('Retention of unpublished runs').waitFor();
+    await page.getByRole('table', { name: 'storage' }).locator('tbody tr', { hasText: DEMO_OTHER_LAB }).waitFor();
+    await screenshot(page, 'admin-storage');
+  });
+});

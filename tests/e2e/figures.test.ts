@@ -1,0 +1,122 @@
+import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import sharp from 'sharp';
+import { hashPassword } from '../../api/src/auth/passwords.js';
+import { labs, memberships, users } from '../../drizzle/schema.js';
+import { pixelsFor } from '../../shared/print.js';
+import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
+import { startStack, type Stack } from './stack.js';
+
+const PASSWORD = 'figure-press-passphrase';
+
+/** Call the API from the signed-in page, the way the web app does (cookies plus the CSRF header). */
+async function apiCall<T>(page: Page, method: string, path: string, body?: unknown): Promise<{ status: number; body: T }> {
+  return page.evaluate(
+    async ({ method, path, body }) => {
+      const csrf = decodeURIComponent(document.cookie.split('; ').find((c) => c.startsWith('tw_csrf='))?.slice(8) ?? '');
+      const res = await fetch(path, { method, headers: { 'Content-Type': 'application/json', 'X-CSRF-Token': csrf }, body: body === undefined ? undefined : JSON.stringify(body) });
+      return { status: res.status, body: (await res.json()) as T };
+    },
+    { method, path, body },
+  );
+}
+
+/**
+ * The figure publisher end to end, with the real API and a real farm worker: an author composes a
+ * figure from a finished run, orders it, sees it ready, publishes it; a reader opens the permanent
+ * link signed out; the author unpublishes; the reader sees that it was withdrawn.
+ */
+describe('figures in the browser', () => {
+  let stack: Stack;
+  let browser: Browser;
+  let worker: Awaited<ReturnType<typeof startFarmWorker>>;
+  const email = 'ada.printer@figures.e2e.toppleworks.local';
+
+  beforeAll(async () => {
+    stack = await startStack();
+    worker = await startFarmWorker(stack.env, { prefix: stack.queuePrefix, threads: 2 });
+    browser = await launchBrowser();
+    // an invented author in an invented lab
+    const [u] = await stack.deps.db.insert(users).values({ email, name: 'Ada Printer', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
+    const [lab] = await stack.deps.db.insert(labs).values({ name: 'Sandpile Press Lab' }).returning();
+    await stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
+    const { eq } = await import('drizzle-orm');
+    await stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
+  }, 60_000);
+  afterAll(async () => {
+    await browser?.close();
+    await worker?.close();
+    await stack?.close();
+  });
+
+  test('compose, order, see it ready, publish, read signed out, unpublish, see "withdrawn"', { timeout: 180_000 }, async () => {
+    const page = await newPage(browser, stack.url);
+    await signIn(page, email, PASSWORD);
+    const me = await apiCall<{ activeLabId: string }>(page, 'GET', '/api/me');
+    const submitted = await apiCall<{ run: { id: string } }>(page, 'POST', '/api/runs', { labId: me.body.activeLabId, title: 'A thousand grains for print', spec: { lattice: { preset: 'square' }, chips: 1000 } });
+    expect(submitted.status).toBe(201);
+    await expect
+      .poll(async () => (await apiCall<{ run: { status: string } }>(page, 'GET', `/api/runs/${submitted.body.run.id}`)).body.run.status, { timeout: 90_000, interval: 500 })
+      .toBe('finished');
+
+    // compose: the proof follows the settings, the engine's warnings are shown in words
+    await page.goto('/figures/new');
+    await page.getByLabel('Title').fill('A thousand grains on Z²');
+    await page.getByLabel(/^Caption/).fill('Final stable heights after 1000 grains are added at the origin of the square lattice.');
+    await page.getByTestId('proof').waitFor();
+    await page.getByLabel('Magnification').selectOption('fixed');
+    await page.getByLabel('px per cell').fill('200');
+    await page.getByTestId('proof-warnings').getByText(/cannot be met at this resolution/).waitFor();
+    await screenshot(page, 'figures-compose-warning');
+    await page.getByLabel('px per cell').fill('8');
+    await expect.poll(() => page.getByTestId('proof-warnings').count()).toBe(0);
+    await page.getByText(/Every cell prints as 8 × 8 printed pixels/).waitFor();
+    // the proof's panel image has loaded from the run's stored whole-pile image
+    await expect.poll(() => page.locator('[data-testid="proof"] image').count()).toBe(1);
+    await page.waitForTimeout(500);
+    await screenshot(page, 'figures-compose');
+    await page.getByRole('button', { name: 'Create the figure' }).click();
+    await page.waitForURL(/\/lab\/figures\/a-thousand-grains-on-z2$/);
+
+    // order: a version on the farm, then ready with its files listed
+    await page.getByRole('button', { name: 'Order the print' }).click();
+    await expect.poll(() => page.getByTestId('version-1-status').textContent(), { timeout: 90_000 }).toBe('ready');
+    const files = page.getByTestId('figure-files');
+    await files.getByText('a-thousand-grains-on-z2-v1.pdf').waitFor();
+    await expect.poll(async () => (await files.locator('tbody tr').count())).toBe(3);
+    await screenshot(page, 'figures-ready');
+
+    // the PNG behind the listed link is the ordered size: 90 mm wide at 300 DPI = 1063 px (../shared/facts.md §7)
+    const href = await files.getByRole('link', { name: 'a-thousand-grains-on-z2-v1.png' }).getAttribute('href');
+    // with the signed-in page's cookies (the figure is still private), following the redirect to the object store
+    const download = await page.request.get(new URL(href!, stack.url).toString());
+    expect(download.status()).toBe(200);
+    const png = await download.body();
+    expect((await sharp(png).metadata()).width).toBe(pixelsFor(90, 300));
+
+    await page.getByRole('button', { name: 'Publish' }).click();
+    await page.getByText('Anyone with the link can read').waitFor();
+
+    // a reader without an account follows the permanent link
+    const reader = await newPage(browser, stack.url);
+    await reader.goto('/f/a-thousand-grains-on-z2');
+    await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
+    await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
+    await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2,/);
+    await reader.getByTestId('figure-zoom').waitFor({ timeout: 20_000 });
+    await reader.waitForTimeout(1000);
+    await screenshot(reader, 'figures-reader');
+    await reader.goto('/figures');
+    await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
+
+    // the author withdraws it; the link keeps answering, saying so
+    await page.getByRole('button', { name: 'Unpublish' }).click();
+    await page.getByText(/^Withdrawn on/).waitFor();
+    await reader.goto('/f/a-thousand-grains-on-z2');
+    await reader.getByTestId('figure-withdrawn').getByText('“A thousand grains on Z²” was withdrawn').waitFor();
+    await screenshot(reader, 'figures-withdrawn');
+    await reader.goto('/figures');
+    await reader.getByText('Nothing published yet').waitFor();
+  });
+});

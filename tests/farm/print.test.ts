@@ -1,0 +1,158 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import sharp from 'sharp';
+import { eq } from 'drizzle-orm';
+import { figureVersions } from '../../drizzle/schema.js';
+import { figureResponseSchema, type FigureDetail, type FigureVersion } from '../../shared/api/figures.js';
+import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import { figureSpecSchema, layoutFigure, pixelsFor } from '../../shared/print.js';
+import { readNpy } from '../../renderer/src/npy/index.js';
+import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
+import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { waitForMail } from '../api/support/outbox.js';
+
+let h: Harness;
+let author: Session;
+let authorEmail: string;
+let labId: string;
+let farm: Awaited<ReturnType<typeof startFarmWorker>>;
+let run: Run;
+
+const detail = (body: unknown): FigureDetail => {
+  const parsed = figureResponseSchema.parse(body);
+  if (parsed.withdrawn) throw new Error('figure withdrawn');
+  return parsed.figure;
+};
+
+async function until<T>(what: string, probe: () => Promise<T | null>, timeoutMs = 90_000): Promise<T> {
+  const end = Date.now() + timeoutMs;
+  for (;;) {
+    const v = await probe();
+    if (v !== null) return v;
+    if (Date.now() > end) throw new Error(`timed out waiting for ${what}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}
+
+beforeAll(async () => {
+  h = await startHarness('print-farm');
+  const a = await createUser(h, 'Print Author');
+  authorEmail = a.email;
+  labId = await createLab(h, 'Print Lab', [{ userId: a.id, role: 'author' }]);
+  author = await signIn(h, a.email, TEST_PASSWORD);
+  farm = await startFarmWorker(h.env, { prefix: h.queuePrefix, threads: 1 });
+  const res = await as(h.http.post('/api/runs'), author).send({ labId, title: 'A thousand grains to print', spec: { lattice: { preset: 'square' }, chips: 1000 } });
+  expect(res.status, JSON.stringify(res.body)).toBe(201);
+  const id = runResponseSchema.parse(res.body).run.id;
+  run = await until('the run to finish', async () => {
+    const r = runResponseSchema.parse((await as(h.http.get(`/api/runs/${id}`), author).expect(200)).body).run;
+    if (r.status === 'failed' || r.status === 'cancelled') throw new Error(`run ${r.status}: ${r.error}`);
+    return r.status === 'finished' ? r : null;
+  });
+}, 120_000);
+afterAll(async () => {
+  await farm?.close();
+  await h?.close();
+});
+
+async function printed(slug: string, number: number): Promise<FigureVersion> {
+  return until(`version ${number} of ${slug}`, async () => {
+    const v = detail((await as(h.http.get(`/api/figures/${slug}`), author).expect(200)).body).versions.find((x) => x.number === number);
+    if (v?.status === 'failed') throw new Error(`print failed: ${v.error}`);
+    return v?.status === 'ready' ? v : null;
+  });
+}
+
+describe('the figure.print job', () => {
+  it('prints a figure of a real n = 1000 run: files stored, PNG of size × DPI, cells exactly the run\'s heights, mail sent', { timeout: 120_000 }, async () => {
+    const spec = {
+      panels: [{ runId: run.id, layer: 'heights', magnification: 2 }],
+      size: { kind: 'column', column: 'single', heightMm: 80 },
+      dpi: 300,
+      scaleBar: { unit: 'lattice' },
+      caption: { text: 'Final heights of 1000 grains on Z².' },
+    };
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Thousand grains ${h.tag}`, spec }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png', 'tiff', 'pdf'] }).expect(202);
+    const v = await printed(f.slug, 1);
+
+    // every ordered file is in the store, with the size and checksum listed on the figure's page
+    expect(v.files.map((x) => x.format).sort()).toEqual(['pdf', 'png', 'tiff']);
+    const [row] = await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id));
+    for (const file of row!.files) {
+      const bytes = await h.deps.blobs.get(file.key);
+      expect(bytes?.length, file.key).toBe(file.bytes);
+    }
+
+    // pixels = round(size in inches × DPI): 90 mm at 300 DPI = 1063 px, 80 mm = 945 px (../shared/facts.md §7)
+    const png = (await h.deps.blobs.get(row!.files.find((x) => x.format === 'png')!.key))!;
+    const meta = await sharp(png).metadata();
+    expect([meta.width, meta.height]).toEqual([pixelsFor(90, 300), pixelsFor(80, 300)]);
+    expect(pixelsFor(90, 300)).toBe(1063);
+    // the resolution is recorded in the file (sharp reads the PNG pHYs chunk back as DPI)
+    expect(Math.round(meta.density ?? 0)).toBe(300);
+
+    // at magnification 2 every cell is a 2 × 2 block of one colour, and colours stand one-to-one for heights
+    const heights = readNpy(new Uint8Array((await h.deps.blobs.get(arrayKeys(run.id).heights))!));
+    const [H, W] = heights.shape as [number, number];
+    const layout = layoutFigure(figureSpecSchema.parse(spec), [{ runId: run.id, shape: run.stats!.shape, origin: run.stats!.origin, chips: 1000 }]);
+    const panel = layout.panels[0]!;
+    expect(panel.cellPx).toBe(2);
+    const { data, info } = await sharp(png).removeAlpha().raw().toBuffer({ resolveWithObject: true });
+    const colourOf = new Map<number, string>();
+    const heightOf = new Map<string, number>();
+    let mismatches = 0;
+    for (let y = 0; y < H; y++) {
+      for (let x = 0; x < W; x++) {
+        const hgt = Number(heights.data[y * W + x]);
+        const block: string[] = [];
+        for (const [dy, dx] of [[0, 0], [0, 1], [1, 0], [1, 1]]) {
+          const o = ((panel.image.y + y * 2 + dy!) * info.width + panel.image.x + x * 2 + dx!) * info.channels;
+          block.push(`${data[o]},${data[o + 1]},${data[o + 2]}`);
+        }
+        const c = block[0]!;
+        if (block.some((b) => b !== c)) mismatches++;
+        if ((colourOf.get(hgt) ?? c) !== c || (heightOf.get(c) ?? hgt) !== hgt) mismatches++;
+        colourOf.set(hgt, c);
+        heightOf.set(c, hgt);
+      }
+    }
+    expect(mismatches).toBe(0);
+    // stable heights on Z^2 are 0..3 (common practice: the threshold rule), and all four occur
+    expect([...colourOf.keys()].sort()).toEqual([0, 1, 2, 3]);
+
+    // the PDF's page box is the ordered size (1 pt = 1/72 in, ISO 32000-1), its text is real text
+    const pdfjs = await import('pdfjs-dist/legacy/build/pdf.mjs');
+    const pdf = (await h.deps.blobs.get(row!.files.find((x) => x.format === 'pdf')!.key))!;
+    const doc = await pdfjs.getDocument({ data: new Uint8Array(pdf), disableFontFace: true, verbosity: 0 }).promise;
+    const page = await doc.getPage(1);
+    expect(Math.abs((page.view[2]! * 25.4) / 72 - 90)).toBeLessThan(0.1);
+    expect(Math.abs((page.view[3]! * 25.4) / 72 - 80)).toBeLessThan(0.1);
+    const text = (await page.getTextContent()).items.map((i) => ('str' in i ? i.str : '')).join(' ');
+    expect(text).toContain('1000 grains');
+
+    const mail = await waitForMail(h.env, authorEmail, /Print ready/, 10_000);
+    expect(mail.text).toContain(v.files[0]!.sha256);
+    const link = /(http:\/\/\S+X-Amz-Signature=\S+)/.exec(mail.text)![1]!;
+    expect((await fetch(link)).status).toBe(200);
+  });
+
+  it('records why an order failed, and stores no file', { timeout: 60_000 }, async () => {
+    // an order accepted by the API whose run's stored arrays are incomplete by the time it is printed
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Vanishing ${h.tag}`, spec: { panels: [{ runId: run.id }], size: { kind: 'column', column: 'single' }, dpi: 150 } }).expect(201)).body);
+    const saved = (await h.deps.blobs.get(arrayKeys(run.id).sidecar))!;
+    await h.deps.blobs.delete(arrayKeys(run.id).sidecar);
+    try {
+      await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+      const v = await until('the failure', async () => {
+        const x = detail((await as(h.http.get(`/api/figures/${f.slug}`), author).expect(200)).body).versions[0];
+        return x?.status === 'failed' ? x : null;
+      });
+      expect(v.error).toMatch(/arrays of run .* are not in the store/);
+      expect(v.files).toEqual([]);
+      expect(await h.deps.blobs.list(`figures/${f.id}/`)).toEqual([]);
+    } finally {
+      await h.deps.blobs.put(arrayKeys(run.id).sidecar, saved, 'application/json');
+    }
+  });
+});
