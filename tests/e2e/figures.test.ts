@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import sharp from 'sharp';
+import { eq } from 'drizzle-orm';
 import { hashPassword } from '../../api/src/auth/passwords.js';
 import { labs, memberships, users } from '../../drizzle/schema.js';
 import { pixelsFor } from '../../shared/print.js';
@@ -41,7 +42,6 @@ describe('figures in the browser', () => {
     const [u] = await stack.deps.db.insert(users).values({ email, name: 'Ada Printer', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
     const [lab] = await stack.deps.db.insert(labs).values({ name: 'Sandpile Press Lab' }).returning();
     await stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
-    const { eq } = await import('drizzle-orm');
     await stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
   }, 60_000);
   afterAll(async () => {

@@ -137,6 +137,32 @@ describe('the figure.print job', () => {
     expect((await fetch(link)).status).toBe(200);
   });
 
+  it('prints a two-panel figure with one shared lattice scale, labels and caption as PDF text', { timeout: 60_000 }, async () => {
+    const spec = {
+      panels: [{ runId: run.id, layer: 'heights' }, { runId: run.id, layer: 'toppled', palette: 'newsprint' }],
+      grid: { rows: 1, cols: 2, sharedScale: 'lattice' },
+      size: { kind: 'paper', paper: 'A5', orientation: 'landscape' },
+      dpi: 150,
+      caption: { text: 'Heights beside the toppled sites.' },
+    };
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Side by side ${h.tag}`, spec }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png', 'pdf'] }).expect(202);
+    const v = await printed(f.slug, 1);
+    // A5 landscape = 210 × 148 mm (ISO 216) at 150 DPI: round(210 / 25.4 × 150) = 1240, round(148 / 25.4 × 150) = 874
+    expect([v.files[0]!.widthPx, v.files[0]!.heightPx]).toEqual([pixelsFor(210, 150), pixelsFor(148, 150)]);
+    expect([pixelsFor(210, 150), pixelsFor(148, 150)]).toEqual([1240, 874]);
+    const layout = layoutFigure(figureSpecSchema.parse(spec), [{ runId: run.id, shape: run.stats!.shape, origin: run.stats!.origin, chips: 1000 }]);
+    expect(layout.panels[0]!.pixelsPerCell).toBe(layout.panels[1]!.pixelsPerCell);
+    const [row] = await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id));
+    const pdf = (await h.deps.blobs.get(row!.files.find((x) => x.format === 'pdf')!.key))!;
+    const pdfjs = await import('pdfjs-dist/legacy/build/pdf.mjs');
+    const page = await (await pdfjs.getDocument({ data: new Uint8Array(pdf), disableFontFace: true, verbosity: 0 }).promise).getPage(1);
+    const text = (await page.getTextContent()).items.map((i) => ('str' in i ? i.str : '')).join(' ');
+    expect(text).toContain('(a)');
+    expect(text).toContain('(b)');
+    expect(text).toContain('Heights beside the toppled sites.');
+  });
+
   it('records why an order failed, and stores no file', { timeout: 60_000 }, async () => {
     // an order accepted by the API whose run's stored arrays are incomplete by the time it is printed
     const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Vanishing ${h.tag}`, spec: { panels: [{ runId: run.id }], size: { kind: 'column', column: 'single' }, dpi: 150 } }).expect(201)).body);

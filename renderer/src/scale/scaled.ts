@@ -45,6 +45,8 @@ export interface ScaleOptions {
   onLevel?: (info: LevelInfo) => void;
   /** growth of the seed error away from the source per level, beyond the value scaling (default 2) */
   bulkGain?: number;
+  /** override of the extra safety next to the source (tuning; see NEAR_SAFETY) */
+  nearSafety?: number;
   /** periodic snapshots; `save` runs synchronously while the state is still */
   checkpoint?: { everySeconds: number; save: (s: Snapshot) => void };
   /** continue from a snapshot of the same problem */
@@ -94,7 +96,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   const n = problem.sources[0]!.chips;
   const maxSites = options.maxSites ?? DEFAULT_MAX_SITES;
   const chips = levelChips(n, Math.max(1, options.baseChips ?? 2 ** 12));
-  const seedOpts = { alpha: options.alpha ?? 0.9, offset: options.offset ?? 32, bulkGain: options.bulkGain ?? 2 };
+  const seedOpts = { alpha: options.alpha ?? 0.9, offset: options.offset ?? 32, bulkGain: options.bulkGain ?? 2, nearSafety: options.nearSafety };
   const L = chips.length;
   // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
