@@ -30,7 +30,6 @@ export const certificateSchema = z.strictObject({
   /** how the odometer was computed: plain legal toppling, or coarse-to-fine seeding */
   method: z.enum(['legal', 'seeded']),
   passed: z.boolean(),
-  seconds: z.number().min(0),
 });
 export type Certificate = z.infer<typeof certificateSchema>;
 

@@ -30,6 +30,8 @@ describe('S3 blob store', () => {
   it('lists by prefix, deletes, and answers null for a missing key', async () => {
     await store.put(`${prefix}dir/x`, 'x', 'text/plain');
     expect((await store.list(prefix)).sort()).toEqual([`${prefix}a.bin`, `${prefix}b.json`, `${prefix}dir/x`]);
+    expect(await store.usage(`${prefix}dir/`)).toEqual({ bytes: 1, objects: 1 });
+    expect(await store.usage(`${prefix}nothing/`)).toEqual({ bytes: 0, objects: 0 });
     await store.delete(`${prefix}dir/x`);
     expect(await store.get(`${prefix}dir/x`)).toBeNull();
     expect(await store.list(`${prefix}dir/`)).toEqual([]);

@@ -43,6 +43,7 @@ describe('migrations from an empty database', () => {
       'background_uploads',
       'credit_purchases',
       'email_tokens',
+      'figure_versions',
       'figures',
       'invitations',
       'labs',

@@ -33,7 +33,7 @@ import { allLabUsage, monthsUpTo, usageCsv } from '../services/admin-usage.js';
 export type AdminConsoleDeps = AppDeps & { farm?: FarmHealth };
 
 export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
-  const { db, env, queue, mailer } = deps;
+  const { db, env, queue, mailer, blobs } = deps;
   const r = Router();
   r.use('/admin', requireUser, requireAdmin);
 
@@ -50,7 +50,7 @@ export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
   async function usage(months: number) {
     const now = new Date();
     const list = monthsUpTo(now, months);
-    return { month: monthOf(now), months: list, labs: await allLabUsage(db, list, await storedBytesByRun(env), now) };
+    return { month: monthOf(now), months: list, labs: await allLabUsage(db, list, await storedBytesByRun({ db, blobs }), now) };
   }
 
   r.get('/admin/usage', async (req, res) => {
@@ -104,12 +104,12 @@ export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
   });
 
   r.get('/admin/storage', async (_req, res) => {
-    respond(res, 200, adminStorageResponseSchema, await storageReport({ db, env }));
+    respond(res, 200, adminStorageResponseSchema, await storageReport({ db, blobs }));
   });
 
   r.post('/admin/labs/:labId/retention-notice', async (req, res) => {
     const { labId } = validate.params(req, labParamsSchema);
-    respond(res, 200, retentionNoticeResponseSchema, await sendRetentionNotice({ db, env, mailer }, labId, authOf(res).user.id));
+    respond(res, 200, retentionNoticeResponseSchema, await sendRetentionNotice({ db, env, mailer, blobs }, labId, authOf(res).user.id));
   });
 
   r.get('/admin/audit', async (req, res) => {

@@ -1,4 +1,3 @@
-import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3';
 import { and, desc, eq, inArray, isNotNull, isNull } from 'drizzle-orm';
 import { auditEvents, figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
 import { RETENTION_RULE, type AdminStorageResponse } from '../../../shared/api/admin.js';
@@ -8,40 +7,24 @@ import { htmlMail } from '../mail/layout.js';
 import type { Mailer, MailMessage } from '../mail/mailer.js';
 import { notFound, conflict } from '../http/http-error.js';
 import { audit } from './audit.js';
+import type { BlobStore } from '../storage/blob-store.js';
 
-type S3Settings = Pick<Env, 'S3_ENDPOINT' | 'S3_REGION' | 'S3_BUCKET' | 'S3_ACCESS_KEY_ID' | 'S3_SECRET_ACCESS_KEY'>;
 export type RunBytes = Map<string, { bytes: number; objects: number }>;
 
+/** Runs listed at once when summing storage: enough to hide latency, few enough for a small store. */
+const LISTINGS_AT_ONCE = 8;
+
 /**
- * Bytes stored per run: one listing of `runs/` with each object's size. The BlobStore interface
- * lists keys only, and asking for each object's size would cost a request per tile.
+ * Bytes stored per run, one listing of `runs/<id>/` per run (with sizes, so no request per tile).
+ * Per-run listings stay small and never walk objects that other runs are writing at that moment.
  */
-export async function storedBytesByRun(env: S3Settings): Promise<RunBytes> {
-  const client = new S3Client({
-    region: env.S3_REGION,
-    endpoint: env.S3_ENDPOINT,
-    forcePathStyle: true,
-    credentials: { accessKeyId: env.S3_ACCESS_KEY_ID, secretAccessKey: env.S3_SECRET_ACCESS_KEY },
-    requestChecksumCalculation: 'WHEN_REQUIRED',
-    responseChecksumValidation: 'WHEN_REQUIRED',
-  });
+export async function storedBytesByRun(deps: { db: Db; blobs: BlobStore }): Promise<RunBytes> {
+  const ids = (await deps.db.select({ id: runs.id }).from(runs)).map((r) => r.id);
   const out: RunBytes = new Map();
-  try {
-    let token: string | undefined;
-    do {
-      const page = await client.send(new ListObjectsV2Command({ Bucket: env.S3_BUCKET, Prefix: 'runs/', ContinuationToken: token }));
-      for (const o of page.Contents ?? []) {
-        const runId = o.Key?.split('/')[1];
-        if (!runId) continue;
-        const s = out.get(runId) ?? { bytes: 0, objects: 0 };
-        s.bytes += o.Size ?? 0;
-        s.objects += 1;
-        out.set(runId, s);
-      }
-      token = page.IsTruncated ? page.NextContinuationToken : undefined;
-    } while (token);
-  } finally {
-    client.destroy();
+  for (let i = 0; i < ids.length; i += LISTINGS_AT_ONCE) {
+    const batch = ids.slice(i, i + LISTINGS_AT_ONCE);
+    const sizes = await Promise.all(batch.map((id) => deps.blobs.usage(`runs/${id}/`)));
+    batch.forEach((id, k) => sizes[k]!.objects > 0 && out.set(id, sizes[k]!));
   }
   return out;
 }
@@ -60,8 +43,8 @@ export function dueForNotice(expiresAt: Date | null, now: Date): boolean {
 }
 
 /** Storage per lab with each run's size, published state, end of retention and the notice already mailed. */
-export async function storageReport(deps: { db: Db; env: S3Settings }, now = new Date()): Promise<AdminStorageResponse> {
-  const bytes = await storedBytesByRun(deps.env);
+export async function storageReport(deps: { db: Db; blobs: BlobStore }, now = new Date()): Promise<AdminStorageResponse> {
+  const bytes = await storedBytesByRun(deps);
   const rows = await deps.db
     .select({ id: runs.id, title: runs.title, labId: runs.labId, finishedAt: runs.finishedAt, labName: labs.name })
     .from(runs)
@@ -110,7 +93,7 @@ export function retentionMail(publicUrl: string, to: string, labName: string, it
 }
 
 /** Mail a lab's managers about its runs in the notice period, once per run; each notice is an audit event. */
-export async function sendRetentionNotice(deps: { db: Db; env: Env; mailer: Mailer }, labId: string, actorId: string, now = new Date()) {
+export async function sendRetentionNotice(deps: { db: Db; env: Env; mailer: Mailer; blobs: BlobStore }, labId: string, actorId: string, now = new Date()) {
   const report = await storageReport(deps, now);
   const lab = report.labs.find((l) => l.labId === labId);
   if (!lab) throw notFound('lab not found');

@@ -17,6 +17,8 @@ export interface BlobStore {
   exists(key: string): Promise<boolean>;
   delete(key: string): Promise<void>;
   list(prefix: string): Promise<string[]>;
+  /** bytes and objects stored under a prefix, from the listing (no request per object) */
+  usage(prefix: string): Promise<{ bytes: number; objects: number }>;
   /** a time-limited GET address for a reader's browser */
   signedUrl(key: string, expiresInSeconds: number): Promise<string>;
   /** cheap liveness check for /api/health/ready */

@@ -8,6 +8,7 @@ import {
   NoSuchKey,
   PutObjectCommand,
   S3Client,
+  type _Object,
 } from '@aws-sdk/client-s3';
 import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
 import type { Env } from '../../../shared/env.js';
@@ -31,6 +32,15 @@ function s3Client(env: S3Settings): S3Client {
 export function createS3BlobStore(env: S3Settings): BlobStore {
   const client = s3Client(env);
   const Bucket = env.S3_BUCKET;
+  /** every object under a prefix, page by page */
+  async function eachObject(prefix: string, visit: (o: _Object) => void): Promise<void> {
+    let token: string | undefined;
+    do {
+      const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }));
+      for (const o of page.Contents ?? []) visit(o);
+      token = page.IsTruncated ? page.NextContinuationToken : undefined;
+    } while (token);
+  }
   return {
     async put(key, body, contentType) {
       await client.send(new PutObjectCommand({ Bucket, Key: key, Body: body, ContentType: contentType }));
@@ -69,13 +79,16 @@ export function createS3BlobStore(env: S3Settings): BlobStore {
     },
     async list(prefix) {
       const keys: string[] = [];
-      let token: string | undefined;
-      do {
-        const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }));
-        for (const o of page.Contents ?? []) if (o.Key) keys.push(o.Key);
-        token = page.IsTruncated ? page.NextContinuationToken : undefined;
-      } while (token);
+      await eachObject(prefix, (o) => void (o.Key && keys.push(o.Key)));
       return keys;
+    },
+    async usage(prefix) {
+      const total = { bytes: 0, objects: 0 };
+      await eachObject(prefix, (o) => {
+        total.bytes += o.Size ?? 0;
+        total.objects += 1;
+      });
+      return total;
     },
     signedUrl(key, expiresIn) {
       return getSignedUrl(client, new GetObjectCommand({ Bucket, Key: key }), { expiresIn });

@@ -11,7 +11,6 @@ import { peel } from './peel.js';
  * reach), so the arrays are all that needs checking.
  */
 export function certify(problem: Problem, o: Outcome, extra: { method: Certificate['method']; repairRounds?: number }): Certificate {
-  const t0 = performance.now();
   const g = problem.lattice;
   const d = o.shape.length;
   const W = o.shape[d - 1]!, H = d >= 2 ? o.shape[d - 2]! : 1;
@@ -46,5 +45,5 @@ export function certify(problem: Problem, o: Outcome, extra: { method: Certifica
     minimal = peeledSites === 0;
   }
   const passed = stable && nonNegative && massConserved && minimal !== false;
-  return { stable, nonNegative, massConserved, minimal, peeledSites, repairRounds: extra.repairRounds ?? 0, method: extra.method, passed, seconds: (performance.now() - t0) / 1000 };
+  return { stable, nonNegative, massConserved, minimal, peeledSites, repairRounds: extra.repairRounds ?? 0, method: extra.method, passed };
 }
