@@ -1,3 +1,5 @@
+import { createHash } from 'node:crypto';
+import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -50,11 +52,38 @@ export function profileFor(name: ProfileName, root = ROOT): Profile {
   };
 }
 
+/** Whether other users (the postgres user among them) may pass through every existing folder above `dir`. */
+function othersCanReach(dir: string): boolean {
+  for (let d = path.resolve(dir); ; d = path.dirname(d)) {
+    let mode: number | null = null;
+    try {
+      mode = fs.statSync(d).mode;
+    } catch {
+      // not created yet: the folders above it decide
+    }
+    if (mode !== null && (mode & 0o001) === 0) return false;
+    if (path.dirname(d) === d) return true;
+  }
+}
+
+/**
+ * Where PostgreSQL's files of a project folder go. PostgreSQL refuses to run as root, so its
+ * cluster belongs to the postgres user, who must be able to walk down to it: a checkout inside a
+ * private folder (a mode-700 temporary folder, as CI clones use) keeps its clusters under
+ * /var/tmp instead, in a folder named after the checkout's path.
+ */
+export function postgresHome(dir: string): string {
+  if (othersCanReach(dir)) return dir;
+  const tag = createHash('sha256').update(path.resolve(dir)).digest('hex').slice(0, 16);
+  return path.join('/var/tmp', `toppleworks-${tag}`);
+}
+
 /** Folders of one profile. PostgreSQL's folder must be owned by the postgres user (see postgres.ts). */
 export function profileDirs(p: Profile) {
+  const pg = path.join(postgresHome(p.dir), 'pg');
   return {
-    pg: path.join(p.dir, 'pg'),
-    pgData: path.join(p.dir, 'pg', 'data'),
+    pg,
+    pgData: path.join(pg, 'data'),
     redis: path.join(p.dir, 'redis'),
     s3: path.join(p.dir, 's3'),
     mail: path.join(p.dir, 'mail'),

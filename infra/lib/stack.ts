@@ -2,7 +2,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { InfraError, type Log } from './log.js';
 import { startPostgres, stopPostgresIn, type PostgresHandle } from './postgres.js';
-import { profileDirs, ROOT, serviceEnv, type Profile } from './profile.js';
+import { postgresHome, profileDirs, ROOT, serviceEnv, type Profile } from './profile.js';
 import { acquireRunLock } from './run-lock.js';
 import { runOnce, tail, taskResult } from './run-once.js';
 import { checkPortsFree, exists, fakeSpecs, PRODUCT, redisSpec, TSX, waitForPort } from './services.js';
@@ -43,6 +43,8 @@ export class Stack {
     if (wipe) {
       await stopPostgresIn(this.dirs.pg, this.log);
       fs.rmSync(this.profile.dir, { recursive: true, force: true });
+      // the cluster may live outside the profile folder (see postgresHome)
+      fs.rmSync(this.dirs.pg, { recursive: true, force: true });
     }
     for (const d of [this.dirs.logs, this.dirs.run, this.dirs.s3, this.dirs.mail, this.dirs.payments]) fs.mkdirSync(d, { recursive: true });
   }
@@ -69,7 +71,7 @@ export class Stack {
     ready.catch(() => undefined); // observed below; keeps an early failure from being "unhandled"
     const test = p.name === 'test';
     this.pg = await startPostgres(
-      { dir: this.dirs.pg, port: p.ports.postgres, database: p.database, fast: test, templateDir: test ? path.join(ROOT, '.local', 'cache', 'pg-template') : undefined },
+      { dir: this.dirs.pg, port: p.ports.postgres, database: p.database, fast: test, templateDir: test ? path.join(postgresHome(path.join(ROOT, '.local', 'cache')), 'pg-template') : undefined },
       this.log,
     );
     await ready;
