@@ -8,6 +8,9 @@ export type Database = { db: Db; pool: pg.Pool; close(): Promise<void> };
 /** One pool per process; `close()` ends it so tests and scripts exit cleanly. */
 export function connectDatabase(databaseUrl: string, maxConnections = 10): Database {
   const pool = new pg.Pool({ connectionString: databaseUrl, max: maxConnections });
+  // An idle client whose server went away (a restart, a dropped test database) emits 'error' on the
+  // pool; unheard, that would end the process. The next query simply gets a fresh connection.
+  pool.on('error', (err) => console.error(`database connection lost: ${err.message}`));
   const db = drizzle(pool, { schema });
   return { db, pool, close: () => pool.end() };
 }
