@@ -1,14 +1,14 @@
 import { UnrecoverableError, type Job } from 'bullmq';
 import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
-import { JOB_NAMES, computeRunDataSchema, type JobOf } from '../../../shared/jobs.js';
-import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize, type Uploads } from '../engine/index.js';
+import { computeRunDataSchema } from '../../../shared/jobs.js';
+import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize } from '../engine/index.js';
 import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cli/export-arrays.js';
 import { toJson, type Sidecar } from '../cli/sidecar.js';
-import { heightsFromNpy } from '../cli/upload-array.js';
 import { writeNpy } from '../npy/index.js';
 import { radialProfile, type RadialProfile } from '../analysis/radial-profile.js';
-import { arrayKeys, uploadKey } from './artifacts.js';
+import { arrayKeys } from './artifacts.js';
+import { readStoredUpload } from './stored-arrays.js';
 import { runState } from './run-state.js';
 
 export interface ComputeDeps {
@@ -29,18 +29,6 @@ function unrecoverable(err: unknown): err is Error {
   return isEngineError(err);
 }
 
-async function loadUploads(store: BlobStore, data: JobOf<typeof JOB_NAMES.computeRun>): Promise<Uploads | undefined> {
-  const bg = data.spec.background;
-  if (bg.kind !== 'array') return undefined;
-  const bytes = await store.get(uploadKey(bg.sha256));
-  if (!bytes) throw new UnrecoverableError(`the uploaded background ${bg.sha256.slice(0, 12)}… is not in the store`);
-  try {
-    return { background: heightsFromNpy(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), 'uploaded background') };
-  } catch (err) {
-    throw new UnrecoverableError((err as Error).message);
-  }
-}
-
 /**
  * Stabilizes one run: the spec travels in the job, the arrays and statistics go to the object store,
  * the state to PostgreSQL; rendering is a job of its own so render workers can scale apart.
@@ -57,7 +45,7 @@ export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();
   try {
-    const problem = resolveProblem(data.spec, await loadUploads(deps.store, data));
+    const problem = resolveProblem(data.spec, await readStoredUpload(deps.store, data.spec.background));
     const outcome = await stabilize(problem, {
       threads: deps.threads,
       signal: abort.signal,

@@ -9,12 +9,10 @@ import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
 import { figures, figureVersions, runs, type FigureFileRecord } from '../../../drizzle/schema.js';
 import { printFigureDataSchema } from '../../../shared/jobs.js';
-import { heightsFromNpy } from '../cli/upload-array.js';
-import { resolveProblem, type Uploads } from '../engine/index.js';
-import { readNpy } from '../npy/index.js';
+import { resolveProblem } from '../engine/index.js';
 import { isPrintInputError, PRINT_CONTENT_TYPES, renderPrint, type PrintFormat, type PrintRun } from '../print/index.js';
 import { backgroundFromLattice, type RenderInput } from '../render/index.js';
-import { arrayKeys, uploadKey } from './artifacts.js';
+import { readStoredArrays, readStoredUpload } from './stored-arrays.js';
 
 export interface PrintDeps {
   db: Db;
@@ -36,32 +34,9 @@ export const printKey = (figureId: string, number: number, name: string) => `fig
 
 const EXTENSIONS: Record<PrintFormat, string> = { png: 'png', tiff: 'tif', pdf: 'pdf' };
 
-/** A run's final arrays from the store, as the print engine reads them. */
-async function readRun(store: BlobStore, runId: string): Promise<RenderInput> {
-  const keys = arrayKeys(runId);
-  const [h, u, side] = await Promise.all([store.get(keys.heights), store.get(keys.odometer), store.get(keys.sidecar)]);
-  if (!h || !u || !side) throw new UnrecoverableError(`the arrays of run ${runId} are not in the store`);
-  const heights = readNpy(new Uint8Array(h.buffer, h.byteOffset, h.byteLength));
-  const odo = readNpy(new Uint8Array(u.buffer, u.byteOffset, u.byteLength));
-  const odometer = new Float64Array(odo.data.length);
-  const toppled = new Uint8Array(odo.data.length);
-  for (let k = 0; k < odometer.length; k++) {
-    odometer[k] = Number(odo.data[k]!);
-    toppled[k] = odometer[k]! > 0 ? 1 : 0;
-  }
-  const sidecar = JSON.parse(side.toString('utf8')) as { heights?: { origin?: number[] } };
-  const origin = sidecar.heights?.origin ?? heights.shape.map((n) => Math.floor(n / 2));
-  return { shape: heights.shape, origin, heights: Int32Array.from(heights.data as ArrayLike<number>), odometer, toppled };
-}
-
 /** The run's initial heights, for the difference layer: the same background the engine started from. */
 async function backgroundOf(store: BlobStore, spec: (typeof runs.$inferSelect)['spec'], input: RenderInput) {
-  let uploads: Uploads | undefined;
-  if (spec.background.kind === 'array') {
-    const bytes = await store.get(uploadKey(spec.background.sha256));
-    if (!bytes) throw new UnrecoverableError(`the uploaded background of this run is not in the store`);
-    uploads = { background: heightsFromNpy(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), 'uploaded background') };
-  }
+  const uploads = await readStoredUpload(store, spec.background);
   const problem = resolveProblem(spec, uploads);
   return backgroundFromLattice((x, y, z) => problem.background.heightAt(x, y, z), input);
 }
@@ -93,7 +68,7 @@ export async function printRun(job: Job, deps: PrintDeps): Promise<'ready' | 'sk
     const runRows = await deps.db.select().from(runs).where(inArray(runs.id, ids));
     const printRuns: PrintRun[] = [];
     for (const r of runRows) {
-      const input = await readRun(deps.store, r.id);
+      const input = await readStoredArrays(deps.store, r.id);
       const needsBackground = v.spec.panels.some((p) => p.runId === r.id && p.layer === 'difference');
       printRuns.push({ runId: r.id, input, chips: r.spec.chips, background: needsBackground ? await backgroundOf(deps.store, r.spec, input) : undefined });
     }
