@@ -5,6 +5,9 @@
  *   --max-n N       largest n to run (default 1e6; cases are 10^5, 10^6, … up to N)
  *   --with-c-at N   also run the plain C sweep at this n (default: 10^5 only; repeatable)
  *   --no-c          skip the C comparator
+ *   --scale-max-n N largest n of the scaled fast path's table (tests/bench/scale.ts; default 1e6)
+ *   --scale-c-at N  C sweep for that table (default 1e6; --no-c skips it as well)
+ *   --lattices-at N other lattices and a random background in that table (default 1e6)
  *
  * Every engine case runs in a child process so peak RSS (getrusage maxRSS) is per case. Bytes per
  * cell subtract the baseline child (n = 0) and divide by the cells of the result array.
@@ -19,7 +22,14 @@ import { groupThousands, parseCount, powerOfTen } from '../../renderer/src/cli/n
 
 const here = dirname(fileURLToPath(import.meta.url));
 const { values } = parseArgs({
-  options: { 'max-n': { type: 'string' }, 'with-c-at': { type: 'string', multiple: true }, 'no-c': { type: 'boolean' } },
+  options: {
+    'max-n': { type: 'string' },
+    'with-c-at': { type: 'string', multiple: true },
+    'no-c': { type: 'boolean' },
+    'scale-max-n': { type: 'string' },
+    'scale-c-at': { type: 'string', multiple: true },
+    'lattices-at': { type: 'string' },
+  },
 });
 const maxN = parseCount('--max-n', values['max-n'] ?? '1e6', { min: 1 });
 const cAt = new Set((values['with-c-at'] ?? ['1e5']).map((v) => parseCount('--with-c-at', v, { min: 1 })));
@@ -108,6 +118,14 @@ console.log('\n' + line(header));
 console.log(widths.map((w) => '-'.repeat(w)).join('  '));
 for (const r of rows) console.log(line(r));
 console.log('\nbytes/cell = (peak RSS − baseline RSS) / cells of the result array; ours/C = our wall time over the C sweep at the same n');
+
+// the issue's table for the scaled fast path, in its own processes
+console.log('\n== scaled fast path ==');
+const scaleArgs = ['--max-n', values['scale-max-n'] ?? '1e6', '--lattices-at', values['lattices-at'] ?? '1e6'];
+if (values['no-c']) scaleArgs.push('--no-c');
+else for (const n of values['scale-c-at'] ?? ['1e6']) scaleArgs.push('--c-at', n);
+const scale = spawnSync(process.execPath, ['--import', 'tsx', join(here, 'scale.ts'), ...scaleArgs], { stdio: 'inherit' });
+if (scale.status !== 0) failures++;
 if (failures) {
   console.error(`${failures} check(s) failed`);
   process.exit(1);

@@ -57,7 +57,7 @@ describe('fast path equals the plain engine bit for bit', () => {
           }
           let plain: Outcome | null = null;
           try {
-            plain = await stabilize(p, { threads: 1, maxSites: 2 ** 20 });
+            plain = await stabilize(p, { threads: 1, maxSites: 2 ** 20, scaled: false });
           } catch (e) {
             if (!isEngineError(e, 'NotStabilizedError')) throw e;
           }
@@ -80,7 +80,7 @@ describe('fast path equals the plain engine bit for bit', () => {
 describe('seeding options never change the result', () => {
   it('square n = 20000: offsets, error weights and base levels all give the same outcome', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 20000 });
-    const plain = strip(await stabilize(p, { threads: 1 }));
+    const plain = strip(await stabilize(p, { threads: 1, scaled: false }));
     for (const opts of [{ offset: 0, alpha: 1.5 }, { offset: 0, alpha: 0, bulkGain: 0 }, { offset: 500 }, { baseChips: 4 }, { baseChips: 30000 }]) {
       const fast = await stabilizeScaled(p, opts);
       expect(strip(fast), JSON.stringify(opts)).toEqual(plain);
@@ -88,11 +88,21 @@ describe('seeding options never change the result', () => {
     }
   }, 120_000);
 
-  it('square n = 10^5 matches the C-loop-verified totals from the engine', async () => {
-    // 178,641,503 topplings and 43,677 toppled sites: the plain engine and the benchmark's C sweep agree on these
+  it('square n = 10^5 equals the plain tiled engine on two threads', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 100000 });
     const fast = await stabilizeScaled(p);
-    const plain = await stabilize(p, { threads: 2 });
+    const plain = await stabilize(p, { threads: 2, scaled: false });
+    expect(plain.stats.certificate?.method).toBe('legal');
     expect(strip(fast)).toEqual(strip(plain));
   }, 120_000);
+
+  it('square n = 10^6 gives the independently computed totals', async () => {
+    // regression values from an independent computation (../shared/scale-notes.md, "Exact values to
+    // check against"): 17,448,261,875 topplings, 431,009 toppled sites, 1,121,523 at the origin
+    const fast = await stabilize(problem({ lattice: { preset: 'square' }, chips: 1_000_000 }));
+    expect(fast.stats.certificate).toMatchObject({ method: 'seeded', passed: true, minimal: true });
+    expect(fast.stats.totalTopplings).toBe(17_448_261_875n);
+    expect(fast.stats.toppledSites).toBe(431_009);
+    expect(fast.stats.originOdometer).toBe(1_121_523n);
+  }, 180_000);
 });

@@ -101,10 +101,14 @@ export function buildOutcome(p: Problem, box: DenseBox, seconds: number): Outcom
     cz0 = Math.min(cz0, s.at[2]); cz1 = Math.max(cz1, s.at[2]);
   }
   const W = cx1 - cx0 + 1, H = cy1 - cy0 + 1, D = cz1 - cz0 + 1;
-  const heights = new Int32Array(W * H * D);
-  const odometer = new Float64Array(W * H * D);
+  // a box that already is the crop (the scaled path compacts in place) is adopted, not copied:
+  // at 10^9 grains a second copy would double the peak memory
+  const adopt = h instanceof Int32Array && W === nx && H === ny && D === nz && cx0 === -ox && cy0 === -oy && cz0 === -oz;
+  const heights = adopt ? (h as Int32Array) : new Int32Array(W * H * D);
+  const odometer = adopt ? od : new Float64Array(W * H * D);
   const toppled = new Uint8Array(W * H * D);
-  for (let z = 0; z < D; z++)
+  if (adopt) for (let i = 0; i < toppled.length; i++) toppled[i] = od[i]! > 0 ? 1 : 0;
+  else for (let z = 0; z < D; z++)
     for (let y = 0; y < H; y++)
       for (let x = 0; x < W; x++) {
         const X = x + cx0, Y = y + cy0, Z = z + cz0;

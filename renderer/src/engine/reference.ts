@@ -2,6 +2,7 @@ import { NotStabilizedError } from './errors.js';
 import { classOf } from './lattice.js';
 import { DEFAULT_MAX_SITES } from './limits.js';
 import { buildOutcome, type Outcome } from './outcome.js';
+import { certify } from '../scale/certificate.js';
 import type { Problem } from './problem.js';
 
 const SPAN = 2 ** 16;
@@ -84,5 +85,7 @@ export function stabilizeReference(problem: Problem, options: { maxSites?: numbe
         heights[i] = height.get(k) ?? bg.heightAt(x + x0, y + y0, z + z0);
         odometer[i] = fired.get(k) ?? 0;
       }
-  return buildOutcome(problem, { nx, ny, nz, ox: -x0, oy: -y0, oz: -z0, heights, odometer }, (performance.now() - t0) / 1000);
+  const outcome = buildOutcome(problem, { nx, ny, nz, ox: -x0, oy: -y0, oz: -z0, heights, odometer }, (performance.now() - t0) / 1000);
+  outcome.stats.certificate = certify(problem, outcome, { method: 'legal' });
+  return outcome;
 }

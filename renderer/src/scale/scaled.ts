@@ -37,14 +37,16 @@ export interface ScaleOptions {
   maxSites?: number;
   /** the coarsest level has at most this many grains and starts from a zero seed (default 2^12) */
   baseChips?: number;
-  /** flat safety offset subtracted from each seed (default 32) */
+  /** flat safety offset subtracted from each seed (default max(32, 0.25·√n_l)) */
   offset?: number;
   /** weight of the extrapolated error of the previous level (default 0.9) */
   alpha?: number;
   /** called after each level with what it cost (benchmarks and tuning) */
   onLevel?: (info: LevelInfo) => void;
-  /** growth of the seed error away from the source per level, beyond the value scaling (default 2) */
+  /** growth of the seed error away from the source per level, beyond the value scaling (default 1) */
   bulkGain?: number;
+  /** keep bulkGain fixed (default) instead of measuring it between levels (overshot at 10^6) */
+  fixedGain?: boolean;
   /** override of the extra safety next to the source (tuning; see NEAR_SAFETY) */
   nearSafety?: number;
   /** periodic snapshots; `save` runs synchronously while the state is still */
@@ -96,7 +98,16 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   const n = problem.sources[0]!.chips;
   const maxSites = options.maxSites ?? DEFAULT_MAX_SITES;
   const chips = levelChips(n, Math.max(1, options.baseChips ?? 2 ** 12));
-  const seedOpts = { alpha: options.alpha ?? 0.9, offset: options.offset ?? 32, bulkGain: options.bulkGain ?? 2, nearSafety: options.nearSafety };
+  // defaults measured on Z^2 at n = 10^6 (wall seconds, loaded machine): measured gain + offset 32: 7.7;
+  // error scaled like the values (gain 1) + offset 32: 4.5 (215 repair rounds); gain 1 + offset 250: 2.9
+  const seedOpts = {
+    alpha: options.alpha ?? 0.9,
+    offset: options.offset ?? 32,
+    offsetPerRootN: options.offset === undefined ? 0.25 : 0,
+    bulkGain: options.bulkGain ?? 1,
+    nearSafety: options.nearSafety,
+    fixedGain: options.fixedGain ?? true,
+  };
   const L = chips.length;
   // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
@@ -229,7 +240,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   }
   coarse = null;
   forEachGuard(grid, (i) => (grid.h[i] = grid.h[i]! + FROZEN));
-  const outcome = buildOutcome(problem, { nx: grid.W, ny: grid.H, nz: 1, ox: grid.ox, oy: grid.oy, oz: 0, heights: grid.h, odometer: grid.od }, 0);
+  const outcome = buildOutcome(problem, compactToCrop(grid, g.reach), 0);
   const certificate = certify(problem, outcome, { method: 'seeded', repairRounds });
   outcome.stats.certificate = certificate;
   outcome.stats.seconds = (performance.now() - t0) / 1000;
@@ -237,7 +248,29 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   return outcome;
 }
 
-function toppledBox(grid: ScaleGrid): Box {
+/**
+ * Moves the crop that buildOutcome would cut (toppled sites plus the lattice's reach) to the start of
+ * the grid's own arrays, row by row (each row moves to a lower index, so copying forwards is safe),
+ * and returns views of it: the outcome then adopts them instead of copying (peak memory).
+ */
+function compactToCrop(grid: ScaleGrid, reach: number) {
+  const t = toppledBox(grid, true);
+  const whole = { nx: grid.W, ny: grid.H, nz: 1, ox: grid.ox, oy: grid.oy, oz: 0, heights: grid.h, odometer: grid.od };
+  if (!t) return whole;
+  const x0 = t.x0 - reach + grid.ox, x1 = t.x1 + reach + grid.ox, y0 = t.y0 - reach + grid.oy, y1 = t.y1 + reach + grid.oy;
+  if (x0 < 0 || y0 < 0 || x1 >= grid.W || y1 >= grid.H) return whole;
+  const w = x1 - x0 + 1, hh = y1 - y0 + 1;
+  for (let y = 0; y < hh; y++) {
+    const from = (y + y0) * grid.W + x0;
+    grid.h.copyWithin(y * w, from, from + w);
+    grid.od.copyWithin(y * w, from, from + w);
+  }
+  return { nx: w, ny: hh, nz: 1, ox: grid.ox - x0, oy: grid.oy - y0, oz: 0, heights: grid.h.subarray(0, w * hh), odometer: grid.od.subarray(0, w * hh) };
+}
+
+function toppledBox(grid: ScaleGrid): Box;
+function toppledBox(grid: ScaleGrid, orNull: true): Box | null;
+function toppledBox(grid: ScaleGrid, orNull = false): Box | null {
   const { W, H, ox, oy, od } = grid;
   let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
   for (let y = 0; y < H; y++)
@@ -248,6 +281,6 @@ function toppledBox(grid: ScaleGrid): Box {
         if (y < y0) y0 = y;
         if (y > y1) y1 = y;
       }
-  if (x0 === Infinity) return { x0: 0, x1: 0, y0: 0, y1: 0 };
+  if (x0 === Infinity) return orNull ? null : { x0: 0, x1: 0, y0: 0, y1: 0 };
   return { x0: x0 - ox, x1: x1 - ox, y0: y0 - oy, y1: y1 - oy };
 }

@@ -30,8 +30,12 @@ export interface SeedOptions {
    * source grows 4x
    */
   bulkGain: number;
+  /** use bulkGain as given instead of the gain measured between the last two levels (tuning) */
+  fixedGain?: boolean;
   /** override of NEAR_SAFETY (tuning) */
   nearSafety?: number;
+  /** the offset grows like this times √n when that is larger (tuning; see scaled.ts) */
+  offsetPerRootN?: number;
   /** flat amount subtracted from every seed so it stays below the true odometer */
   offset: number;
 }
@@ -131,9 +135,9 @@ export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chi
       const X = x - ox;
       const p = plainSeedAt(c, chips, X, Y, peak);
       if (p <= 0) continue;
-      const e = c.err ? o.alpha * f * errorAt(c, c.err, X, Y, c.gain ?? o.bulkGain) : 0;
+      const e = c.err ? o.alpha * f * errorAt(c, c.err, X, Y, o.fixedGain ? o.bulkGain : c.gain ?? o.bulkGain) : 0;
       const near = Math.abs(X) + Math.abs(Y) < 64 ? (o.nearSafety ?? NEAR_SAFETY) * chips * Math.exp(-Math.hypot(X, Y) / 8) : 0;
-      const s = Math.floor(p + e - o.offset - near);
+      const s = Math.floor(p + e - Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips)) - near);
       if (s > 0) od[row + x] = s;
     }
   }
