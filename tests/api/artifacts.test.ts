@@ -7,7 +7,7 @@ import { figures } from '../../drizzle/schema.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
 import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { sendRunOutcomeMail } from '../../api/src/services/run-outcome-mail.js';
-import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
+import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 import { waitForMail } from './support/outbox.js';
 
 /**
@@ -25,15 +25,7 @@ let run: Run;
 let server: http.Server;
 let base: string;
 
-async function settled(id: string, timeoutMs = 90_000): Promise<Run> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    const { run } = runResponseSchema.parse((await as(h.http.get(`/api/runs/${id}`), author).expect(200)).body);
-    if (['finished', 'failed', 'cancelled'].includes(run.status)) return run;
-    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} (${run.stage}) after ${timeoutMs} ms`);
-    await new Promise((r) => setTimeout(r, 200));
-  }
-}
+const settled = (id: string, timeoutMs = 90_000) => runSettled(h, author, id, timeoutMs);
 
 /** A GET with the path sent exactly as written (no client-side URL normalisation of "..", "%2F" or "\"). */
 function rawGet(path: string): Promise<{ status: number; body: string; headers: http.IncomingHttpHeaders }> {

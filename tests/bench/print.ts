@@ -17,7 +17,6 @@
  * measured right after they were built. Baseline: the approach the issue rules out, the whole page
  * as one uncompressed RGB buffer handed to sharp (PNG with density, and LZW TIFF), same pixels.
  */
-import { spawn } from 'node:child_process';
 import { mkdtempSync, rmSync, statSync } from 'node:fs';
 import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -27,6 +26,7 @@ import sharp from 'sharp';
 import { pagePalette, pageStrips, prepareFigure, renderPrint, type PrintFormat } from '../../renderer/src/print/index.js';
 import type { RenderInput } from '../../renderer/src/render/index.js';
 import type { FigureSpecInput } from '../../shared/print.js';
+import { runInChild } from './child-case.js';
 
 type Order = 'a4' | 'a0' | 'a0-600';
 interface CaseSpec {
@@ -108,21 +108,7 @@ async function runCase(c: CaseSpec): Promise<CaseResult> {
   return { ...c, seconds, widthPx, heightPx, cells: side * side, bytes, maxRssBytes: process.resourceUsage().maxRSS * 1024, inputRssBytes };
 }
 
-function spawnCase(c: CaseSpec): Promise<CaseResult> {
-  const self = fileURLToPath(import.meta.url);
-  const child = spawn(process.execPath, ['--import', 'tsx', self, '--case', JSON.stringify(c)], { stdio: ['ignore', 'pipe', 'pipe'] });
-  let out = '';
-  let err = '';
-  child.stdout.on('data', (b: Buffer) => (out += b));
-  child.stderr.on('data', (b: Buffer) => (err += b));
-  return new Promise((resolve, reject) => {
-    child.on('error', reject);
-    child.on('close', (code) => {
-      if (code !== 0) reject(new Error(`case ${c.order}/${c.kind}/${c.format} failed:\n${err}`));
-      else resolve(JSON.parse(out.trim().split('\n').at(-1)!) as CaseResult);
-    });
-  });
-}
+const spawnCase = (c: CaseSpec) => runInChild<CaseResult>(fileURLToPath(import.meta.url), c, `${c.order}/${c.kind}/${c.format}`);
 
 const mb = (b: number) => `${(b / 2 ** 20).toFixed(0)} MB`;
 const grouped = (n: number) => Math.round(n).toLocaleString('en-US');

@@ -18,7 +18,6 @@
  * The input arrays themselves (heights, odometer, toppled: 13 bytes per cell) are part of every
  * child's RSS; "rss over input" subtracts the RSS measured right after they were filled.
  */
-import { spawn } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import type { AddressInfo } from 'node:net';
 import { availableParallelism, tmpdir } from 'node:os';
@@ -40,6 +39,7 @@ import {
   type RenderInput,
 } from '../../renderer/src/render/index.js';
 import { colourTable, paletteById } from '../../shared/palettes.js';
+import { runInChild } from './child-case.js';
 
 const BUCKET = 'bench-tiles';
 const TARGET_CELLS = 5e7;
@@ -111,22 +111,7 @@ async function runCase(spec: CaseSpec): Promise<CaseResult> {
   return { ...spec, seconds, cells, tiles, bytes, maxRssBytes: process.resourceUsage().maxRSS * 1024, inputRssBytes };
 }
 
-/** Asynchronous, so the S3 fake in this process keeps answering while the child uploads. */
-function spawnCase(spec: CaseSpec): Promise<CaseResult> {
-  const self = fileURLToPath(import.meta.url);
-  const child = spawn(process.execPath, ['--import', 'tsx', self, '--case', JSON.stringify(spec)], { stdio: ['ignore', 'pipe', 'pipe'] });
-  let out = '';
-  let err = '';
-  child.stdout.on('data', (b: Buffer) => (out += b));
-  child.stderr.on('data', (b: Buffer) => (err += b));
-  return new Promise((resolve, reject) => {
-    child.on('error', reject);
-    child.on('close', (code) => {
-      if (code !== 0) reject(new Error(`case ${spec.kind}/${spec.sink}/${spec.side} failed:\n${err}`));
-      else resolve(JSON.parse(out.trim().split('\n').at(-1)!) as CaseResult);
-    });
-  });
-}
+const spawnCase = (spec: CaseSpec) => runInChild<CaseResult>(fileURLToPath(import.meta.url), spec, `${spec.kind}/${spec.sink}/${spec.side}`);
 
 const mb = (b: number) => `${(b / 2 ** 20).toFixed(0)} MB`;
 const grouped = (n: number) => Math.round(n).toLocaleString('en-US');

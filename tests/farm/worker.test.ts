@@ -3,7 +3,7 @@ import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
 
 let h: Harness;
 let author: Session;
@@ -28,15 +28,7 @@ async function submit(title: string, spec: unknown): Promise<Run> {
   return runResponseSchema.parse(res.body).run;
 }
 
-async function settled(id: string, timeoutMs = 60_000): Promise<Run> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    const { run } = runResponseSchema.parse((await as(h.http.get(`/api/runs/${id}`), author).expect(200)).body);
-    if (['finished', 'failed', 'cancelled'].includes(run.status)) return run;
-    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} (${run.stage}) after ${timeoutMs} ms`);
-    await new Promise((r) => setTimeout(r, 200));
-  }
-}
+const settled = (id: string, timeoutMs = 60_000) => runSettled(h, author, id, timeoutMs);
 
 describe('the renderer worker', () => {
   it('computes a queued run, stores its arrays and statistics, and draws its pyramids', async () => {

@@ -14,19 +14,13 @@ import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
 import type { Env } from '../../../shared/env.js';
 import { Readable } from 'node:stream';
 import type { BlobStore } from './blob-store.js';
+// one place configures S3 clients for the local fake's needs (checksums only when required)
+import { createS3Client } from '../../../renderer/src/render/s3-sink.js';
 
 type S3Settings = Pick<Env, 'S3_ENDPOINT' | 'S3_REGION' | 'S3_BUCKET' | 'S3_ACCESS_KEY_ID' | 'S3_SECRET_ACCESS_KEY'>;
 
 function s3Client(env: S3Settings): S3Client {
-  return new S3Client({
-    region: env.S3_REGION,
-    endpoint: env.S3_ENDPOINT,
-    forcePathStyle: true,
-    credentials: { accessKeyId: env.S3_ACCESS_KEY_ID, secretAccessKey: env.S3_SECRET_ACCESS_KEY },
-    // The local fake does not speak the SDK's default CRC32 checksums (stack notes §6).
-    requestChecksumCalculation: 'WHEN_REQUIRED',
-    responseChecksumValidation: 'WHEN_REQUIRED',
-  });
+  return createS3Client({ endpoint: env.S3_ENDPOINT, region: env.S3_REGION, accessKeyId: env.S3_ACCESS_KEY_ID, secretAccessKey: env.S3_SECRET_ACCESS_KEY });
 }
 
 export function createS3BlobStore(env: S3Settings): BlobStore {

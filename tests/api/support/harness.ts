@@ -2,6 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { eq } from 'drizzle-orm';
 import supertest from 'supertest';
 import { CSRF_COOKIE, CSRF_HEADER, SESSION_COOKIE } from '../../../shared/api/auth.js';
+import { runResponseSchema, type Run } from '../../../shared/api/runs.js';
 import { loadEnv, type Env } from '../../../shared/env.js';
 import { memberships, labs, users } from '../../../drizzle/schema.js';
 import { createApp } from '../../../api/src/app.js';
@@ -127,4 +128,15 @@ export async function createLab(h: Harness, name: string, members: { userId: str
 export async function userByEmail(h: Harness, email: string) {
   const [u] = await h.deps.db.select().from(users).where(eq(users.email, email));
   return u ?? null;
+}
+
+/** Poll a run through the API until it has finished, failed or been cancelled. */
+export async function runSettled(h: Harness, who: Session, id: string, timeoutMs = 60_000): Promise<Run> {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const { run } = runResponseSchema.parse((await as(h.http.get(`/api/runs/${id}`), who).expect(200)).body);
+    if (['finished', 'failed', 'cancelled'].includes(run.status)) return run;
+    if (Date.now() > until) throw new Error(`run ${id} still ${run.status} (${run.stage}) after ${timeoutMs} ms`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
 }
