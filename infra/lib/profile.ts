@@ -42,11 +42,26 @@ const PORTS: Record<ProfileName, Profile['ports']> = {
   test: { postgres: 25432, redis: 26379, s3: 24569, payments: 24570, smtp: 24525, mailHttp: 24526, api: 5280 },
 };
 
-export function profileFor(name: ProfileName, root = ROOT): Profile {
+/**
+ * TW_PORT_OFFSET (a multiple of 1000, at most 6000) shifts every port of the profile, so two
+ * checkouts on one machine can each run `npm test` at the same time without meeting.
+ */
+export function portOffset(source: NodeJS.ProcessEnv = process.env): number {
+  const raw = source.TW_PORT_OFFSET;
+  if (raw === undefined || raw === '') return 0;
+  const offset = Number(raw);
+  if (!Number.isInteger(offset) || offset < 0 || offset > 6000 || offset % 1000 !== 0) {
+    throw new Error(`TW_PORT_OFFSET must be 0, 1000, …, 6000 (got ${JSON.stringify(raw)})`);
+  }
+  return offset;
+}
+
+export function profileFor(name: ProfileName, root = ROOT, offset = portOffset()): Profile {
+  const ports = Object.fromEntries(Object.entries(PORTS[name]).map(([k, v]) => [k, v + offset])) as Profile['ports'];
   return {
     name,
     dir: path.join(root, '.local', name),
-    ports: PORTS[name],
+    ports,
     database: name === 'dev' ? 'toppleworks' : 'toppleworks_test',
     persistRedis: name === 'dev',
   };

@@ -1,15 +1,26 @@
 import { describe, expect, it } from 'vitest';
 import { envSchema, loadEnv } from '../../shared/env.js';
-import { profileDirs, profileFor, serviceEnv } from '../../infra/lib/profile.js';
+import { portOffset, profileDirs, profileFor, serviceEnv } from '../../infra/lib/profile.js';
 
 /** The two profiles must never share a port or a folder, and their env must satisfy shared/env.ts. */
 describe('profiles', () => {
-  const dev = profileFor('dev', '/repo');
-  const test = profileFor('test', '/repo');
+  const dev = profileFor('dev', '/repo', 0);
+  const test = profileFor('test', '/repo', 0);
 
   it('use the documented dev ports (infra/README.md)', () => {
     expect(dev.ports).toEqual({ postgres: 15432, redis: 16379, s3: 14569, payments: 14570, smtp: 14525, mailHttp: 14526, api: 5180 });
     expect(test.ports).toMatchObject({ postgres: 25432, redis: 26379, s3: 24569, payments: 24570, smtp: 24525, mailHttp: 24526 });
+  });
+
+  it('shift every port by TW_PORT_OFFSET so parallel checkouts never meet', () => {
+    expect(portOffset({})).toBe(0);
+    expect(portOffset({ TW_PORT_OFFSET: '3000' })).toBe(3000);
+    expect(() => portOffset({ TW_PORT_OFFSET: '123' })).toThrow(/TW_PORT_OFFSET/);
+    const shifted = [1000, 2000, 3000, 4000, 5000, 6000].flatMap((o) => Object.values(profileFor('test', '/repo', o).ports));
+    const all = [...Object.values(test.ports), ...Object.values(dev.ports), ...shifted];
+    expect(new Set(all).size).toBe(all.length);
+    // below the ephemeral range (32768–60999)
+    expect(Math.max(...shifted)).toBeLessThan(32768);
   });
 
   it('never share a port or a folder', () => {

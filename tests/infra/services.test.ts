@@ -2,6 +2,7 @@ import { HeadBucketCommand, S3Client } from '@aws-sdk/client-s3';
 import { Redis } from 'ioredis';
 import pg from 'pg';
 import { describe, expect, it } from 'vitest';
+import { portOffset } from '../../infra/lib/profile.js';
 
 /**
  * The services infra/test.ts started for this run answer at the addresses it exported. Runs only
@@ -16,7 +17,7 @@ describe.runIf(underNpmTest)('services started by npm test', () => {
     await client.connect();
     try {
       const r = await client.query('select current_database() as db, current_setting($$port$$) as port');
-      expect(r.rows[0]).toEqual({ db: 'toppleworks_test', port: '25432' });
+      expect(r.rows[0]).toEqual({ db: 'toppleworks_test', port: String(25432 + portOffset()) });
     } finally {
       await client.end();
     }
