@@ -65,10 +65,13 @@ describe('fast path equals the plain engine bit for bit', () => {
             await expect(stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20 })).rejects.toThrow(/did not stabilize/);
             continue;
           }
-          const fast = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20 });
-          expect(strip(fast), `${name} n=${chips} ${JSON.stringify(background)}`).toEqual(strip(plain));
-          expect(fast.stats.certificate?.passed).toBe(true);
-          expect(fast.stats.certificate?.minimal).toBe(true);
+          // one thread (a stack over the whole grid) and two (tiles over worker threads)
+          for (const threads of [1, 2]) {
+            const fast = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads });
+            expect(strip(fast), `${name} n=${chips} ${JSON.stringify(background)} threads=${threads}`).toEqual(strip(plain));
+            expect(fast.stats.certificate?.passed).toBe(true);
+            expect(fast.stats.certificate?.minimal).toBe(true);
+          }
           compared++;
         }
       }
@@ -95,6 +98,20 @@ describe('seeding options never change the result', () => {
     expect(plain.stats.certificate?.method).toBe('legal');
     expect(strip(fast)).toEqual(strip(plain));
   }, 120_000);
+
+  it('one and two threads agree bit for bit on larger runs of every planar preset', async () => {
+    // the result is unique (abelian property), whatever the order of topplings across threads
+    for (const preset of planar) {
+      const background = preset === 'square' ? { kind: 'random', seed: 99, weights: [1, 1, 1, 1] } : { kind: 'constant', height: 0 };
+      const p = problem({ lattice: { preset }, chips: 60_000, background: background as never });
+      const one = await stabilizeScaled(p, { threads: 1 });
+      const two = await stabilizeScaled(p, { threads: 2 });
+      const tilesOnOne = await stabilizeScaled(p, { threads: 1, tiles: true });
+      expect(strip(two), preset).toEqual(strip(one));
+      expect(strip(tilesOnOne), preset).toEqual(strip(one));
+      expect(two.stats.certificate?.passed).toBe(true);
+    }
+  }, 240_000);
 
   it('square n = 10^6 gives the independently computed totals', async () => {
     // regression values from an independent computation (../shared/scale-notes.md, "Exact values to

@@ -27,6 +27,8 @@ export interface KernelTables {
   tcls: Int32Array;
   deg: Int32Array;
   reach: number;
+  /** the plain square lattice (one class, the four unit offsets): relaxTile takes an unrolled kernel */
+  square?: boolean;
 }
 
 export interface KernelGeometry {
@@ -61,6 +63,7 @@ export function relaxTile(
   stack: Int32Array,
   activated: number[],
 ): number {
+  if (t.square && g.dim === 2) return relaxTileSquare(h, od, g, state, tile, full, stack, activated);
   const { nx, ny, dim, TX, TY, TZ, tnx, tny } = g;
   const { px, py, pz, start, dx, dy, dz, tcls, deg, reach: r } = t;
   const nxy = nx * ny;
@@ -141,6 +144,70 @@ export function relaxTile(
           }
         }
       }
+    }
+  }
+  return events;
+}
+
+/**
+ * relaxTile for the square lattice, unrolled (measured: about half the time per toppling of the
+ * generic loop at n = 10^6). Same contract and the same tile-border rules as the generic kernel.
+ */
+function relaxTileSquare(h: Int32Array, od: Float64Array, g: KernelGeometry, state: Uint8Array, tile: number, full: boolean, stack: Int32Array, activated: number[]): number {
+  const { nx, TX, TY, tnx } = g;
+  const tx = tile % tnx, ty = (tile - tx) / tnx;
+  const base = ty * TY * nx + tx * TX;
+  const bx = 31 - Math.clz32(TX), mx = TX - 1;
+  let sp = 0;
+  for (let ly = 0; ly < TY; ly++) {
+    const row = base + ly * nx, lrow = ly << bx;
+    if (full || ly === 0 || ly === TY - 1) {
+      for (let lx = 0; lx < TX; lx++) if (h[row + lx]! >= 4) stack[sp++] = lrow + lx;
+    } else {
+      if (h[row]! >= 4) stack[sp++] = lrow;
+      if (h[row + TX - 1]! >= 4) stack[sp++] = lrow + TX - 1;
+    }
+  }
+  const flag = (nt: number) => {
+    if (state[nt] === IDLE) {
+      state[nt] = PENDING_BAND;
+      activated.push(nt);
+    }
+  };
+  let events = 0;
+  while (sp > 0) {
+    const loc = stack[--sp]!;
+    const lx = loc & mx, ly = loc >> bx;
+    const i = base + ly * nx + lx;
+    const v = h[i]!;
+    if (v < 4) continue;
+    const k = v >> 2;
+    h[i] = v & 3;
+    od[i] += k;
+    events++;
+    let j = i - 1, b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (lx > 0) stack[sp++] = loc - 1;
+      else flag(tile - 1);
+    }
+    j = i + 1; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (lx < mx) stack[sp++] = loc + 1;
+      else flag(tile + 1);
+    }
+    j = i - nx; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (ly > 0) stack[sp++] = loc - TX;
+      else flag(tile - tnx);
+    }
+    j = i + nx; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (ly < TY - 1) stack[sp++] = loc + TX;
+      else flag(tile + tnx);
     }
   }
   return events;

@@ -55,7 +55,7 @@ const PARALLEL_MIN_TILES = 2;
  */
 export async function stabilize(problem: Problem, options: StabilizeOptions = {}): Promise<Outcome> {
   if (options.scaled !== false && scaledPathApplies(problem) && problem.sources[0]!.chips >= SCALED_MIN_CHIPS) {
-    const fast = await stabilizeScaled(problem, { onProgress: options.onProgress, signal: options.signal, maxSites: options.maxSites });
+    const fast = await stabilizeScaled(problem, { onProgress: options.onProgress, signal: options.signal, maxSites: options.maxSites, threads: options.threads });
     if (fast.stats.certificate?.passed) return fast;
     // never publish an uncertified result: fall back to plain legal toppling
   }

@@ -26,5 +26,7 @@ export function tablesFor(g: LatticeGraph): KernelTables {
       tcls[e] = (mod(cz + o[2], pz) * py + mod(cy + o[1], py)) * px + mod(cx + o[0], px);
     });
   }
-  return { px, py, pz, start, dx, dy, dz, tcls, deg, reach: g.reach };
+  const square =
+    n === 1 && g.dim === 2 && m === 4 && [[1, 0], [-1, 0], [0, 1], [0, -1]].every(([a, b]) => g.classes[0]!.some((o) => o[0] === a && o[1] === b && o[2] === 0));
+  return { px, py, pz, start, dx, dy, dz, tcls, deg, reach: g.reach, square };
 }

@@ -11,7 +11,9 @@ export const FROZEN = 2 ** 30;
 /**
  * A dense planar working box of the fast path. Lattice site (X, Y) is array cell
  * (X + ox) + (Y + oy) * W. ox and oy are multiples of the lattice period and W is a multiple of px,
- * so the class of a cell depends only on its index modulo W * py (see LatticeKernel.cls).
+ * so the class of a cell depends only on its index modulo W * py (see LatticeKernel.cls). W and H are
+ * multiples of 64 when the period divides 64 (tiles of the two-thread relaxation), and the arrays sit
+ * on SharedArrayBuffers.
  * The outer `guard` rows and columns are frozen (see FROZEN).
  */
 export interface ScaleGrid {
@@ -40,9 +42,14 @@ export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box): ScaleG
   const guard = Math.max(1, g.reach);
   const ox = ceilTo(guard - box.x0, px);
   const oy = ceilTo(guard - box.y0, py);
-  const W = ceilTo(ox + box.x1 + 1 + guard, px);
-  const H = oy + box.y1 + 1 + guard;
-  const grid: ScaleGrid = { W, H, ox, oy, guard, h: new Int32Array(W * H), od: new Float64Array(W * H) };
+  // whole 64 × 64 tiles where periods allow (the two-thread relaxation needs them; a few rows more otherwise)
+  const mx = 64 % px === 0 ? 64 : px, my = 64 % py === 0 ? 64 : py;
+  const W = ceilTo(ox + box.x1 + 1 + guard, mx);
+  const H = ceilTo(oy + box.y1 + 1 + guard, my);
+  // shared, so worker threads can relax tiles of it in place
+  const h = new Int32Array(new SharedArrayBuffer(4 * W * H));
+  const od = new Float64Array(new SharedArrayBuffer(8 * W * H));
+  const grid: ScaleGrid = { W, H, ox, oy, guard, h, od };
   fillBackground(grid, bg);
   return grid;
 }

@@ -1,3 +1,4 @@
+import { availableParallelism } from 'node:os';
 import { NotStabilizedError } from '../engine/errors.js';
 import { DEFAULT_MAX_SITES } from '../engine/limits.js';
 import { buildOutcome, type Outcome } from '../engine/outcome.js';
@@ -7,7 +8,8 @@ import type { Snapshot } from './checkpoint.js';
 import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { peel, untopple, windowOf } from './peel.js';
-import { applySeed, bulkGainOf, peakOf, seedBox, seedError, type CoarseLevel } from './seed.js';
+import { tileable, TiledRelaxer } from './tiled-relax.js';
+import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
   stage: string;
@@ -29,6 +31,12 @@ export interface LevelInfo {
   relaxSeconds: number;
   repairSeconds: number;
   gain: number | null;
+  /** with `measureSeed`: Σ max(0, u − seed) and Σ max(0, seed − u) over the level's cells, largest seed − u */
+  seedDeficit?: number;
+  seedExcess?: number;
+  maxExcess?: number;
+  /** largest seed − u the level would have had without its safety offsets */
+  rawOvershoot?: number;
 }
 
 export interface ScaleOptions {
@@ -41,6 +49,15 @@ export interface ScaleOptions {
   offset?: number;
   /** weight of the extrapolated error of the previous level (default 0.9) */
   alpha?: number;
+  /** keep a copy of each seed and report its distance to the level's odometer in onLevel (tuning; 8 bytes per cell more) */
+  measureSeed?: boolean;
+  /**
+   * threads for the relaxation, main thread included (default min(2, cores)): more than one relaxes
+   * 64 × 64 tiles concurrently (tiled-relax.ts), one uses a stack of unstable cells over the whole grid
+   */
+  threads?: number;
+  /** relax by tiles even on one thread (benchmarks and tests; default: tiles when threads > 1) */
+  tiles?: boolean;
   /** called after each level with what it cost (benchmarks and tuning) */
   onLevel?: (info: LevelInfo) => void;
   /** growth of the seed error away from the source per level, beyond the value scaling (default 1) */
@@ -106,7 +123,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     offsetPerRootN: options.offset === undefined ? 0.25 : 0,
     bulkGain: options.bulkGain ?? 1,
     nearSafety: options.nearSafety,
-    fixedGain: options.fixedGain ?? true,
+    fixedGain: options.fixedGain ?? g.classes.length === 1,
   };
   const L = chips.length;
   // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
@@ -152,6 +169,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     });
   };
 
+  const threads = Math.max(1, Math.min(16, Math.floor(options.threads ?? Math.min(2, availableParallelism()))));
+  const tiler = (options.tiles ?? threads > 1) && tileable(g) ? new TiledRelaxer(g, threads) : null;
+  try {
   let grid!: ScaleGrid;
   for (let level = startLevel; level >= 0; level--) {
     const c = chips[level]!;
@@ -177,26 +197,33 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         grid.h[grid.oy * grid.W + grid.ox] += c;
       }
     }
+    const seedCopy = options.measureSeed ? { s: grid.od.slice(), W: grid.W, ox: grid.ox, oy: grid.oy, chips: c, opts: { ...seedOpts } } : null;
     const tLevel = performance.now();
     const repairsBefore = repairRounds;
     let tRepair = tLevel;
-    pushAllUnstable(grid, k, stack);
     const expected = Math.max(1, prevEvents * 12);
     let events = 0;
+    // between batches of topplings (a legal state): timers, progress, abort requests and checkpoints
+    const pauseIfDue = async (eventsNow: number) => {
+      if (performance.now() - lastYield <= 100) return;
+      await new Promise<void>((resolve) => setImmediate(resolve));
+      lastYield = performance.now();
+      if (options.signal?.aborted) throw abortError(options.signal);
+      report('relax', level, prevEvents ? eventsNow / expected : 0.5, grid);
+      if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
+        options.checkpoint.save({ format: 1, specKey: specKey(problem), level, grid, coarse, repairRounds, prevEvents });
+        lastSave = performance.now();
+      }
+    };
     for (;;) {
-      while (stack.sp > 0) {
-        events += relaxSome(grid, k, stack, 1 << 20);
-        const now = performance.now();
-        if (now - lastYield > 100) {
-          // let timers, progress listeners and abort requests run on this event loop
-          await new Promise<void>((resolve) => setImmediate(resolve));
-          lastYield = performance.now();
-          if (options.signal?.aborted) throw abortError(options.signal);
-          report('relax', level, prevEvents ? events / expected : 0.5, grid);
-          if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
-            options.checkpoint.save({ format: 1, specKey: specKey(problem), level, grid, coarse, repairRounds, prevEvents });
-            lastSave = performance.now();
-          }
+      if (tiler) {
+        const before = events;
+        events += await tiler.relax(grid, (e) => pauseIfDue(before + e));
+      } else {
+        pushAllUnstable(grid, k, stack);
+        while (stack.sp > 0) {
+          events += relaxSome(grid, k, stack, 1 << 20);
+          await pauseIfDue(events);
         }
       }
       if (guardUnstable(grid, k)) {
@@ -207,7 +234,6 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         grid = growGrid(g, bg, grid, next);
         if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);
-        pushAllUnstable(grid, k, stack);
         report('grow', level, prevEvents ? events / expected : 0.5, grid, true);
         continue;
       }
@@ -235,10 +261,17 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       coarse = { chips: c, W: grid.W, H: grid.H, ox: grid.ox, oy: grid.oy, u: grid.od, err, gain, toppled: toppledBox(grid) };
     }
     const tEnd = performance.now();
-    options.onLevel?.({ chips: c, cells: grid.W * grid.H, events, repairRounds: repairRounds - repairsBefore, relaxSeconds: (tRepair - tLevel) / 1000, repairSeconds: (tEnd - tRepair) / 1000, gain: coarse?.gain ?? null });
+    const dist = seedCopy ? seedDistance(grid, seedCopy) : null;
+    options.onLevel?.({ chips: c, cells: grid.W * grid.H, events, repairRounds: repairRounds - repairsBefore, relaxSeconds: (tRepair - tLevel) / 1000, repairSeconds: (tEnd - tRepair) / 1000, gain: coarse?.gain ?? null, ...(dist ?? {}) });
     report('level', level, 1, grid, true);
   }
   coarse = null;
+  return finish(grid);
+  } finally {
+    tiler?.close();
+  }
+
+  function finish(grid: ScaleGrid): Outcome {
   forEachGuard(grid, (i) => (grid.h[i] = grid.h[i]! + FROZEN));
   const outcome = buildOutcome(problem, compactToCrop(grid, g.reach), 0);
   const certificate = certify(problem, outcome, { method: 'seeded', repairRounds });
@@ -246,6 +279,24 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   outcome.stats.seconds = (performance.now() - t0) / 1000;
   report('done', 0, 1, null, true);
   return outcome;
+  }
+}
+
+/** Σ(u − seed)⁺, Σ(seed − u)⁺ and the largest excess; the seed's grid may be smaller than the final one (growth). */
+function seedDistance(grid: ScaleGrid, seed: { s: Float64Array; W: number; ox: number; oy: number; chips: number; opts: SeedOptions }) {
+  let seedDeficit = 0, seedExcess = 0, maxExcess = 0, rawOvershoot = 0;
+  const sH = seed.s.length / seed.W;
+  for (let y = 0; y < grid.H; y++)
+    for (let x = 0; x < grid.W; x++) {
+      const sx = x - grid.ox + seed.ox, sy = y - grid.oy + seed.oy;
+      const s0 = sx >= 0 && sx < seed.W && sy >= 0 && sy < sH ? seed.s[sy * seed.W + sx]! : 0;
+      const d = grid.od[y * grid.W + x]! - s0;
+      // the bulk only: next to the source the extra safety already scales with n
+      if (s0 > 0 && Math.abs(x - grid.ox) + Math.abs(y - grid.oy) >= 64) rawOvershoot = Math.max(rawOvershoot, safetyAt(seed.opts, seed.chips, x - grid.ox, y - grid.oy) - d);
+      if (d > 0) seedDeficit += d;
+      else ((seedExcess -= d), (maxExcess = Math.max(maxExcess, -d)));
+    }
+  return { seedDeficit, seedExcess, maxExcess, rawOvershoot };
 }
 
 /**

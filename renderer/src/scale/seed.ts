@@ -1,4 +1,5 @@
 import type { LatticeGraph } from '../engine/lattice.js';
+import { effectiveDiffusion } from './homogenize.js';
 import type { Box, ScaleGrid } from './grid.js';
 import { classAt, type LatticeKernel } from './kernel.js';
 
@@ -42,24 +43,24 @@ export interface SeedOptions {
 
 /**
  * The odometer's logarithmic peak at the source, u ≈ -n·G(x) + smooth, with G the Green's function
- * of the lattice's continuum limit tr(M ∇²), M = ½ Σ_e e eᵀ averaged over classes:
- * G(x) = log|M^{-1/2} x| / (2π √det M) (common practice: the lattice Laplacian's second-order
- * Taylor expansion). Interpolating across the peak overshoots badly, so the seed interpolates only
+ * of the lattice's continuum limit tr(M ∇²), M the effective diffusion matrix (homogenize.ts; ½ Σ_e e eᵀ
+ * on one-class lattices): G(x) = log|M^{-1/2} x| / (2π √det M) (common practice: the fundamental
+ * solution of a constant-coefficient elliptic operator). Interpolating across the peak overshoots badly, so the seed interpolates only
  * u + n·G and adds the peak back exactly at the fine site.
  */
 export interface Peak {
   /** inverse of M as [a, b, c] for the quadratic form a x² + 2 b x y + c y² */
   inv: [number, number, number];
   scale: number;
+  /** the lattice's period (px, py): with more than one class the seed interpolates class by class */
+  px: number;
+  py: number;
 }
 
 export function peakOf(g: LatticeGraph): Peak {
-  let a = 0, b = 0, c = 0;
-  for (const cls of g.classes) for (const o of cls) ((a += o[0] * o[0]), (b += o[0] * o[1]), (c += o[1] * o[1]));
-  const m = 2 * g.classes.length;
-  (a /= m), (b /= m), (c /= m);
+  const [a, b, c] = effectiveDiffusion(g);
   const det = a * c - b * b;
-  return { inv: [c / det, -b / det, a / det], scale: 1 / (2 * Math.PI * Math.sqrt(det)) };
+  return { inv: [c / det, -b / det, a / det], scale: 1 / (2 * Math.PI * Math.sqrt(det)), px: g.period[0], py: g.period[1] };
 }
 
 /** n·G at lattice point (x, y) (not necessarily integer), with the log clamped at radius 1/2. */
@@ -94,9 +95,11 @@ function bilinear(c: CoarseLevel, f: Float64Array | Float32Array, X: number, Y: 
 /**
  * The plain scaled seed P(X, Y) = (chips / coarse chips) · u_coarse(X/2, Y/2). Where all four coarse
  * corners toppled, u + n·G is interpolated and the peak added back exactly; at the pile's edge
- * (where the peak is flat anyway) plain bilinear values are used.
+ * (where the peak is flat anyway) plain bilinear values are used. Lattices with several classes go
+ * through classSeedAt.
  */
 export function plainSeedAt(c: CoarseLevel, chips: number, X: number, Y: number, p: Peak): number {
+  if (p.px * p.py > 1) return classSeedAt(c, chips, X, Y, p);
   const f = chips / c.chips;
   const ax = X >> 1, ay = Y >> 1;
   const bx = ax + (X & 1), by = ay + (Y & 1);
@@ -107,16 +110,77 @@ export function plainSeedAt(c: CoarseLevel, chips: number, X: number, Y: number,
   return f * (0.25 * lifted - peakAt(p, n, X / 2, Y / 2));
 }
 
+const modp = (a: number, m: number) => ((a % m) + m) % m;
+
+/**
+ * Bilinear value at the real point (x, y) of a coarse field restricted to the sites of class
+ * (cx, cy), i.e. on the sub-lattice of spacing (px, py) through that class; lifted by the peak when
+ * `p` is given. NaN when a corner did not topple (the pile's edge).
+ */
+function classBilinear(c: CoarseLevel, f: Float64Array | Float32Array, px: number, py: number, cx: number, cy: number, x: number, y: number, p: Peak | null): number {
+  const a0 = x - modp(x - cx, px), b0 = y - modp(y - cy, py);
+  const a1 = a0 + px, b1 = b0 + py;
+  const wx = (x - a0) / px, wy = (y - b0) / py;
+  let v00 = sample(c, f, a0, b0), v10 = sample(c, f, a1, b0), v01 = sample(c, f, a0, b1), v11 = sample(c, f, a1, b1);
+  if (p) {
+    if (sample(c, c.u, a0, b0) <= 0 || sample(c, c.u, a1, b0) <= 0 || sample(c, c.u, a0, b1) <= 0 || sample(c, c.u, a1, b1) <= 0) return NaN;
+    const n = c.chips;
+    (v00 += peakAt(p, n, a0, b0)), (v10 += peakAt(p, n, a1, b0)), (v01 += peakAt(p, n, a0, b1)), (v11 += peakAt(p, n, a1, b1));
+  }
+  return (1 - wy) * ((1 - wx) * v00 + wx * v10) + wy * ((1 - wx) * v01 + wx * v11);
+}
+
+/**
+ * The scaled seed on a lattice with several classes. Bilinear interpolation across classes mixes
+ * their lattice-scale offsets (the homogenization corrector, u_c ≈ U + χ_c·∇U), which do not scale
+ * like the values and made honeycomb and Manhattan seeds overshoot. So each class is interpolated on
+ * its own sub-lattice at (X/2, Y/2); the mean S over classes scales with the values (×f) and the
+ * offset D_c = u_c − S of the fine site's class with the gradient (×f/2: u_fine(X) = f·u(X/2)).
+ */
+function classSeedAt(c: CoarseLevel, chips: number, X: number, Y: number, p: Peak): number {
+  const f = chips / c.chips;
+  const x = X / 2, y = Y / 2;
+  const { px, py } = p;
+  const own = modp(Y, py) * px + modp(X, px);
+  let sum = 0, mine = 0;
+  for (let cy = 0; cy < py; cy++)
+    for (let cx = 0; cx < px; cx++) {
+      const v = classBilinear(c, c.u, px, py, cx, cy, x, y, p);
+      if (Number.isNaN(v)) return f * bilinear(c, c.u, X, Y);
+      sum += v;
+      if (cy * px + cx === own) mine = v;
+    }
+  const mean = sum / (px * py);
+  return f * (mean - peakAt(p, c.chips, x, y)) + (f / 2) * (mine - mean);
+}
+
 /** The seed error carried to the next level: scaled in space, except near the source (unscaled there). */
-function errorAt(c: CoarseLevel, err: Float32Array, X: number, Y: number, bulkGain: number): number {
+function errorAt(c: CoarseLevel, err: Float32Array, X: number, Y: number, bulkGain: number, p: Peak): number {
   if (Math.abs(X) <= NEAR_ORIGIN && Math.abs(Y) <= NEAR_ORIGIN) return sample(c, err, X, Y);
-  return bulkGain * bilinear(c, err, X, Y);
+  if (p.px * p.py === 1) return bulkGain * bilinear(c, err, X, Y);
+  // the error's class structure is carried class by class as well, its offsets scaled like gradients (see classSeedAt)
+  const own = modp(Y, p.py) * p.px + modp(X, p.px);
+  let sum = 0, mine = 0;
+  for (let cy = 0; cy < p.py; cy++)
+    for (let cx = 0; cx < p.px; cx++) {
+      const v = classBilinear(c, err, p.px, p.py, cx, cy, X / 2, Y / 2, null);
+      sum += v;
+      if (cy * p.px + cx === own) mine = v;
+    }
+  const mean = sum / (p.px * p.py);
+  return bulkGain * (mean + 0.5 * (mine - mean));
 }
 
 /** Box of the fine level's seed: the coarse toppled box scaled by 2, plus a margin. */
 export function seedBox(c: CoarseLevel, margin: number): Box {
   const t = c.toppled;
   return { x0: 2 * t.x0 - margin, x1: 2 * t.x1 + margin, y0: 2 * t.y0 - margin, y1: 2 * t.y1 + margin };
+}
+
+/** What the seed subtracts at (X, Y) to stay below the true odometer: the flat offset and the extra near the source. */
+export function safetyAt(o: SeedOptions, chips: number, X: number, Y: number): number {
+  const near = Math.abs(X) + Math.abs(Y) < 64 ? (o.nearSafety ?? NEAR_SAFETY) * chips * Math.exp(-Math.hypot(X, Y) / 8) : 0;
+  return Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips)) + near;
 }
 
 /**
@@ -135,9 +199,8 @@ export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chi
       const X = x - ox;
       const p = plainSeedAt(c, chips, X, Y, peak);
       if (p <= 0) continue;
-      const e = c.err ? o.alpha * f * errorAt(c, c.err, X, Y, o.fixedGain ? o.bulkGain : c.gain ?? o.bulkGain) : 0;
-      const near = Math.abs(X) + Math.abs(Y) < 64 ? (o.nearSafety ?? NEAR_SAFETY) * chips * Math.exp(-Math.hypot(X, Y) / 8) : 0;
-      const s = Math.floor(p + e - Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips)) - near);
+      const e = c.err ? o.alpha * f * errorAt(c, c.err, X, Y, o.fixedGain ? o.bulkGain : c.gain ?? o.bulkGain, peak) : 0;
+      const s = Math.floor(p + e - safetyAt(o, chips, X, Y));
       if (s > 0) od[row + x] = s;
     }
   }
