@@ -1,14 +1,17 @@
 /**
  * `npm run bench:scale`: the fast path (renderer/src/scale/) at scale, as the issue's table: n,
- * lattice, wall seconds, cell updates per second, peak resident memory, bytes per cell, the ratio
- * against the plain C sweep (tests/bench/naive.c) where it ran in this same invocation, and the growth
- * exponent of wall time fitted over the square-lattice sizes. Ratios only; no absolute targets.
+ * lattice, threads, wall seconds, cell updates per second, peak resident memory, bytes per cell, the
+ * two-thread over one-thread speed-up, the ratio against the plain C sweep (tests/bench/naive.c)
+ * where it ran in this same invocation, the other lattices against the square lattice at the same n,
+ * and the growth exponent of wall time fitted by least squares (log-log) over the square-lattice sizes.
+ * Ratios only; no absolute targets.
  *
  *   --max-n N          largest square-lattice n (default 1e6; sizes are 10^5, 10^6, … up to N).
  *                      10^8 and 10^9 take long: pass them by hand, CI never does.
  *   --c-at N           also run the C sweep at this n (default 1e6; repeatable; --no-c to skip)
- *   --lattices-at N    run triangular, honeycomb, manhattan and a random background at this n
- *                      (default 1e6; the issue compares them at 1e7: pass --lattices-at 1e7)
+ *   --lattices-at N    run triangular, honeycomb, manhattan and a random background at this n, on two
+ *                      threads (default 1e6; the issue compares them at 1e7: pass --lattices-at 1e7)
+ *   --one-thread-to N  square sizes up to N also run on one thread for the speed-up (default: max-n)
  *   --case JSON        internal: run one case in this process and print one JSON line
  *
  * Every case runs in its own child process so its peak RSS (getrusage maxRSS) is its own; bytes per
@@ -16,7 +19,7 @@
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 import { mkdirSync } from 'node:fs';
-import { cpus, totalmem } from 'node:os';
+import { cpus, loadavg, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
@@ -31,6 +34,7 @@ interface CaseSpec {
   n: number;
   lattice: string;
   background: 'zero' | 'random';
+  threads: number;
 }
 interface CaseResult extends CaseSpec {
   seconds: number;
@@ -49,7 +53,7 @@ async function runCaseHere(c: CaseSpec): Promise<CaseResult> {
   const problem = resolveProblem({ lattice: { preset: c.lattice }, chips: c.n, sources: [], background });
   const levels: LevelInfo[] = [];
   const t0 = performance.now();
-  const outcome = c.n > 0 ? await stabilizeScaled(problem, { onLevel: (l) => levels.push(l) }) : null;
+  const outcome = c.n > 0 ? await stabilizeScaled(problem, { threads: c.threads, onLevel: (l) => levels.push(l) }) : null;
   const seconds = (performance.now() - t0) / 1000;
   const stats = outcome ? runStatsToJSON(outcome.stats) : null;
   return {
@@ -68,8 +72,8 @@ async function runCaseHere(c: CaseSpec): Promise<CaseResult> {
 }
 
 function runCase(c: CaseSpec): CaseResult {
-  process.stdout.write(`  running ${c.lattice}${c.background === 'random' ? ' (random background)' : ''}, n = ${groupThousands(c.n)} … `);
-  const r = spawnSync(process.execPath, ['--import', 'tsx', self, '--case', JSON.stringify(c)], { encoding: 'utf8', maxBuffer: 1 << 20 });
+  process.stdout.write(`  running ${c.lattice}${c.background === 'random' ? ' (random background)' : ''}, n = ${groupThousands(c.n)}, ${c.threads} thread(s) … `);
+  const r = spawnSync(process.execPath, ['--max-old-space-size=8192', '--import', 'tsx', self, '--case', JSON.stringify(c)], { encoding: 'utf8', maxBuffer: 1 << 20 });
   if (r.status !== 0) throw new Error(`case ${JSON.stringify(c)} failed: ${r.stderr.trim().split('\n').pop()}`);
   const result = JSON.parse(r.stdout.trim().split('\n').pop()!) as CaseResult;
   process.stdout.write(`${result.seconds.toFixed(2)} s\n`);
@@ -93,6 +97,7 @@ async function main(): Promise<void> {
       'c-at': { type: 'string', multiple: true },
       'no-c': { type: 'boolean' },
       'lattices-at': { type: 'string' },
+      'one-thread-to': { type: 'string' },
       case: { type: 'string' },
     },
   });
@@ -103,13 +108,15 @@ async function main(): Promise<void> {
   const maxN = parseCount('--max-n', values['max-n'] ?? '1e6', { min: 1 });
   const cAt = values['no-c'] ? [] : (values['c-at'] ?? ['1e6']).map((v) => parseCount('--c-at', v, { min: 1 }));
   const latticesAt = parseCount('--lattices-at', values['lattices-at'] ?? '1e6', { min: 1 });
+  const oneThreadTo = parseCount('--one-thread-to', values['one-thread-to'] ?? String(maxN), { min: 1 });
   const ns = [1e5, 1e6, 1e7, 1e8, 1e9].filter((n) => n <= maxN);
   if (!ns.includes(maxN)) ns.push(maxN);
 
   const cpu = cpus();
   console.log(`machine: ${cpu[0]?.model ?? 'unknown cpu'}, ${cpu.length} cores, ${(totalmem() / 2 ** 30).toFixed(1)} GiB, node ${process.version}`);
-  console.log('fast path: coarse-to-fine odometer seeding, legal relaxation, peeling repairs and certificate (1 thread)\n');
-  const baseline = runCase({ n: 0, lattice: 'square', background: 'zero' });
+  console.log(`load average at start: ${loadavg().map((v) => v.toFixed(2)).join(' ')}`);
+  console.log('fast path: coarse-to-fine odometer seeding, legal relaxation (1 thread: one stack; 2: tiles), peeling repairs and certificate\n');
+  const baseline = runCase({ n: 0, lattice: 'square', background: 'zero', threads: 1 });
 
   let naive: string | null = null;
   if (cAt.length) {
@@ -118,11 +125,14 @@ async function main(): Promise<void> {
     execFileSync('gcc', ['-O2', '-o', naive, join(here, 'naive.c'), '-lm'], { stdio: 'inherit' });
   }
   const results: CaseResult[] = [];
-  for (const n of ns) results.push(runCase({ n, lattice: 'square', background: 'zero' }));
-  for (const lattice of ['triangular', 'honeycomb', 'manhattan']) results.push(runCase({ n: latticesAt, lattice, background: 'zero' }));
-  results.push(runCase({ n: latticesAt, lattice: 'square', background: 'random' }));
-  if (!results.some((r) => r.n === latticesAt && r.lattice === 'square' && r.background === 'zero'))
-    results.push(runCase({ n: latticesAt, lattice: 'square', background: 'zero' }));
+  for (const n of ns) {
+    if (n <= oneThreadTo) results.push(runCase({ n, lattice: 'square', background: 'zero', threads: 1 }));
+    results.push(runCase({ n, lattice: 'square', background: 'zero', threads: 2 }));
+  }
+  if (!results.some((r) => r.n === latticesAt && r.lattice === 'square' && r.background === 'zero' && r.threads === 2))
+    results.push(runCase({ n: latticesAt, lattice: 'square', background: 'zero', threads: 2 }));
+  for (const lattice of ['triangular', 'honeycomb', 'manhattan']) results.push(runCase({ n: latticesAt, lattice, background: 'zero', threads: 2 }));
+  results.push(runCase({ n: latticesAt, lattice: 'square', background: 'random', threads: 2 }));
 
   let failures = 0;
   const cSeconds = new Map<number, number>();
@@ -130,7 +140,7 @@ async function main(): Promise<void> {
     process.stdout.write(`  running the plain C sweep at n = ${groupThousands(n)} … `);
     const c = JSON.parse(execFileSync(naive!, [String(n)], { encoding: 'utf8', maxBuffer: 1 << 20 })) as { totalTopplings: string; originOdometer: string; seconds: number };
     process.stdout.write(`${c.seconds.toFixed(2)} s\n`);
-    const ours = results.find((r) => r.n === n && r.lattice === 'square' && r.background === 'zero') ?? runCase({ n, lattice: 'square', background: 'zero' });
+    const ours = results.find((r) => r.n === n && r.lattice === 'square' && r.background === 'zero' && r.threads === 2) ?? runCase({ n, lattice: 'square', background: 'zero', threads: 2 });
     if (!results.includes(ours)) results.push(ours);
     if (c.totalTopplings !== ours.totalTopplings || c.originOdometer !== ours.originOdometer) {
       console.error(`n=${n}: C sweep gave ${c.totalTopplings} topplings (origin ${c.originOdometer}), fast path ${ours.totalTopplings} (origin ${ours.originOdometer})`);
@@ -138,22 +148,32 @@ async function main(): Promise<void> {
     }
     cSeconds.set(n, c.seconds);
   }
+  for (const r of results) {
+    const other = results.find((o) => o !== r && o.n === r.n && o.lattice === r.lattice && o.background === r.background);
+    if (other && (other.totalTopplings !== r.totalTopplings || other.originOdometer !== r.originOdometer))
+      (failures++, console.error(`${r.lattice} n=${r.n}: ${r.threads} thread(s) gave ${r.totalTopplings} topplings, ${other.threads} gave ${other.totalTopplings}`));
+  }
   for (const r of results) if (!r.certified) (failures++, console.error(`${r.lattice} n=${r.n}: certificate did not pass`));
 
-  const squares = results.filter((r) => r.lattice === 'square' && r.background === 'zero').sort((a, b) => a.n - b.n);
-  const exponent = growthExponent(squares.filter((r) => r.n >= 1e6));
-  const exponentAll = growthExponent(squares);
-  const header = ['n', 'lattice', 'wall s', 'cell updates/s', 'events/s', 'peak RSS MiB', 'bytes/cell', 'C s', 'C / ours', 'repairs'];
+  const isSquare = (r: CaseResult) => r.lattice === 'square' && r.background === 'zero';
+  const fit = (threads: number) => growthExponent(results.filter((r) => isSquare(r) && r.threads === threads).sort((a, b) => a.n - b.n));
+  const fitFrom = (threads: number, from: number) => growthExponent(results.filter((r) => isSquare(r) && r.threads === threads && r.n >= from));
+  const header = ['n', 'lattice', 'threads', 'wall s', 'cell updates/s', 'events/s', 'peak RSS MiB', 'bytes/cell', '2T speed-up', 'vs square', 'C s', 'C / ours', 'repairs'];
   const rows = results.map((r) => {
-    const c = r.lattice === 'square' && r.background === 'zero' ? cSeconds.get(r.n) : undefined;
+    const c = isSquare(r) && r.threads === 2 ? cSeconds.get(r.n) : undefined;
+    const one = results.find((o) => o.n === r.n && o.lattice === r.lattice && o.background === r.background && o.threads === 1);
+    const square = results.find((o) => o.n === r.n && isSquare(o) && o.threads === r.threads);
     return [
       `${groupThousands(r.n)} (${powerOfTen(r.n)})`,
       r.lattice + (r.background === 'random' ? ' + random' : ''),
+      String(r.threads),
       r.seconds.toFixed(2),
       groupThousands(Math.round(Number(r.totalTopplings) / r.seconds)),
       groupThousands(Math.round(r.events / r.seconds)),
       (r.maxRssBytes / 2 ** 20).toFixed(0),
       ((r.maxRssBytes - baseline.maxRssBytes) / r.cells).toFixed(1),
+      r.threads === 2 && one ? `${(one.seconds / r.seconds).toFixed(2)}×` : '',
+      !isSquare(r) && square ? `${(r.seconds / square.seconds).toFixed(2)}×` : '',
       c === undefined ? '' : c.toFixed(1),
       c === undefined ? '' : `${(c / r.seconds).toFixed(1)}×`,
       String(r.repairRounds),
@@ -164,13 +184,15 @@ async function main(): Promise<void> {
   console.log('\n' + line(header));
   console.log(widths.map((w) => '-'.repeat(w)).join('  '));
   for (const r of rows) console.log(line(r));
+  const fmt = (e: number | null) => (e === null ? 'needs two sizes' : e.toFixed(2));
   console.log(
-    `\ngrowth exponent of wall time (square, background 0): ${exponent === null ? 'needs two sizes ≥ 10^6' : exponent.toFixed(2)} over n ≥ 10^6` +
-      (exponentAll === null ? '' : `; ${exponentAll.toFixed(2)} over all sizes run`),
+    `\ngrowth exponent of wall time, least squares on log-log (square, background 0): 2 threads ${fmt(fit(2))} over all sizes run, ${fmt(fitFrom(2, 1e6))} over n ≥ 10^6; ` +
+      `1 thread ${fmt(fit(1))} over all sizes run, ${fmt(fitFrom(1, 1e6))} over n ≥ 10^6`,
   );
+  console.log(`load average at the end: ${loadavg().map((v) => v.toFixed(2)).join(' ')}`);
   console.log('cell updates/s = topplings of the result / wall s; events/s = toppling events the relaxation actually performed / wall s');
-  console.log('bytes/cell = (peak RSS − baseline RSS) / cells of the result arrays; C / ours = C sweep wall time over ours at the same n');
-  console.log('two threads: the fast path runs on one thread (the 2-thread tiled engine is the plain path; see renderer/src/scale/README.md)');
+  console.log('bytes/cell = (peak RSS − baseline RSS) / cells of the result arrays; C / ours = C sweep wall time over ours (2 threads) at the same n');
+  console.log('2T speed-up = 1-thread wall time over 2-thread wall time at the same n; vs square = wall time over the square lattice\'s at the same n and threads');
   if (failures) {
     console.error(`${failures} check(s) failed`);
     process.exit(1);
