@@ -23,6 +23,7 @@ import { uniqueAs } from '../db/errors.js';
 import { badRequest, conflict, notFound } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
+import { lockRunsForPublication } from '../services/admin-retention.js';
 import { audit } from '../services/audit.js';
 import {
   blockingWarnings,
@@ -193,6 +194,7 @@ export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
     if (row.latestVersion === null) throw conflict('order a print and wait until it is ready before publishing: readers download the printed files');
     const user = authOf(res).user;
     await db.transaction(async (tx) => {
+      await lockRunsForPublication(tx, row.figure.id);
       await tx
         .update(figures)
         .set({ publishedAt: row.figure.publishedAt ?? new Date(), withdrawnAt: null, updatedAt: new Date() })
