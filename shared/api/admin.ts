@@ -247,6 +247,8 @@ export const auditQuerySchema = z.strictObject({
   labId: idSchema.optional(),
   /** actor (who did it) */
   actorId: idSchema.optional(),
+  /** a person, whether they acted or the event was about them (a role change, a removal) */
+  personId: idSchema.optional(),
   /** an action ("credits.grant") or a prefix ending in "." ("credits.") */
   kind: z.string().trim().min(1).max(100).regex(/^[a-z0-9.-]+$/, 'kind is like credits.grant or credits.').optional(),
   from: dayText.optional(),
@@ -264,6 +266,8 @@ export const auditEventSchema = z.object({
   action: z.string(),
   subjectType: z.string().nullable(),
   subjectId: z.string().nullable(),
+  /** the subject's name when the event is about a person */
+  subjectName: z.string().nullable().default(null),
   reason: z.string().nullable(),
   detail: z.record(z.string(), z.unknown()).nullable(),
 });

@@ -170,13 +170,14 @@ export function labsRouter({ db, env, mailer }: AppDeps): Router {
     const { labId, userId } = validate.params(req, labMemberParamsSchema);
     const { monthlyQuota } = validate.body(req, quotaRequestSchema);
     const [m] = await db.transaction(async (tx) => {
+      const [before] = await tx.select({ q: memberships.monthlyQuota }).from(memberships).where(and(eq(memberships.labId, labId), eq(memberships.userId, userId))).for('update');
       const updated = await tx
         .update(memberships)
         .set({ monthlyQuota })
         .where(and(eq(memberships.labId, labId), eq(memberships.userId, userId)))
         .returning();
       if (updated.length) {
-        await audit(tx, { actorId: authOf(res).user.id, labId, action: 'member.quota', subjectType: 'user', subjectId: userId, detail: { monthlyQuota } });
+        await audit(tx, { actorId: authOf(res).user.id, labId, action: 'member.quota', subjectType: 'user', subjectId: userId, detail: { from: before?.q ?? null, monthlyQuota } });
       }
       return updated;
     });
