@@ -146,7 +146,7 @@ function RoleEditor({ labId, member, isSelf }: { labId: string; member: Member; 
   }
   const dirty = role !== member.role;
   return (
-    <form onSubmit={submit} className="space-y-1.5" aria-label={`role of ${member.name}`}>
+    <form onSubmit={submit} className="space-y-1.5" aria-label={`change the role of ${member.name}`}>
       <select
         aria-label={`role of ${member.name}`}
         value={role}
