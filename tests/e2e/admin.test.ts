@@ -137,23 +137,23 @@ describe('the admin console in the browser', () => {
     await members.waitFor();
 
     // stepping down as the only manager: the reason is asked for, then the server says why not
-    await page.getByRole('combobox', { name: 'role of Perrin Ashcombe', exact: true }).selectOption('author');
-    const self = page.getByRole('form', { name: 'change the role of Perrin Ashcombe' });
+    await page.getByRole('combobox', { name: 'permissions of Perrin Ashcombe', exact: true }).selectOption('author');
+    const self = page.getByRole('form', { name: 'change the permissions of Perrin Ashcombe' });
     await self.getByRole('button', { name: 'Make author' }).click();
     await self.getByText('give a reason of at least 3 characters').waitFor();
-    await self.getByLabel('reason for the role change of Perrin Ashcombe').fill('handing over');
+    await self.getByLabel('reason for changing the permissions of Perrin Ashcombe').fill('handing over');
     await self.getByRole('button', { name: 'Make author' }).click();
     await self.getByText('a lab needs at least one manager: make someone else manager first').waitFor();
     await screenshot(page, 'lab-last-manager');
-    await page.getByRole('combobox', { name: 'role of Perrin Ashcombe', exact: true }).selectOption('manager');
+    await page.getByRole('combobox', { name: 'permissions of Perrin Ashcombe', exact: true }).selectOption('manager');
 
     // promoting the author
-    await page.getByRole('combobox', { name: 'role of Maren Tollis', exact: true }).selectOption('manager');
-    const other = page.getByRole('form', { name: 'change the role of Maren Tollis' });
-    await other.getByLabel('reason for the role change of Maren Tollis').fill('runs the group while Perrin is on leave');
+    await page.getByRole('combobox', { name: 'permissions of Maren Tollis', exact: true }).selectOption('manager');
+    const other = page.getByRole('form', { name: 'change the permissions of Maren Tollis' });
+    await other.getByLabel('reason for changing the permissions of Maren Tollis').fill('runs the group while Perrin is on leave');
     await other.getByRole('button', { name: 'Make manager' }).click();
     await expect.poll(() => other.getByRole('button', { name: 'Make manager' }).count()).toBe(0);
-    expect(await page.getByRole('combobox', { name: 'role of Maren Tollis', exact: true }).inputValue()).toBe('manager');
+    expect(await page.getByRole('combobox', { name: 'permissions of Maren Tollis', exact: true }).inputValue()).toBe('manager');
     await screenshot(page, 'lab-role-changed');
 
     const adminPage = await newPage(browser, url);

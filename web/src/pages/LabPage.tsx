@@ -146,9 +146,9 @@ function RoleEditor({ labId, member, isSelf }: { labId: string; member: Member; 
   }
   const dirty = role !== member.role;
   return (
-    <form onSubmit={submit} className="space-y-1.5" aria-label={`change the role of ${member.name}`}>
+    <form onSubmit={submit} className="space-y-1.5" aria-label={`change the permissions of ${member.name}`}>
       <select
-        aria-label={`role of ${member.name}`}
+        aria-label={`permissions of ${member.name}`}
         value={role}
         onChange={(e) => {
           setRole(e.target.value as Member['role']);
@@ -162,7 +162,7 @@ function RoleEditor({ labId, member, isSelf }: { labId: string; member: Member; 
       {dirty ? (
         <div className="flex items-start gap-2">
           <input
-            aria-label={`reason for the role change of ${member.name}`}
+            aria-label={`reason for changing the permissions of ${member.name}`}
             value={reason}
             placeholder="why (kept in the audit trail)"
             onChange={(e) => setReason(e.target.value)}
