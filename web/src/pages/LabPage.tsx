@@ -60,7 +60,8 @@ function LabDetail({ labId, isManager, me }: { labId: string; isManager: boolean
       key: 'role',
       header: 'Role',
       sortValue: (m) => m.role,
-      cell: (m) => (isManager ? <RoleEditor labId={labId} member={m} isSelf={m.userId === me.user.id} /> : m.role === 'manager' ? 'manager' : 'author'),
+      // site admins may change roles in any lab (the API allows it), even where they are only an author
+      cell: (m) => (isManager || me.user.isAdmin ? <RoleEditor labId={labId} member={m} isSelf={m.userId === me.user.id} /> : m.role === 'manager' ? 'manager' : 'author'),
     },
     {
       key: 'quota',
