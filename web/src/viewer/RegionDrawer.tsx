@@ -113,7 +113,11 @@ export function RegionDrawer({ base, geometry, layer, palette, region, onChange 
         <span className="text-xs text-ink-soft">The scroll wheel zooms; every cell the rectangle touches is in the region.</span>
       </div>
       <div className={`relative h-80 overflow-hidden rounded-md ${mode === 'draw' ? 'cursor-crosshair' : ''}`}>
-        <DeepZoom key={`${view.layer}/${view.palette}`} infoUrl={infoJsonUrl(base, view.layer, view.palette)} label="deep-zoom view for drawing the region" onReady={onReady} onView={onView} className="absolute inset-0" />
+        {asked.isPending ? (
+          <div className="absolute inset-0 bg-night" />
+        ) : (
+          <DeepZoom key={`${view.layer}/${view.palette}`} infoUrl={infoJsonUrl(base, view.layer, view.palette)} label="deep-zoom view for drawing the region" onReady={onReady} onView={onView} className="absolute inset-0" />
+        )}
         {shown && !pendingRect ? <RegionBox rect={screenRect(shown.x, shown.y, shown.x + shown.width, shown.y + shown.height)} testId="region-rect" /> : null}
         {pendingRect ? <RegionBox rect={screenRect(pendingRect.x, pendingRect.y, pendingRect.x + pendingRect.width, pendingRect.y + pendingRect.height)} testId="region-rect-pending" dashed /> : null}
       </div>
