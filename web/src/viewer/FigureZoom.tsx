@@ -11,15 +11,17 @@ import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
 export function FigureZoom({ slug, title }: { slug: string; title: string }) {
   const base: ArtifactBase = { kind: 'figure', slug };
   // the run's own specification (run.json) says which views were drawn; the switchers list only those
-  const drawn = drawnOf(useRunJson(base).data?.spec);
+  const runJson = useRunJson(base);
+  const drawn = drawnOf(runJson.data?.spec);
   const [wantedLayer, setLayer] = useState<DrawnLayer>('heights');
   const [wantedPalette, setPalette] = useState<string>('');
   const [wantedBeside, setBeside] = useState<DrawnLayer | ''>('');
   const layer = pickLayer(drawn, wantedLayer);
   const palette = pickPalette(drawn, wantedPalette);
   const beside = wantedBeside && wantedBeside !== layer && drawn.layers.includes(wantedBeside) ? wantedBeside : '';
-  const panes: PaneSpec[] = [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }];
-  if (beside) panes.push({ base, layer: beside, palette: paletteSegmentOf(drawn, beside, palette), label: title });
+  // until run.json says what was drawn, open nothing (rather than a default view the run may not have)
+  const panes: PaneSpec[] = runJson.data || runJson.isError ? [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }] : [];
+  if (beside && panes.length) panes.push({ base, layer: beside, palette: paletteSegmentOf(drawn, beside, palette), label: title });
   return (
     <PileViewer
       panes={panes}

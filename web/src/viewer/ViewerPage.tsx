@@ -38,9 +38,10 @@ export function ViewerPage() {
   };
 
   const title = run.data?.run.title ?? 'Run';
-  const panes: PaneSpec[] = [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }];
-  if (otherLayer) panes.push({ base, layer: otherLayer, palette: paletteSegmentOf(drawn, otherLayer, palette), label: title });
-  if (otherRunId) {
+  // until the spec says what was drawn, open nothing (rather than a default view the run may not have)
+  const panes: PaneSpec[] = run.data || run.isError ? [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }] : [];
+  if (otherLayer && panes.length) panes.push({ base, layer: otherLayer, palette: paletteSegmentOf(drawn, otherLayer, palette), label: title });
+  if (otherRunId && panes.length) {
     const theirs = drawnOf(otherRun.data?.run.spec);
     panes.push({ base: { kind: 'run', id: otherRunId }, layer, palette: paletteSegmentOf(theirs, layer, palette), label: otherRun.data?.run.title ?? 'other run' });
   }
