@@ -1,12 +1,11 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import OpenSeadragon from 'openseadragon';
 import type { Region } from '../../../shared/print.js';
-import { DEFAULT_PALETTE_ID } from '../../../shared/palettes.js';
-import { useViewDrawn } from '../api/queries.js';
-import { DRAWN_LAYERS } from '../labels.js';
+import type { RenderSpec } from '../../../shared/run-spec.js';
 import { Button } from '../ui/index.js';
 import { pixelsPerCell, type RunGeometry } from './cells.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
+import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { imageRectOfRegion, regionOfImagePoints } from './regionGeometry.js';
 import { infoJsonUrl, type ArtifactBase } from './runArtifacts.js';
 
@@ -16,7 +15,9 @@ type Pt = { x: number; y: number };
 interface Props {
   base: ArtifactBase;
   geometry: RunGeometry;
-  /** the panel's layer and palette; a view that was not drawn falls back to the drawn one of the layer */
+  /** the run's spec, for the views it drew */
+  spec: { render?: RenderSpec };
+  /** the panel's layer and palette; a view the run did not draw falls back to one it did */
   layer: string;
   palette: string;
   /** the region typed in the form (null: the whole run) */
@@ -30,10 +31,10 @@ interface Props {
  * zooms. In "move" mode the view pans as usual. The rectangle follows the typed coordinates, so
  * typing moves it; the drawn region goes back to the form through `onChange`.
  */
-export function RegionDrawer({ base, geometry, layer, palette, region, onChange }: Props) {
-  const drawnLayer = (DRAWN_LAYERS as readonly string[]).includes(layer) ? layer : 'heights';
-  const asked = useViewDrawn(base, layer, palette);
-  const view = asked.data ? { layer, palette } : { layer: drawnLayer, palette: DEFAULT_PALETTE_ID };
+export function RegionDrawer({ base, geometry, spec, layer, palette, region, onChange }: Props) {
+  const drawn = drawnOf(spec);
+  const shownLayer = pickLayer(drawn, layer);
+  const view = { layer: shownLayer, palette: paletteSegmentOf(drawn, shownLayer, pickPalette(drawn, palette)) };
 
   const [handle, setHandle] = useState<DeepZoomHandle | null>(null);
   const [, setTick] = useState(0);
@@ -113,11 +114,7 @@ export function RegionDrawer({ base, geometry, layer, palette, region, onChange 
         <span className="text-xs text-ink-soft">The scroll wheel zooms; every cell the rectangle touches is in the region.</span>
       </div>
       <div className={`relative h-80 overflow-hidden rounded-md ${mode === 'draw' ? 'cursor-crosshair' : ''}`}>
-        {asked.isPending ? (
-          <div className="absolute inset-0 bg-night" />
-        ) : (
-          <DeepZoom key={`${view.layer}/${view.palette}`} infoUrl={infoJsonUrl(base, view.layer, view.palette)} label="deep-zoom view for drawing the region" onReady={onReady} onView={onView} className="absolute inset-0" />
-        )}
+        <DeepZoom key={`${view.layer}/${view.palette}`} infoUrl={infoJsonUrl(base, view.layer, view.palette)} label="deep-zoom view for drawing the region" onReady={onReady} onView={onView} className="absolute inset-0" />
         {shown && !pendingRect ? <RegionBox rect={screenRect(shown.x, shown.y, shown.x + shown.width, shown.y + shown.height)} testId="region-rect" /> : null}
         {pendingRect ? <RegionBox rect={screenRect(pendingRect.x, pendingRect.y, pendingRect.x + pendingRect.width, pendingRect.y + pendingRect.height)} testId="region-rect-pending" dashed /> : null}
       </div>

@@ -350,6 +350,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
           <RegionDrawer
             base={{ kind: 'run', id: run.id }}
             geometry={{ shape: run.stats.shape, origin: run.stats.origin, grains: run.spec.chips }}
+            spec={run.spec}
             layer={panel.layer ?? 'heights'}
             palette={panel.palette ?? 'tidewater'}
             region={region}
