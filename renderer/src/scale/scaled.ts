@@ -246,6 +246,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       // stable: any overshoot of the seed shows up as a non-empty peeled set; undo it unit by unit
       tRepair = performance.now();
       if (level === L - 1 && !options.resume) break; // zero seed: legal topplings only, nothing to repair
+      // the finest level needs its coarser level no more (it only seeds and goes into checkpoints of
+      // the relaxation): let it go before the peeling marks are allocated (peak memory)
+      if (level === 0) coarse = null;
       const mark = new Uint8Array(grid.h.length);
       // global test; repairs continue in the window of the last peeled set, then the global test again
       while (peel(grid.h, grid.od, k, stack, mark) > 0) {
