@@ -25,11 +25,17 @@ function bodyParserError(err: unknown): HttpError | null {
   }
 }
 
+/** The router marks a path parameter it cannot percent-decode ("%E0%A4%A") as a URIError with status 400. */
+function undecodableParam(err: unknown): HttpError | null {
+  if (!(err instanceof URIError) || (err as URIError & { status?: unknown }).status !== 400) return null;
+  return new HttpError(400, 'malformed percent-encoding in the URL path');
+}
+
 /** The one place errors become answers: HttpErrors as they are, anything else logged and answered 500. */
 export function errorMiddleware(log: Logger): ErrorRequestHandler {
   return (err, req, res, _next) => {
     const requestId = String(res.locals.requestId ?? '');
-    const known = err instanceof HttpError || (err as Error)?.name === 'HttpError' ? (err as HttpError) : bodyParserError(err);
+    const known = err instanceof HttpError || (err as Error)?.name === 'HttpError' ? (err as HttpError) : (bodyParserError(err) ?? undecodableParam(err));
     if (res.headersSent) {
       log.error('error after headers were sent', { requestId, err });
       res.end();
