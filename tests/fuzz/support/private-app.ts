@@ -73,8 +73,10 @@ export async function startPrivateApp(fileTag: string): Promise<PrivateApp> {
   const { rows: tableRows } = await database.pool.query<{ t: string }>(
     "select quote_ident(table_name) as t from information_schema.tables where table_schema = 'public' and table_type = 'BASE TABLE' order by 1",
   );
-  const tables = tableRows.map((r) => r.t);
-  const snapshotSql = `select ${tables.map((t) => `(select count(*)::text || ':' || coalesce(md5(string_agg(x::text, ',' order by x::text)), '') from ${t} x) as ${t}`).join(', ')}`;
+  const names = tableRows.map((r) => r.t);
+  const snapshotSql = `select ${names.map((t) => `(select count(*)::text || ':' || coalesce(md5(string_agg(x::text, ',' order by x::text)), '') from ${t} x) as ${t}`).join(', ')}`;
+
+  const tables = async () => (await database.pool.query<Record<string, string>>(snapshotSql)).rows[0]!;
 
   return {
     env,
@@ -86,12 +88,9 @@ export async function startPrivateApp(fileTag: string): Promise<PrivateApp> {
     tag,
     queuePrefix,
     email: (name) => `${name.toLowerCase().replace(/[^a-z0-9]+/g, '.')}.${tag}@test.toppleworks.local`,
-    async tables() {
-      const { rows } = await database.pool.query<Record<string, string>>(snapshotSql);
-      return rows[0]!;
-    },
+    tables,
     async snapshot() {
-      return { tables: await this.tables(), objects: (await deps.blobs.list('')).sort() };
+      return { tables: await tables(), objects: (await deps.blobs.list('')).sort() };
     },
     async jobCount() {
       let n = 0;
