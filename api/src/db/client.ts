@@ -11,6 +11,12 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
   // An idle client whose server went away (a restart, a dropped test database) emits 'error' on the
   // pool; unheard, that would end the process. The next query simply gets a fresh connection.
   pool.on('error', (err) => console.error(`database connection lost: ${err.message}`));
+  // A client checked out (inside a transaction, between two statements) when the server goes away
+  // emits 'error' too, and the pool listens only to idle ones: unheard, that error ends the process.
+  // The statement in progress fails on its own and the request answers 503 (http/unavailable.ts).
+  pool.on('connect', (client) => {
+    client.on('error', (err) => console.error(`database connection lost: ${err.message}`));
+  });
   const db = drizzle(pool, { schema });
   return { db, pool, close: () => pool.end() };
 }
