@@ -44,10 +44,16 @@ export function createJobQueue(redisUrl: string, options: JobQueueOptions = {}):
       if (job && (await job.isWaiting() || await job.isDelayed())) await job.remove();
     },
     async ping() {
+      // with maxRetriesPerRequest: null a command waits for Redis to come back: a readiness probe must not
+      if (connection.status !== 'ready') return false;
+      let timer: NodeJS.Timeout | undefined;
+      const late = new Promise<'late'>((resolve) => (timer = setTimeout(() => resolve('late'), 1000)));
       try {
-        return (await connection.ping()) === 'PONG';
+        return (await Promise.race([connection.ping(), late])) === 'PONG';
       } catch {
         return false;
+      } finally {
+        clearTimeout(timer);
       }
     },
     async close() {
