@@ -37,7 +37,8 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
   const enqueue = async (item: JobItem) => {
     const queue = JOBS_TO_QUEUE[item.name] === QUEUE_NAMES.render ? renderQueue : null;
     if (!queue) throw new Error(`the worker does not enqueue ${item.name}`);
-    await queue.add(item.name, item.data, { jobId: jobIdFor(item), attempts: 3, backoff: { type: 'exponential', delay: 2000 } });
+    // drawing only reads and writes the store: six attempts ride out an outage of about a minute (2+4+8+16+32 s)
+    await queue.add(item.name, item.data, { jobId: jobIdFor(item), attempts: 6, backoff: { type: 'exponential', delay: 2000 } });
   };
   const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
   const notifyOutcome = runEnded({ db: database.db, mailer, env });
@@ -69,7 +70,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     (job: Job) => printRun(job, { db: database.db, store, s3, bucket: env.S3_BUCKET, notifyReady: notifyPrintReady }),
     { connection, prefix, concurrency: 1 },
   );
-  for (const w of [compute, render, print]) w.on('failed', (job, err) => console.error(`job ${job?.id} failed: ${err.message}`));
+  for (const w of [compute, render, print]) w.on('failed', (job, err) => console.error(`job ${job?.id} failed (attempt ${job?.attemptsMade}): ${err.message}`));
 
   // Heartbeat for the admin console's farm page: who is alive and which jobs each holds; the key expires if the process dies.
   const farmWorkers = [compute, render, print];

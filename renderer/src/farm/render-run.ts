@@ -29,13 +29,23 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
   const state = runState(deps.db, runId);
   const status = await state.current();
   if (status !== 'rendering') return 'skipped';
-  const input = await readStoredArrays(deps.store, runId);
-  const sink = createS3Sink({ client: deps.s3, bucket: deps.bucket });
-  // one statistics pass serves every layer's colour scale
-  const stats = computeStats(planeOf(input));
-  for (const [i, view] of DEFAULT_VIEWS.entries()) {
-    await state.progress(`drawing ${view.layer} tiles`, i / DEFAULT_VIEWS.length);
-    await renderPyramid(input, sink, { runId, style: { layer: view.layer }, stats });
+  try {
+    const input = await readStoredArrays(deps.store, runId);
+    const sink = createS3Sink({ client: deps.s3, bucket: deps.bucket });
+    // one statistics pass serves every layer's colour scale
+    const stats = computeStats(planeOf(input));
+    for (const [i, view] of DEFAULT_VIEWS.entries()) {
+      await state.progress(`drawing ${view.layer} tiles`, i / DEFAULT_VIEWS.length);
+      await renderPyramid(input, sink, { runId, style: { layer: view.layer }, stats });
+    }
+  } catch (err) {
+    // transient (store or database away): BullMQ retries with backoff; on the last attempt the run
+    // fails with the reason instead of staying "rendering" for ever
+    if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) {
+      await state.failed(`the farm could not draw this run's views: ${(err as Error).message}`);
+      await deps.notifyOutcome(runId);
+    }
+    throw err;
   }
   if (await state.finished()) await deps.notifyOutcome(runId);
   return 'finished';
