@@ -3,7 +3,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { creditPurchases, emailTokens, figures, ledgerEntries, runs, sessions, users } from '../../drizzle/schema.js';
 import { listFiguresResponseSchema } from '../../shared/api/figures.js';
 import { listRunsResponseSchema } from '../../shared/api/runs.js';
+import supertest from 'supertest';
 import { API_CATALOGUE } from '../../api/src/openapi/catalogue.js';
+import { createApp } from '../../api/src/app.js';
 import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
 import { sha256Hex } from '../../api/src/auth/secrets.js';
 import { finishedRun } from '../api/figures-fixtures.js';
@@ -62,6 +64,19 @@ describe('sessions', () => {
     const jti = JSON.parse(Buffer.from(s.cookie.match(/tw_session=([^;.]+)\.([^;.]+)\./)![2]!, 'base64url').toString()).jti as string;
     const [row] = await h.deps.db.select().from(sessions).where(eq(sessions.id, jti));
     expect(row!.revokedAt).toBeInstanceOf(Date);
+  });
+});
+
+describe('sign-in', () => {
+  it('is rate limited per address outside tests: the 51st attempt in 15 minutes answers 429 with a message', { timeout: 60_000 }, async () => {
+    // the suite's own app skips the limiter (NODE_ENV=test); this one is configured as in development
+    const limited = supertest(createApp({ ...h.deps, env: { ...h.env, NODE_ENV: 'development' } }, { distDir: '/nonexistent' }));
+    const statuses: number[] = [];
+    for (let k = 0; k < 50; k++) statuses.push((await limited.post('/api/auth/sign-in').send({ email: userA.email, password: 'wrong-password-guess' })).status);
+    expect(statuses.every((s) => s === 401)).toBe(true);
+    const last = await limited.post('/api/auth/sign-in').send({ email: userA.email, password: TEST_PASSWORD });
+    expect(last.status).toBe(429);
+    expect(last.body.error).toMatch(/too many attempts/);
   });
 });
 
