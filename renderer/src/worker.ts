@@ -7,7 +7,7 @@ import { startFarmWorker } from './farm/farm-worker.js';
 import { loadEnv } from '../../shared/env.js';
 
 const env = loadEnv();
-const farm = await startFarmWorker(env);
+const farm = await startFarmWorker(env, { retentionSweep: true });
 console.log(`renderer worker ready (compute concurrency ${farm.concurrency.compute}, render ${farm.concurrency.render})`);
 
 let stopping = false;

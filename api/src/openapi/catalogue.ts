@@ -61,6 +61,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   { method: 'post', path: '/labs/:labId/invitations', tag: 'labs', summary: 'Invite someone by e-mail (managers)', access: 'user', params: api.labParamsSchema, body: api.createInvitationRequestSchema, responses: { 201: api.invitationResponseSchema } },
   { method: 'delete', path: '/labs/:labId/invitations/:id', tag: 'labs', summary: 'Withdraw an invitation (managers)', access: 'user', params: api.labInvitationParamsSchema, responses: { 204: null } },
   { method: 'delete', path: '/labs/:labId/members/:userId', tag: 'labs', summary: 'Remove a member (managers) or leave the lab', access: 'user', params: api.labMemberParamsSchema, responses: { 204: null } },
+  { method: 'put', path: '/labs/:labId/members/:userId/role', tag: 'labs', summary: 'Change a member\'s role, author ↔ manager, with a reason (managers and site admins; a lab keeps at least one manager)', access: 'user', params: api.labMemberParamsSchema, body: api.roleRequestSchema, responses: { 200: api.memberResponseSchema } },
   { method: 'put', path: '/labs/:labId/members/:userId/quota', tag: 'labs', summary: 'Set a member\'s monthly credit quota (managers)', access: 'user', params: api.labMemberParamsSchema, body: api.quotaRequestSchema, responses: { 200: api.memberResponseSchema } },
 
   { method: 'get', path: '/invitations/:token', tag: 'labs', summary: 'Preview an invitation', access: 'public', params: tokenParams, responses: { 200: api.invitationPreviewResponseSchema } },
@@ -75,6 +76,11 @@ export const API_CATALOGUE: ApiRoute[] = [
   {
     method: 'get', path: '/runs/:id/views/:layer/:palette/iiif/*path', tag: 'artifacts', summary: 'Deep-zoom tiles and info.json of a run\'s view', description: tileNote, access: 'optional',
     params: api.runViewParamsSchema, responses: { 200: tile, 304: null },
+  },
+  {
+    method: 'get', path: '/runs/:id/legend/:layer/:palette', tag: 'artifacts', summary: 'The legend of a drawn view: each height (or value range) with its colour, and the numbers of the colour scale', access: 'optional',
+    description: 'Palette is a palette id, with ~clear when untoppled cells were drawn transparent. 404 for a view the run did not ask for or that is not drawn yet.',
+    params: api.runLegendParamsSchema, responses: { 200: api.legendResponseSchema },
   },
   { method: 'get', path: '/runs/:id/arrays/:name', tag: 'artifacts', summary: 'Download a run\'s heights, odometer or run.json', access: 'optional', params: api.runArrayParamsSchema, responses: { 200: download, 304: null } },
 
@@ -105,6 +111,10 @@ export const API_CATALOGUE: ApiRoute[] = [
   {
     method: 'get', path: '/figures/:slug/views/:layer/:palette/iiif/*path', tag: 'artifacts', summary: 'Deep-zoom tiles and info.json of a figure\'s run', description: tileNote, access: 'optional',
     params: api.figureViewParamsSchema, responses: { 200: tile, 304: null },
+  },
+  {
+    method: 'get', path: '/figures/:slug/legend/:layer/:palette', tag: 'artifacts', summary: 'The legend of a drawn view of a figure\'s run', access: 'optional',
+    params: api.figureLegendParamsSchema, responses: { 200: api.legendResponseSchema },
   },
   { method: 'get', path: '/figures/:slug/arrays/:name', tag: 'artifacts', summary: 'Download the arrays of a figure\'s run', access: 'optional', params: api.figureArrayParamsSchema, responses: { 200: download, 304: null } },
 

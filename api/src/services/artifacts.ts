@@ -3,7 +3,7 @@ import { and, eq, isNotNull, isNull } from 'drizzle-orm';
 import type { Request, Response } from 'express';
 import { figures, runs } from '../../../drizzle/schema.js';
 import { arrayKeys } from '../../../renderer/src/farm/artifacts.js';
-import { iiifPrefix, viewPrefix } from '../../../renderer/src/render/keys.js';
+import { iiifPrefix, legendKeyOf, viewPrefix } from '../../../renderer/src/render/keys.js';
 import type { ArrayName } from '../../../shared/api/artifacts.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkLabAccess } from '../auth/middleware.js';
@@ -22,11 +22,14 @@ export type ArtifactSubject = { runId: string; visibility: Visibility };
 
 const published = and(isNotNull(figures.publishedAt), isNull(figures.withdrawnAt));
 
+/** Its lab asked for the artifacts of a run the retention rule removed: gone for good, said plainly. */
+const expired = (at: Date) => new HttpError(410, `expired — artifacts removed: the arrays and tiles of this unpublished run were deleted on ${at.toISOString().slice(0, 10)} at the end of its retention period; re-run it to compute them again`);
+
 /** The run and whether the caller may see it; anonymous callers and strangers get the same 404. */
 export async function runSubject(db: Db, res: Response, runId: string): Promise<ArtifactSubject> {
   const missing = notFound('run not found');
   const [[row], [shown]] = await Promise.all([
-    db.select({ labId: runs.labId }).from(runs).where(eq(runs.id, runId)),
+    db.select({ labId: runs.labId, expiredAt: runs.artifactsExpiredAt }).from(runs).where(eq(runs.id, runId)),
     db.select({ id: figures.id }).from(figures).where(and(eq(figures.runId, runId), published)).limit(1),
   ]);
   if (!row) throw missing;
@@ -34,6 +37,7 @@ export async function runSubject(db: Db, res: Response, runId: string): Promise<
   const user = res.locals.auth?.user;
   if (!user) throw missing;
   await checkLabAccess(db, user, row.labId, 'read', missing);
+  if (row.expiredAt) throw expired(row.expiredAt);
   return { runId, visibility: 'private' };
 }
 
@@ -62,12 +66,19 @@ export function assertPlainUrl(req: Request): void {
   if (/%2f|%5c|%2e|%00|\\/i.test(raw)) throw badRequest('the address may not contain encoded "/", "\\", "." or NUL characters');
 }
 
+/** runs/<runId>/<layer>/<palette>[~clear] from a validated palette segment. */
+function viewPrefixOf(runId: string, layer: Layer, palette: string): string {
+  const transparent = palette.endsWith('~clear');
+  return viewPrefix(runId, layer, palette.replace(/~clear$/, '') as PaletteId, transparent);
+}
+
 /** The object key of one IIIF request: always under runs/<runId>/<layer>/<palette>/iiif/. */
 export function viewKey(runId: string, layer: Layer, palette: string, path: readonly string[]): string {
-  const transparent = palette.endsWith('~clear');
-  const prefix = iiifPrefix(viewPrefix(runId, layer, palette.replace(/~clear$/, '') as PaletteId, transparent));
-  return `${prefix}/${path.join('/')}`;
+  return `${iiifPrefix(viewPrefixOf(runId, layer, palette))}/${path.join('/')}`;
 }
+
+/** The object key of a view's legend.json. */
+export const legendKey = (runId: string, layer: Layer, palette: string): string => legendKeyOf(viewPrefixOf(runId, layer, palette));
 
 export const arrayKey = (runId: string, name: ArrayName): string => {
   const keys = arrayKeys(runId);

@@ -13,6 +13,7 @@ import { renderRun } from './render-run.js';
 import { runEnded } from './run-ended.js';
 import { printRun } from './print-run.js';
 import { sendFigureReadyMail } from '../../../api/src/services/figures-ready-mail.js';
+import { startRetentionSweep } from './retention-sweep.js';
 
 export interface FarmWorkerOptions {
   /** BullMQ key prefix; tests use their own */
@@ -21,6 +22,8 @@ export interface FarmWorkerOptions {
   computeConcurrency?: number;
   renderConcurrency?: number;
   threads?: number;
+  /** take part in the scheduled retention sweep (worker.ts turns it on; tests keep it off so it never sweeps other tests' labs) */
+  retentionSweep?: boolean;
 }
 
 /**
@@ -70,6 +73,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     (job: Job) => printRun(job, { db: database.db, store, s3, bucket: env.S3_BUCKET, notifyReady: notifyPrintReady }),
     { connection, prefix, concurrency: 1 },
   );
+  const sweep = options.retentionSweep ? await startRetentionSweep({ connection, prefix, db: database.db, blobs: store, mailer, env }) : null;
   for (const w of [compute, render, print]) w.on('failed', (job, err) => console.error(`job ${job?.id} failed (attempt ${job?.attemptsMade}): ${err.message}`));
 
   // Heartbeat for the admin console's farm page: who is alive and which jobs each holds; the key expires if the process dies.
@@ -95,7 +99,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     async close() {
       clearInterval(heartbeat);
       await connection.del(beatKey).catch(() => {});
-      await Promise.all([compute.close(), render.close(), print.close()]);
+      await Promise.all([compute.close(), render.close(), print.close(), sweep?.close()]);
       await renderQueue.close();
       store.close();
       mailer.close();
