@@ -1,7 +1,8 @@
 /**
  * A renderer worker killed (SIGKILL) in the middle of a computation loses no finished work: a new
  * worker takes the job up once the lock of the dead one runs out, resumes from the checkpoint in
- * the object store, and stores the same arrays as an uninterrupted run; the lab is charged once.
+ * the object store; stopped with SIGTERM, that worker hands the job straight back, and a third one
+ * resumes it again and stores the same arrays as an uninterrupted run; the lab is charged once.
  */
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -64,7 +65,7 @@ async function storedCheckpointLevel(runId: string): Promise<number | null> {
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
 
 describe('a worker killed mid-run', () => {
-  it('hands the run to a new worker, which resumes from the checkpoint and stores the arrays of an uninterrupted run, charged once', { timeout: 120_000 }, async () => {
+  it('hands the run to a new worker, which resumes from the checkpoint (and hands it back on SIGTERM), and the arrays are those of an uninterrupted run, charged once', { timeout: 150_000 }, async () => {
     const spec = { lattice: { preset: 'square' }, chips: 1_000_000 } as const;
     const t0 = Date.now();
     const phases: string[] = [];
@@ -87,20 +88,42 @@ describe('a worker killed mid-run', () => {
     const [mid] = await h.deps.db.select({ status: runs.status }).from(runs).where(eq(runs.id, run.id));
     expect(mid!.status).toBe('computing');
 
-    const second = startWorkerProcess(workerEnv());
-    workers.push(second);
-    const done = await runSettled(h, author, run.id, 90_000);
-    expect(done.status, `${done.error}\n${second.output()}`).toBe('finished');
-    phase('finished by the second worker');
+    // two fresh workers (started together to save a start-up): one takes the job once the dead one's
+    // lock runs out, and resumes it
+    const fresh = [startWorkerProcess(workerEnv()), startWorkerProcess(workerEnv())];
+    workers.push(...fresh);
+    const resuming = new RegExp(`run ${run.id}: resuming from its checkpoint .*level 0`);
+    const deadline = Date.now() + 60_000;
+    let second: WorkerProcess | undefined;
+    while (!(second = fresh.find((w) => resuming.test(w.output())))) {
+      if (Date.now() > deadline) throw new Error(`no worker resumed the run:\n${fresh.map((w) => w.output()).join('\n---\n')}`);
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    const third = fresh.find((w) => w !== second)!;
+    phase('resumed by the second worker');
+    // stopped politely at once (SIGTERM, as systemd stops a unit): it hands the job straight back
+    second.child.kill('SIGTERM');
+    const stopped = await second.exited;
+    expect(stopped.code, second.output()).toBe(0);
+    expect(second.output()).toMatch(new RegExp(`run ${run.id}: the worker is stopping: back to the queue`));
+    phase('second worker stopped');
+    const [handedBack] = await h.deps.db.select({ status: runs.status, stage: runs.stage }).from(runs).where(eq(runs.id, run.id));
+    // (the other worker may have taken it up already)
+    expect(handedBack!.status).toBe('computing');
 
-    // the logs say it resumed: the new worker's output and the job's own BullMQ log
-    expect(second.output()).toMatch(new RegExp(`run ${run.id}: resuming from its checkpoint .*level 0`));
+    const done = await runSettled(h, author, run.id, 90_000);
+    expect(done.status, `${done.error}\n${third.output()}`).toBe('finished');
+    phase('finished by the third worker');
+
+    // the logs say it resumed, twice: the workers' output and the job's own BullMQ log
+    expect(third.output()).toMatch(new RegExp(`run ${run.id}: resuming from its checkpoint .*level 0`));
     const item: JobItem = { name: JOB_NAMES.computeRun, data: { runId: run.id, spec: done.spec } };
     const queue = new Queue(queueOf(item), { connection: redis, prefix: h.queuePrefix });
     const { logs } = await queue.getJobLogs(jobIdFor(item));
     await queue.close();
     expect(logs.some((l) => /checkpoint \d+ stored/.test(l))).toBe(true);
-    expect(logs.some((l) => /resuming from its checkpoint/.test(l))).toBe(true);
+    expect(logs.filter((l) => /resuming from its checkpoint/.test(l)).length).toBe(2);
+    expect(logs.some((l) => /back to the queue/.test(l))).toBe(true);
     expect(logs.some((l) => /arrays stored/.test(l))).toBe(true);
 
     // the checkpoint is gone once the arrays are stored
