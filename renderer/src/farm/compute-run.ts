@@ -58,7 +58,7 @@ function unrecoverable(err: unknown): err is Error {
  * (its first worker died, or was stopped) resumes from the last one, with the same result bit for bit
  * (renderer/src/scale/README.md). The plain tiled engine has no checkpoints: such a run starts over.
  */
-export async function computeRun(job: Job, deps: ComputeDeps, token?: string): Promise<'finished' | 'skipped' | 'handed back'> {
+export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lockLost?: AbortSignal): Promise<'finished' | 'skipped'> {
   const data = computeRunDataSchema.parse(job.data);
   const state = runState(deps.db, data.runId);
   const log = (line: string) => {
@@ -74,6 +74,8 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string): P
   const onShutdown = () => abort.abort(new Error('the worker is stopping'));
   deps.shutdown?.addEventListener('abort', onShutdown, { once: true });
   if (deps.shutdown?.aborted) onShutdown();
+  const onLockLost = () => abort.abort(new Error('this worker lost its hold on the job'));
+  lockLost?.addEventListener('abort', onLockLost, { once: true });
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();
   let checkpoints: RunCheckpoints | null = null;
@@ -133,6 +135,11 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string): P
   } catch (err) {
     await pending.catch(() => {});
     if (abort.signal.aborted) {
+      if (lockLost?.aborted) {
+        // the job belongs to another worker now (or was given up): touch neither its state nor its checkpoint
+        log('stopped here: this worker lost its hold on the job');
+        throw abort.signal.reason;
+      }
       if (deps.shutdown?.aborted && (await state.current()) === 'computing') {
         // stopping worker: the last checkpoint is in the store; hand the job straight back instead of
         // letting its lock run out, so another worker resumes it at once
@@ -162,6 +169,7 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string): P
     throw err;
   } finally {
     deps.shutdown?.removeEventListener('abort', onShutdown);
+    lockLost?.removeEventListener('abort', onLockLost);
     checkpoints?.dispose();
   }
 }

@@ -1,4 +1,5 @@
 import { hostname } from 'node:os';
+import { DeleteObjectCommand } from '@aws-sdk/client-s3';
 import { Queue, Worker, type Job } from 'bullmq';
 import { Redis } from 'ioredis';
 import { connectDatabase } from '../../../api/src/db/client.js';
@@ -8,7 +9,9 @@ import type { Env } from '../../../shared/env.js';
 import { HEARTBEAT_EVERY_MS, HEARTBEAT_TTL_SECONDS, heartbeatKey } from '../../../shared/api/admin.js';
 import { JOB_NAMES, QUEUE_NAMES, jobIdFor, queueOf, type JobItem } from '../../../shared/jobs.js';
 import { createS3Client } from '../render/index.js';
+import { checkpointKey } from './artifacts.js';
 import { computeRun } from './compute-run.js';
+import { runState } from './run-state.js';
 import { renderRun } from './render-run.js';
 import { runEnded } from './run-ended.js';
 import { printRun } from './print-run.js';
@@ -29,6 +32,8 @@ export interface FarmWorkerOptions {
   checkpointSeconds?: number;
   /** lock duration and stalled-check interval in seconds (default env.WORKER_LOCK_SECONDS) */
   lockSeconds?: number;
+  /** re-deliveries of a compute job whose worker died before BullMQ fails it (default MAX_STALLED.compute) */
+  maxStalledCount?: number;
   /** where progress lines go (default: standard output) */
   log?(line: string): void;
 }
@@ -95,8 +100,38 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
   const farmWorkers: Worker[] = [];
   const lane = (queue: string, n: number) => {
     // a lane with no slots is not served by this process (WORKER_LARGE_CONCURRENCY=0 leaves large runs to bigger machines)
-    if (n > 0) farmWorkers.push(new Worker(queue, (job: Job, token?: string) => computeRun(job, computeDeps, token), { ...held(MAX_STALLED.compute), concurrency: n }));
+    if (n <= 0) return;
+    const w = new Worker(queue, (job: Job, token?: string, lockLost?: AbortSignal) => computeRun(job, computeDeps, token, lockLost), {
+      ...held(options.maxStalledCount ?? MAX_STALLED.compute),
+      concurrency: n,
+    });
+    w.on('failed', (job, err) => {
+      if (job && /stalled more than allowable limit/.test(err.message)) void giveUp(job);
+    });
+    w.on('error', (err) => {
+      // this process was too late renewing a lock (starved of CPU): the job may be another worker's
+      // by now, so stop computing it (BullMQ aborts the signal it handed the processor)
+      const lost = /could not renew lock for job (\S+)/.exec(err.message);
+      if (lost && w.cancelJob(lost[1]!, 'this worker lost its hold on the job')) log(`job ${lost[1]} lost its lock; stopped here (another worker resumes it)`);
+    });
+    farmWorkers.push(w);
   };
+  /**
+   * A job whose workers died more than maxStalledCount times is failed by BullMQ when a worker next
+   * takes it, without our processor running: end its run here, or it would stay "computing" for ever.
+   */
+  async function giveUp(job: Job) {
+    const runId = typeof job.data?.runId === 'string' ? job.data.runId : null;
+    if (!runId) return;
+    try {
+      if (!(await runState(database.db, runId).failed('every farm worker that took this run stopped before it finished (out of memory, or the machine went down); it was given up after several attempts'))) return;
+      log(`run ${runId}: given up, its workers died before it finished`);
+      await s3.send(new DeleteObjectCommand({ Bucket: env.S3_BUCKET, Key: checkpointKey(runId) })).catch(() => {});
+      await notifyOutcome(runId);
+    } catch (err) {
+      console.error(`after run ${runId} was given up: ${(err as Error).message}`);
+    }
+  }
   lane(QUEUE_NAMES.compute, concurrency.compute);
   lane(QUEUE_NAMES.computeLarge, concurrency.large);
   if (concurrency.render > 0) {
@@ -114,6 +149,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
   ));
   for (const w of farmWorkers) {
     w.on('failed', (job, err) => console.error(`job ${job?.id} failed: ${err.message}`));
+    w.on('error', (err) => console.error(`${w.name}: ${err.message}`));
     w.on('stalled', (jobId) => log(`job ${jobId} lost its worker; back on ${w.name} (it resumes from its last checkpoint)`));
   }
 
