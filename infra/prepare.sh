@@ -10,7 +10,11 @@ fail() { printf 'prepare: error: %s\n' "$*" >&2; exit 1; }
 
 # 1. npm dependencies: `npm ci` when node_modules is missing or older than the lock file.
 #    npm writes node_modules/.package-lock.json after each install, so its age is the install's age.
-if [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
+#    A node_modules that is a link (a second worktree sharing the first one's install) belongs to
+#    the checkout it points into: reinstalling here would wipe it under the other checkout's feet.
+if [ -L node_modules ]; then
+  [ -f node_modules/.package-lock.json ] || fail "node_modules links to an empty install; run npm ci where it points"
+elif [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
   say "installing npm dependencies (npm ci)"
   npm ci --no-audit --no-fund
   touch node_modules/.package-lock.json

@@ -1,4 +1,4 @@
-import type { Background, LatticeChoice, RunSpec } from './run-spec.js';
+import { renderViews, type Background, type LatticeChoice, type RunSpec } from './run-spec.js';
 
 /**
  * Predicted size, memory, time and cost of a run, before it is submitted. Pure: the run form calls it
@@ -16,7 +16,10 @@ import type { Background, LatticeChoice, RunSpec } from './run-spec.js';
  *   radius n^(1/d)). Z^1 with no background is exact: m(m+1)(2m+1)/6 with m = ⌊n/2⌋. Z^2 uses a power
  *   law fitted to runs of the square lattice; other 2-D lattices and the cubic one scale it by 4/deg
  *   and by the domain's gain 2/g.
- * - Time. T divided by the rate measured on the development machine.
+ * - Time. T divided by the rate measured on the development machine, plus drawing: every pyramid
+ *   the spec asks for (layers × palettes, `renderViews`) costs its pixels at the deepest level
+ *   (cells of the drawn plane × k², k as in renderer/src/render/plan.ts `defaultPixelsPerCell`)
+ *   at the measured render rate (which includes the coarser levels), plus a fixed part per pyramid.
  * - Credits. See `creditsFor`.
  */
 
@@ -33,6 +36,17 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
 
 /** Fixed start-up cost of a run on the farm: queueing, worker start, array upload (measured here, rounded). */
 export const RUN_OVERHEAD_SECONDS = 2;
+
+/**
+ * Deepest-level pixels per second one render worker draws and uploads to the object store, the
+ * coarser levels' time included (measured here: `npx tsx tests/bench/render.ts --sizes 2048,4096
+ * --no-baseline` gave 1.16·10^6 and 1.25·10^6 with the S3 sink the farm uses, 1.5–2·10^6 to a
+ * folder, on the 2 shared cores; rounded). The bench prints this prediction's error.
+ */
+export const RENDER_PIXELS_PER_SECOND = 1.2e6;
+
+/** Fixed cost of one pyramid: statistics pass, preview, legend and info.json uploads (measured here, rounded). */
+export const RENDER_OVERHEAD_SECONDS = 0.5;
 
 /** Bytes of working memory per cell of the domain (int32 height + float64 odometer + bookkeeping). */
 export const BYTES_PER_CELL = 16;
@@ -110,7 +124,11 @@ export interface RunEstimate {
   /** working memory of the engine */
   bytes: number;
   topplings: number;
-  /** wall-clock seconds on one farm worker */
+  /** deep-zoom pyramids the run asks for (layers × palettes) */
+  pyramids: number;
+  /** the part of `seconds` spent drawing and uploading those pyramids */
+  renderSeconds: number;
+  /** wall-clock seconds on one farm worker: computing plus drawing */
   seconds: number;
   credits: number;
   /** conditions under which the prediction is unreliable or the run may never finish */
@@ -171,8 +189,25 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   else if (d === 2) topplings = squareTopplings(n) * (4 / degree) * (2 / gain);
   // T ∝ n · r^2 with r ∝ n^(1/3); anchored so that a cubic pile of the same radius does the same work per grain as Z^2
   else topplings = n <= 0 ? 0 : TOPPLING_FIT.c * n ** (5 / 3) * (4 / degree) * (2 / gain);
-  const seconds = RUN_OVERHEAD_SECONDS + topplings / TOPPLINGS_PER_SECOND;
-  return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), seconds, credits: creditsFor(seconds, bytes), warnings };
+  const pyramids = renderViews(spec).length;
+  const renderSeconds = pyramids * pyramidSeconds(shape);
+  const seconds = RUN_OVERHEAD_SECONDS + topplings / TOPPLINGS_PER_SECOND + renderSeconds;
+  return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), pyramids, renderSeconds, seconds, credits: creditsFor(seconds, bytes), warnings };
+}
+
+/** Pixels per cell at the deepest level: the renderer's rule (renderer/src/render/plan.ts defaultPixelsPerCell). */
+export function drawnPixelsPerCell(cellsWide: number, cellsHigh: number): number {
+  let k = 1;
+  while (k < 64 && Math.max(cellsWide, cellsHigh) * k < 1024) k *= 2;
+  return k;
+}
+
+/** Predicted seconds to draw one pyramid of a run whose array has this shape (the drawn plane: one row, the array, or one slice). */
+export function pyramidSeconds(shape: readonly number[]): number {
+  const w = shape[shape.length - 1] ?? 1;
+  const h = shape.length >= 2 ? shape[shape.length - 2]! : 1;
+  const k = drawnPixelsPerCell(w, h);
+  return RENDER_OVERHEAD_SECONDS + (w * h * k * k) / RENDER_PIXELS_PER_SECOND;
 }
 
 const round3 = (x: number) => Math.round(x * 1000) / 1000;

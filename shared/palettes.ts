@@ -242,18 +242,38 @@ export function colourTable(palette: Palette, layer: Layer, stats: LayerStats, u
   return out;
 }
 
-export interface LegendEntry {
-  label: string;
-  colour: string;
-  /** the value this entry stands for (height, difference or topplings) */
-  value: number | null;
-  transparent?: boolean;
-}
+export const legendEntrySchema = z.object({
+  label: z.string(),
+  /** sRGB hex, or "transparent" */
+  colour: z.string(),
+  /** the value this entry stands for (height, difference or topplings); null for masked cells */
+  value: z.number().nullable(),
+  transparent: z.boolean().optional(),
+});
+export type LegendEntry = z.infer<typeof legendEntrySchema>;
 
-export type Legend =
-  | { kind: 'discrete'; title: string; entries: LegendEntry[] }
+export const legendSchema = z.discriminatedUnion('kind', [
+  z.object({ kind: z.literal('discrete'), title: z.string(), entries: z.array(legendEntrySchema) }),
   /** stops: positions 0..1 along the ramp with labelled values; masked: how cells without a value look */
-  | { kind: 'continuous'; title: string; scale: 'linear' | 'log1p'; stops: (LegendEntry & { position: number })[]; masked?: LegendEntry };
+  z.object({
+    kind: z.literal('continuous'),
+    title: z.string(),
+    scale: z.enum(['linear', 'log1p']),
+    stops: z.array(legendEntrySchema.extend({ position: z.number().min(0).max(1) })),
+    masked: legendEntrySchema.optional(),
+  }),
+]);
+export type Legend = z.infer<typeof legendSchema>;
+
+/** legend.json beside each pyramid (renderer/src/render/pyramid.ts): what the view was drawn with. */
+export const viewLegendSchema = z.object({
+  style: layerStyleSchema,
+  stats: layerStatsSchema,
+  legend: legendSchema,
+  /** side of the block of deepest-level pixels drawn for one cell */
+  pixelsPerCell: z.number().int().min(1),
+});
+export type ViewLegend = z.infer<typeof viewLegendSchema>;
 
 function maskedEntry(palette: Palette, untoppled: UntoppledStyle): LegendEntry {
   return untoppled === 'transparent'

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { DEFAULT_PALETTE_ID, layerSchema, PALETTE_IDS, paletteIdSchema, untoppledStyleSchema, type Layer, type PaletteId, type UntoppledStyle } from './palettes.js';
 
 /**
  * The specification of one run: the single contract read by the CLI, the API, the web form and the
@@ -60,13 +61,92 @@ export const sourceSchema = z.strictObject({
 });
 export type Source = z.infer<typeof sourceSchema>;
 
-export const runSpecSchema = z.strictObject({
+/** The layers drawn when a specification does not say (specifications older than the `render` field included). */
+export const DEFAULT_RENDER_LAYERS: readonly Layer[] = ['heights', 'toppled', 'odometer'];
+
+/** What the farm draws for a run: every layer in every palette, one deep-zoom pyramid each. */
+export const renderSpecSchema = z.strictObject({
+  layers: z
+    .array(layerSchema)
+    .min(1, 'choose at least one layer to draw')
+    .max(4)
+    .refine((xs) => new Set(xs).size === xs.length, 'each layer may be chosen once'),
+  palettes: z
+    .array(paletteIdSchema)
+    .min(1, 'choose at least one palette')
+    .max(PALETTE_IDS.length)
+    .refine((xs) => new Set(xs).size === xs.length, 'each palette may be chosen once'),
+  /** how cells that never toppled look in the toppled and odometer layers */
+  untoppled: untoppledStyleSchema,
+});
+export type RenderSpec = z.infer<typeof renderSpecSchema>;
+export const DEFAULT_RENDER: RenderSpec = { layers: [...DEFAULT_RENDER_LAYERS], palettes: [DEFAULT_PALETTE_ID], untoppled: 'neutral' };
+
+/**
+ * True when the background is 0 on every site, as far as the specification says: then "difference
+ * from the background" would repeat the heights. An uploaded array is taken as non-zero (the
+ * specification holds only its hash).
+ */
+export function isZeroBackground(bg: Background): boolean {
+  switch (bg.kind) {
+    case 'constant':
+      return bg.height === 0;
+    case 'checkerboard':
+    case 'annuli':
+      return bg.a === 0 && bg.b === 0;
+    case 'motif':
+      return bg.cells.every((row) => row.every((h) => h === 0));
+    case 'random':
+      // every weight but height 0's is zero: all sites draw 0
+      return bg.weights.slice(1).every((w) => w === 0);
+    case 'array':
+      return false;
+  }
+}
+
+export const DIFFERENCE_NEEDS_BACKGROUND = 'the difference layer needs a background that is not 0 everywhere: choose a background or leave that layer out';
+
+/** Cross-field rules of a specification (kept apart so the series form can reuse them on its own shape). */
+export function checkRenderAgainstBackground(spec: { background: Background; render?: RenderSpec }, ctx: z.RefinementCtx): void {
+  if (spec.render?.layers.includes('difference') && isZeroBackground(spec.background)) {
+    ctx.addIssue({ code: 'custom', path: ['render', 'layers'], message: DIFFERENCE_NEEDS_BACKGROUND });
+  }
+}
+
+/** The fields of a specification, without its cross-field rules (for `.omit`, which refinements forbid). */
+export const runSpecShapeSchema = z.strictObject({
   lattice: latticeSchema,
   /** grains at the origin */
   chips: chipsSchema,
   /** further point sources, each with its own count */
   sources: z.array(sourceSchema).max(64).default([]),
   background: backgroundSchema.default({ kind: 'constant', height: 0 }),
+  /** layers and palettes to draw; absent means DEFAULT_RENDER (so older specifications keep their meaning and cache key) */
+  render: renderSpecSchema.optional(),
 });
+
+export const runSpecSchema = runSpecShapeSchema.superRefine(checkRenderAgainstBackground);
 export type RunSpec = z.infer<typeof runSpecSchema>;
 export type RunSpecInput = z.input<typeof runSpecSchema>;
+
+/** One drawn view of a run: a layer in a palette, with the untoppled style it was drawn with. */
+export interface RenderView {
+  layer: Layer;
+  palette: PaletteId;
+  untoppled: UntoppledStyle;
+}
+
+/** Layers with cells that carry no value (never toppled), whose look the `untoppled` choice sets. */
+export const layerHasMaskedCells = (layer: Layer): boolean => layer === 'toppled' || layer === 'odometer';
+
+/**
+ * Every pyramid a specification asks for, layer by layer. Layers without masked cells are always
+ * drawn (and stored) in the neutral style, so their address does not depend on `untoppled`.
+ */
+export function renderViews(spec: { render?: RenderSpec }): RenderView[] {
+  const r = spec.render ?? DEFAULT_RENDER;
+  return r.layers.flatMap((layer) => r.palettes.map((palette) => ({ layer, palette, untoppled: layerHasMaskedCells(layer) ? r.untoppled : 'neutral' })));
+}
+
+/** The palette segment of a view's address: `<palette>` or `<palette>~clear` (renderer/src/render/keys.ts). */
+export const viewPaletteSegment = (v: RenderView): string => `${v.palette}${v.untoppled === 'transparent' ? '~clear' : ''}`;

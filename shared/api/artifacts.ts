@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { layerSchema, PALETTE_IDS } from '../palettes.js';
+import { layerSchema, PALETTE_IDS, viewLegendSchema } from '../palettes.js';
 import { idSchema } from './errors.js';
 import { slugSchema } from './figures.js';
 
@@ -7,7 +7,8 @@ import { slugSchema } from './figures.js';
  * Addresses of a run's stored artifacts, served by the API from the object store:
  *   /api/runs/:id/views/:layer/:palette/iiif/<IIIF path>      deep-zoom tiles (IIIF Image API 3.0, level 0)
  *   /api/runs/:id/arrays/:name                                 heights.npy, odometer.npy, run.json
- *   /api/figures/:slug/views/... and /api/figures/:slug/arrays/:name   the same for a published figure
+ *   /api/runs/:id/legend/:layer/:palette                       the legend (and colour-scale numbers) a view was drawn with
+ *   /api/figures/:slug/views/..., /legend/... and /arrays/:name   the same for a published figure
  * Unpublished runs are visible to their lab only; a run with a published figure is public.
  */
 
@@ -31,6 +32,11 @@ export const viewPathSchema = z
 
 export const runViewParamsSchema = z.strictObject({ id: idSchema, layer: layerSchema, palette: viewPaletteSchema, path: viewPathSchema });
 export const figureViewParamsSchema = z.strictObject({ slug: slugSchema, layer: layerSchema, palette: viewPaletteSchema, path: viewPathSchema });
+export const runLegendParamsSchema = z.strictObject({ id: idSchema, layer: layerSchema, palette: viewPaletteSchema });
+export const figureLegendParamsSchema = z.strictObject({ slug: slugSchema, layer: layerSchema, palette: viewPaletteSchema });
+/** GET /api/runs/:id/legend/:layer/:palette: legend.json as the renderer stored it beside the pyramid. */
+export const legendResponseSchema = viewLegendSchema;
+export type LegendResponse = z.infer<typeof legendResponseSchema>;
 export const runArrayParamsSchema = z.strictObject({ id: idSchema, name: arrayNameSchema });
 export const figureArrayParamsSchema = z.strictObject({ slug: slugSchema, name: arrayNameSchema });
 

@@ -12,6 +12,8 @@ export const estimateSchema = z.object({
   radius: z.number().min(0),
   bytes: z.number().int().min(0),
   topplings: z.number().min(0),
+  pyramids: z.number().int().min(0),
+  renderSeconds: z.number().min(0),
   seconds: z.number().min(0),
   credits: z.number().int().min(1),
   warnings: z.array(z.string()),

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { chipsSchema, runSpecSchema } from '../run-spec.js';
+import { checkRenderAgainstBackground, chipsSchema, runSpecShapeSchema } from '../run-spec.js';
 import { idSchema, isoDateSchema } from './errors.js';
 import { runSchema, runTitleSchema } from './runs.js';
 
@@ -10,7 +10,7 @@ export const createSeriesRequestSchema = z.strictObject({
   labId: idSchema,
   title: runTitleSchema,
   /** the run specification without its grain count; each run gets one of `chips` */
-  spec: runSpecSchema.omit({ chips: true }),
+  spec: runSpecShapeSchema.omit({ chips: true }).superRefine(checkRenderAgainstBackground),
   chips: z
     .array(chipsSchema.min(1, 'each grain count must be at least 1'))
     .min(2, 'a series needs at least 2 grain counts')

@@ -62,7 +62,7 @@ describe('GET /api/openapi.json', () => {
     };
     const body = create.requestBody.content['application/json'].schema;
     expect(body.required.sort()).toEqual(['labId', 'spec', 'title']);
-    expect(Object.keys(body.properties.spec!.properties!).sort()).toEqual(['background', 'chips', 'lattice', 'sources']);
+    expect(Object.keys(body.properties.spec!.properties!).sort()).toEqual(['background', 'chips', 'lattice', 'render', 'sources']);
     expect(Object.keys(create.responses['201']!.content!['application/json']!.schema.properties)).toEqual(['run']);
     const upload = doc.paths['/api/uploads/background']!.post! as unknown as { requestBody: { content: Record<string, unknown> } };
     expect(Object.keys(upload.requestBody.content).sort()).toEqual(['application/octet-stream', 'image/png']);

@@ -6,6 +6,7 @@ import sharp from 'sharp';
 import { labs, apiTokens, creditPurchases, figures, invitations, memberships, runs, series, figureVersions } from '../../drizzle/schema.js';
 import { writeNpy } from '../../renderer/src/npy/index.js';
 import { figureSpecSchema } from '../../shared/print.js';
+import { legendFor, paletteById } from '../../shared/palettes.js';
 import { finishedRun } from './figures-fixtures.js';
 import { API_ROUTERS } from '../../api/src/app.js';
 import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
@@ -40,6 +41,14 @@ let runPrintable: string;
 let seriesA: string;
 let uploadA: string;
 const TILE_PATH = '0,0,256,256/256,/0/default.png';
+/** a stored legend.json of one 1-cell view of height 4 (shape as renderer/src/render/pyramid.ts writes it) */
+const LEGEND_STATS = { cells: 1, minHeight: 4, maxHeight: 4, heightCounts: [0, 0, 0, 0, 1], toppledCells: 0, maxOdometer: 0 };
+const LEGEND_FIXTURE = {
+  style: { layer: 'heights', palette: 'tidewater', untoppled: 'neutral' },
+  stats: LEGEND_STATS,
+  legend: legendFor(paletteById('tidewater'), 'heights', LEGEND_STATS),
+  pixelsPerCell: 64,
+};
 let serial = 0;
 const fresh = () => `${h.tag}-${++serial}`;
 
@@ -252,6 +261,16 @@ const ROWS: Row[] = [
     send: (a) => as(h.http.get(`/api/runs/${runA}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
   },
   {
+    route: 'GET /api/runs/:id/legend/:layer/:palette',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/runs/${runDone}/legend/heights/tidewater`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/legend/:layer/:palette (published)',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/runs/${runA}/legend/heights/tidewater`), a.session),
+  },
+  {
     route: 'GET /api/runs/:id/arrays/:name',
     expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
     send: (a) => as(h.http.get(`/api/runs/${runDone}/arrays/heights.npy`), a.session),
@@ -270,6 +289,16 @@ const ROWS: Row[] = [
     route: 'GET /api/figures/:slug/views/:layer/:palette/iiif/*path (draft)',
     expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
     send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/views/heights/tidewater/iiif/${TILE_PATH}`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/legend/:layer/:palette',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/legend/heights/tidewater`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/legend/:layer/:palette (draft)',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/legend/heights/tidewater`), a.session),
   },
   {
     route: 'GET /api/figures/:slug/arrays/:name',
@@ -474,6 +503,7 @@ beforeAll(async () => {
   const png = await sharp({ create: { width: 4, height: 4, channels: 3, background: '#2f6db5' } }).png().toBuffer();
   for (const id of [runA, runDone]) {
     await h.deps.blobs.put(`runs/${id}/heights/tidewater/iiif/${TILE_PATH}`, png, 'image/png');
+    await h.deps.blobs.put(`runs/${id}/heights/tidewater/legend.json`, JSON.stringify(LEGEND_FIXTURE), 'application/json');
     await h.deps.blobs.put(`runs/${id}/arrays/heights.npy`, Buffer.from(writeNpy([1], Uint8Array.from([4]))), 'application/octet-stream');
     await h.deps.blobs.put(`runs/${id}/arrays/run.json`, '{}', 'application/json');
   }
@@ -517,7 +547,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(70);
+    expect(mounted.length).toBe(72);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

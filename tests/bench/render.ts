@@ -40,6 +40,7 @@ import {
 } from '../../renderer/src/render/index.js';
 import { colourTable, paletteById } from '../../shared/palettes.js';
 import { runInChild } from './child-case.js';
+import { pyramidSeconds } from '../../shared/estimate.js';
 
 const BUCKET = 'bench-tiles';
 const TARGET_CELLS = 5e7;
@@ -165,6 +166,12 @@ async function main(): Promise<void> {
             `RSS over input ${((s.maxRssBytes - s.inputRssBytes) / (b.maxRssBytes - b.inputRssBytes)).toFixed(2)}`,
         );
       }
+    }
+    // the run form's prediction of drawing time (shared/estimate.ts) against what was measured here
+    console.log('\nestimator (shared/estimate.ts pyramidSeconds) against the measured time, per pyramid:');
+    for (const r of results.filter((q) => q.kind === 'stream')) {
+      const predicted = pyramidSeconds([r.side, r.side]);
+      console.log(`  ${r.sink.padEnd(6)} ${String(r.side).padStart(5)}²: predicted ${predicted.toFixed(2)} s, measured ${r.seconds.toFixed(2)} s, error ${(((predicted - r.seconds) / r.seconds) * 100).toFixed(0)} %`);
     }
     const target = planPyramid({ cellsWide: Math.ceil(Math.sqrt(TARGET_CELLS)), cellsHigh: Math.ceil(Math.sqrt(TARGET_CELLS)), pixelsPerCell: 1 });
     console.log(`\nextrapolated to ${grouped(TARGET_CELLS)} cells (a 10^8-grain run, ${target.width}² pixels, ${tileCount(target)} tiles), from the largest size:`);

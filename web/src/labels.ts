@@ -1,4 +1,6 @@
 import type { Background, LatticeChoice, RunSpec } from './api/contract.js';
+import { LAYERS, paletteById, type Layer } from '../../shared/palettes.js';
+import { DEFAULT_RENDER, layerHasMaskedCells } from '../../shared/run-spec.js';
 
 /** Names of lattices and backgrounds as people in the trade say them. */
 const LATTICE_NAMES: Record<string, string> = {
@@ -58,7 +60,25 @@ export function extraSources(spec: RunSpec): number {
   return spec.sources?.length ?? 0;
 }
 
-/** The layers the farm draws for every run (renderer/src/farm/render-run.ts DEFAULT_VIEWS). */
-export const DRAWN_LAYERS = ['heights', 'toppled', 'odometer'] as const;
-export type DrawnLayer = (typeof DRAWN_LAYERS)[number];
-export const LAYER_LABELS: Record<DrawnLayer, string> = { heights: 'Heights', toppled: 'Toppled sites', odometer: 'Odometer' };
+/** Every layer the farm can draw (shared/palettes.ts); which ones a run has is its spec's `render`. */
+export const DRAWN_LAYERS = LAYERS;
+export type DrawnLayer = Layer;
+export const LAYER_LABELS: Record<Layer, string> = { heights: 'Heights', toppled: 'Toppled sites', difference: 'Difference', odometer: 'Odometer (log)' };
+/** One line on each layer for the run form. */
+export const LAYER_HINTS: Record<Layer, string> = {
+  heights: 'final height of every site',
+  toppled: 'heights only where a site toppled',
+  difference: 'final height minus the initial one (needs a background that is not 0 everywhere)',
+  odometer: 'how often each site toppled, on a log scale',
+};
+
+/** One line on what a run draws, e.g. "heights, difference · Kiln, Newsprint · untoppled see-through". */
+export function drawingOfSpec(spec: RunSpec): string {
+  const r = spec.render ?? DEFAULT_RENDER;
+  const masked = r.layers.some(layerHasMaskedCells);
+  return [
+    r.layers.map((l) => LAYER_LABELS[l].toLowerCase()).join(', '),
+    r.palettes.map((p) => paletteById(p).name).join(', '),
+    ...(masked ? [`untoppled ${r.untoppled === 'transparent' ? 'see-through' : 'grey'}`] : []),
+  ].join(' · ');
+}

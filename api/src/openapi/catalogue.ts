@@ -76,6 +76,11 @@ export const API_CATALOGUE: ApiRoute[] = [
     method: 'get', path: '/runs/:id/views/:layer/:palette/iiif/*path', tag: 'artifacts', summary: 'Deep-zoom tiles and info.json of a run\'s view', description: tileNote, access: 'optional',
     params: api.runViewParamsSchema, responses: { 200: tile, 304: null },
   },
+  {
+    method: 'get', path: '/runs/:id/legend/:layer/:palette', tag: 'artifacts', summary: 'The legend of a drawn view: each height (or value range) with its colour, and the numbers of the colour scale', access: 'optional',
+    description: 'Palette is a palette id, with ~clear when untoppled cells were drawn transparent. 404 for a view the run did not ask for or that is not drawn yet.',
+    params: api.runLegendParamsSchema, responses: { 200: api.legendResponseSchema },
+  },
   { method: 'get', path: '/runs/:id/arrays/:name', tag: 'artifacts', summary: 'Download a run\'s heights, odometer or run.json', access: 'optional', params: api.runArrayParamsSchema, responses: { 200: download, 304: null } },
 
   { method: 'post', path: '/series', tag: 'series', summary: 'One specification at several grain counts, as one run each', access: 'user', body: api.createSeriesRequestSchema, responses: { 201: api.seriesResponseSchema } },
@@ -105,6 +110,10 @@ export const API_CATALOGUE: ApiRoute[] = [
   {
     method: 'get', path: '/figures/:slug/views/:layer/:palette/iiif/*path', tag: 'artifacts', summary: 'Deep-zoom tiles and info.json of a figure\'s run', description: tileNote, access: 'optional',
     params: api.figureViewParamsSchema, responses: { 200: tile, 304: null },
+  },
+  {
+    method: 'get', path: '/figures/:slug/legend/:layer/:palette', tag: 'artifacts', summary: 'The legend of a drawn view of a figure\'s run', access: 'optional',
+    params: api.figureLegendParamsSchema, responses: { 200: api.legendResponseSchema },
   },
   { method: 'get', path: '/figures/:slug/arrays/:name', tag: 'artifacts', summary: 'Download the arrays of a figure\'s run', access: 'optional', params: api.figureArrayParamsSchema, responses: { 200: download, 304: null } },
 

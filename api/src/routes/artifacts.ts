@@ -1,16 +1,21 @@
 import { Router, type Request, type Response } from 'express';
 import {
   figureArrayParamsSchema,
+  figureLegendParamsSchema,
   figureViewBase,
+  legendResponseSchema,
   figureViewParamsSchema,
   runArrayParamsSchema,
+  runLegendParamsSchema,
   runViewBase,
   runViewParamsSchema,
   type ArrayName,
 } from '../../../shared/api/artifacts.js';
 import type { AppDeps } from '../deps.js';
+import { notFound } from '../http/http-error.js';
+import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
-import { arrayKey, assertPlainUrl, CACHE, figureSubject, runSubject, sendInfoJson, sendObject, shareIfPublic, viewKey, type ArtifactSubject } from '../services/artifacts.js';
+import { arrayKey, assertPlainUrl, CACHE, figureSubject, legendKey, runSubject, sendInfoJson, sendObject, shareIfPublic, viewKey, type ArtifactSubject } from '../services/artifacts.js';
 
 /**
  * Deep-zoom tiles and downloads, streamed from the object store. The same handlers serve a run by id
@@ -24,6 +29,18 @@ export function artifactsRouter({ db, blobs, env }: AppDeps): Router {
     const key = viewKey(subject.runId, p.layer as Parameters<typeof viewKey>[1], p.palette, p.path);
     if (p.path.length === 1 && p.path[0] === 'info.json') return sendInfoJson(res, blobs, key, base, CACHE.info[subject.visibility]);
     return sendObject(req, res, blobs, key, { cacheControl: CACHE.tile[subject.visibility] });
+  }
+
+  /** legend.json of a drawn view; a view that was not drawn (not asked for, or not yet) is a 404 no cache keeps. */
+  async function legend(res: Response, subject: ArtifactSubject, p: { layer: string; palette: string }) {
+    shareIfPublic(res, subject.visibility);
+    const bytes = await blobs.get(legendKey(subject.runId, p.layer as Parameters<typeof legendKey>[1], p.palette));
+    if (!bytes) {
+      res.set('Cache-Control', 'no-store');
+      throw notFound(`the ${p.layer} view in ${p.palette} has not been drawn for this run (yet)`);
+    }
+    res.set('Cache-Control', CACHE.info[subject.visibility]);
+    respond(res, 200, legendResponseSchema, JSON.parse(bytes.toString('utf8')));
   }
 
   async function array(req: Request, res: Response, subject: ArtifactSubject, name: ArrayName, stem: string) {
@@ -43,6 +60,16 @@ export function artifactsRouter({ db, blobs, env }: AppDeps): Router {
     const p = validate.params(req, figureViewParamsSchema);
     const subject = await figureSubject(db, res, p.slug);
     await view(req, res, subject, p, figureViewBase(env.PUBLIC_URL, p.slug, p.layer, p.palette));
+  });
+
+  r.get('/runs/:id/legend/:layer/:palette', async (req, res) => {
+    const p = validate.params(req, runLegendParamsSchema);
+    await legend(res, await runSubject(db, res, p.id), p);
+  });
+
+  r.get('/figures/:slug/legend/:layer/:palette', async (req, res) => {
+    const p = validate.params(req, figureLegendParamsSchema);
+    await legend(res, await figureSubject(db, res, p.slug), p);
   });
 
   r.get('/runs/:id/arrays/:name', async (req, res) => {

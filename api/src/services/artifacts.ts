@@ -3,7 +3,7 @@ import { and, eq, isNotNull, isNull } from 'drizzle-orm';
 import type { Request, Response } from 'express';
 import { figures, runs } from '../../../drizzle/schema.js';
 import { arrayKeys } from '../../../renderer/src/farm/artifacts.js';
-import { iiifPrefix, viewPrefix } from '../../../renderer/src/render/keys.js';
+import { iiifPrefix, legendKeyOf, viewPrefix } from '../../../renderer/src/render/keys.js';
 import type { ArrayName } from '../../../shared/api/artifacts.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkLabAccess } from '../auth/middleware.js';
@@ -62,12 +62,19 @@ export function assertPlainUrl(req: Request): void {
   if (/%2f|%5c|%2e|%00|\\/i.test(raw)) throw badRequest('the address may not contain encoded "/", "\\", "." or NUL characters');
 }
 
+/** runs/<runId>/<layer>/<palette>[~clear] from a validated palette segment. */
+function viewPrefixOf(runId: string, layer: Layer, palette: string): string {
+  const transparent = palette.endsWith('~clear');
+  return viewPrefix(runId, layer, palette.replace(/~clear$/, '') as PaletteId, transparent);
+}
+
 /** The object key of one IIIF request: always under runs/<runId>/<layer>/<palette>/iiif/. */
 export function viewKey(runId: string, layer: Layer, palette: string, path: readonly string[]): string {
-  const transparent = palette.endsWith('~clear');
-  const prefix = iiifPrefix(viewPrefix(runId, layer, palette.replace(/~clear$/, '') as PaletteId, transparent));
-  return `${prefix}/${path.join('/')}`;
+  return `${iiifPrefix(viewPrefixOf(runId, layer, palette))}/${path.join('/')}`;
 }
+
+/** The object key of a view's legend.json. */
+export const legendKey = (runId: string, layer: Layer, palette: string): string => legendKeyOf(viewPrefixOf(runId, layer, palette));
 
 export const arrayKey = (runId: string, name: ArrayName): string => {
   const keys = arrayKeys(runId);

@@ -10,5 +10,5 @@ export { encodeIndexedPng, decodePngRgba, packColourTable } from './encode.js';
 export { type TileSink } from './sink.js';
 export { createFolderSink } from './folder-sink.js';
 export { createS3Sink, createS3Client, type S3Settings } from './s3-sink.js';
-export { viewPrefix, iiifPrefix } from './keys.js';
+export { viewPrefix, iiifPrefix, legendKeyOf, previewKeyOf } from './keys.js';
 export { renderPyramid, renderPreview, PREVIEW_MAX_SIDE, type PyramidOptions, type PyramidResult, type ViewOptions } from './pyramid.js';

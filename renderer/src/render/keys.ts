@@ -21,3 +21,5 @@ export function viewPrefix(runId: string, layer: Layer, palette: PaletteId, tran
 }
 
 export const iiifPrefix = (viewPrefix: string) => `${viewPrefix}/iiif`;
+export const legendKeyOf = (viewPrefix: string) => `${viewPrefix}/legend.json`;
+export const previewKeyOf = (viewPrefix: string) => `${viewPrefix}/preview.png`;

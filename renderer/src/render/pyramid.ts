@@ -1,8 +1,8 @@
 import { availableParallelism } from 'node:os';
-import { colourTable, layerStyleSchema, legendFor, paletteById, type LayerStats, type LayerStyle, type Legend } from '../../../shared/palettes.js';
+import { colourTable, layerStyleSchema, legendFor, paletteById, type LayerStats, type LayerStyle, type Legend, type ViewLegend } from '../../../shared/palettes.js';
 import { encodeIndexedPng, packColourTable } from './encode.js';
 import { RenderInputError } from './errors.js';
-import { iiifPrefix, viewPrefix } from './keys.js';
+import { iiifPrefix, legendKeyOf, previewKeyOf, viewPrefix } from './keys.js';
 import { indexHistogram, layerScale, type LayerScale } from './layers.js';
 import { planeOf, type BackgroundSource, type Plane, type RenderInput } from './plane.js';
 import { fullImagePath, infoJson, planPyramid, tileAliases, tileCount, tileRequest, type IiifInfo, type PyramidPlan } from './plan.js';
@@ -160,12 +160,13 @@ export async function renderPyramid(input: RenderInput, sink: TileSink, opts: Py
     if (level === p.previewLevel) previewPng = png;
     if (l.columns * l.rows > 1) await put(`${iiif}/${fullImagePath(plan, level)}`, png, 'image/png');
   }
-  const previewKey = `${prefix}/preview.png`;
+  const previewKey = previewKeyOf(prefix);
   await put(previewKey, previewPng!, 'image/png');
 
   const legend = legendFor(paletteById(style.palette), style.layer, p.stats, style.untoppled);
-  const legendKey = `${prefix}/legend.json`;
-  await put(legendKey, Buffer.from(JSON.stringify({ style, stats: p.stats, legend, pixelsPerCell: plan.pixelsPerCell }, null, 2)), 'application/json');
+  const legendKey = legendKeyOf(prefix);
+  const stored: ViewLegend = { style, stats: p.stats, legend, pixelsPerCell: plan.pixelsPerCell };
+  await put(legendKey, Buffer.from(JSON.stringify(stored, null, 2)), 'application/json');
 
   const base = (opts.publicBase ?? '/tiles').replace(/\/+$/, '');
   const info = infoJson(plan, `${base}/${iiif}`, p.previewLevel);

@@ -12,7 +12,7 @@ import type { CreateFigureRequest, FigureVersion, LabFiguresResponse, OrderPrint
 import { recentlyPaid } from '../pages/credits/money.js';
 import type { CheckoutResponse, CreditCheckResponse, CreditPackId, CreditsSummaryResponse, PurchaseResponse, UsageResponse } from './contract.js';
 import { RUN_EVENT_NAMES, runEventSchema } from './contract.js';
-import { fetchLayerStats, fetchRunJson, infoJsonUrl, type ArtifactBase, type RunJson } from '../viewer/runArtifacts.js';
+import { fetchRunJson, fetchViewLegend, infoJsonUrl, type ArtifactBase } from '../viewer/runArtifacts.js';
 
 /** Query keys in one table, so invalidation after a mutation names the same keys the pages read. */
 export const keys = {
@@ -25,7 +25,7 @@ export const keys = {
   estimate: (spec: unknown) => ['estimate', spec] as const,
   upload: (sha256: string) => ['upload', sha256] as const,
   runJson: (base: ArtifactBase) => ['artifacts', base, 'run.json'] as const,
-  layerStats: (base: ArtifactBase) => ['artifacts', base, 'layer-stats'] as const,
+  legend: (base: ArtifactBase, layer: string, palette: string) => ['artifacts', base, 'legend', layer, palette] as const,
   view: (base: ArtifactBase, layer: string, palette: string) => ['artifacts', base, 'view', layer, palette] as const,
   figures: (q: ListFiguresQueryInput) => ['figures', q] as const,
   figure: (slug: string) => ['figure', slug] as const,
@@ -191,9 +191,9 @@ export function useRunJson(base: ArtifactBase, enabled = true) {
   return useQuery({ queryKey: keys.runJson(base), queryFn: () => fetchRunJson(base), enabled, staleTime: Infinity, meta: { quiet401: true } });
 }
 
-/** The colour-scale numbers of the run, for legends (null when the arrays are too large to fetch for it). */
-export function useLayerStats(base: ArtifactBase, run: RunJson | undefined) {
-  return useQuery({ queryKey: keys.layerStats(base), queryFn: () => fetchLayerStats(base, run!), enabled: Boolean(run), staleTime: Infinity });
+/** The legend a view was drawn with (GET …/legend/:layer/:palette); null while the view is not drawn. */
+export function useViewLegend(base: ArtifactBase, layer: string, palette: string, enabled = true) {
+  return useQuery({ queryKey: keys.legend(base, layer, palette), queryFn: () => fetchViewLegend(base, layer, palette), enabled, staleTime: 60_000 });
 }
 
 /** Whether a view (layer × palette) has been drawn: its info.json exists. */

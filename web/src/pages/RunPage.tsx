@@ -6,7 +6,7 @@ import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { isStatus } from '../api/ApiError.js';
-import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
+import { backgroundOfSpec, drawingOfSpec, latticeOfSpec } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
 import { Button, Count, EmptyState, ErrorPanel, FactList, FormError, LinkButton, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
@@ -116,6 +116,7 @@ function RunDetail({ run }: { run: Run }) {
               { term: 'Grains at the origin (n)', value: <Count n={spec.chips} unit="grains" /> },
               { term: 'Lattice', value: latticeOfSpec(spec.lattice) },
               { term: 'Background', value: backgroundOfSpec(spec.background) },
+              { term: 'Drawn', value: drawingOfSpec(spec) },
               {
                 term: 'Further sources',
                 value: spec.sources.length ? (

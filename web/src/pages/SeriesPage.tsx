@@ -7,10 +7,18 @@ import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
 import { logLogSlope, type RadiusPoint } from '../plots/plotData.js';
 import { SeriesRadiusPlot } from '../plots/SeriesRadiusPlot.js';
 import { infoJsonUrl } from '../viewer/runArtifacts.js';
+import { drawnOf, paletteSegmentOf } from '../viewer/drawnViews.js';
+
 import { Count, EmptyState, ErrorPanel, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
 
 /** Displayed width of the widest pile, in CSS pixels; every other pile is drawn at the same scale in units of √n. */
 const STRIP_WIDTH = 220;
+
+/** The view a series strip shows of a run: its first drawn layer in its first palette (heights in tidewater by default). */
+function stripView(r: Run): { layer: string; palette: string } {
+  const d = drawnOf(r.spec);
+  return { layer: d.layers[0]!, palette: paletteSegmentOf(d, d.layers[0]!, d.palettes[0]!) };
+}
 
 interface InfoSizes {
   width: number;
@@ -29,11 +37,11 @@ export function SeriesPage() {
   const runs = series.data?.series.runs ?? [];
   const infos = useQueries({
     queries: runs.map((r) => ({
-      queryKey: ['artifacts', { kind: 'run', id: r.id }, 'info', 'heights'],
+      queryKey: ['artifacts', { kind: 'run', id: r.id }, 'info', stripView(r).layer, stripView(r).palette],
       enabled: r.status === 'finished',
       staleTime: Infinity,
       queryFn: async (): Promise<InfoSizes> => {
-        const res = await fetch(infoJsonUrl({ kind: 'run', id: r.id }, 'heights', 'tidewater'), { credentials: 'same-origin' });
+        const res = await fetch(infoJsonUrl({ kind: 'run', id: r.id }, stripView(r).layer, stripView(r).palette), { credentials: 'same-origin' });
         if (!res.ok) throw new Error(`info.json: ${res.status}`);
         return (await res.json()) as InfoSizes;
       },
@@ -71,8 +79,8 @@ export function SeriesPage() {
                 <div className="flex items-center justify-center" style={{ width: STRIP_WIDTH, height: STRIP_WIDTH }}>
                   {r.status === 'finished' && size ? (
                     <img
-                      alt={`final heights, n = ${r.spec.chips}`}
-                      src={`${infoJsonUrl({ kind: 'run', id: r.id }, 'heights', 'tidewater').replace(/info\.json$/, '')}full/${size.width},${size.height}/0/default.png`}
+                      alt={`${stripView(r).layer}, n = ${r.spec.chips}`}
+                      src={`${infoJsonUrl({ kind: 'run', id: r.id }, stripView(r).layer, stripView(r).palette).replace(/info\.json$/, '')}full/${size.width},${size.height}/0/default.png`}
                       style={{ width: displayed, imageRendering: 'pixelated' }}
                     />
                   ) : r.status === 'finished' ? (

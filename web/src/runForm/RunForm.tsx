@@ -6,10 +6,11 @@ import { useEstimate } from '../api/queries.js';
 import {
   createRunRequestSchema, createSeriesRequestSchema, runSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
 } from '../api/contract.js';
-import { DRAWN_LAYERS, LAYER_LABELS, backgroundKindName, latticeName } from '../labels.js';
+import { backgroundKindName, latticeName } from '../labels.js';
 import { formatDuration } from '../format.js';
 import { Button, Count, FormError, SelectField, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 import { BackgroundUpload } from './BackgroundUpload.js';
+import { RenderChoices } from './RenderChoices.js';
 import { UnitCellEditor } from './UnitCellEditor.js';
 import { CreditGate } from '../pages/credits/CreditGate.js';
 import {
@@ -50,6 +51,12 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
     return r.success ? (r.data as RunSpecInput) : null;
   }, [f]);
   const specForEstimateDebounced = useDebounced(specForEstimate, 400);
+  // what the shared schema says about the drawing choices, shown as the author ticks them
+  const liveRenderIssues = useMemo(() => {
+    const r = runSpecSchema.safeParse(specOfForm(f));
+    const at = (k: string) => (r.success ? undefined : r.error.issues.find((i) => i.path.join('.') === `render.${k}`)?.message);
+    return { layers: at('layers'), palettes: at('palettes') };
+  }, [f]);
   const estimate = useEstimate(specForEstimateDebounced);
 
   const create = useMutation({
@@ -194,9 +201,14 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
             Add a source
           </Button>
         </fieldset>
-        <p className="col-span-3 text-xs text-ink-soft">
-          Drawn for every run: {DRAWN_LAYERS.map((l) => LAYER_LABELS[l].toLowerCase()).join(', ')} (deep zoom, with legends).
-        </p>
+        <RenderChoices
+          layers={f.layers}
+          palettes={f.palettes}
+          untoppled={f.untoppled}
+          onChange={set}
+          layersError={errors['spec.render.layers'] ?? liveRenderIssues.layers}
+          palettesError={errors['spec.render.palettes'] ?? liveRenderIssues.palettes}
+        />
       </div>
 
       <aside className="flex flex-col gap-4">
@@ -225,6 +237,10 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
               <dd className="text-right tnum">{bytesText(est.bytes)}</dd>
               <dt className="text-ink-soft">Time</dt>
               <dd className="text-right tnum">about {formatDuration(est.seconds)}</dd>
+              <dt className="text-ink-soft">Drawing</dt>
+              <dd className="text-right tnum" data-testid="estimate-pyramids">
+                {est.pyramids} view{est.pyramids === 1 ? '' : 's'}, {formatDuration(est.renderSeconds)}
+              </dd>
               <dt className="text-ink-soft">Credits</dt>
               <dd className="text-right font-semibold tnum" data-testid="estimate-credits">{est.credits.toLocaleString('en-US')}</dd>
             </dl>

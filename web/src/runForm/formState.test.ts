@@ -1,7 +1,8 @@
 import { describe, expect, test } from 'vitest';
 import { runSpecSchema } from '../api/contract.js';
+import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkCell } from './UnitCellEditor.js';
-import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, specOfForm, SQUARE_CELL, toggleOffset } from './formState.js';
+import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
 
 describe('grain counts as people type them', () => {
   test('grouped, powers of ten and exponent notation', () => {
@@ -34,6 +35,19 @@ describe('form ↔ specification', () => {
       const spec = runSpecSchema.parse(s);
       expect(runSpecSchema.parse(specOfForm(formOfSpec(spec, 'copy')))).toEqual(spec);
     }
+  });
+
+  test('the drawing choice survives duplicate-with-edits, in canonical order; the default stays out of the spec', () => {
+    const spec = runSpecSchema.parse({
+      lattice: { preset: 'square' },
+      chips: 9,
+      background: { kind: 'constant', height: 1 },
+      render: { layers: ['heights', 'difference'], palettes: ['kiln', 'newsprint'], untoppled: 'transparent' },
+    });
+    expect(runSpecSchema.parse(specOfForm(formOfSpec(spec, 'copy')))).toEqual(spec);
+    const f = { ...emptyForm(), layers: toggled<Layer>(['odometer', 'heights'], 'toppled'), palettes: toggled<PaletteId>(['tidewater'], 'kiln') };
+    expect(specOfForm(f).render).toEqual({ layers: ['heights', 'toppled', 'odometer'], palettes: ['tidewater', 'kiln'], untoppled: 'neutral' });
+    expect('render' in specOfForm({ ...emptyForm(), layers: ['odometer', 'toppled', 'heights'] as Layer[] })).toBe(false);
   });
 
   test("the engine's periodic presets are sent as their unit cell with their name", () => {

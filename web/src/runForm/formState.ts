@@ -1,4 +1,6 @@
 import type { Background, PeriodicGraph, RunSpec } from '../api/contract.js';
+import { DEFAULT_RENDER, type RenderSpec } from '../../../shared/run-spec.js';
+import { LAYERS, PALETTE_IDS, type Layer, type PaletteId, type UntoppledStyle } from '../../../shared/palettes.js';
 import { PERIODIC_PRESETS } from '../../../renderer/src/engine/lattice.js';
 
 /**
@@ -39,6 +41,10 @@ export interface RunFormState {
   weights: string;
   upload: { sha256: string; shape: number[] } | null;
   sources: SourceRow[];
+  /** what the farm draws: each checked layer in each checked palette */
+  layers: Layer[];
+  palettes: PaletteId[];
+  untoppled: UntoppledStyle;
 }
 
 export const SQUARE_CELL: PeriodicGraph = { period: [1, 1], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1]]]] };
@@ -62,6 +68,9 @@ export function emptyForm(): RunFormState {
     weights: '1 1 1',
     upload: null,
     sources: [],
+    layers: [...DEFAULT_RENDER.layers],
+    palettes: [...DEFAULT_RENDER.palettes],
+    untoppled: DEFAULT_RENDER.untoppled,
   };
 }
 
@@ -115,14 +124,35 @@ export function parseAt(s: string): number[] {
   return s.replace(/[()]/g, '').split(/[\s,;]+/).filter(Boolean).map(Number);
 }
 
-/** The specification as typed; not yet validated (the shared zod schema does that). */
+/** Layers and palettes in their canonical order, whatever order they were ticked in. */
+export function renderOfForm(f: Pick<RunFormState, 'layers' | 'palettes' | 'untoppled'>): RenderSpec {
+  return {
+    layers: LAYERS.filter((l) => f.layers.includes(l)),
+    palettes: PALETTE_IDS.filter((p) => f.palettes.includes(p)),
+    untoppled: f.untoppled,
+  };
+}
+
+const sameRender = (a: RenderSpec, b: RenderSpec) => JSON.stringify(a) === JSON.stringify(b);
+
+/**
+ * The specification as typed; not yet validated (the shared zod schema does that). The default
+ * drawing is left out, so such a run's specification is the same as before layers could be chosen.
+ */
 export function specOfForm(f: RunFormState): Record<string, unknown> {
+  const render = renderOfForm(f);
   return {
     lattice: latticeOfForm(f),
     chips: parseGrains(f.chips),
     sources: f.sources.map((s) => ({ at: parseAt(s.at), chips: parseGrains(s.chips) })),
     background: backgroundOfForm(f),
+    ...(sameRender(render, DEFAULT_RENDER) ? {} : { render }),
   };
+}
+
+/** Tick or untick one item of a list, keeping the rest. */
+export function toggled<T>(list: readonly T[], item: T): T[] {
+  return list.includes(item) ? list.filter((x) => x !== item) : [...list, item];
 }
 
 /** Grain counts typed as "10^4, 10^5, 10^6" or "10000 100000"; NaN marks an entry that is not a number. */
@@ -172,6 +202,10 @@ export function formOfSpec(spec: RunSpec, title: string): RunFormState {
       break;
   }
   f.sources = spec.sources.map((s) => ({ at: s.at.join(', '), chips: String(s.chips) }));
+  const render = spec.render ?? DEFAULT_RENDER;
+  f.layers = [...render.layers];
+  f.palettes = [...render.palettes];
+  f.untoppled = render.untoppled;
   return f;
 }
 

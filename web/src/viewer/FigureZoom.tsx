@@ -1,6 +1,7 @@
 import { useState } from 'react';
-import { DEFAULT_PALETTE_ID } from '../../../shared/palettes.js';
-import { DRAWN_LAYERS, DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type PaneSpec } from './PileViewer.js';
+import { useRunJson } from '../api/queries.js';
+import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type PaneSpec } from './PileViewer.js';
+import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
 
 /**
@@ -9,11 +10,18 @@ import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
  */
 export function FigureZoom({ slug, title }: { slug: string; title: string }) {
   const base: ArtifactBase = { kind: 'figure', slug };
-  const [layer, setLayer] = useState<DrawnLayer>('heights');
-  const [palette, setPalette] = useState<string>(DEFAULT_PALETTE_ID);
-  const [beside, setBeside] = useState<DrawnLayer | ''>('');
-  const panes: PaneSpec[] = [{ base, layer, palette, label: title }];
-  if (beside) panes.push({ base, layer: beside, palette, label: title });
+  // the run's own specification (run.json) says which views were drawn; the switchers list only those
+  const runJson = useRunJson(base);
+  const drawn = drawnOf(runJson.data?.spec);
+  const [wantedLayer, setLayer] = useState<DrawnLayer>('heights');
+  const [wantedPalette, setPalette] = useState<string>('');
+  const [wantedBeside, setBeside] = useState<DrawnLayer | ''>('');
+  const layer = pickLayer(drawn, wantedLayer);
+  const palette = pickPalette(drawn, wantedPalette);
+  const beside = wantedBeside && wantedBeside !== layer && drawn.layers.includes(wantedBeside) ? wantedBeside : '';
+  // until run.json says what was drawn, open nothing (rather than a default view the run may not have)
+  const panes: PaneSpec[] = runJson.data || runJson.isError ? [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }] : [];
+  if (beside && panes.length) panes.push({ base, layer: beside, palette: paletteSegmentOf(drawn, beside, palette), label: title });
   return (
     <PileViewer
       panes={panes}
@@ -22,14 +30,14 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
       toolbar={
         <>
           <DarkSelect label="Layer" value={layer} onChange={(e) => setLayer(e.target.value as DrawnLayer)}>
-            {DRAWN_LAYERS.map((l) => (
+            {drawn.layers.map((l) => (
               <option key={l} value={l}>
                 {LAYER_LABELS[l]}
               </option>
             ))}
           </DarkSelect>
           <DarkSelect label="Palette" value={palette} onChange={(e) => setPalette(e.target.value)}>
-            {PALETTE_OPTIONS.map((p) => (
+            {PALETTE_OPTIONS.filter((p) => (drawn.palettes as readonly string[]).includes(p.id)).map((p) => (
               <option key={p.id} value={p.id}>
                 {p.name}
               </option>
@@ -37,7 +45,7 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
           </DarkSelect>
           <DarkSelect label="Beside it" value={beside} onChange={(e) => setBeside(e.target.value as DrawnLayer | '')}>
             <option value="">nothing</option>
-            {DRAWN_LAYERS.filter((l) => l !== layer).map((l) => (
+            {drawn.layers.filter((l) => l !== layer).map((l) => (
               <option key={l} value={l}>
                 {LAYER_LABELS[l].toLowerCase()}
               </option>

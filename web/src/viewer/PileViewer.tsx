@@ -1,13 +1,14 @@
 import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
-import { DEFAULT_PALETTE_ID, PALETTES, legendFor, paletteById } from '../../../shared/palettes.js';
+import { PALETTES, paletteById } from '../../../shared/palettes.js';
 import { DRAWN_LAYERS, LAYER_LABELS, type DrawnLayer } from '../labels.js';
-import { useLayerStats, useRunJson, useViewDrawn } from '../api/queries.js';
+import { useRunJson, useViewDrawn, useViewLegend } from '../api/queries.js';
 import { groupThousands } from '../format.js';
 import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type RunGeometry } from './cells.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
 import { LegendCard } from './LegendCard.js';
 import { arrayUrl, infoJsonUrl, type ArtifactBase, type RunJson } from './runArtifacts.js';
 import { useCellReadout } from './useCellReadout.js';
+import { paletteOfSegment } from './drawnViews.js';
 
 
 /** Screen pixels per cell of the origin close-up: large enough to see and check single cells. */
@@ -16,6 +17,7 @@ export const CLOSE_UP_PX_PER_CELL = 40;
 export interface PaneSpec {
   base: ArtifactBase;
   layer: DrawnLayer;
+  /** palette segment of the view's address: a palette id, `~clear` appended when untoppled cells are see-through */
   palette: string;
   /** shown in the pane's corner */
   label: string;
@@ -132,7 +134,6 @@ export function PileViewer({ panes, lock, toolbar, height = 'h-[calc(100vh-3.5re
 
 function Pane({ spec, onState, onLead, onView }: { spec: PaneSpec; onState: (s: PaneState | null) => void; onLead: () => void; onView: () => void }) {
   const run = useRunJson(spec.base);
-  const stats = useLayerStats(spec.base, run.data);
   const drawn = useViewDrawn(spec.base, spec.layer, spec.palette);
   const [hover, setHover] = useState<CellAt | null>(null);
   const [handle, setHandle] = useState<DeepZoomHandle | null>(null);
@@ -144,22 +145,16 @@ function Pane({ spec, onState, onLead, onView }: { spec: PaneSpec; onState: (s: 
   useEffect(() => () => release.current(null), []);
   const geometry = useMemo(() => (run.data ? geometryOf(run.data) : null), [run.data]);
   const readout = useCellReadout(spec.base, hover);
-  const legend = useMemo(() => {
-    if (!stats.data) return null;
-    try {
-      return legendFor(paletteById(spec.palette), spec.layer, stats.data, 'neutral');
-    } catch {
-      return null;
-    }
-  }, [stats.data, spec.layer, spec.palette]);
+  // the legend the renderer wrote beside this very pyramid, so it names exactly the colours of the pixels
+  const legend = useViewLegend(spec.base, spec.layer, spec.palette, drawn.data === true);
+  const paletteName = paletteById(paletteOfSegment(spec.palette)).name;
 
   let body: ReactNode;
   if (run.isError) body = <Centred>{(run.error as Error).message}</Centred>;
   else if (drawn.data === false)
     body = (
       <Centred>
-        The {LAYER_LABELS[spec.layer].toLowerCase()} view in {paletteById(spec.palette).name} has not been drawn for this run
-        {spec.palette === DEFAULT_PALETTE_ID ? ' yet.' : `; the farm draws ${paletteById(DEFAULT_PALETTE_ID).name}.`}
+        The {LAYER_LABELS[spec.layer].toLowerCase()} view in {paletteName} has not been drawn for this run (not asked for, or not ready yet).
       </Centred>
     );
   else if (!geometry || drawn.isPending) body = <Centred>Opening…</Centred>;
@@ -185,10 +180,10 @@ function Pane({ spec, onState, onLead, onView }: { spec: PaneSpec; onState: (s: 
     <div className="relative overflow-hidden bg-night" onPointerEnter={onLead} onPointerDown={onLead} onWheel={onLead} data-testid="viewer-pane">
       {body}
       <p className="pointer-events-none absolute left-3 top-2 rounded bg-black/50 px-2 py-0.5 text-[11px] text-white/80">
-        {spec.label} · {LAYER_LABELS[spec.layer]} · {paletteById(spec.palette).name}
+        {spec.label} · {LAYER_LABELS[spec.layer]} · {paletteName}
       </p>
       <div className="pointer-events-none absolute bottom-3 left-3">
-        {legend ? <LegendCard legend={legend} /> : stats.data === null ? <p className="rounded bg-black/55 px-2 py-1 text-[11px] text-white/70">legend: the arrays are too large to read the colour scale in the browser</p> : null}
+        {legend.data ? <LegendCard legend={legend.data.legend} /> : legend.isError ? <p className="rounded bg-black/55 px-2 py-1 text-[11px] text-white/70">legend: {(legend.error as Error).message}</p> : null}
       </div>
       {hover && handle && geometry ? <CellOutline cell={hover} handle={handle} geometry={geometry} /> : null}
       <Readout cell={hover} values={readout.values} error={readout.error} />

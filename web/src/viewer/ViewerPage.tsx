@@ -1,12 +1,10 @@
 import { Link, useParams, useSearchParams } from 'react-router';
-import { DEFAULT_PALETTE_ID, PALETTE_IDS } from '../../../shared/palettes.js';
 import { useRun, useRunJson, useRuns } from '../api/queries.js';
 import { formatCountText } from '../format.js';
 import { runBibtex } from '../pages/citation.js';
-import { DRAWN_LAYERS, DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
+import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
+import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
-
-const isLayer = (s: string | null): s is DrawnLayer => (DRAWN_LAYERS as readonly string[]).includes(s ?? '');
 
 /**
  * /runs/:id/view — the lab's deep-zoom reader of one run, full-bleed on the dark ground. The address
@@ -19,11 +17,13 @@ export function ViewerPage() {
   const run = useRun(id);
   const base: ArtifactBase = { kind: 'run', id };
   const runJson = useRunJson(base);
-  const layer: DrawnLayer = isLayer(params.get('layer')) ? (params.get('layer') as DrawnLayer) : 'heights';
-  const palette = (PALETTE_IDS as readonly string[]).includes(params.get('palette') ?? '') ? params.get('palette')! : DEFAULT_PALETTE_ID;
+  // the switchers offer only the views this run asked for (its spec's `render`)
+  const drawn = drawnOf(run.data?.run.spec);
+  const layer: DrawnLayer = pickLayer(drawn, params.get('layer'));
+  const palette = pickPalette(drawn, params.get('palette'));
   const compare = params.get('with') ?? '';
   const otherRunId = compare.startsWith('run:') ? compare.slice(4) : null;
-  const otherLayer = compare.startsWith('layer:') && isLayer(compare.slice(6)) ? (compare.slice(6) as DrawnLayer) : null;
+  const otherLayer = compare.startsWith('layer:') && (drawn.layers as readonly string[]).includes(compare.slice(6)) ? (compare.slice(6) as DrawnLayer) : null;
   const lock: Lock = params.get('lock') === 'rescaled' || (params.get('lock') === null && otherRunId) ? 'rescaled' : 'cells';
   const otherRun = useRun(otherRunId ?? '', false);
   const finished = useRuns({ status: 'finished', pageSize: 100 });
@@ -38,9 +38,13 @@ export function ViewerPage() {
   };
 
   const title = run.data?.run.title ?? 'Run';
-  const panes: PaneSpec[] = [{ base, layer, palette, label: title }];
-  if (otherLayer) panes.push({ base, layer: otherLayer, palette, label: title });
-  if (otherRunId) panes.push({ base: { kind: 'run', id: otherRunId }, layer, palette, label: otherRun.data?.run.title ?? 'other run' });
+  // until the spec says what was drawn, open nothing (rather than a default view the run may not have)
+  const panes: PaneSpec[] = run.data || run.isError ? [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }] : [];
+  if (otherLayer && panes.length) panes.push({ base, layer: otherLayer, palette: paletteSegmentOf(drawn, otherLayer, palette), label: title });
+  if (otherRunId && panes.length) {
+    const theirs = drawnOf(otherRun.data?.run.spec);
+    panes.push({ base: { kind: 'run', id: otherRunId }, layer, palette: paletteSegmentOf(theirs, layer, palette), label: otherRun.data?.run.title ?? 'other run' });
+  }
 
   const toolbar = (
     <>
@@ -48,14 +52,14 @@ export function ViewerPage() {
         ← {title}
       </Link>
       <DarkSelect label="Layer" value={layer} onChange={(e) => set({ layer: e.target.value })}>
-        {DRAWN_LAYERS.map((l) => (
+        {drawn.layers.map((l) => (
           <option key={l} value={l}>
             {LAYER_LABELS[l]}
           </option>
         ))}
       </DarkSelect>
       <DarkSelect label="Palette" value={palette} onChange={(e) => set({ palette: e.target.value })}>
-        {PALETTE_OPTIONS.map((p) => (
+        {PALETTE_OPTIONS.filter((p) => (drawn.palettes as readonly string[]).includes(p.id)).map((p) => (
           <option key={p.id} value={p.id}>
             {p.name}
           </option>
@@ -63,7 +67,7 @@ export function ViewerPage() {
       </DarkSelect>
       <DarkSelect label="Beside it" value={compare} onChange={(e) => set({ with: e.target.value, lock: null })}>
         <option value="">nothing</option>
-        {DRAWN_LAYERS.filter((l) => l !== layer).map((l) => (
+        {drawn.layers.filter((l) => l !== layer).map((l) => (
           <option key={l} value={`layer:${l}`}>
             {LAYER_LABELS[l].toLowerCase()} of this run
           </option>

@@ -1,14 +1,11 @@
 import { z } from 'zod';
 import { runSpecSchema } from '../../../shared/run-spec.js';
 import { runStatsSchema } from '../../../shared/run-stats.js';
-import type { LayerStats } from '../../../shared/palettes.js';
-import { readNpy } from '../../../renderer/src/npy/read.js';
-import { planeOf } from '../../../renderer/src/render/plane.js';
-import { computeStats } from '../../../renderer/src/render/stats.js';
+import { legendResponseSchema, type LegendResponse } from '../../../shared/api/artifacts.js';
 
 /**
  * A run's stored artifacts as the browser reads them: run.json (the worker's sidecar, see
- * renderer/src/farm/compute-run.ts) and the two arrays. Read leniently: only the fields the pages use
+ * renderer/src/farm/compute-run.ts), the two arrays and each drawn view's legend. Read leniently: only the fields the pages use
  * are checked, so a sidecar that grows new fields keeps working.
  */
 
@@ -54,32 +51,12 @@ export async function fetchRunJson(b: ArtifactBase): Promise<RunJson> {
   return parsed.data;
 }
 
-/** Above this many cells the browser does not download whole arrays just to draw a legend. */
-export const LEGEND_MAX_CELLS = 4_000_000;
+export const legendUrl = (b: ArtifactBase, layer: string, palette: string) => `${artifactRoot(b)}/legend/${layer}/${palette}`;
 
-async function fetchBytes(url: string): Promise<Uint8Array> {
-  const res = await fetch(url, { credentials: 'same-origin' });
-  if (!res.ok) throw new Error(`${url.split('/').pop()}: the server answered ${res.status}`);
-  return new Uint8Array(await res.arrayBuffer());
-}
-
-/**
- * The whole-pile numbers the tiles were coloured with, recomputed here by the renderer's own
- * `computeStats`, so the legend names exactly the colours of the pixels. Null for arrays too large
- * to download for this purpose.
- */
-export async function fetchLayerStats(b: ArtifactBase, run: RunJson): Promise<LayerStats | null> {
-  const cells = run.heights.shape.reduce((a, c) => a * c, 1);
-  if (cells > LEGEND_MAX_CELLS) return null;
-  const [h, u] = await Promise.all([fetchBytes(arrayUrl(b, 'heights.npy')), fetchBytes(arrayUrl(b, 'odometer.npy'))]);
-  const heights = readNpy(h);
-  const odo = readNpy(u, { allowFloat: true });
-  const odometer = new Float64Array(odo.data.length);
-  const toppled = new Uint8Array(odo.data.length);
-  for (let k = 0; k < odometer.length; k++) {
-    odometer[k] = Number(odo.data[k]!);
-    toppled[k] = odometer[k]! > 0 ? 1 : 0;
-  }
-  const input = { shape: heights.shape, origin: run.heights.origin, heights: Int32Array.from(heights.data as ArrayLike<number>), odometer, toppled };
-  return computeStats(planeOf(input));
+/** The legend and colour-scale numbers a view was drawn with, as the renderer stored them; null when the view is not drawn. */
+export async function fetchViewLegend(b: ArtifactBase, layer: string, palette: string): Promise<LegendResponse | null> {
+  const res = await fetch(legendUrl(b, layer, palette), { credentials: 'same-origin' });
+  if (res.status === 404) return null;
+  if (!res.ok) throw new Error(`legend: the server answered ${res.status}`);
+  return legendResponseSchema.parse(await res.json());
 }
