@@ -67,7 +67,11 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
   };
   if (!(await state.started('preparing'))) {
     // the API enqueues inside its transaction, so a fast worker can see the job before the row: retry
-    if ((await state.current()) === null) throw new Error(`run ${data.runId} is not in the database yet`);
+    const status = await state.current();
+    if (status === null) throw new Error(`run ${data.runId} is not in the database yet`);
+    // a worker that died between storing the arrays and queueing the render: queue it now (the job
+    // id makes this a no-op when the render job exists already)
+    if (status === 'rendering') await deps.enqueueRender(data.runId);
     return 'skipped';
   }
   const abort = new AbortController();
