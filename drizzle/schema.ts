@@ -139,6 +139,13 @@ export const runs = pgTable('runs', {
   seriesId: uuid('series_id').references(() => series.id, { onDelete: 'set null' }),
   /** set when the finished/failed mail went out, so a retried worker never mails twice */
   outcomeMailedAt: at('outcome_mailed_at'),
+  /**
+   * set when the retention sweep claims an unpublished run past its end (api/src/services/admin-retention.ts):
+   * the run, its statistics and spec stay; its arrays, tiles and draft prints are being or have been deleted
+   */
+  artifactsExpiredAt: at('artifacts_expired_at'),
+  /** set once nothing of the expired run is left in the object store (a sweep interrupted midway finishes it later) */
+  artifactsClearedAt: at('artifacts_cleared_at'),
 }, (t) => [index('runs_lab_created_idx').on(t.labId, t.createdAt), index('runs_status_idx').on(t.status), index('runs_series_idx').on(t.seriesId)]);
 
 /**
@@ -276,7 +283,7 @@ export const paymentEvents = pgTable('payment_events', {
 
 /**
  * Append-only trail of who did what, when, why and in which lab. No foreign keys, so deleting a user
- * or lab never rewrites history; a trigger (migration 0001) refuses UPDATE and DELETE.
+ * or lab never rewrites history; triggers refuse UPDATE and DELETE (migration 0001) and TRUNCATE (0009).
  */
 export const auditEvents = pgTable('audit_events', {
   id: bigint('id', { mode: 'number' }).primaryKey().generatedAlwaysAsIdentity(),
@@ -288,4 +295,8 @@ export const auditEvents = pgTable('audit_events', {
   subjectId: text('subject_id'),
   reason: text('reason'),
   detail: jsonb('detail'),
-}, (t) => [index('audit_events_lab_idx').on(t.labId, t.at)]);
+}, (t) => [
+  index('audit_events_lab_idx').on(t.labId, t.at),
+  // the retention sweep and the storage page look up notices per run
+  index('audit_events_action_subject_idx').on(t.action, t.subjectId),
+]);

@@ -20,6 +20,8 @@ export const QUEUE_NAMES = {
   render: 'tw-render',
   /** print files of figure versions (renderer/src/farm/print-run.ts): memory-bound, one at a time */
   print: 'tw-print',
+  /** housekeeping on a schedule (the retention sweep): one job per interval for the whole farm */
+  maintenance: 'tw-maintenance',
 } as const;
 export type QueueName = (typeof QUEUE_NAMES)[keyof typeof QUEUE_NAMES];
 
@@ -30,6 +32,8 @@ export const JOB_NAMES = {
   renderRun: 'run.render',
   /** print one figure version (PNG, TIFF, PDF) and store its files */
   printFigure: 'figure.print',
+  /** delete the artifacts of unpublished runs past their retention end, mailing their labs first */
+  retentionSweep: 'retention.sweep',
 } as const;
 export type JobName = (typeof JOB_NAMES)[keyof typeof JOB_NAMES];
 
@@ -38,11 +42,14 @@ export const computeRunDataSchema = z.strictObject({ runId: z.uuid(), spec: runS
 export const renderRunDataSchema = z.strictObject({ runId: z.uuid() });
 /** The version row holds the spec and formats; the worker reads it so a retried job prints the same order. */
 export const printFigureDataSchema = z.strictObject({ versionId: z.uuid() });
+/** The sweep reads everything it needs from PostgreSQL at the time it runs. */
+export const retentionSweepDataSchema = z.strictObject({});
 
 export type JobItem =
   | { name: typeof JOB_NAMES.computeRun; data: z.infer<typeof computeRunDataSchema> }
   | { name: typeof JOB_NAMES.renderRun; data: z.infer<typeof renderRunDataSchema> }
-  | { name: typeof JOB_NAMES.printFigure; data: z.infer<typeof printFigureDataSchema> };
+  | { name: typeof JOB_NAMES.printFigure; data: z.infer<typeof printFigureDataSchema> }
+  | { name: typeof JOB_NAMES.retentionSweep; data: z.infer<typeof retentionSweepDataSchema> };
 
 export type JobOf<N extends JobName> = Extract<JobItem, { name: N }>['data'];
 
@@ -51,6 +58,7 @@ export const JOB_DATA_SCHEMAS: { [N in JobName]: z.ZodType<JobOf<N>> } = {
   [JOB_NAMES.computeRun]: computeRunDataSchema,
   [JOB_NAMES.renderRun]: renderRunDataSchema,
   [JOB_NAMES.printFigure]: printFigureDataSchema,
+  [JOB_NAMES.retentionSweep]: retentionSweepDataSchema,
 };
 
 /** The default queue of each job; a compute job may go to the large lane instead (`queueOf`). */
@@ -58,6 +66,7 @@ export const JOBS_TO_QUEUE: Record<JobName, QueueName> = {
   [JOB_NAMES.computeRun]: QUEUE_NAMES.compute,
   [JOB_NAMES.renderRun]: QUEUE_NAMES.render,
   [JOB_NAMES.printFigure]: QUEUE_NAMES.print,
+  [JOB_NAMES.retentionSweep]: QUEUE_NAMES.maintenance,
 };
 
 /** Every queue a job of each name can be found on: cancelling, suspending and retrying look in all of them. */
@@ -65,6 +74,7 @@ export const QUEUES_OF_JOB: Record<JobName, readonly QueueName[]> = {
   [JOB_NAMES.computeRun]: [QUEUE_NAMES.compute, QUEUE_NAMES.computeLarge],
   [JOB_NAMES.renderRun]: [QUEUE_NAMES.render],
   [JOB_NAMES.printFigure]: [QUEUE_NAMES.print],
+  [JOB_NAMES.retentionSweep]: [QUEUE_NAMES.maintenance],
 };
 
 /**
@@ -99,5 +109,7 @@ export function queueOf(item: JobItem): QueueName {
 
 /** One job per run (or figure version) and kind: the job id makes a repeated enqueue a no-op (BullMQ refuses ":" in custom ids). */
 export function jobIdFor(item: JobItem): string {
-  return `${item.name}--${'runId' in item.data ? item.data.runId : item.data.versionId}`;
+  const data = item.data as { runId?: string; versionId?: string };
+  // the sweep has no subject: one at a time farm-wide
+  return `${item.name}--${data.runId ?? data.versionId ?? 'all'}`;
 }

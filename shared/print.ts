@@ -52,6 +52,9 @@ export type ColumnName = keyof typeof JOURNAL_WIDTHS_MM;
 
 const lengthUnitSchema = z.enum(['mm', 'in']);
 
+/** The tallest journal-column page, chosen or following from the content (2 m: a long poster strip). */
+export const MAX_PAGE_HEIGHT_MM = 2000;
+
 export const pageSizeSchema = z.discriminatedUnion('kind', [
   z.strictObject({
     kind: z.literal('paper'),
@@ -62,7 +65,7 @@ export const pageSizeSchema = z.discriminatedUnion('kind', [
     kind: z.literal('column'),
     column: z.enum(COLUMN_NAMES),
     /** page height in mm; omitted: as tall as the panels, legend and caption need */
-    heightMm: z.number().positive().max(2000).optional(),
+    heightMm: z.number().positive().max(MAX_PAGE_HEIGHT_MM).optional(),
   }),
   z.strictObject({
     kind: z.literal('custom'),
@@ -395,13 +398,25 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   if (sizeMm.height !== null) {
     heightPx = px(sizeMm.height);
   } else {
-    // rows share one height, so every row gets the tallest row's need
+    // rows share one height, so every row gets the tallest row's need: a fixed magnification needs
+    // exactly its cells, 'fit' what the slot width gives the region's aspect
     let rowH = 0;
-    for (const c of cells) if (c) rowH = Math.max(rowH, Math.ceil((slotW * c.h) / c.w));
+    cells.forEach((c, i) => {
+      if (!c) return;
+      const k = spec.panels[i].magnification;
+      rowH = Math.max(rowH, k === 'fit' ? Math.ceil((slotW * c.h) / c.w) : c.h * k);
+    });
     const gridH = rows * ((rowH || slotW) + labelBand + scaleBand);
     heightPx = fixedBands + gridH;
   }
   const heightMm = sizeMm.height ?? (heightPx / dpi) * MM_PER_INCH;
+  if (sizeMm.height === null && heightMm > MAX_PAGE_HEIGHT_MM) {
+    warnings.push({
+      code: 'size-not-met',
+      blocking: true,
+      message: `the size asked for cannot be met: at this column width the panels would make the page ${fmt(Math.round(heightMm))} mm tall (at most ${fmt(MAX_PAGE_HEIGHT_MM)} mm); choose a page height, a wider region or a fixed magnification`,
+    });
+  }
   const contentH = heightPx - m.top - m.bottom;
   const gridH = heightPx - fixedBands;
   const slotH = Math.floor(gridH / rows);

@@ -8,7 +8,7 @@ import { startFarmWorker } from './farm/farm-worker.js';
 import { loadEnv } from '../../shared/env.js';
 
 const env = loadEnv();
-const farm = await startFarmWorker(env);
+const farm = await startFarmWorker(env, { retentionSweep: true });
 const { compute, large, render } = farm.concurrency;
 const s = farm.settings;
 console.log(

@@ -200,8 +200,10 @@ export const retryJobResponseSchema = z.object({ queue: z.string(), jobId: z.str
 /**
  * What happens to the artifacts of runs that no figure publishes: tiles and arrays are kept for
  * `keepDays` after the run ends; `noticeDays` before the end the lab's managers are mailed; at the
- * end the tiles and arrays are deleted, while the run row, its statistics and run.json stay (the
- * run can be computed again from its specification). Published runs are kept for good.
+ * end (and never sooner than `noticeDays` after the mail) the retention sweep deletes the tiles,
+ * arrays and draft prints made from the run, while the run row, its statistics and specification
+ * stay (the run can be computed again). Runs of a figure that was ever published (withdrawn ones
+ * included) are kept for good. api/src/services/admin-retention.ts applies it.
  */
 export const RETENTION_RULE = { keepDays: 180, noticeDays: 14 } as const;
 
@@ -210,12 +212,15 @@ export const storageRunSchema = z.object({
   title: z.string(),
   bytes: z.number().int().min(0),
   objects: z.number().int().min(0),
+  /** used by a figure that was ever published: kept for good */
   published: z.boolean(),
   finishedAt: isoDateSchema.nullable(),
-  /** when the artifacts go, null while unfinished or published */
+  /** when the artifacts go (the end of retention, later if the notice came late); null while unfinished, published or expired */
   expiresAt: isoDateSchema.nullable(),
   /** when the lab was mailed about it, if it was */
   noticeMailedAt: isoDateSchema.nullable(),
+  /** when the sweep removed its artifacts */
+  artifactsExpiredAt: isoDateSchema.nullable().default(null),
 });
 export const labStorageSchema = z.object({
   labId: idSchema,
@@ -242,6 +247,8 @@ export const auditQuerySchema = z.strictObject({
   labId: idSchema.optional(),
   /** actor (who did it) */
   actorId: idSchema.optional(),
+  /** a person, whether they acted or the event was about them (a role change, a removal) */
+  personId: idSchema.optional(),
   /** an action ("credits.grant") or a prefix ending in "." ("credits.") */
   kind: z.string().trim().min(1).max(100).regex(/^[a-z0-9.-]+$/, 'kind is like credits.grant or credits.').optional(),
   from: dayText.optional(),
@@ -259,6 +266,8 @@ export const auditEventSchema = z.object({
   action: z.string(),
   subjectType: z.string().nullable(),
   subjectId: z.string().nullable(),
+  /** the subject's name when the event is about a person */
+  subjectName: z.string().nullable().default(null),
   reason: z.string().nullable(),
   detail: z.record(z.string(), z.unknown()).nullable(),
 });

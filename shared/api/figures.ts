@@ -102,11 +102,12 @@ export type FigureDetail = z.infer<typeof figureDetailSchema>;
 
 export const FIGURES_PAGE_SIZE = 24;
 const chipsQuery = z.coerce.number<number | string>().int().min(0).max(Number.MAX_SAFE_INTEGER).optional();
+/** The public index's filters; a figure matches when one of its panels' runs meets all of them. */
 export const listFiguresQuerySchema = z
   .strictObject({
     lattice: z.string().min(1).max(64).optional(),
     background: z.string().min(1).max(32).optional(),
-    /** n of the figure's run, inclusive bounds */
+    /** n of that run, inclusive bounds */
     nMin: chipsQuery,
     nMax: chipsQuery,
     page: pageSchema,

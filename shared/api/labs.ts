@@ -63,5 +63,11 @@ export type InvitationPreviewResponse = z.infer<typeof invitationPreviewResponse
 
 export const quotaRequestSchema = z.strictObject({ monthlyQuota: monthlyQuotaSchema });
 export type QuotaRequest = z.infer<typeof quotaRequestSchema>;
+/** PUT /api/labs/:labId/members/:userId/role (a manager of the lab or a site admin); the reason goes to the audit trail */
+export const roleRequestSchema = z.strictObject({
+  role: labRoleSchema,
+  reason: z.string().trim().min(3, 'give a reason of at least 3 characters').max(500, 'the reason must be at most 500 characters'),
+});
+export type RoleRequest = z.infer<typeof roleRequestSchema>;
 export const memberResponseSchema = z.object({ member: memberSchema });
 export type MemberResponse = z.infer<typeof memberResponseSchema>;

@@ -29,6 +29,8 @@ export const runSchema = z.object({
   finishedAt: isoDateSchema.nullable(),
   /** the series this run belongs to (POST /api/series), null for a single run */
   seriesId: idSchema.nullable().default(null),
+  /** set when the retention rule removed the run's arrays and tiles (shared/api/admin.ts RETENTION_RULE); the statistics stay */
+  artifactsExpiredAt: isoDateSchema.nullable().default(null),
 });
 export type Run = z.infer<typeof runSchema>;
 

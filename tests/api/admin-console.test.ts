@@ -303,7 +303,7 @@ describe('audit trail', () => {
     const csv = await as(http.get(`/api/admin/audit.csv?labId=${labId}&kind=credits.grant`), s.admin);
     expect(csv.status).toBe(200);
     const lines = csv.text.split('\r\n');
-    expect(lines[0]).toBe('id,at,actor_id,actor,lab_id,lab,action,subject_type,subject_id,reason,detail');
+    expect(lines[0]).toBe('id,at,actor_id,actor,lab_id,lab,action,subject_type,subject_id,subject,reason,detail');
     // RFC 4180 §2.6–2.7: the JSON detail has commas and quotes, so it is quoted with its quotes doubled
     expect(lines[1]).toContain(',credits.grant,lab,');
     expect(lines[1]!.endsWith(',farm outage last week,"{""credits"":500}"')).toBe(true);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { RETENTION_RULE } from '../../shared/api/admin.js';
 import { toCsv } from '../../api/src/services/admin-csv.js';
-import { dueForNotice, expiryOf } from '../../api/src/services/admin-storage.js';
+import { dueForNotice, expiryOf } from '../../api/src/services/admin-retention.js';
 import { labStandingOf, memberStandingOf, monthsUpTo } from '../../api/src/services/admin-usage.js';
 
 /** The console's pure rules: standings, months, retention dates and CSV quoting. */

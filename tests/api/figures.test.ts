@@ -5,6 +5,7 @@ import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { figureVersions, runs } from '../../drizzle/schema.js';
 import {
+  FIGURES_PAGE_SIZE,
   figureResponseSchema,
   figureVersionResponseSchema,
   labFiguresResponseSchema,
@@ -203,6 +204,31 @@ describe('ordering, publishing and withdrawing', () => {
     const bad = await h.http.get('/api/figures?nMin=10&nMax=5');
     expect(bad.status).toBe(400);
     expect(bad.body.error).toMatch(/nMin must not exceed nMax/);
+  });
+
+  it('finds a multi-panel figure in the index by any of its panels\' runs', async () => {
+    // two backgrounds side by side: the first panel's run is on the constant background, the second on the checkerboard
+    const f = detail(
+      (await as(h.http.post('/api/figures'), author).send({ labId, title: `Side by side ${h.tag}`, spec: { ...spec(runSquare), grid: { rows: 1, cols: 2 }, panels: [{ runId: runSquare }, { runId: runChecker }] } }).expect(201)).body,
+    );
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({}).expect(202);
+    await markReady(h, f.id, 1);
+    await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200);
+    const found = (q: string) =>
+      h.http
+        .get(`/api/figures${q}`)
+        .expect(200)
+        .then((r) => listFiguresResponseSchema.parse(r.body).figures.some((x) => x.slug === f.slug));
+    expect(await found('?background=checkerboard')).toBe(true);
+    expect(await found('?background=constant')).toBe(true);
+    expect(await found('?lattice=square&background=checkerboard&nMin=16&nMax=16')).toBe(true);
+    expect(await found('?background=checkerboard&nMin=17')).toBe(false);
+    expect(await found('?background=random')).toBe(false);
+    const list = listFiguresResponseSchema.parse((await h.http.get('/api/figures?background=checkerboard').expect(200)).body);
+    // the count follows the same filter as the page (other test files may publish figures too)
+    if (list.figures.length < FIGURES_PAGE_SIZE) expect(list.total).toBe(list.figures.length);
+    expect(list.figures.some((x) => x.slug === f.slug)).toBe(true);
+    await as(h.http.post(`/api/figures/${f.slug}/unpublish`), author).expect(200);
   });
 
   it('mails whoever ordered a ready version a presigned link, once', async () => {

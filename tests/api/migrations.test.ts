@@ -68,6 +68,8 @@ describe('migrations from an empty database', () => {
       await c.query(`insert into audit_events (action, reason) values ('test.event', 'append-only check')`);
       await expect(c.query(`update audit_events set reason = 'rewritten'`)).rejects.toThrow(/append-only/);
       await expect(c.query(`delete from audit_events`)).rejects.toThrow(/append-only/);
+      // row triggers do not fire on TRUNCATE; a statement trigger (migration 0009) refuses it too
+      await expect(c.query(`truncate audit_events`)).rejects.toThrow(/append-only/);
       const rows = (await c.query(`select reason from audit_events`)).rows;
       expect(rows).toEqual([{ reason: 'append-only check' }]);
     });

@@ -195,6 +195,16 @@ const ROWS: Row[] = [
     },
   },
   {
+    // a fresh author each call: managers and site admins may promote, the lab's authors and strangers may not
+    route: 'PUT /api/labs/:labId/members/:userId/role',
+    expect: { reader: 401, author: 403, manager: 200, admin: 200, other: 404 },
+    send: async (a) => {
+      const m = await createUser(h, `promoted-${fresh()}`);
+      await h.deps.db.insert(memberships).values({ labId: labA, userId: m.id, role: 'author' });
+      return as(h.http.put(`/api/labs/${labA}/members/${m.id}/role`), a.session).send({ role: 'manager', reason: 'route table' });
+    },
+  },
+  {
     route: 'PUT /api/labs/:labId/members/:userId/quota',
     expect: { reader: 401, author: 403, manager: 200, admin: 403, other: 404 },
     send: (a) => as(h.http.put(`/api/labs/${labA}/members/${people.author2.id}/quota`), a.session).send({ monthlyQuota: 700 }),
@@ -547,7 +557,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(72);
+    expect(mounted.length).toBe(73);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

@@ -89,7 +89,7 @@ async function runCase(c: CaseSpec): Promise<CaseResult> {
     ({ widthPx, heightPx } = fig.layout.page);
     const palette = pagePalette(fig);
     const rgb = Buffer.alloc(widthPx * heightPx * 3);
-    for (const strip of pageStrips(fig, palette)) {
+    for await (const strip of pageStrips(fig, palette)) {
       const o = strip.y * widthPx * 3;
       for (let i = 0; i < strip.rows * widthPx; i++) {
         const col = palette.colours[strip.data[i]];

@@ -1,6 +1,11 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Browser } from 'playwright-core';
-import { DEMO_OTHER_LAB, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { eq } from 'drizzle-orm';
+import { labs, runs, users } from '../../drizzle/schema.js';
+import { RETENTION_RULE } from '../../shared/api/admin.js';
+import { runSpecSchema } from '../../shared/run-spec.js';
+import { DEMO_LAB, DEMO_OTHER_LAB, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { sweepRetention } from '../../api/src/services/admin-retention.js';
 import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
 import http, { type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -122,5 +127,76 @@ describe('the admin console in the browser', () => {
     await page.getByText('Retention of unpublished runs').waitFor();
     await page.getByRole('table', { name: 'storage' }).locator('tbody tr', { hasText: DEMO_OTHER_LAB }).waitFor();
     await screenshot(page, 'admin-storage');
+  });
+
+  test('a lab manager changes a role on the lab page with a reason, the last manager cannot step down, and the admin sees it in the trail', async () => {
+    const manager = DEMO_SIGN_INS.find((d) => d.role === 'manager')!;
+    const page = await newPage(browser, url);
+    await signIn(page, manager.email, manager.password, '/lab');
+    const members = page.getByRole('table', { name: 'lab members' });
+    await members.waitFor();
+
+    // stepping down as the only manager: the reason is asked for, then the server says why not
+    await page.getByRole('combobox', { name: 'permissions of Perrin Ashcombe', exact: true }).selectOption('author');
+    const self = page.getByRole('form', { name: 'change the permissions of Perrin Ashcombe' });
+    await self.getByRole('button', { name: 'Make author' }).click();
+    await self.getByText('give a reason of at least 3 characters').waitFor();
+    await self.getByLabel('reason for changing the permissions of Perrin Ashcombe').fill('handing over');
+    await self.getByRole('button', { name: 'Make author' }).click();
+    await self.getByText('a lab needs at least one manager: make someone else manager first').waitFor();
+    await screenshot(page, 'lab-last-manager');
+    await page.getByRole('combobox', { name: 'permissions of Perrin Ashcombe', exact: true }).selectOption('manager');
+
+    // promoting the author
+    await page.getByRole('combobox', { name: 'permissions of Maren Tollis', exact: true }).selectOption('manager');
+    const other = page.getByRole('form', { name: 'change the permissions of Maren Tollis' });
+    await other.getByLabel('reason for changing the permissions of Maren Tollis').fill('runs the group while Perrin is on leave');
+    await other.getByRole('button', { name: 'Make manager' }).click();
+    await expect.poll(() => other.getByRole('button', { name: 'Make manager' }).count()).toBe(0);
+    expect(await page.getByRole('combobox', { name: 'permissions of Maren Tollis', exact: true }).inputValue()).toBe('manager');
+    await screenshot(page, 'lab-role-changed');
+
+    const adminPage = await newPage(browser, url);
+    await signIn(adminPage, admin.email, admin.password, '/admin?tab=audit');
+    const filters = adminPage.getByRole('form', { name: 'filter the trail' });
+    await filters.getByLabel('Kind').selectOption('member.role');
+    const row = adminPage.getByRole('table', { name: 'audit trail' }).locator('tbody tr', { hasText: 'member.role' });
+    await row.waitFor();
+    expect(await row.textContent()).toContain('Perrin Ashcombe');
+    expect(await row.textContent()).toContain('Maren Tollis');
+    expect(await row.textContent()).toContain('runs the group while Perrin is on leave');
+    // jsonb keeps keys in its own order, so each part separately
+    expect(await row.textContent()).toContain('from: author');
+    expect(await row.textContent()).toContain('to: manager');
+    await screenshot(adminPage, 'admin-audit-role-change');
+  });
+
+  test('an unpublished run past its storage period is mailed about, then shows "expired — artifacts removed" instead of a viewer', async () => {
+    const db = stack.deps.db;
+    const [lab] = await db.select().from(labs).where(eq(labs.name, DEMO_LAB));
+    const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
+    const [who] = await db.select().from(users).where(eq(users.email, author.email));
+    const ended = new Date(Date.now() - (RETENTION_RULE.keepDays + 2) * 86400_000);
+    const [run] = await db
+      .insert(runs)
+      .values({ labId: lab!.id, authorId: who!.id, title: 'An old draft nobody published', spec: runSpecSchema.parse({ lattice: { preset: 'square' }, chips: 16 }), status: 'finished', startedAt: ended, finishedAt: ended })
+      .returning();
+    await stack.deps.blobs.put(`runs/${run!.id}/arrays/heights.npy`, Buffer.alloc(200, 1), 'application/octet-stream');
+    const deps = { db, env: stack.env, mailer: stack.deps.mailer, blobs: stack.deps.blobs };
+    expect((await sweepRetention(deps)).noticed).toHaveLength(1);
+    const later = new Date(Date.now() + (RETENTION_RULE.noticeDays + 1) * 86400_000);
+    expect((await sweepRetention(deps, { now: later })).expired.map((e) => e.runId)).toEqual([run!.id]);
+
+    const page = await newPage(browser, url);
+    await signIn(page, author.email, author.password, `/runs/${run!.id}`);
+    await page.getByText('Expired — artifacts removed').waitFor();
+    expect(await page.getByRole('link', { name: 'Deep zoom' }).count()).toBe(0);
+    await page.getByRole('button', { name: 'Re-run' }).waitFor();
+    await screenshot(page, 'run-expired');
+
+    const adminPage = await newPage(browser, url);
+    await signIn(adminPage, admin.email, admin.password, '/admin?tab=storage');
+    await adminPage.getByRole('table', { name: 'expired runs' }).locator('tbody tr', { hasText: 'An old draft nobody published' }).waitFor();
+    await screenshot(adminPage, 'admin-storage-expired');
   });
 });

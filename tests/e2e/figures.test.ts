@@ -76,6 +76,50 @@ describe('figures in the browser', () => {
     await expect.poll(() => page.locator('[data-testid="proof"] image').count()).toBe(1);
     await page.waitForTimeout(500);
     await screenshot(page, 'figures-compose');
+
+    // the region, drawn on the run's deep-zoom view: a drag gives the typed coordinates, typing moves the rectangle
+    const run = (await apiCall<{ run: { stats: { shape: number[]; origin: number[] } } }>(page, 'GET', `/api/runs/${submitted.body.run.id}`)).body.run;
+    const [H, W] = run.stats.shape as [number, number];
+    const [oy, ox] = run.stats.origin as [number, number];
+    const panel = page.getByTestId('panel-0');
+    await panel.getByRole('button', { name: 'Draw the region on the view' }).click();
+    const drawer = panel.getByTestId('region-drawer');
+    await drawer.and(page.locator('[data-ready]')).waitFor();
+    await page.waitForTimeout(800);
+    const box = (await drawer.getByTestId('deep-zoom').boundingBox())!;
+    // OpenSeadragon's home view fits the whole image into the viewer, centred (homeFillsViewer defaults to false)
+    const cell = Math.min(box.width / W, box.height / H);
+    const left = box.x + (box.width - cell * W) / 2;
+    const top = box.y + (box.height - cell * H) / 2;
+    const centre = (x: number, y: number) => ({ x: left + (x + ox + 0.5) * cell, y: top + (y + oy + 0.5) * cell });
+    const from = centre(-6, -4);
+    const to = centre(3, 5);
+    await page.mouse.move(from.x, from.y);
+    await page.mouse.down();
+    await page.mouse.move(to.x, to.y, { steps: 12 });
+    await drawer.getByTestId('region-rect-pending').waitFor();
+    await page.mouse.up();
+    const field = (name: string) => panel.getByLabel(name, { exact: true });
+    await expect.poll(() => field('xMin').inputValue()).toBe('-6');
+    expect([await field('xMax').inputValue(), await field('yMin').inputValue(), await field('yMax').inputValue()]).toEqual(['3', '-4', '5']);
+    await drawer.getByTestId('region-readout').getByText('x -6..3, y -4..5 · 10 × 10 cells').waitFor();
+    // the drag drew, it did not pan: the rectangle sits on the outer edges of those cells
+    const edges = async () => (await drawer.getByTestId('region-rect').boundingBox())!;
+    const expectRect = async (x0: number, x1: number, y0: number, y1: number) => {
+      const r = await edges();
+      // measured again: the coordinate fields that appeared above moved the view down the page
+      const now = (await drawer.getByTestId('deep-zoom').boundingBox())!;
+      expect(Math.abs(r.x - (now.x - box.x + left + (x0 + ox) * cell))).toBeLessThan(1.5);
+      expect(Math.abs(r.y - (now.y - box.y + top + (y0 + oy) * cell))).toBeLessThan(1.5);
+      expect(Math.abs(r.width - (x1 - x0 + 1) * cell)).toBeLessThan(1.5);
+      expect(Math.abs(r.height - (y1 - y0 + 1) * cell)).toBeLessThan(1.5);
+    };
+    await expectRect(-6, 3, -4, 5);
+    await field('xMin').fill('-2');
+    await field('yMax').fill('8');
+    await expect.poll(async () => Math.round((await edges()).width / cell)).toBe(6);
+    await expectRect(-2, 3, -4, 8);
+    await screenshot(page, 'figures-compose-region');
     await page.getByRole('button', { name: 'Create the figure' }).click();
     await page.waitForURL(/\/lab\/figures\/a-thousand-grains-on-z2$/);
 

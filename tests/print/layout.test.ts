@@ -45,6 +45,25 @@ describe('page size', () => {
     expect(l.panels[0].cellPx).toBe(10);
     expect(l.printable).toBe(true);
   });
+
+  it('makes a column page as tall as a fixed magnification needs, not as the slot width would', () => {
+    // 200 cells at 3 px per cell: 600 px of panel, so with no margins, labels or legend a 600 px tall page
+    const l = layout(
+      { size: { kind: 'column', column: 'single' }, dpi: 600, margins: { top: 0, right: 0, bottom: 0, left: 0 }, legend: false, labels: 'none', panels: [{ runId: 'r', magnification: 3 }] },
+      [run('r', 200)],
+    );
+    expect(l.page.widthPx).toBe(2126);
+    expect([l.panels[0].image.width, l.panels[0].image.height, l.page.heightPx]).toEqual([600, 600, 600]);
+    expect(l.printable).toBe(true);
+  });
+
+  it('refuses a column page that would be taller than 2 m', () => {
+    // a region 2 cells wide and 1,000 tall, fitted to a 90 mm column: 45 m of page
+    const l = layout({ size: { kind: 'column', column: 'single' }, dpi: 300, panels: [{ runId: 'r', region: { xMin: 0, xMax: 1, yMin: -500, yMax: 499 } }] }, [run('r', 1001)]);
+    expect(l.printable).toBe(false);
+    const w = l.warnings.find((x) => x.code === 'size-not-met')!;
+    expect(w.message).toMatch(/^the size asked for cannot be met: at this column width the panels would make the page [\d,]+ mm tall \(at most 2,000 mm\)/);
+  });
 });
 
 describe('panels', () => {

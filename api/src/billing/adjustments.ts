@@ -44,9 +44,11 @@ export async function bookOfflinePurchase(db: Executor, labId: string, credits: 
           .onConflictDoNothing({ target: creditPurchases.checkoutSessionId })
           .returning({ id: creditPurchases.id })
       : [];
-    await post(tx, { labId, kind: 'purchase', idempotencyKey: `purchase:${reference}`, purchaseId: p?.id ?? null, actorId, reason: 'offline purchase', detail: { reference } }, [
+    const booked = await post(tx, { labId, kind: 'purchase', idempotencyKey: `purchase:${reference}`, purchaseId: p?.id ?? null, actorId, reason: 'offline purchase', detail: { reference } }, [
       { account: accounts.available(labId), amount: credits },
       { account: accounts.stripeClearing, amount: -credits },
     ]);
+    // a billing event like a paid checkout: in the trail once, with the ledger entry
+    if (booked) await audit(tx, { actorId, labId, action: 'credits.purchase', subjectType: p ? 'purchase' : 'lab', subjectId: p?.id ?? labId, reason: 'offline purchase', detail: { credits, reference } });
   });
 }

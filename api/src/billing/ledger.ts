@@ -68,14 +68,15 @@ export async function balancesOf(ex: Executor, names: string[]): Promise<Map<str
 /** Whether this month's free allowance has been issued (it is, lazily, at the lab's first reservation of the month). */
 const allowanceKey = (labId: string, month: string) => `allowance:${labId}:${month}`;
 
-/** The lab's monthly free allowance: a site admin's setting for it (labs.free_allowance), else the default. */
-export async function monthlyAllowanceOf(ex: Executor, labId: string): Promise<number> {
+/** A lab's monthly free allowance: a site admin's setting for it (labs.free_allowance), else the site-wide default. */
+export async function allowanceOf(ex: Executor, labId: string): Promise<{ freeAllowance: number; isDefault: boolean }> {
   const [row] = await ex.select({ a: labs.freeAllowance }).from(labs).where(eq(labs.id, labId));
-  return row?.a ?? FREE_MONTHLY_ALLOWANCE;
+  if (!row) throw notFound('lab not found');
+  return row.a === null ? { freeAllowance: FREE_MONTHLY_ALLOWANCE, isDefault: true } : { freeAllowance: row.a, isDefault: false };
 }
 
 export async function ensureAllowance(tx: Tx, labId: string, month: string): Promise<void> {
-  const amount = await monthlyAllowanceOf(tx, labId);
+  const amount = (await allowanceOf(tx, labId)).freeAllowance;
   if (amount <= 0) return;
   await post(tx, { labId, kind: 'allowance', idempotencyKey: allowanceKey(labId, month), reason: `free allowance for ${month}` }, [
     { account: accounts.free(labId, month), amount },
@@ -89,7 +90,7 @@ export async function labBalance(ex: Executor, labId: string, now = new Date()):
   const names = [accounts.available(labId), accounts.reserved(labId), accounts.free(labId, month)];
   const b = await balancesOf(ex, names);
   const [issued] = await ex.select({ id: ledgerEntries.id }).from(ledgerEntries).where(eq(ledgerEntries.idempotencyKey, allowanceKey(labId, month)));
-  const freeAllowance = await monthlyAllowanceOf(ex, labId);
+  const { freeAllowance } = await allowanceOf(ex, labId);
   // an admin's mid-month change books its own allowance entries, so once anything is on the account, it is the truth
   const freeLeft = issued || b.get(names[2]!)! !== 0 ? b.get(names[2]!)! : freeAllowance;
   return { available: b.get(names[0]!)!, reserved: b.get(names[1]!)!, month, freeAllowance, freeLeft: Math.max(0, freeLeft) };

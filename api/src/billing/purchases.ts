@@ -125,6 +125,7 @@ async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; pu
       if (!p) return { outcome: 'ignored: not a checkout session of ours', purchaseId: null };
       if (p.status !== 'open') return { outcome: `ignored: purchase is ${p.status}`, purchaseId: p.id };
       await tx.update(creditPurchases).set({ status: 'expired' }).where(eq(creditPurchases.id, p.id));
+      await audit(tx, { actorId: null, labId: p.labId, action: 'credits.checkout-expired', subjectType: 'purchase', subjectId: p.id, reason: 'the checkout was not completed in time', detail: { pack: p.pack, session: p.checkoutSessionId, event: event.id } });
       return { outcome: 'expired', purchaseId: p.id };
     }
     case 'payment_intent.payment_failed': {
@@ -135,6 +136,7 @@ async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; pu
       if (p.status !== 'open') return { outcome: `ignored: purchase is ${p.status}`, purchaseId: p.id };
       const why = intent.last_payment_error?.message ?? 'the card was declined';
       await tx.update(creditPurchases).set({ lastError: why }).where(eq(creditPurchases.id, p.id));
+      await audit(tx, { actorId: null, labId: p.labId, action: 'credits.payment-declined', subjectType: 'purchase', subjectId: p.id, reason: why, detail: { pack: p.pack, session: p.checkoutSessionId, event: event.id } });
       return { outcome: `declined: ${why}`, purchaseId: p.id };
     }
     default:

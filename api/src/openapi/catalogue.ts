@@ -61,6 +61,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   { method: 'post', path: '/labs/:labId/invitations', tag: 'labs', summary: 'Invite someone by e-mail (managers)', access: 'user', params: api.labParamsSchema, body: api.createInvitationRequestSchema, responses: { 201: api.invitationResponseSchema } },
   { method: 'delete', path: '/labs/:labId/invitations/:id', tag: 'labs', summary: 'Withdraw an invitation (managers)', access: 'user', params: api.labInvitationParamsSchema, responses: { 204: null } },
   { method: 'delete', path: '/labs/:labId/members/:userId', tag: 'labs', summary: 'Remove a member (managers) or leave the lab', access: 'user', params: api.labMemberParamsSchema, responses: { 204: null } },
+  { method: 'put', path: '/labs/:labId/members/:userId/role', tag: 'labs', summary: 'Change a member\'s role, author ↔ manager, with a reason (managers and site admins; a lab keeps at least one manager)', access: 'user', params: api.labMemberParamsSchema, body: api.roleRequestSchema, responses: { 200: api.memberResponseSchema } },
   { method: 'put', path: '/labs/:labId/members/:userId/quota', tag: 'labs', summary: 'Set a member\'s monthly credit quota (managers)', access: 'user', params: api.labMemberParamsSchema, body: api.quotaRequestSchema, responses: { 200: api.memberResponseSchema } },
 
   { method: 'get', path: '/invitations/:token', tag: 'labs', summary: 'Preview an invitation', access: 'public', params: tokenParams, responses: { 200: api.invitationPreviewResponseSchema } },

@@ -23,6 +23,7 @@ import { uniqueAs } from '../db/errors.js';
 import { badRequest, conflict, notFound } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
+import { lockRunsForPublication } from '../services/admin-retention.js';
 import { audit } from '../services/audit.js';
 import {
   blockingWarnings,
@@ -65,12 +66,20 @@ export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
 
   r.get('/figures', async (req, res) => {
     const q = validate.query(req, listFiguresQuerySchema);
+    // conditions on one panel's run (alias pr): a figure of four backgrounds side by side, or of
+    // n = 10^5 … 10^8, is found by any of its panels, not only by its first
+    const panel: SQL[] = [];
+    if (q.lattice === 'periodic') panel.push(sql`pr.spec->'lattice' ? 'periodic'`);
+    else if (q.lattice) panel.push(sql`(pr.spec->'lattice'->>'preset' = ${q.lattice} or pr.spec->'lattice'->>'name' = ${q.lattice})`);
+    if (q.background) panel.push(sql`pr.spec->'background'->>'kind' = ${q.background}`);
+    if (q.nMin !== undefined) panel.push(sql`(pr.spec->>'chips')::numeric >= ${q.nMin}`);
+    if (q.nMax !== undefined) panel.push(sql`(pr.spec->>'chips')::numeric <= ${q.nMax}`);
     const filters: (SQL | undefined)[] = [published];
-    if (q.lattice === 'periodic') filters.push(sql`${runs.spec}->'lattice' ? 'periodic'`);
-    else if (q.lattice) filters.push(sql`(${runs.spec}->'lattice'->>'preset' = ${q.lattice} or ${runs.spec}->'lattice'->>'name' = ${q.lattice})`);
-    if (q.background) filters.push(sql`${runs.spec}->'background'->>'kind' = ${q.background}`);
-    if (q.nMin !== undefined) filters.push(sql`(${runs.spec}->>'chips')::numeric >= ${q.nMin}`);
-    if (q.nMax !== undefined) filters.push(sql`(${runs.spec}->>'chips')::numeric <= ${q.nMax}`);
+    if (panel.length > 0) {
+      filters.push(sql`exists (select 1 from ${runs} as pr where (pr.id = ${figures.runId}
+        or pr.id::text in (select p->>'runId' from jsonb_array_elements(coalesce(${figures.spec}->'panels', '[]'::jsonb)) as p))
+        and ${sql.join(panel, sql` and `)})`);
+    }
     const where = and(...filters);
     const [rows, [total]] = await Promise.all([
       selectFigures(db).where(where).orderBy(desc(figures.publishedAt), desc(figures.id)).limit(FIGURES_PAGE_SIZE).offset((q.page - 1) * FIGURES_PAGE_SIZE),
@@ -193,6 +202,7 @@ export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
     if (row.latestVersion === null) throw conflict('order a print and wait until it is ready before publishing: readers download the printed files');
     const user = authOf(res).user;
     await db.transaction(async (tx) => {
+      await lockRunsForPublication(tx, row.figure.id);
       await tx
         .update(figures)
         .set({ publishedAt: row.figure.publishedAt ?? new Date(), withdrawnAt: null, updatedAt: new Date() })

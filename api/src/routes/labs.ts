@@ -10,10 +10,11 @@ import {
   labResponseSchema,
   memberResponseSchema,
   quotaRequestSchema,
+  roleRequestSchema,
   type Member,
 } from '../../../shared/api/labs.js';
 import { invitations, labs, memberships, users } from '../../../drizzle/schema.js';
-import { authOf, requireLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
+import { authOf, checkLabAccess, requireLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
 import { randomToken, sha256Hex } from '../auth/secrets.js';
 import { uniqueAs } from '../db/errors.js';
 import type { AppDeps } from '../deps.js';
@@ -137,17 +138,46 @@ export function labsRouter({ db, env, mailer }: AppDeps): Router {
     res.status(204).end();
   });
 
+  /**
+   * Author ↔ manager, by a manager of the lab or a site admin (who need not be a member), always
+   * with a reason. The lab's memberships are locked so two managers demoting each other at once
+   * cannot leave it without one.
+   */
+  r.put('/labs/:labId/members/:userId/role', requireUser, async (req, res) => {
+    const { labId, userId } = validate.params(req, labMemberParamsSchema);
+    const actor = authOf(res).user;
+    const access = await checkLabAccess(db, actor, labId, 'read');
+    if (access.role !== 'manager' && !actor.isAdmin) throw forbidden('only the lab\'s managers and site admins can change roles');
+    const { role, reason } = validate.body(req, roleRequestSchema);
+    await db.transaction(async (tx) => {
+      const rows = await tx.select().from(memberships).where(eq(memberships.labId, labId)).for('update');
+      // checked again under the lock: a manager demoted a moment ago no longer decides
+      if (!actor.isAdmin && rows.find((m) => m.userId === actor.id)?.role !== 'manager') throw forbidden('only the lab\'s managers and site admins can change roles');
+      const target = rows.find((m) => m.userId === userId);
+      if (!target) throw notFound('member not found');
+      if (target.role === role) throw conflict(`this member is already ${role === 'manager' ? 'a manager' : 'an author'}`);
+      if (target.role === 'manager' && rows.filter((m) => m.role === 'manager').length === 1) {
+        throw conflict('a lab needs at least one manager: make someone else manager first');
+      }
+      await tx.update(memberships).set({ role }).where(and(eq(memberships.labId, labId), eq(memberships.userId, userId)));
+      await audit(tx, { actorId: actor.id, labId, action: 'member.role', subjectType: 'user', subjectId: userId, reason, detail: { from: target.role, to: role } });
+    });
+    const member = (await members(labId)).find((x) => x.userId === userId)!;
+    respond(res, 200, memberResponseSchema, { member });
+  });
+
   r.put('/labs/:labId/members/:userId/quota', requireUser, requireLabAccess(db, 'manager'), async (req, res) => {
     const { labId, userId } = validate.params(req, labMemberParamsSchema);
     const { monthlyQuota } = validate.body(req, quotaRequestSchema);
     const [m] = await db.transaction(async (tx) => {
+      const [before] = await tx.select({ q: memberships.monthlyQuota }).from(memberships).where(and(eq(memberships.labId, labId), eq(memberships.userId, userId))).for('update');
       const updated = await tx
         .update(memberships)
         .set({ monthlyQuota })
         .where(and(eq(memberships.labId, labId), eq(memberships.userId, userId)))
         .returning();
       if (updated.length) {
-        await audit(tx, { actorId: authOf(res).user.id, labId, action: 'member.quota', subjectType: 'user', subjectId: userId, detail: { monthlyQuota } });
+        await audit(tx, { actorId: authOf(res).user.id, labId, action: 'member.quota', subjectType: 'user', subjectId: userId, detail: { from: before?.q ?? null, monthlyQuota } });
       }
       return updated;
     });

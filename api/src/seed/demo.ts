@@ -95,22 +95,20 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         runIds.push(row!.id);
         await queue.enqueue({ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } });
       }
-      await tx.insert(figures).values({
+      const [figure] = await tx.insert(figures).values({
         slug: 'square-lattice-one-hundred-thousand',
         title: 'One hundred thousand grains, square lattice',
         caption: 'Final stable heights after 100 000 grains are dropped at the origin of Z², on an empty background.',
         runId: runIds[0]!,
         createdById: who('author'),
         publishedAt: new Date(),
-      });
+      }).returning();
       await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
-      await audit(tx, { actorId: who('manager'), labId: main!.id, action: 'credits.purchase', subjectType: 'lab', subjectId: main!.id, reason: 'offline purchase', detail: { credits: 5000, reference: 'demo-purchase-0001' } });
-      await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.publish', subjectType: 'figure', subjectId: 'square-lattice-one-hundred-thousand' });
+      await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.publish', subjectType: 'figure', subjectId: figure!.id, detail: { slug: figure!.slug } });
       // The other lab is over quota (for the admin console): an admin cut its free allowance for a pilot,
       // it bought a little, and its queued runs hold every credit it has.
       await setAllowance(tx, other!.id, who('admin'), { freeAllowance: 2, reason: 'pilot lab: a small free allowance while the farm is busy' });
       await bookOfflinePurchase(tx, other!.id, 2, 'demo-purchase-0002', who('other lab'));
-      await audit(tx, { actorId: who('other lab'), labId: other!.id, action: 'credits.purchase', subjectType: 'lab', subjectId: other!.id, reason: 'offline purchase', detail: { credits: 2, reference: 'demo-purchase-0002' } });
       await reserveForRuns(tx, other!.id, who('other lab'), await tx.select().from(runs).where(eq(runs.labId, other!.id)));
       await audit(tx, { actorId: null, labId: null, action: 'demo.seed', reason: 'empty database at start' });
       return true;

@@ -2,18 +2,9 @@ import { randomUUID } from 'node:crypto';
 import { and, eq, like } from 'drizzle-orm';
 import { labs, ledgerEntries, ledgerLines } from '../../../drizzle/schema.js';
 import type { AllowanceRequest } from '../../../shared/api/admin.js';
-import { FREE_MONTHLY_ALLOWANCE } from '../../../shared/api/credits.js';
-import { notFound } from '../http/http-error.js';
 import { accounts, monthOf } from '../billing/accounts.js';
-import { balancesOf, ensureAllowance, lockLab, post, type Executor } from '../billing/ledger.js';
+import { allowanceOf, balancesOf, ensureAllowance, lockLab, post, type Executor } from '../billing/ledger.js';
 import { audit } from './audit.js';
-
-/** A lab's monthly free allowance: what a site admin set for it, or the site-wide default. */
-export async function allowanceOf(ex: Executor, labId: string): Promise<{ freeAllowance: number; isDefault: boolean }> {
-  const [row] = await ex.select({ a: labs.freeAllowance }).from(labs).where(eq(labs.id, labId));
-  if (!row) throw notFound('lab not found');
-  return row.a === null ? { freeAllowance: FREE_MONTHLY_ALLOWANCE, isDefault: true } : { freeAllowance: row.a, isDefault: false };
-}
 
 /**
  * Issue this month's allowance of a lab whose allowance an admin set, at that amount, under the key

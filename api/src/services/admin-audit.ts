@@ -1,4 +1,5 @@
-import { and, desc, eq, gte, like, lt, sql } from 'drizzle-orm';
+import { and, desc, eq, gte, like, lt, or, sql } from 'drizzle-orm';
+import { alias } from 'drizzle-orm/pg-core';
 import { auditEvents, labs, users } from '../../../drizzle/schema.js';
 import type { AuditEvent, auditQuerySchema } from '../../../shared/api/admin.js';
 import type { z } from 'zod';
@@ -7,20 +8,26 @@ import { toCsv } from './admin-csv.js';
 
 type AuditQuery = z.output<typeof auditQuerySchema>;
 
+const subjectUser = alias(users, 'subject_user');
+/** the event is about this person */
+const aboutPerson = (id: string) => and(eq(auditEvents.subjectType, 'user'), eq(auditEvents.subjectId, id));
+
 const nextDay = (day: string) => new Date(Date.parse(`${day}T00:00:00Z`) + 86400_000);
 
-/** The trail, newest first, filtered by lab, person (the actor), kind (an action or a "prefix.") and UTC dates (both ends included). */
+/** The trail, newest first, filtered by lab, actor, person (actor or subject), kind (an action or a "prefix.") and UTC dates (both ends included). */
 export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
   const kind = q.kind ? (q.kind.endsWith('.') ? like(auditEvents.action, `${q.kind}%`) : eq(auditEvents.action, q.kind)) : undefined;
   const rows = await db
-    .select({ e: auditEvents, actorName: users.name, labName: labs.name })
+    .select({ e: auditEvents, actorName: users.name, labName: labs.name, subjectName: subjectUser.name })
     .from(auditEvents)
     .leftJoin(users, eq(users.id, auditEvents.actorId))
     .leftJoin(labs, eq(labs.id, auditEvents.labId))
+    .leftJoin(subjectUser, and(eq(auditEvents.subjectType, 'user'), eq(sql`${subjectUser.id}::text`, auditEvents.subjectId)))
     .where(
       and(
         q.labId ? eq(auditEvents.labId, q.labId) : undefined,
         q.actorId ? eq(auditEvents.actorId, q.actorId) : undefined,
+        q.personId ? or(eq(auditEvents.actorId, q.personId), aboutPerson(q.personId)) : undefined,
         kind,
         q.from ? gte(auditEvents.at, new Date(`${q.from}T00:00:00Z`)) : undefined,
         q.to ? lt(auditEvents.at, nextDay(q.to)) : undefined,
@@ -28,7 +35,7 @@ export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
     )
     .orderBy(desc(auditEvents.at), desc(auditEvents.id))
     .limit(q.limit);
-  return rows.map(({ e, actorName, labName }) => ({
+  return rows.map(({ e, actorName, labName, subjectName }) => ({
     id: e.id,
     at: e.at.toISOString(),
     actorId: e.actorId,
@@ -38,6 +45,7 @@ export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
     action: e.action,
     subjectType: e.subjectType,
     subjectId: e.subjectId,
+    subjectName,
     reason: e.reason,
     detail: (e.detail as Record<string, unknown> | null) ?? null,
   }));
@@ -51,7 +59,7 @@ export async function auditKinds(db: Db): Promise<string[]> {
 
 export function auditCsv(events: AuditEvent[]): string {
   return toCsv(
-    ['id', 'at', 'actor_id', 'actor', 'lab_id', 'lab', 'action', 'subject_type', 'subject_id', 'reason', 'detail'],
-    events.map((e) => [e.id, e.at, e.actorId, e.actorName, e.labId, e.labName, e.action, e.subjectType, e.subjectId, e.reason, e.detail ? JSON.stringify(e.detail) : null]),
+    ['id', 'at', 'actor_id', 'actor', 'lab_id', 'lab', 'action', 'subject_type', 'subject_id', 'subject', 'reason', 'detail'],
+    events.map((e) => [e.id, e.at, e.actorId, e.actorName, e.labId, e.labName, e.action, e.subjectType, e.subjectId, e.subjectName, e.reason, e.detail ? JSON.stringify(e.detail) : null]),
   );
 }

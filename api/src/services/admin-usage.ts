@@ -6,7 +6,7 @@ import { accounts, monthOf } from '../billing/accounts.js';
 import { entriesOf, labBalance } from '../billing/ledger.js';
 import { reconcileLab } from '../billing/settle.js';
 import { memberUsed, runUsages } from '../billing/usage.js';
-import { allowanceOf } from './admin-allowance.js';
+import { allowanceOf } from '../billing/ledger.js';
 import { toCsv } from './admin-csv.js';
 import type { RunBytes } from './admin-storage.js';
 

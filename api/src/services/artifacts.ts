@@ -22,11 +22,14 @@ export type ArtifactSubject = { runId: string; visibility: Visibility };
 
 const published = and(isNotNull(figures.publishedAt), isNull(figures.withdrawnAt));
 
+/** Its lab asked for the artifacts of a run the retention rule removed: gone for good, said plainly. */
+const expired = (at: Date) => new HttpError(410, `expired — artifacts removed: the arrays and tiles of this unpublished run were deleted on ${at.toISOString().slice(0, 10)} at the end of its retention period; re-run it to compute them again`);
+
 /** The run and whether the caller may see it; anonymous callers and strangers get the same 404. */
 export async function runSubject(db: Db, res: Response, runId: string): Promise<ArtifactSubject> {
   const missing = notFound('run not found');
   const [[row], [shown]] = await Promise.all([
-    db.select({ labId: runs.labId }).from(runs).where(eq(runs.id, runId)),
+    db.select({ labId: runs.labId, expiredAt: runs.artifactsExpiredAt }).from(runs).where(eq(runs.id, runId)),
     db.select({ id: figures.id }).from(figures).where(and(eq(figures.runId, runId), published)).limit(1),
   ]);
   if (!row) throw missing;
@@ -34,6 +37,7 @@ export async function runSubject(db: Db, res: Response, runId: string): Promise<
   const user = res.locals.auth?.user;
   if (!user) throw missing;
   await checkLabAccess(db, user, row.labId, 'read', missing);
+  if (row.expiredAt) throw expired(row.expiredAt);
   return { runId, visibility: 'private' };
 }
 

@@ -27,6 +27,7 @@ export function runView(r: typeof runs.$inferSelect, author: { id: string; name:
     startedAt: iso(r.startedAt),
     finishedAt: iso(r.finishedAt),
     seriesId: r.seriesId,
+    artifactsExpiredAt: iso(r.artifactsExpiredAt),
   };
 }
 

@@ -16,6 +16,7 @@ import { renderRun } from './render-run.js';
 import { runEnded } from './run-ended.js';
 import { printRun } from './print-run.js';
 import { sendFigureReadyMail } from '../../../api/src/services/figures-ready-mail.js';
+import { startRetentionSweep } from './retention-sweep.js';
 
 export interface FarmWorkerOptions {
   /** BullMQ key prefix (default env.BULLMQ_PREFIX); tests use their own */
@@ -36,6 +37,8 @@ export interface FarmWorkerOptions {
   maxStalledCount?: number;
   /** where progress lines go (default: standard output) */
   log?(line: string): void;
+  /** take part in the scheduled retention sweep (worker.ts turns it on; tests keep it off so it never sweeps other tests' labs) */
+  retentionSweep?: boolean;
 }
 
 /**
@@ -147,6 +150,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     (job: Job) => printRun(job, { db: database.db, store, s3, bucket: env.S3_BUCKET, notifyReady: notifyPrintReady }),
     { ...held(MAX_STALLED.other), concurrency: 1 },
   ));
+  const sweep = options.retentionSweep ? await startRetentionSweep({ connection, prefix, db: database.db, blobs: store, mailer, env }) : null;
   for (const w of farmWorkers) {
     w.on('failed', (job, err) => console.error(`job ${job?.id} failed: ${err.message}`));
     w.on('error', (err) => console.error(`${w.name}: ${err.message}`));
@@ -178,7 +182,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
       clearInterval(heartbeat);
       shutdown.abort();
       await connection.del(beatKey).catch(() => {});
-      await Promise.all(farmWorkers.map((w) => w.close()));
+      await Promise.all([...farmWorkers.map((w) => w.close()), sweep?.close()]);
       await renderQueue.close();
       store.close();
       mailer.close();

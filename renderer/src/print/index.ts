@@ -1,6 +1,7 @@
 /**
  * Print engine: a figure spec (shared/print.ts) and finished runs → exact-size PNG, TIFF and PDF,
- * streamed in strips so no full-page buffer is ever held.
+ * each with the same Work Sans labels, legend, scale bars and caption, streamed in strips so no
+ * full-page buffer is ever held.
  */
 import type { FigureLayout } from '../../../shared/print.js';
 import type { WrittenFile } from './file-output.js';
@@ -16,7 +17,9 @@ export { writePng, pngBytes, pngHead, pngChunk, pixelsPerMetre, type PngImage, t
 export { writeFigurePng, writeFigureTiff, type RasterOptions } from './raster-outputs.js';
 export { renderFigurePdf, writeFigurePdf, type PdfOptions } from './pdf.js';
 export { writeAtomically, sha256Of, type WrittenFile } from './file-output.js';
-export { WORK_SANS_FILES } from './fonts.js';
+export { WORK_SANS_FILES, textWidthPt } from './fonts.js';
+export { figureMarks, wrapText, type Mark, type TextMark, type FillMark, type StrokeMark } from './marks.js';
+export { MarkPainter, INK_LEVELS } from './mark-raster.js';
 
 export const PRINT_FORMATS = ['png', 'tiff', 'pdf'] as const;
 export type PrintFormat = (typeof PRINT_FORMATS)[number];

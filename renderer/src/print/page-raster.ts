@@ -1,43 +1,54 @@
 import type { Rgba } from '../../../shared/palettes.js';
 import type { PxRect } from '../../../shared/print.js';
 import { PanelRaster } from './panel-raster.js';
+import { INK_LEVELS, inkLevelColour, MarkPainter, type MarkTarget } from './mark-raster.js';
+import { figureMarks } from './marks.js';
 import { INK, PAPER, type PreparedFigure } from './prepare.js';
 
 /** Rows per strip: bounded memory (a strip of an A0 page at 600 DPI is ~1.3 MB of indices). */
 export const STRIP_ROWS = 64;
 
 /**
- * The page's colours: paper, ink (scale bars), then every panel's table with duplicates merged.
- * null `remap` entries mean the page needs more than 256 colours and is written as RGB.
+ * The page's colours: paper, ink (scale bars, text), the greys of anti-aliased text, every panel's
+ * table and the legend's swatches, duplicates merged. A null `remap` means the page needs more
+ * than 256 colours and is written as RGB.
  */
 export interface PagePalette {
   colours: Rgba[];
   /** per panel: layer index → page index (only when indexed) */
   remap: Uint8Array[] | null;
+  /** page index of each colour, keyed "r,g,b,a" */
+  index: Map<string, number>;
+  /** page index of ink coverage level q (1..INK_LEVELS), the greys of anti-aliased text */
+  inkIndex: Uint8Array;
 }
 
+const keyOf = (c: Rgba) => c.join(',');
+
 export function pagePalette(fig: PreparedFigure): PagePalette {
-  const colours: Rgba[] = [PAPER, INK];
-  const seen = new Map<string, number>([
-    [PAPER.join(','), 0],
-    [INK.join(','), 1],
-  ]);
-  const remaps = fig.panels.map((p) => {
-    const map = new Uint16Array(256);
-    p.table.forEach((c, i) => {
-      const key = c.join(',');
-      let at = seen.get(key);
-      if (at === undefined) {
-        at = colours.length;
-        colours.push(c);
-        seen.set(key, at);
-      }
-      map[i] = at;
-    });
-    return map;
-  });
-  if (colours.length > 256) return { colours, remap: null };
-  return { colours, remap: remaps.map((m) => Uint8Array.from(m)) };
+  const colours: Rgba[] = [];
+  const index = new Map<string, number>();
+  const add = (c: Rgba) => {
+    const key = keyOf(c);
+    let at = index.get(key);
+    if (at === undefined) {
+      at = colours.length;
+      colours.push(c);
+      index.set(key, at);
+    }
+    return at;
+  };
+  add(PAPER);
+  add(INK);
+  const marks = figureMarks(fig);
+  const inkIndex = new Uint8Array(INK_LEVELS + 1);
+  // greys only when there is text to anti-alias
+  if (marks.some((m) => m.kind === 'text')) for (let q = 1; q <= INK_LEVELS; q++) inkIndex[q] = add(inkLevelColour(q));
+  else inkIndex.fill(1);
+  const remaps = fig.panels.map((p) => Uint16Array.from(p.table, add));
+  for (const m of marks) if (m.kind !== 'text') add(m.colour);
+  if (colours.length > 256) return { colours, remap: null, index, inkIndex };
+  return { colours, remap: remaps.map((m) => Uint8Array.from(m)), index, inkIndex };
 }
 
 export interface PageStrip {
@@ -56,9 +67,10 @@ function intersectRows(r: PxRect, y: number, rows: number): [number, number] | n
 
 /**
  * The whole page, top to bottom, one strip at a time: paper, each panel's raster in its place, scale
- * bars in ink. Memory: one strip of the page plus one strip per panel, whatever the page size.
+ * bars in ink, then labels, legend and caption (mark-raster.ts). Memory: one strip of the page plus
+ * one strip per panel, whatever the page size.
  */
-export function* pageStrips(fig: PreparedFigure, palette: PagePalette, stripRows = STRIP_ROWS): Generator<PageStrip> {
+export async function* pageStrips(fig: PreparedFigure, palette: PagePalette, stripRows = STRIP_ROWS): AsyncGenerator<PageStrip> {
   const { widthPx: W, heightPx: H } = fig.layout.page;
   const indexed = palette.remap !== null;
   const bpp = indexed ? 1 : 3;
@@ -67,6 +79,8 @@ export function* pageStrips(fig: PreparedFigure, palette: PagePalette, stripRows
   const bars = fig.panels.flatMap((p) => (p.layout.scaleBar ? [p.layout.scaleBar.bar] : []));
   const rgbTables = fig.panels.map((p) => p.table);
   const buf = new Uint8Array(W * stripRows * bpp);
+  const painter = new MarkPainter(figureMarks(fig), fig.layout.dpi, W);
+  const target: MarkTarget = indexed ? { indexOf: (c) => palette.index.get(keyOf(c))!, inkIndex: palette.inkIndex, paperIndex: 0 } : {};
   for (let y = 0; y < H; y += stripRows) {
     const rows = Math.min(stripRows, H - y);
     const data = buf.subarray(0, W * rows * bpp);
@@ -108,6 +122,7 @@ export function* pageStrips(fig: PreparedFigure, palette: PagePalette, stripRows
         else data.fill(0, (dst + x0) * 3, (dst + x1) * 3);
       }
     }
+    if (!painter.empty) await painter.paint(y, rows, data, target);
     yield { y, rows, data };
   }
 }

@@ -106,7 +106,7 @@ function sameBytes(a: Uint8Array, b: Uint8Array): boolean {
 export const DEFAULT_PNG_LEVEL = 2;
 
 /** The PNG as a byte stream: head, IDAT chunks while rows are compressed, IEND. */
-export async function* pngBytes(img: PngImage, strips: Iterable<PngRows>, level = DEFAULT_PNG_LEVEL): AsyncGenerator<Buffer> {
+export async function* pngBytes(img: PngImage, strips: Iterable<PngRows> | AsyncIterable<PngRows>, level = DEFAULT_PNG_LEVEL): AsyncGenerator<Buffer> {
   yield pngHead(img);
   const indexed = img.palette !== undefined;
   const rowBytes = img.width * (indexed ? 1 : 3);
@@ -115,7 +115,7 @@ export async function* pngBytes(img: PngImage, strips: Iterable<PngRows>, level 
   const feeding = (async () => {
     const prev = new Uint8Array(rowBytes);
     let scratch = new Uint8Array(0);
-    for (const s of strips) {
+    for await (const s of strips) {
       if (s.data.length !== s.rows * rowBytes) throw new RangeError(`a strip of ${s.rows} rows needs ${s.rows * rowBytes} bytes, received ${s.data.length}`);
       rowsSeen += s.rows;
       if (rowsSeen > img.height) throw new RangeError(`more rows than the image height ${img.height}`);
@@ -133,6 +133,6 @@ export async function* pngBytes(img: PngImage, strips: Iterable<PngRows>, level 
 }
 
 /** Write a PNG to a stream (ended when done). */
-export async function writePng(out: Writable, img: PngImage, strips: Iterable<PngRows>, level = DEFAULT_PNG_LEVEL): Promise<void> {
+export async function writePng(out: Writable, img: PngImage, strips: Iterable<PngRows> | AsyncIterable<PngRows>, level = DEFAULT_PNG_LEVEL): Promise<void> {
   await pipeline(Readable.from(pngBytes(img, strips, level)), out);
 }

@@ -4,7 +4,7 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { keys, useLab } from '../api/queries.js';
 import {
-  createInvitationRequestSchema, createLabRequestSchema, quotaRequestSchema, type Invitation, type LabResponse,
+  createInvitationRequestSchema, createLabRequestSchema, quotaRequestSchema, roleRequestSchema, type Invitation, type LabResponse,
   type Member, type MeResponse,
 } from '../api/contract.js';
 import { useSignedIn } from '../auth/useSignedIn.js';
@@ -56,7 +56,13 @@ function LabDetail({ labId, isManager, me }: { labId: string; isManager: boolean
         </div>
       ),
     },
-    { key: 'role', header: 'Role', sortValue: (m) => m.role, cell: (m) => (m.role === 'manager' ? 'manager' : 'author') },
+    {
+      key: 'role',
+      header: 'Role',
+      sortValue: (m) => m.role,
+      // site admins may change roles in any lab (the API allows it), even where they are only an author
+      cell: (m) => (isManager || me.user.isAdmin ? <RoleEditor labId={labId} member={m} isSelf={m.userId === me.user.id} /> : m.role === 'manager' ? 'manager' : 'author'),
+    },
     {
       key: 'quota',
       header: 'Monthly quota',
@@ -107,6 +113,69 @@ function LabDetail({ labId, isManager, me }: { labId: string; isManager: boolean
         </div>
       ) : null}
     </div>
+  );
+}
+
+/**
+ * Author ↔ manager: choosing the other role asks why (the reason goes to the audit trail) before
+ * Save appears. The server keeps at least one manager and says so when a change would break that.
+ */
+function RoleEditor({ labId, member, isSelf }: { labId: string; member: Member; isSelf: boolean }) {
+  const [role, setRole] = useState(member.role);
+  const [reason, setReason] = useState('');
+  const [error, setError] = useState<string>();
+  const qc = useQueryClient();
+  const save = useMutation({
+    mutationFn: (body: unknown) => api<unknown>('PUT', `/api/labs/${labId}/members/${member.userId}/role`, body),
+    onSuccess: async () => {
+      setReason('');
+      await qc.invalidateQueries({ queryKey: keys.lab(labId) });
+      // a manager who stepped down loses the manager's controls at once
+      if (isSelf) await qc.invalidateQueries({ queryKey: keys.me });
+    },
+    onError: (e) => {
+      const fields = serverFieldErrors(e);
+      setError(fields.reason ?? fields.role ?? (e as Error).message);
+    },
+  });
+  function submit(e: FormEvent) {
+    e.preventDefault();
+    const r = validate(roleRequestSchema, { role, reason });
+    if (!r.ok) return setError(r.errors.reason ?? Object.values(r.errors)[0]);
+    setError(undefined);
+    save.mutate(r.data);
+  }
+  const dirty = role !== member.role;
+  return (
+    <form onSubmit={submit} className="space-y-1.5" aria-label={`change the permissions of ${member.name}`}>
+      <select
+        aria-label={`permissions of ${member.name}`}
+        value={role}
+        onChange={(e) => {
+          setRole(e.target.value as Member['role']);
+          setError(undefined);
+        }}
+        className="rounded-md border border-rule bg-sheet px-2 py-1 text-sm"
+      >
+        <option value="author">author</option>
+        <option value="manager">manager</option>
+      </select>
+      {dirty ? (
+        <div className="flex items-start gap-2">
+          <input
+            aria-label={`reason for changing the permissions of ${member.name}`}
+            value={reason}
+            placeholder="why (kept in the audit trail)"
+            onChange={(e) => setReason(e.target.value)}
+            className={`w-52 rounded-md border bg-sheet px-2 py-1 text-sm ${error ? 'border-stamp' : 'border-rule'}`}
+          />
+          <Button type="submit" size="sm" busy={save.isPending} busyLabel="Saving…">
+            {role === 'manager' ? 'Make manager' : 'Make author'}
+          </Button>
+        </div>
+      ) : null}
+      {error ? <p role="alert" className="max-w-64 text-xs text-stamp">{error}</p> : null}
+    </form>
   );
 }
 

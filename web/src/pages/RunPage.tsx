@@ -50,7 +50,8 @@ function RunDetail({ run }: { run: Run }) {
     },
   });
   // the arrays (and run.json with the radial profile) exist once the computation is done
-  const computed = run.status === 'finished' || (run.status === 'rendering' && run.stats !== null);
+  const expired = run.artifactsExpiredAt !== null;
+  const computed = !expired && (run.status === 'finished' || (run.status === 'rendering' && run.stats !== null));
   const runJson = useRunJson({ kind: 'run', id: run.id }, computed);
   const active = ACTIVE.includes(run.status);
   const spec = run.spec;
@@ -72,7 +73,7 @@ function RunDetail({ run }: { run: Run }) {
         }
         actions={
           <>
-            {run.status === 'finished' ? <LinkButton to={`/runs/${run.id}/view`}>Deep zoom</LinkButton> : null}
+            {run.status === 'finished' && !expired ? <LinkButton to={`/runs/${run.id}/view`}>Deep zoom</LinkButton> : null}
             <LinkButton tone="quiet" to={`/runs/new?from=${run.id}`}>
               Duplicate
             </LinkButton>
@@ -108,6 +109,12 @@ function RunDetail({ run }: { run: Run }) {
         <ErrorPanel title="The run failed" error={new Error(run.error ?? 'the worker gave no reason')} />
       ) : null}
       {run.status === 'cancelled' ? <Notice tone="warning" title="Cancelled">This run was stopped before it finished.</Notice> : null}
+      {expired ? (
+        <Notice tone="warning" title="Expired — artifacts removed">
+          No published figure used this run, so its arrays and tiles were deleted on {formatDateTime(run.artifactsExpiredAt)} at the end of the storage period.
+          The specification and statistics stay: Re-run computes it again.
+        </Notice>
+      ) : null}
 
       <div className="grid grid-cols-2 gap-8">
         <Section title="Specification">
@@ -149,6 +156,8 @@ function RunDetail({ run }: { run: Run }) {
               <RadialProfilePlot profile={runJson.data.radialProfile} />
             ) : runJson.isError ? (
               <p className="text-sm text-ink-faint">{(runJson.error as Error).message}</p>
+            ) : expired ? (
+              <p className="text-sm text-ink-faint">The profile was stored with the run’s arrays, which have been removed.</p>
             ) : runJson.data ? (
               <p className="text-sm text-ink-faint">This run was computed before the worker recorded radial profiles.</p>
             ) : (

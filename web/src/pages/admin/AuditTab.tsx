@@ -5,7 +5,7 @@ import { formatDateTime } from '../../format.js';
 import { buttonClass, EmptyState, ErrorPanel, Section, SelectField, SkeletonTable, SortableTable, TextField, type Column } from '../../ui/index.js';
 import { auditCsvUrl, useAuditTrail } from './adminQueries.js';
 
-const FILTERS = ['labId', 'actorId', 'kind', 'from', 'to'] as const;
+const FILTERS = ['labId', 'actorId', 'personId', 'kind', 'from', 'to'] as const;
 
 /** A short, readable summary of an event's detail (the CSV keeps the whole JSON). */
 function detailText(d: AuditEvent['detail']): string {
@@ -19,6 +19,7 @@ const columns: Column<AuditEvent>[] = [
   { key: 'at', header: 'When (UTC)', cell: (e) => <span className="tnum whitespace-nowrap">{formatDateTime(e.at)}</span>, sortValue: (e) => e.at },
   { key: 'actor', header: 'Who', cell: (e) => e.actorName ?? <span className="text-ink-faint">{e.actorId ? 'former account' : 'the system'}</span>, sortValue: (e) => e.actorName },
   { key: 'action', header: 'What', cell: (e) => <span className="font-mono text-xs">{e.action}</span>, sortValue: (e) => e.action },
+  { key: 'about', header: 'About', cell: (e) => e.subjectName ?? <span className="text-ink-faint">{e.subjectType ?? '—'}</span>, sortValue: (e) => e.subjectName ?? e.subjectType },
   { key: 'lab', header: 'Lab', cell: (e) => e.labName ?? '—', sortValue: (e) => e.labName },
   { key: 'reason', header: 'Why', cell: (e) => e.reason ?? <span className="text-ink-faint">—</span>, sortValue: (e) => e.reason },
   { key: 'detail', header: 'Detail', cell: (e) => <span className="text-xs text-ink-soft">{detailText(e.detail)}</span> },
@@ -44,7 +45,7 @@ export function AuditTab() {
   return (
     <Section
       title="Audit trail"
-      description="Every admin action, billing event, role change and publication, append-only: who, when, what and why."
+      description="Every admin action, billing event, role change and publication, append-only: who, when, what and why. Person finds what someone did and what was done to them."
       actions={<a className={`${buttonClass('quiet', 'sm')} no-underline`} href={auditCsvUrl(q)} download>Export CSV</a>}
     >
       <form className="mb-5 grid grid-cols-5 gap-3" aria-label="filter the trail" onSubmit={(e) => e.preventDefault()}>
@@ -52,7 +53,7 @@ export function AuditTab() {
           <option value="">all labs</option>
           {labs.data?.labs.map((l) => <option key={l.id} value={l.id}>{l.name}</option>)}
         </SelectField>
-        <SelectField label="Person" value={q.actorId ?? ''} onChange={(e) => set('actorId', e.target.value)}>
+        <SelectField label="Person" value={q.personId ?? ''} onChange={(e) => set('personId', e.target.value)}>
           <option value="">everyone</option>
           {users.data?.users.map((u) => <option key={u.id} value={u.id}>{u.name}</option>)}
         </SelectField>
@@ -65,7 +66,7 @@ export function AuditTab() {
         <TextField label="To" type="date" value={q.to ?? ''} onChange={(e) => set('to', e.target.value)} />
       </form>
       {trail.isPending ? (
-        <SkeletonTable rows={6} columns={6} />
+        <SkeletonTable rows={6} columns={7} />
       ) : trail.isError ? (
         <ErrorPanel error={trail.error} />
       ) : trail.data.events.length === 0 ? (

@@ -34,12 +34,13 @@ export function StorageTab() {
   if (storage.isError) return <ErrorPanel error={storage.error} />;
   const { rule, labs } = storage.data;
   const expiring = labs.flatMap((l) => l.runs.filter((r) => r.expiresAt).map((r) => ({ ...r, labName: l.name })));
+  const removed = labs.flatMap((l) => l.runs.filter((r) => r.artifactsExpiredAt).map((r) => ({ ...r, labName: l.name })));
   return (
     <div className="space-y-8">
       <Notice title="Retention of unpublished runs">
         Tiles and arrays of a run that no figure publishes are kept for {rule.keepDays} days after the run ends. {rule.noticeDays} days before the end the lab’s
-        managers are mailed; at the end the tiles and arrays are deleted, while the run, its statistics and its specification stay, so it can be computed again.
-        Published runs are kept for good.
+        managers are mailed; at the end (never sooner than {rule.noticeDays} days after the mail) an hourly sweep deletes the tiles, arrays and draft prints, while
+        the run, its statistics and its specification stay, so it can be computed again. Runs of a figure that was ever published are kept for good.
       </Notice>
       <Section title="Storage per lab">
         {labs.length === 0 ? <EmptyState title="No labs yet" /> : <SortableTable caption="storage" columns={columns} rows={labs} rowKey={(l) => l.labId} initialSort={{ key: 'bytes', order: 'desc' }} />}
@@ -63,6 +64,22 @@ export function StorageTab() {
           />
         )}
       </Section>
+      {removed.length > 0 ? (
+        <Section title="Expired — artifacts removed">
+          <SortableTable
+            caption="expired runs"
+            rows={removed}
+            rowKey={(r) => r.runId}
+            initialSort={{ key: 'removed', order: 'desc' }}
+            columns={[
+              { key: 'title', header: 'Run', cell: (r) => <a href={`/runs/${r.runId}`}>{r.title}</a>, sortValue: (r) => r.title.toLowerCase() },
+              { key: 'lab', header: 'Lab', cell: (r) => r.labName, sortValue: (r) => r.labName },
+              { key: 'mailed', header: 'Lab mailed', cell: (r) => formatDate(r.noticeMailedAt), sortValue: (r) => r.noticeMailedAt },
+              { key: 'removed', header: 'Removed on', cell: (r) => formatDate(r.artifactsExpiredAt), sortValue: (r) => r.artifactsExpiredAt },
+            ]}
+          />
+        </Section>
+      ) : null}
     </div>
   );
 }

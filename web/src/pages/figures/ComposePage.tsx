@@ -17,6 +17,7 @@ import type { FigureDetail, Run } from '../../api/contract.js';
 import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';
 import { latticeName } from '../../labels.js';
 import { Button, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
+import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
@@ -283,6 +284,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
   const run = runs.find((r) => r.id === panel.runId);
   const whole = run?.stats ? wholeRegion(run.stats.shape, run.stats.origin) : null;
   const region = panel.region ?? null;
+  const [drawing, setDrawing] = useState(false);
   return (
     <fieldset className="rounded-lg border border-rule-soft px-4 pb-4 pt-2" data-testid={`panel-${index}`}>
       <legend className="px-1 text-sm font-semibold text-ink">Panel {index + 1}</legend>
@@ -332,12 +334,30 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
               </span>
             ) : null}
         <TextField label="Label" value={panel.label ?? ''} placeholder="automatic" maxLength={24} onChange={(e) => onChange({ label: e.target.value || undefined })} fieldClassName="w-32" />
+        {run?.stats ? (
+          <Button tone="quiet" size="sm" aria-expanded={drawing} onClick={() => setDrawing(!drawing)}>
+            {drawing ? 'Hide the view' : 'Draw the region on the view'}
+          </Button>
+        ) : null}
         {onRemove ? (
           <Button tone="danger" size="sm" onClick={onRemove}>
             Remove
           </Button>
         ) : null}
       </div>
+      {drawing && run?.stats ? (
+        <div className="mt-4">
+          <RegionDrawer
+            base={{ kind: 'run', id: run.id }}
+            geometry={{ shape: run.stats.shape, origin: run.stats.origin, grains: run.spec.chips }}
+            spec={run.spec}
+            layer={panel.layer ?? 'heights'}
+            palette={panel.palette ?? 'tidewater'}
+            region={region}
+            onChange={(r) => onChange({ region: r })}
+          />
+        </div>
+      ) : null}
     </fieldset>
   );
 }
