@@ -122,7 +122,9 @@ describe('a worker killed mid-run', () => {
     const { logs } = await queue.getJobLogs(jobIdFor(item));
     await queue.close();
     expect(logs.some((l) => /checkpoint \d+ stored/.test(l))).toBe(true);
-    expect(logs.filter((l) => /resuming from its checkpoint/.test(l)).length).toBe(2);
+    // at least twice (a loaded machine can make a worker miss a 2 s lock renewal: BullMQ then hands
+    // the job out once more, and it resumes again, which changes nothing in the result)
+    expect(logs.filter((l) => /resuming from its checkpoint/.test(l)).length, logs.join('\n')).toBeGreaterThanOrEqual(2);
     expect(logs.some((l) => /back to the queue/.test(l))).toBe(true);
     expect(logs.some((l) => /arrays stored/.test(l))).toBe(true);
 
