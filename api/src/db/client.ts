@@ -17,6 +17,16 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
   pool.on('connect', (client) => {
     client.on('error', (err) => console.error(`database connection lost: ${err.message}`));
   });
+  // A failure to connect (refused, or reset while the server shuts down) carries no sign of where it
+  // came from; mark it, so the API can say "the database is not answering" (http/unavailable.ts).
+  // drizzle wraps failures of statements itself (DrizzleQueryError), connections not.
+  const connect = pool.connect.bind(pool) as (cb?: (err: Error | undefined, ...rest: unknown[]) => void) => unknown;
+  const mark = (err: unknown) => {
+    if (err && typeof err === 'object') Object.assign(err, { dependency: 'the database' });
+    return err;
+  };
+  (pool as unknown as { connect: typeof connect }).connect = (cb) =>
+    cb ? connect((err, ...rest) => cb(err ? (mark(err) as Error) : err, ...rest)) : (connect() as Promise<unknown>).catch((err: unknown) => Promise.reject(mark(err)));
   const db = drizzle(pool, { schema });
   return { db, pool, close: () => pool.end() };
 }

@@ -13,7 +13,7 @@ const PG_UNAVAILABLE = /^(08...|57P0[123])$/;
 const PG_WORDS = /Connection terminated|connection error and is not queryable|timeout exceeded when trying to connect|the database system is (starting up|shutting down)/i;
 const REDIS_WORDS = /^(Connection is closed\.|Stream isn't writeable)|MaxRetriesPerRequest/;
 
-type Chained = { code?: unknown; message?: unknown; name?: unknown; cause?: unknown; $metadata?: unknown; port?: unknown };
+type Chained = { dependency?: unknown; code?: unknown; message?: unknown; name?: unknown; cause?: unknown; $metadata?: unknown; port?: unknown };
 
 /** The ports of our dependencies, so a bare "connect ECONNREFUSED host:port" can be named. */
 export type DependencyPorts = { database?: number; objectStore?: number; queue?: number };
@@ -44,7 +44,10 @@ export function unavailable(err: unknown, ports: DependencyPorts = {}): HttpErro
   const network = links.some((e) => NETWORK_CODES.has(code(e)));
   const refusedPort = links.map((e) => e.port).find((p) => typeof p === 'number');
   let what: string | null = null;
-  if (network && refusedPort !== undefined && refusedPort === ports.database) what = 'the database';
+  const marked = links.map((e) => e.dependency).find((d) => typeof d === 'string') as string | undefined;
+  const pgDown = links.some((e) => PG_UNAVAILABLE.test(code(e)) || PG_WORDS.test(msg(e)));
+  if (marked && (network || pgDown)) what = marked;
+  else if (network && refusedPort !== undefined && refusedPort === ports.database) what = 'the database';
   else if (network && refusedPort !== undefined && refusedPort === ports.objectStore) what = 'the object store';
   else if (network && refusedPort !== undefined && refusedPort === ports.queue) what = 'the job queue';
   else if (links.some((e) => e.$metadata !== undefined || /^(TimeoutError|RequestTimeout)$/.test(String(e.name))) && (network || links.some((e) => String(e.name) === 'TimeoutError'))) what = 'the object store';
