@@ -78,10 +78,10 @@ export const QUEUES_OF_JOB: Record<JobName, readonly QueueName[]> = {
 };
 
 /**
- * Runs whose predicted farm time (shared/estimate.ts) is above this go to the large lane. The
- * estimator is calibrated on the plain engine, so the seeded fast path finishes far sooner; the
- * threshold only has to separate "seconds to minutes" from "many minutes to hours": square n = 10^6
- * (predicted ~2 min) stays in the standard lane, 2·10^6 (~8 min) goes to the large one.
+ * Runs whose predicted farm time (shared/estimate.ts, which knows the seeded fast path's measured
+ * curve) is above this go to the large lane. The threshold only has to separate "seconds to
+ * minutes" from "many minutes to hours": square n = 10^6 (predicted ~13 s) stays in the standard
+ * lane, 3·10^7 (~40 min today) goes to the large one.
  */
 export const LARGE_RUN_SECONDS = 300;
 

@@ -38,20 +38,23 @@ async function submit(title: string, spec: unknown): Promise<Run> {
   return runResponseSchema.parse(res.body).run;
 }
 
+/** A run the estimator sends to the large lane; it computes for minutes, far longer than the tests wait. */
+const BIG = 30_000_000;
 const spec = (chips: number) => runSpecSchema.parse({ lattice: { preset: 'square' }, chips });
 const jobOf = (queue: string, run: Run) => new Queue(queue, { connection: redis, prefix: h.queuePrefix }).getJob(jobIdFor({ name: JOB_NAMES.computeRun, data: { runId: run.id, spec: run.spec } }));
 
 describe('compute lanes', () => {
   it('choose the lane from the estimate', () => {
-    // 10^6 grains on Z^2 stays in the standard lane, 2·10^6 goes to the large one (the threshold's own comment)
+    // 10^6 grains on Z^2 stays in the standard lane, 3·10^7 goes to the large one (the threshold's own comment)
     expect(estimateRun(spec(1_000_000)).seconds).toBeLessThan(LARGE_RUN_SECONDS);
     expect(computeLaneOf(spec(1_000_000))).toBe(QUEUE_NAMES.compute);
-    expect(computeLaneOf(spec(2_000_000))).toBe(QUEUE_NAMES.computeLarge);
+    expect(estimateRun(spec(BIG)).seconds).toBeGreaterThan(LARGE_RUN_SECONDS);
+    expect(computeLaneOf(spec(BIG))).toBe(QUEUE_NAMES.computeLarge);
     expect(computeLaneOf(spec(1000))).toBe(QUEUE_NAMES.compute);
   });
 
   it('a cancelled run waiting in the large lane leaves the queue', async () => {
-    const big = await submit('Waiting big one', { lattice: { preset: 'square' }, chips: 3_000_000 });
+    const big = await submit('Waiting big one', { lattice: { preset: 'square' }, chips: BIG });
     const job = await jobOf(QUEUE_NAMES.computeLarge, big);
     expect(job?.data.runId).toBe(big.id);
     expect(await jobOf(QUEUE_NAMES.compute, big)).toBeUndefined();
@@ -61,7 +64,7 @@ describe('compute lanes', () => {
 
   it('a small run finishes while a big one computes, on a worker with one slot per lane', { timeout: 120_000 }, async () => {
     farm = await startFarmWorker(h.env, { prefix: h.queuePrefix, computeConcurrency: 1, largeConcurrency: 1, threads: 1, checkpointSeconds: 0.5, log: () => {} });
-    const big = await submit('Big one', { lattice: { preset: 'square' }, chips: 2_000_000 });
+    const big = await submit('Big one', { lattice: { preset: 'square' }, chips: BIG });
     expect(await jobOf(QUEUE_NAMES.computeLarge, big)).toBeDefined();
     // the big run holds the worker's large-lane slot
     await expect.poll(async () => (await runSettledOrCurrent(big.id)).status, { timeout: 30_000, interval: 100 }).toBe('computing');
