@@ -28,6 +28,26 @@ export const envSchema = z.object({
   /** HS256 key for session JWTs; at least 32 characters */
   SESSION_SECRET: z.string().min(32).default('development-only-session-secret-change-me'),
   LOG_LEVEL: z.enum(['debug', 'info', 'warn', 'error', 'silent']).default('info'),
+  /** BullMQ key prefix in Redis: the API and every worker of one deployment must agree (tests use their own) */
+  BULLMQ_PREFIX: z.string().regex(/^[A-Za-z0-9_-]{1,64}$/, 'letters, digits, "-" and "_" only').default('tw'),
+
+  // Renderer workers (renderer/src/worker.ts); documented in infra/README.md and infra/deploy/.
+  /** runs of the standard compute lane (tw-compute) one worker process computes at once */
+  WORKER_COMPUTE_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(1),
+  /** runs of the large compute lane (tw-compute-large) at once; 0 = this worker leaves large runs to others */
+  WORKER_LARGE_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(1),
+  /** runs whose tile pyramids one worker draws at once */
+  WORKER_RENDER_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(1),
+  /** threads of the plain tiled engine per run, main thread included (unset: min(2, cores)) */
+  WORKER_THREADS: z.coerce.number().int().min(1).max(16).optional(),
+  /** seconds between checkpoints of a long computation, kept in the object store until its arrays are */
+  WORKER_CHECKPOINT_SECONDS: z.coerce.number().positive().max(86_400).default(60),
+  /**
+   * seconds a worker's hold on a job lasts without renewal (renewed every half of it), and the interval
+   * of the check that hands the jobs of a dead worker to another one: a killed worker's run resumes
+   * elsewhere within about twice this
+   */
+  WORKER_LOCK_SECONDS: z.coerce.number().min(1).max(3600).default(30),
 });
 export type Env = z.infer<typeof envSchema>;
 

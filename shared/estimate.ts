@@ -1,4 +1,4 @@
-import { renderViews, type Background, type LatticeChoice, type RunSpec } from './run-spec.js';
+import { renderViews, type Background, type LatticeChoice, type LatticePreset, type RunSpec } from './run-spec.js';
 
 /**
  * Predicted size, memory, time and cost of a run, before it is submitted. Pure: the run form calls it
@@ -34,6 +34,40 @@ export const TOPPLING_FIT = { c: 0.02015698687728256, alpha: 1.9895417568465261 
 /** Topplings per second of the exact engine on the 2-core development machine (measured here). */
 export const TOPPLINGS_PER_SECOND = 1.5e8;
 
+/**
+ * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs,
+ * measured by `npm run bench:scale` on the 2-core development machine (renderer/src/scale/README.md):
+ * its cost follows the seed's error, not the toppling count, so it gets a fit of its own.
+ */
+export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
+  [1e5, 0.3],
+  [1e6, 2.56],
+  [1e7, 250.5],
+];
+
+/** Fast-path time of other lattices relative to the square one at the same n (same bench, n = 10^5). */
+export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 1.2, honeycomb: 12, manhattan: 48 };
+/** Lattices not in that bench (f-lattice, uploaded periodic graphs): the slowest measured factor, so an estimate errs on the long side. */
+export const FAST_PATH_UNKNOWN_FACTOR = 48;
+
+
+/** Smallest single source the engine sends to the fast path (renderer/src/engine/stabilize.ts SCALED_MIN_CHIPS). */
+export const FAST_PATH_MIN_CHIPS = 2 ** 16;
+
+/**
+ * Seconds at n read off a measured curve: straight lines between the points on log-log axes, the
+ * end segments extended beyond them. The curve bends upwards (the seed's error grows faster than
+ * n), so one power law through all points would be wrong at both ends; the steepest, last segment
+ * keeps predictions beyond the measurements on the long side.
+ */
+export function logLogInterpolate(points: readonly (readonly [number, number])[], n: number): number {
+  let j = 1;
+  while (j < points.length - 1 && points[j]![0] < n) j++;
+  const [n0, t0] = points[j - 1]!;
+  const [n1, t1] = points[j]!;
+  return t0 * (n / n0) ** (Math.log(t1 / t0) / Math.log(n1 / n0));
+}
+
 /** Fixed start-up cost of a run on the farm: queueing, worker start, array upload (measured here, rounded). */
 export const RUN_OVERHEAD_SECONDS = 2;
 
@@ -60,12 +94,15 @@ export interface LatticeShape {
   degree: number;
 }
 
-const PRESET_SHAPES: Record<string, LatticeShape> = {
+const PRESET_SHAPES: Record<LatticePreset, LatticeShape> = {
   line: { dimension: 1, degree: 2 },
   square: { dimension: 2, degree: 4 },
   cubic: { dimension: 3, degree: 6 },
   triangular: { dimension: 2, degree: 6 },
   honeycomb: { dimension: 2, degree: 3 },
+  // directed presets (renderer/src/engine/lattice.ts PERIODIC_PRESETS): out-degree 2 everywhere
+  'f-lattice': { dimension: 2, degree: 2 },
+  manhattan: { dimension: 2, degree: 2 },
 };
 
 /** Thrown for a specification the estimator cannot describe (an unknown lattice preset). */
@@ -75,7 +112,7 @@ export class EstimateError extends Error {
 
 export function latticeShape(lattice: LatticeChoice): LatticeShape {
   if ('preset' in lattice) {
-    const shape = PRESET_SHAPES[lattice.preset];
+    const shape = PRESET_SHAPES[lattice.preset as LatticePreset] as LatticeShape | undefined;
     if (!shape) throw new EstimateError(`unknown lattice preset "${lattice.preset}"; expected one of ${Object.keys(PRESET_SHAPES).join(', ')}`);
     return shape;
   }
@@ -124,6 +161,8 @@ export interface RunEstimate {
   /** working memory of the engine */
   bytes: number;
   topplings: number;
+  /** the part of `seconds` spent stabilizing: the fast path's measured curve where it applies, else topplings over the measured rate */
+  computeSeconds: number;
   /** deep-zoom pyramids the run asks for (layers × palettes) */
   pyramids: number;
   /** the part of `seconds` spent drawing and uploading those pyramids */
@@ -191,8 +230,25 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   else topplings = n <= 0 ? 0 : TOPPLING_FIT.c * n ** (5 / 3) * (4 / degree) * (2 / gain);
   const pyramids = renderViews(spec).length;
   const renderSeconds = pyramids * pyramidSeconds(shape);
-  const seconds = RUN_OVERHEAD_SECONDS + topplings / TOPPLINGS_PER_SECOND + renderSeconds;
-  return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), pyramids, renderSeconds, seconds, credits: creditsFor(seconds, bytes), warnings };
+  const fast = fastPathSeconds(spec);
+  const computeSeconds = fast ?? topplings / TOPPLINGS_PER_SECOND;
+  const seconds = RUN_OVERHEAD_SECONDS + computeSeconds + renderSeconds;
+  return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), pyramids, computeSeconds, renderSeconds, seconds, credits: creditsFor(seconds, bytes), warnings };
+}
+
+/**
+ * Predicted wall seconds of the seeded fast path, or null when the engine would not take it: the
+ * same rule as renderer/src/scale scaledPathApplies — a planar lattice, grains only at the origin
+ * (at least FAST_PATH_MIN_CHIPS, below 2^30), any background but an uploaded array.
+ */
+export function fastPathSeconds(spec: RunSpec): number | null {
+  const planar = 'preset' in spec.lattice ? !['line', 'cubic'].includes(spec.lattice.preset) : true;
+  const single = (spec.sources ?? []).every((s) => s.chips === 0);
+  if (!planar || !single || spec.background.kind === 'array' || spec.chips < FAST_PATH_MIN_CHIPS || spec.chips >= 2 ** 30) return null;
+  const factor = 'preset' in spec.lattice ? (FAST_PATH_LATTICE_FACTOR[spec.lattice.preset] ?? FAST_PATH_UNKNOWN_FACTOR) : FAST_PATH_UNKNOWN_FACTOR;
+  // a random background costs about 2.7× the square lattice's time at 10^5 (same bench)
+  const background = spec.background.kind === 'random' ? 2.7 : 1;
+  return logLogInterpolate(FAST_PATH_MEASURED, spec.chips) * factor * background;
 }
 
 /** Pixels per cell at the deepest level: the renderer's rule (renderer/src/render/plan.ts defaultPixelsPerCell). */

@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { runSpecSchema } from './run-spec.js';
+import { estimateRun } from './estimate.js';
+import { runSpecSchema, type RunSpec } from './run-spec.js';
 
 /**
  * The typed BullMQ job contract shared by the API (producer) and the renderer (consumer).
@@ -11,8 +12,10 @@ import { runSpecSchema } from './run-spec.js';
 export const QUEUE_PREFIX = 'tw';
 
 export const QUEUE_NAMES = {
-  /** exact stabilisation: CPU-heavy, few at a time */
+  /** exact stabilisation of runs predicted to be short (the standard lane): CPU-heavy, few at a time */
   compute: 'tw-compute',
+  /** exact stabilisation of runs predicted to hold a worker for long (the large lane, see computeLaneOf) */
+  computeLarge: 'tw-compute-large',
   /** tiles, previews and print files from finished arrays */
   render: 'tw-render',
   /** print files of figure versions (renderer/src/farm/print-run.ts): memory-bound, one at a time */
@@ -58,12 +61,51 @@ export const JOB_DATA_SCHEMAS: { [N in JobName]: z.ZodType<JobOf<N>> } = {
   [JOB_NAMES.retentionSweep]: retentionSweepDataSchema,
 };
 
+/** The default queue of each job; a compute job may go to the large lane instead (`queueOf`). */
 export const JOBS_TO_QUEUE: Record<JobName, QueueName> = {
   [JOB_NAMES.computeRun]: QUEUE_NAMES.compute,
   [JOB_NAMES.renderRun]: QUEUE_NAMES.render,
   [JOB_NAMES.printFigure]: QUEUE_NAMES.print,
   [JOB_NAMES.retentionSweep]: QUEUE_NAMES.maintenance,
 };
+
+/** Every queue a job of each name can be found on: cancelling, suspending and retrying look in all of them. */
+export const QUEUES_OF_JOB: Record<JobName, readonly QueueName[]> = {
+  [JOB_NAMES.computeRun]: [QUEUE_NAMES.compute, QUEUE_NAMES.computeLarge],
+  [JOB_NAMES.renderRun]: [QUEUE_NAMES.render],
+  [JOB_NAMES.printFigure]: [QUEUE_NAMES.print],
+  [JOB_NAMES.retentionSweep]: [QUEUE_NAMES.maintenance],
+};
+
+/**
+ * Runs whose predicted farm time (shared/estimate.ts, which knows the seeded fast path's measured
+ * curve) is above this go to the large lane. The threshold only has to separate "seconds to
+ * minutes" from "many minutes to hours": square n = 10^6 (predicted ~13 s) stays in the standard
+ * lane, 3·10^7 (~40 min today) goes to the large one.
+ */
+export const LARGE_RUN_SECONDS = 300;
+
+/**
+ * The compute lane of a run. Two lanes rather than BullMQ priorities: a priority only reorders
+ * *waiting* jobs, so once every slot of a worker holds a huge run a small one still waits for hours;
+ * each worker takes jobs from both lanes with slots of its own, so a small run always finds a free
+ * slot as soon as the small runs before it are done, however many huge runs are computing.
+ */
+export function computeLaneOf(spec: RunSpec): QueueName {
+  let seconds: number;
+  try {
+    seconds = estimateRun(spec).seconds;
+  } catch {
+    // the API priced the spec before enqueueing it, so this does not happen; the standard lane is the safe default
+    return QUEUE_NAMES.compute;
+  }
+  return seconds > LARGE_RUN_SECONDS ? QUEUE_NAMES.computeLarge : QUEUE_NAMES.compute;
+}
+
+/** The queue a job is added to. */
+export function queueOf(item: JobItem): QueueName {
+  return item.name === JOB_NAMES.computeRun ? computeLaneOf(item.data.spec) : JOBS_TO_QUEUE[item.name];
+}
 
 /** One job per run (or figure version) and kind: the job id makes a repeated enqueue a no-op (BullMQ refuses ":" in custom ids). */
 export function jobIdFor(item: JobItem): string {

@@ -9,6 +9,7 @@ import { authenticate } from './auth/middleware.js';
 import type { AppDeps } from './deps.js';
 import { apiNotFound, errorMiddleware } from './http/error-middleware.js';
 import { HttpError } from './http/http-error.js';
+import { dependencyPorts } from './http/unavailable.js';
 import './http/locals.js';
 import { requestId } from './http/request-id.js';
 import { adminRouter } from './routes/admin.js';
@@ -96,6 +97,6 @@ export function createApp(deps: AppDeps, options: AppOptions = {}): Express {
     app.get('/{*splat}', (_req, res) => res.sendFile(path.join(distDir, 'index.html')));
   }
 
-  app.use(errorMiddleware(deps.log));
+  app.use(errorMiddleware(deps.log, dependencyPorts(env)));
   return app;
 }

@@ -19,7 +19,7 @@ async function main(): Promise<void> {
     db: database.db,
     mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
     blobs: createS3BlobStore(env),
-    queue: createJobQueue(env.REDIS_URL),
+    queue: createJobQueue(env.REDIS_URL, { prefix: env.BULLMQ_PREFIX }),
   };
   // Express 5 hands listen errors (a port in use) to this callback instead of throwing.
   const server = createApp(deps).listen(env.PORT, env.HOST, (err?: Error) => {

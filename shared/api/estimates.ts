@@ -13,6 +13,7 @@ export const estimateSchema = z.object({
   bytes: z.number().int().min(0),
   topplings: z.number().min(0),
   pyramids: z.number().int().min(0),
+  computeSeconds: z.number().min(0),
   renderSeconds: z.number().min(0),
   seconds: z.number().min(0),
   credits: z.number().int().min(1),

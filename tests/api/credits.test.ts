@@ -384,7 +384,13 @@ describe('gating submissions', () => {
 
   it('gates a series as a whole', async () => {
     const lab = await freshLab('Series Lab');
-    const res = await as(h.http.post('/api/series'), sessions.author).send({ labId: lab, title: 'too big', spec: { lattice: { preset: 'square' } }, chips: [3_000_000, 3_500_000, 3_825_166, 4_000_000] });
+    // four grain counts that together cost more than the free allowance, each on its own less
+    const costOf = (n: number) => estimateRun(runSpecSchema.parse({ lattice: { preset: 'square' }, chips: n })).credits;
+    let base = 1_000_000;
+    const counts = () => [base, Math.round(base * 1.1), Math.round(base * 1.2), Math.round(base * 1.3)];
+    while (counts().reduce((sum, n) => sum + costOf(n), 0) <= FREE_MONTHLY_ALLOWANCE) base *= 2;
+    expect(costOf(base)).toBeLessThanOrEqual(FREE_MONTHLY_ALLOWANCE);
+    const res = await as(h.http.post('/api/series'), sessions.author).send({ labId: lab, title: 'too big', spec: { lattice: { preset: 'square' } }, chips: counts() });
     expect(res.status).toBe(402);
     expect((await summary(lab)).balance.reserved).toBe(0);
   });

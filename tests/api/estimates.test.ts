@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { estimateResponseSchema } from '../../shared/api/estimates.js';
-import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
-import { runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
+import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, FAST_PATH_MEASURED, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
+import { LATTICE_PRESETS, runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 
 const spec = (s: RunSpecInput) => runSpecSchema.parse(s);
@@ -49,9 +49,34 @@ describe('the estimator (shared/estimate.ts)', () => {
     for (const [n, t] of reference) expect(Math.abs(square(n).topplings / t - 1)).toBeLessThan(0.001);
     // n = 1000: 18,226 topplings (same independent computation): extrapolated, within 5 %
     expect(Math.abs(square(1000).topplings / 18_226 - 1)).toBeLessThan(0.05);
-    // time is work over the measured rate, plus the fixed start-up and drawing the pyramids asked for
+    // time is the stabilization, plus the fixed start-up and drawing the pyramids asked for
     const e = square(1e6);
-    expect(e.seconds).toBeCloseTo(2 + e.topplings / TOPPLINGS_PER_SECOND + e.renderSeconds, 6);
+    expect(e.seconds).toBeCloseTo(2 + e.computeSeconds + e.renderSeconds, 6);
+  });
+
+  it('times the plain engine by its topplings and the fast path by its measured curve', () => {
+    // below the fast path's threshold, and where it does not apply (cubic), work over the measured rate
+    const small = square(20_000);
+    expect(small.computeSeconds / (small.topplings / TOPPLINGS_PER_SECOND)).toBeCloseTo(1, 6);
+    const cubic = estimateRun(spec({ lattice: { preset: 'cubic' }, chips: 1e6 }));
+    expect(cubic.computeSeconds / (cubic.topplings / TOPPLINGS_PER_SECOND)).toBeCloseTo(1, 6);
+    // on the fast path: exactly the bench's measured points, and in between on the log-log segment
+    for (const [n, t] of FAST_PATH_MEASURED) expect(square(n).computeSeconds).toBeCloseTo(t, 9);
+    const [[n0, t0], [n1, t1]] = [FAST_PATH_MEASURED[0]!, FAST_PATH_MEASURED[1]!];
+    const mid = Math.round(Math.sqrt(n0 * n1));
+    expect(square(mid).computeSeconds / (t0 * (mid / n0) ** (Math.log(t1 / t0) / Math.log(n1 / n0)))).toBeCloseTo(1, 9);
+    // more grains never predict less time
+    const ns = [7e4, 1e5, 3e5, 1e6, 3e6, 1e7, 1e8, 1e9];
+    const ts = ns.map((n) => square(n).computeSeconds);
+    expect(ts).toEqual([...ts].sort((a, b) => a - b));
+  });
+
+  it('estimates every lattice preset the run form offers', () => {
+    for (const preset of LATTICE_PRESETS) {
+      const e = estimateRun(spec({ lattice: { preset }, chips: 100_000 }));
+      expect(e.cells, preset).toBeGreaterThan(1);
+      expect(e.seconds, preset).toBeGreaterThan(0);
+    }
   });
 
   it('grows like n^(1/3) on the cubic lattice and n^(1/2) on planar ones', () => {

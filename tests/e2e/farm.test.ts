@@ -22,6 +22,28 @@ async function centrePixel(png: Buffer): Promise<[number, number, number]> {
   return [data[at]!, data[at + 1]!, data[at + 2]!];
 }
 
+/**
+ * Cells around the pane's centre, `cellPx` screen pixels each, against the stored heights: the pane
+ * centres the origin cell (PileViewer's close-up), screen right is +x and screen down is the next
+ * array row (web/src/viewer/cells.ts). Returns the cells whose centre pixel has another colour than
+ * the palette gives their height.
+ */
+async function cellMismatches(png: Buffer, cellPx: number, reach: number, truth: { heights: ArrayLike<number | bigint>; width: number; ox: number; oy: number; maxHeight: number }): Promise<string[]> {
+  const { data, info } = await sharp(png).removeAlpha().raw().toBuffer({ resolveWithObject: true });
+  const cx = Math.floor(info.width / 2), cy = Math.floor(info.height / 2);
+  const palette = paletteById('tidewater');
+  const bad: string[] = [];
+  for (let dy = -reach; dy <= reach; dy++)
+    for (let dx = -reach; dx <= reach; dx++) {
+      const h = Number(truth.heights[(truth.oy + dy) * truth.width + truth.ox + dx]!);
+      const want = heightColour(palette, h, truth.maxHeight).slice(0, 3).join(',');
+      const at = ((cy + dy * cellPx) * info.width + cx + dx * cellPx) * info.channels;
+      const got = [data[at], data[at + 1], data[at + 2]].join(',');
+      if (got !== want) bad.push(`(${dx}, ${dy}) height ${h}: ${got} instead of ${want}`);
+    }
+  return bad;
+}
+
 async function fetchBytes(page: Page, path: string): Promise<Buffer> {
   const bytes = await page.evaluate(async (p) => Array.from(new Uint8Array(await (await fetch(p)).arrayBuffer())), path);
   return Buffer.from(bytes);
@@ -51,16 +73,16 @@ describe('render farm in the browser', () => {
     await stack?.close();
   });
 
-  test('an author runs 10^5 grains on the square lattice, watches it finish and zooms to single cells', { timeout: 150_000 }, async () => {
+  test('an author runs 10^6 grains on the square lattice, watches the progress bar, and zooms to single cells that match the arrays', { timeout: 240_000 }, async () => {
     const page = await newPage(browser, stack.url);
     await signIn(page, author.email, author.password);
 
     // the form: the estimate appears before anything is submitted
     await page.goto('/runs/new');
-    await page.getByLabel('Title').fill('Farm check: 10^5 grains on the square lattice');
-    await page.getByLabel('Grains at the origin (n)').fill('10^5');
+    await page.getByLabel('Title').fill('Farm check: 10^6 grains on the square lattice');
+    await page.getByLabel('Grains at the origin (n)').fill('10^6');
     // the shown estimate is the one for the n just typed (the debounced request has come back)
-    await expect.poll(() => page.getByTestId('estimate-for').textContent().catch(() => '')).toMatch(/^n = 100,000/);
+    await expect.poll(() => page.getByTestId('estimate-for').textContent().catch(() => '')).toMatch(/^n = 1,000,000/);
     const credits = Number(await page.getByTestId('estimate-credits').textContent());
     expect(credits).toBeGreaterThanOrEqual(1);
     await screenshot(page, 'farm-form-estimate');
@@ -73,9 +95,23 @@ describe('render farm in the browser', () => {
     const runId = new URL(page.url()).pathname.split('/')[2]!;
     finishedRunId = runId;
 
-    // live progress until the bar says finished, 100 %
+    // live progress: watch the bar (stage and percentage) until it says finished, 100 %
+    const seen: string[] = [];
+    const anyBar = page.getByRole('progressbar').first();
+    const until = Date.now() + 180_000;
+    for (;;) {
+      const label = await anyBar.getAttribute('aria-label', { timeout: 5_000 }).catch(() => null);
+      const value = await anyBar.getAttribute('aria-valuenow', { timeout: 5_000 }).catch(() => null);
+      if (label !== null && seen.at(-1) !== `${label} ${value}`) seen.push(`${label} ${value}`);
+      if (label === 'finished') break;
+      if (Date.now() > until) throw new Error(`the run did not finish; the bar showed: ${seen.join(' | ')}`);
+      if (seen.length === 2) await screenshot(page, 'farm-run-progress');
+      await page.waitForTimeout(150);
+    }
+    // the bar moved through the farm's stages before it said finished (updated without reloading)
+    expect(seen.filter((s) => !s.startsWith('finished')).length, seen.join(' | ')).toBeGreaterThan(0);
+    console.info(`the progress bar showed: ${seen.join(' | ')}`);
     const bar = page.getByRole('progressbar', { name: 'finished' });
-    await bar.waitFor({ timeout: 120_000 });
     expect(await bar.getAttribute('aria-valuenow')).toBe('100');
     await page.getByTestId('plot-heights').locator('.recharts-bar-rectangle').first().waitFor();
     await page.getByTestId('plot-radial').locator('.recharts-line-curve').waitFor();
@@ -87,8 +123,8 @@ describe('render farm in the browser', () => {
     // duplicate with edits: the form opens holding this run's specification
     await page.getByRole('link', { name: 'Duplicate' }).click();
     await page.waitForURL((u) => u.pathname === '/runs/new' && u.searchParams.get('from') === runId);
-    expect(await page.getByLabel('Title').inputValue()).toBe('Farm check: 10^5 grains on the square lattice (copy)');
-    expect(await page.getByLabel('Grains at the origin (n)').inputValue()).toBe('100000');
+    expect(await page.getByLabel('Title').inputValue()).toBe('Farm check: 10^6 grains on the square lattice (copy)');
+    expect(await page.getByLabel('Grains at the origin (n)').inputValue()).toBe('1000000');
     await page.goBack();
     await bar.waitFor();
 
@@ -121,6 +157,15 @@ describe('render farm in the browser', () => {
     await expect.poll(async () => (await centrePixel(await pane.screenshot())).join(','), { timeout: 20_000 }).toBe(expected.join(','));
     const closeUp = await pane.screenshot({ path: `${process.cwd()}/.local/screenshots/farm-viewer-cells-pane.png` });
     expect((await centrePixel(closeUp)).join(',')).toBe(expected.join(','));
+    // zoom level 1, 40 screen pixels per cell: the 7 × 7 cells around the origin have their heights' colours
+    const truth = { heights: heights.data as ArrayLike<number | bigint>, width: w, ox, oy, maxHeight };
+    expect(await cellMismatches(closeUp, 40, 3, truth)).toEqual([]);
+    // zoom level 2, three times out (5 pixels per cell, still the deepest level): 21 × 21 cells
+    for (let i = 0; i < 3; i++) await page.getByRole('button', { name: 'zoom out' }).click();
+    await page.mouse.move(2, 2); // no cell outline under the cursor
+    await expect.poll(async () => (await cellMismatches(await pane.screenshot(), 5, 10, truth)).length, { timeout: 20_000 }).toBe(0);
+    await pane.screenshot({ path: `${process.cwd()}/.local/screenshots/farm-viewer-cells-5px-pane.png` });
+    await page.getByRole('button', { name: 'Origin, single cells' }).click();
 
     // the readout under the cursor at the centre names the origin and its values from the arrays
     const box = (await pane.boundingBox())!;
@@ -149,15 +194,15 @@ describe('render farm in the browser', () => {
     // the API has no publishing route yet, so the figure row is written the way publishing would write it
     const [me] = await stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
     await stack.deps.db.insert(figures).values({
-      slug: 'farm-check-square-1e5',
-      title: 'A hundred thousand grains, computed on the farm',
-      caption: 'Final heights of 10^5 grains toppled from the origin of the square lattice.',
+      slug: 'farm-check-square-1e6',
+      title: 'A million grains, computed on the farm',
+      caption: 'Final heights of 10^6 grains toppled from the origin of the square lattice.',
       runId: finishedRunId,
       createdById: me!.id,
       publishedAt: new Date(),
     });
     const page = await newPage(browser, stack.url);
-    await page.goto('/f/farm-check-square-1e5');
+    await page.goto('/f/farm-check-square-1e6');
     const zoom = page.getByTestId('figure-zoom');
     const pane = zoom.getByTestId('viewer-pane').first();
     await pane.locator('canvas').first().waitFor();

@@ -1,4 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import { eq } from 'drizzle-orm';
+import { runs } from '../../drizzle/schema.js';
+import { JOB_NAMES, QUEUE_NAMES, jobIdFor } from '../../shared/jobs.js';
 import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
@@ -57,5 +62,24 @@ describe('the renderer worker', () => {
     // all-3 on Z^2 explodes for one grain (arXiv:1109.2908, Sadhu & Dhar; ../shared/facts.md §5)
     expect(run.error).toMatch(/never stops/);
     expect(run.error).toMatch(/arXiv:1109\.2908/);
+  });
+
+  it('a compute job delivered again after the arrays were stored (its worker died before queueing the render) draws the pyramids', { timeout: 60_000 }, async () => {
+    const run = await settled((await submit('Died before the render', { lattice: { preset: 'square' }, chips: 100 })).id);
+    expect(run.status).toBe('finished');
+    // the state that worker left: arrays stored, run rendering, no render job
+    const redis = new Redis(h.env.REDIS_URL, { maxRetriesPerRequest: null });
+    const compute = new Queue(QUEUE_NAMES.compute, { connection: redis, prefix: h.queuePrefix });
+    const render = new Queue(QUEUE_NAMES.render, { connection: redis, prefix: h.queuePrefix });
+    const computeItem = { name: JOB_NAMES.computeRun, data: { runId: run.id, spec: run.spec } } as const;
+    await (await render.getJob(jobIdFor({ name: JOB_NAMES.renderRun, data: { runId: run.id } })))?.remove();
+    await (await compute.getJob(jobIdFor(computeItem)))?.remove();
+    await h.deps.db.update(runs).set({ status: 'rendering', finishedAt: null }).where(eq(runs.id, run.id));
+    await h.deps.queue.enqueue(computeItem);
+    const again = await settled(run.id);
+    expect(again.status).toBe('finished');
+    await compute.close();
+    await render.close();
+    await redis.quit();
   });
 });

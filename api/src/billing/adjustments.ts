@@ -5,14 +5,19 @@ import type { Db } from '../db/client.js';
 import { conflict } from '../http/http-error.js';
 import { audit } from '../services/audit.js';
 import { accounts } from './accounts.js';
-import { labBalance, lockLab, post, type Executor } from './ledger.js';
+import { entriesOf, labBalance, lockLab, post, type Executor } from './ledger.js';
 
 /**
  * A site admin's grant (credits from the `grants` account) or revocation (back to it), always with
  * a reason, recorded in the ledger and the audit trail together. A revocation takes only what is
  * available: credits held by running jobs cannot be taken.
  */
-export async function adjustCredits(db: Db, labId: string, actorId: string, req: CreditAdjustmentRequest): Promise<string> {
+/**
+ * Book a grant or revocation and read back its entry and the new balance in the same transaction:
+ * the answer is built before the commit, so a database lost after the commit cannot turn a booked
+ * adjustment into an error the admin would retry (and book twice).
+ */
+export async function adjustCredits(db: Db, labId: string, actorId: string, req: CreditAdjustmentRequest) {
   return db.transaction(async (tx) => {
     await lockLab(tx, labId);
     const sign = req.kind === 'grant' ? 1 : -1;
@@ -25,7 +30,8 @@ export async function adjustCredits(db: Db, labId: string, actorId: string, req:
       { account: accounts.grants, amount: -sign * req.credits },
     ]);
     await audit(tx, { actorId, labId, action: `credits.${req.kind}`, subjectType: 'lab', subjectId: labId, reason: req.reason, detail: { credits: req.credits } });
-    return booked!.id;
+    const [entry] = (await entriesOf(tx, labId, { kinds: [req.kind], limit: 50 })).filter((e) => e.id === booked!.id);
+    return { entry: entry!, balance: await labBalance(tx, labId) };
   });
 }
 

@@ -11,6 +11,22 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
   // An idle client whose server went away (a restart, a dropped test database) emits 'error' on the
   // pool; unheard, that would end the process. The next query simply gets a fresh connection.
   pool.on('error', (err) => console.error(`database connection lost: ${err.message}`));
+  // A client checked out (inside a transaction, between two statements) when the server goes away
+  // emits 'error' too, and the pool listens only to idle ones: unheard, that error ends the process.
+  // The statement in progress fails on its own and the request answers 503 (http/unavailable.ts).
+  pool.on('connect', (client) => {
+    client.on('error', (err) => console.error(`database connection lost: ${err.message}`));
+  });
+  // A failure to connect (refused, or reset while the server shuts down) carries no sign of where it
+  // came from; mark it, so the API can say "the database is not answering" (http/unavailable.ts).
+  // drizzle wraps failures of statements itself (DrizzleQueryError), connections not.
+  const connect = pool.connect.bind(pool) as (cb?: (err: Error | undefined, ...rest: unknown[]) => void) => unknown;
+  const mark = (err: unknown) => {
+    if (err && typeof err === 'object') Object.assign(err, { dependency: 'the database' });
+    return err;
+  };
+  (pool as unknown as { connect: typeof connect }).connect = (cb) =>
+    cb ? connect((err, ...rest) => cb(err ? (mark(err) as Error) : err, ...rest)) : (connect() as Promise<unknown>).catch((err: unknown) => Promise.reject(mark(err)));
   const db = drizzle(pool, { schema });
   return { db, pool, close: () => pool.end() };
 }

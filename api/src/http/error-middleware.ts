@@ -2,6 +2,7 @@ import type { ErrorRequestHandler, RequestHandler } from 'express';
 import type { ApiError } from '../../../shared/api/errors.js';
 import type { Logger } from '../logger.js';
 import { HttpError } from './http-error.js';
+import { unavailable, type DependencyPorts } from './unavailable.js';
 
 /** body-parser marks its failures with a `type`; these are the client's fault. */
 function bodyParserError(err: unknown): HttpError | null {
@@ -25,17 +26,27 @@ function bodyParserError(err: unknown): HttpError | null {
   }
 }
 
+/** The router marks a path parameter it cannot percent-decode ("%E0%A4%A") as a URIError with status 400. */
+function undecodableParam(err: unknown): HttpError | null {
+  if (!(err instanceof URIError) || (err as URIError & { status?: unknown }).status !== 400) return null;
+  return new HttpError(400, 'malformed percent-encoding in the URL path');
+}
+
 /** The one place errors become answers: HttpErrors as they are, anything else logged and answered 500. */
-export function errorMiddleware(log: Logger): ErrorRequestHandler {
+export function errorMiddleware(log: Logger, ports: DependencyPorts = {}): ErrorRequestHandler {
   return (err, req, res, _next) => {
     const requestId = String(res.locals.requestId ?? '');
-    const known = err instanceof HttpError || (err as Error)?.name === 'HttpError' ? (err as HttpError) : bodyParserError(err);
+    const known = err instanceof HttpError || (err as Error)?.name === 'HttpError' ? (err as HttpError) : (bodyParserError(err) ?? undecodableParam(err) ?? unavailable(err, ports));
     if (res.headersSent) {
       log.error('error after headers were sent', { requestId, err });
       res.end();
       return;
     }
     if (known) {
+      if (known.status === 503) {
+        log.warn('dependency unavailable', { requestId, method: req.method, path: req.path, err });
+        res.setHeader('Retry-After', '5');
+      }
       const body: ApiError = { error: known.message, requestId };
       if (known.issues?.length) body.issues = known.issues;
       res.status(known.status).json(body);

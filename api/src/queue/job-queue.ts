@@ -1,11 +1,11 @@
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
-import { JOBS_TO_QUEUE, QUEUE_NAMES, QUEUE_PREFIX, jobIdFor, type JobItem, type QueueName } from '../../../shared/jobs.js';
+import { QUEUE_NAMES, QUEUE_PREFIX, QUEUES_OF_JOB, jobIdFor, queueOf, type JobItem, type QueueName } from '../../../shared/jobs.js';
 
 /** The producer side of shared/jobs.ts. The only module in api/ that imports bullmq. */
 export interface JobQueue {
   enqueue(item: JobItem): Promise<void>;
-  /** drop a job that has not started (cancelled runs); a running job sees the run's status instead */
+  /** drop a job that has not started (cancelled runs, suspended labs), from whichever lane holds it; a running job sees the run's status instead */
   remove(item: JobItem): Promise<void>;
   ping(): Promise<boolean>;
   close(): Promise<void>;
@@ -30,7 +30,8 @@ export function createJobQueue(redisUrl: string, options: JobQueueOptions = {}):
   };
   return {
     async enqueue(item) {
-      await queueFor(JOBS_TO_QUEUE[item.name]).add(item.name, item.data, {
+      // compute jobs go to the standard or the large lane by their estimate (shared/jobs.ts, computeLaneOf)
+      await queueFor(queueOf(item)).add(item.name, item.data, {
         jobId: jobIdFor(item),
         // Exact runs are deterministic: a failure with the same spec fails again, so retry only for crashes.
         attempts: 2,
@@ -40,14 +41,23 @@ export function createJobQueue(redisUrl: string, options: JobQueueOptions = {}):
       });
     },
     async remove(item) {
-      const job = await queueFor(JOBS_TO_QUEUE[item.name]).getJob(jobIdFor(item));
-      if (job && (await job.isWaiting() || await job.isDelayed())) await job.remove();
+      // every lane the job could be on, so a changed lane threshold never strands a job
+      for (const name of QUEUES_OF_JOB[item.name]) {
+        const job = await queueFor(name).getJob(jobIdFor(item));
+        if (job && (await job.isWaiting() || await job.isDelayed())) await job.remove();
+      }
     },
     async ping() {
+      // with maxRetriesPerRequest: null a command waits for Redis to come back: a readiness probe must not
+      if (connection.status !== 'ready') return false;
+      let timer: NodeJS.Timeout | undefined;
+      const late = new Promise<'late'>((resolve) => (timer = setTimeout(() => resolve('late'), 1000)));
       try {
-        return (await connection.ping()) === 'PONG';
+        return (await Promise.race([connection.ping(), late])) === 'PONG';
       } catch {
         return false;
+      } finally {
+        clearTimeout(timer);
       }
     },
     async close() {

@@ -40,7 +40,7 @@ export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
 
   async function withFarm<T>(fn: (farm: FarmHealth) => Promise<T>): Promise<T> {
     if (deps.farm) return fn(deps.farm);
-    const farm = createFarmHealth(env.REDIS_URL);
+    const farm = createFarmHealth(env.REDIS_URL, { prefix: env.BULLMQ_PREFIX });
     try {
       return await fn(farm);
     } finally {

@@ -109,10 +109,9 @@ export function creditsRouter({ db, env }: AppDeps): Router {
   r.post('/labs/:labId/credits/adjustments', requireUser, requireAdmin, requireLabAccess(db, 'read'), async (req, res) => {
     const body = validate.body(req, creditAdjustmentRequestSchema);
     const { labId } = labOf(res);
-    const id = await adjustCredits(db, labId, authOf(res).user.id, body);
-    const [entry] = (await entriesOf(db, labId, { kinds: [body.kind], limit: 50 })).filter((e) => e.id === id);
-    const { detail: _d, ...view } = entry!;
-    respond(res, 201, creditAdjustmentResponseSchema, { entry: view, balance: await labBalance(db, labId) });
+    const { entry, balance } = await adjustCredits(db, labId, authOf(res).user.id, body);
+    const { detail: _d, ...view } = entry;
+    respond(res, 201, creditAdjustmentResponseSchema, { entry: view, balance });
   });
 
   return r;

@@ -56,7 +56,7 @@ export type SeedOptions = { /** BullMQ key prefix (tests keep their jobs apart) 
 /** Seed an empty database (and queue its runs); returns null, touching nothing, when it already has users. */
 export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ signIns: DemoSignIn[] } | null> {
   const database = connectDatabase(env.DATABASE_URL, 2);
-  const queue = createJobQueue(env.REDIS_URL, { prefix: options.queuePrefix });
+  const queue = createJobQueue(env.REDIS_URL, { prefix: options.queuePrefix ?? env.BULLMQ_PREFIX });
   try {
     const hashes = await Promise.all(DEMO_SIGN_INS.map((s) => hashPassword(s.password)));
     const seeded = await database.db.transaction(async (tx) => {

@@ -6,6 +6,7 @@ import type { Db } from '../db/client.js';
 import type { JobQueue } from '../queue/job-queue.js';
 import { audit } from './audit.js';
 import { checkArrayBackground } from './background-uploads.js';
+import { refuseIfTooLarge } from './run-memory.js';
 import { reserveForRuns } from '../billing/gate.js';
 import { refuseIfSuspended } from './admin-suspension.js';
 import { issueLabAllowance } from './admin-allowance.js';
@@ -29,6 +30,8 @@ export async function createRuns(
   await refuseIfSuspended(deps.db, labId);
   // a lab whose allowance an admin set gets this month's at that amount, before the ledger issues the default
   await issueLabAllowance(deps.db, labId);
+  // more memory than the machine has: refused with the estimate before anything is recorded
+  for (const item of items) refuseIfTooLarge(item.spec);
   for (const item of items) await checkArrayBackground(deps.db, item.spec.background, item.spec.lattice);
   const created = await deps.db.transaction(async (tx) => {
     let seriesId: string | null = null;

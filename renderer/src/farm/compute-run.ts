@@ -1,25 +1,47 @@
-import { UnrecoverableError, type Job } from 'bullmq';
+import { UnrecoverableError, WaitingError, type Job } from 'bullmq';
+import type { S3Client } from '@aws-sdk/client-s3';
 import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
 import { computeRunDataSchema } from '../../../shared/jobs.js';
-import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize } from '../engine/index.js';
+import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize, type Outcome, type Problem } from '../engine/index.js';
+import { SCALED_MIN_CHIPS } from '../engine/stabilize.js';
+import { scaledPathApplies, stabilizeScaled } from '../scale/index.js';
 import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cli/export-arrays.js';
 import { toJson, type Sidecar } from '../cli/sidecar.js';
 import { writeNpy } from '../npy/index.js';
 import { radialProfile, type RadialProfile } from '../analysis/radial-profile.js';
 import { arrayKeys } from './artifacts.js';
+import { runCheckpoints, type RunCheckpoints } from './checkpoints.js';
 import { readStoredUpload } from './stored-arrays.js';
 import { runState } from './run-state.js';
 
 export interface ComputeDeps {
   db: Db;
   store: BlobStore;
+  /** checkpoints stream to the store through the S3 client itself (BlobStore puts whole buffers) */
+  s3: S3Client;
+  bucket: string;
   /** queue the rendering of a computed run */
   enqueueRender(runId: string): Promise<void>;
   /** tell the author a run has ended (mail); must not throw */
   notifyOutcome(runId: string): Promise<void>;
   threads?: number;
+  /** seconds between checkpoints (WORKER_CHECKPOINT_SECONDS) */
+  checkpointSeconds: number;
+  /** fires when the worker process is asked to stop: the run goes back to the queue at its last checkpoint */
+  shutdown?: AbortSignal;
+  /** the worker's own output (the job's BullMQ log gets the same lines) */
+  log?(line: string): void;
 }
+
+/** The engine's stage names, in the product's words (the run page shows them beside the bar). */
+const STAGE_WORDS: Record<string, string> = {
+  relax: 'toppling',
+  level: 'toppling',
+  grow: 'growing the domain',
+  done: 'checking the result',
+};
+const stageWords = (stage: string) => STAGE_WORDS[stage] ?? stage;
 
 /** How often the worker writes progress to PostgreSQL and looks for a cancellation. */
 const PROGRESS_EVERY_MS = 1000;
@@ -32,34 +54,54 @@ function unrecoverable(err: unknown): err is Error {
 /**
  * Stabilizes one run: the spec travels in the job, the arrays and statistics go to the object store,
  * the state to PostgreSQL; rendering is a job of its own so render workers can scale apart.
+ * Long runs on the seeded fast path save checkpoints to the store; a job handed to another worker
+ * (its first worker died, or was stopped) resumes from the last one, with the same result bit for bit
+ * (renderer/src/scale/README.md). The plain tiled engine has no checkpoints: such a run starts over.
  */
-export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished' | 'skipped'> {
+export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lockLost?: AbortSignal): Promise<'finished' | 'skipped'> {
   const data = computeRunDataSchema.parse(job.data);
   const state = runState(deps.db, data.runId);
+  const log = (line: string) => {
+    deps.log?.(`run ${data.runId}: ${line}`);
+    void job.log(`${new Date().toISOString()} ${line}`).catch(() => {});
+  };
   if (!(await state.started('preparing'))) {
     // the API enqueues inside its transaction, so a fast worker can see the job before the row: retry
-    if ((await state.current()) === null) throw new Error(`run ${data.runId} is not in the database yet`);
+    const status = await state.current();
+    if (status === null) throw new Error(`run ${data.runId} is not in the database yet`);
+    // a worker that died between storing the arrays and queueing the render: queue it now (the job
+    // id makes this a no-op when the render job exists already)
+    if (status === 'rendering') await deps.enqueueRender(data.runId);
     return 'skipped';
   }
   const abort = new AbortController();
+  const onShutdown = () => abort.abort(new Error('the worker is stopping'));
+  deps.shutdown?.addEventListener('abort', onShutdown, { once: true });
+  if (deps.shutdown?.aborted) onShutdown();
+  const onLockLost = () => abort.abort(new Error('this worker lost its hold on the job'));
+  lockLost?.addEventListener('abort', onLockLost, { once: true });
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();
+  let checkpoints: RunCheckpoints | null = null;
   try {
     const problem = resolveProblem(data.spec, await readStoredUpload(deps.store, data.spec.background));
-    const outcome = await stabilize(problem, {
-      threads: deps.threads,
-      signal: abort.signal,
-      onProgress: (p) => {
-        const now = Date.now();
-        if (now - lastWrite < PROGRESS_EVERY_MS) return;
-        lastWrite = now;
-        pending = pending.then(async () => {
-          await job.updateProgress({ stage: p.stage, fraction: p.fraction });
-          await state.progress(p.stage, p.fraction);
-          if ((await state.current()) === 'cancelled') abort.abort(new Error('cancelled by its author'));
-        });
-      },
-    });
+    const onProgress = (p: { stage: string; fraction: number }) => {
+      const now = Date.now();
+      if (now - lastWrite < PROGRESS_EVERY_MS) return;
+      lastWrite = now;
+      pending = pending.then(async () => {
+        await job.updateProgress({ stage: p.stage, fraction: p.fraction });
+        await state.progress(stageWords(p.stage), p.fraction);
+        if ((await state.current()) === 'cancelled') abort.abort(new Error('cancelled by its author'));
+      });
+    };
+    let outcome: Outcome;
+    if (seeded(problem)) {
+      checkpoints = runCheckpoints({ s3: deps.s3, bucket: deps.bucket, runId: data.runId, log });
+      outcome = await stabilizeWithCheckpoints(problem, checkpoints, { deps, state, log, signal: abort.signal, onProgress });
+    } else {
+      outcome = await stabilize(problem, { threads: deps.threads, signal: abort.signal, onProgress });
+    }
     await pending;
 
     const keys = arrayKeys(data.runId);
@@ -73,11 +115,12 @@ export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished
       origin: outcome.origin,
       sha256: arrayHash(arr),
     });
+    const heightsRecord = record('heights.npy', heights);
     const sidecar: Sidecar & { radialProfile: RadialProfile } = {
       format: 'toppleworks.export/1',
       engineVersion: ENGINE_VERSION,
       spec: data.spec,
-      heights: record('heights.npy', heights),
+      heights: heightsRecord,
       odometer: record('odometer.npy', odometer),
       stats,
       radialProfile: radialProfile(outcome, data.spec.chips),
@@ -87,22 +130,91 @@ export async function computeRun(job: Job, deps: ComputeDeps): Promise<'finished
     await deps.store.put(keys.odometer, Buffer.from(writeNpy(outcome.shape, odometer)), 'application/octet-stream');
     // written last: its presence says the arrays beside it are complete
     await deps.store.put(keys.sidecar, toJson(sidecar, 2), 'application/json');
+    // the arrays are safe: the checkpoint has done its work (a kill before this line resumes and stores them again)
+    if (checkpoints) await checkpoints.remove().catch((err: Error) => log(`the checkpoint could not be deleted: ${err.message}`));
+    log(`arrays stored (heights sha256 ${heightsRecord.sha256.slice(0, 16)}…)`);
     await state.computed(stats);
     await deps.enqueueRender(data.runId);
     return 'finished';
   } catch (err) {
     await pending.catch(() => {});
-    if (abort.signal.aborted) return 'skipped';
+    if (abort.signal.aborted) {
+      if (lockLost?.aborted) {
+        // the job belongs to another worker now (or was given up): touch neither its state nor its checkpoint
+        log('stopped here: this worker lost its hold on the job');
+        throw abort.signal.reason;
+      }
+      if (deps.shutdown?.aborted && (await state.current()) === 'computing') {
+        // stopping worker: the last checkpoint is in the store; hand the job straight back instead of
+        // letting its lock run out, so another worker resumes it at once
+        await checkpoints?.flush();
+        await state.progress('waiting for a worker (resumes from its checkpoint)', 0);
+        log('the worker is stopping: back to the queue');
+        await job.moveToWait(token);
+        throw new WaitingError();
+      }
+      // cancelled: nothing of it is kept
+      await checkpoints?.remove().catch(() => {});
+      return 'skipped';
+    }
     if (unrecoverable(err) || err instanceof UnrecoverableError) {
+      await checkpoints?.remove().catch(() => {});
       await state.failed(err.message);
       await deps.notifyOutcome(data.runId);
       throw new UnrecoverableError(err.message);
     }
-    // transient (store or database hiccup): BullMQ retries with backoff; mark failed on the last attempt
+    // transient (store or database hiccup): BullMQ retries with backoff, from the last checkpoint;
+    // mark failed on the last attempt
     if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) {
+      await checkpoints?.remove().catch(() => {});
       await state.failed(`the farm could not finish this run: ${(err as Error).message}`);
       await deps.notifyOutcome(data.runId);
     }
     throw err;
+  } finally {
+    deps.shutdown?.removeEventListener('abort', onShutdown);
+    lockLost?.removeEventListener('abort', onLockLost);
+    checkpoints?.dispose();
   }
+}
+
+/** Whether the engine takes the seeded fast path for this problem (the same test as its `stabilize`). */
+function seeded(problem: Problem): boolean {
+  return scaledPathApplies(problem) && problem.sources[0]!.chips >= SCALED_MIN_CHIPS;
+}
+
+/**
+ * What the engine's `stabilize` does on the fast path, with checkpoints: resume from the stored one
+ * if there is one, save new ones periodically, and fall back to plain legal toppling if the
+ * certificate ever failed (an uncertified result is never stored).
+ */
+async function stabilizeWithCheckpoints(
+  problem: Problem,
+  checkpoints: RunCheckpoints,
+  ctx: { deps: ComputeDeps; state: ReturnType<typeof runState>; log(line: string): void; signal: AbortSignal; onProgress(p: { stage: string; fraction: number }): void },
+): Promise<Outcome> {
+  const { deps, log, signal, onProgress } = ctx;
+  const stored = await checkpoints.load();
+  const run = (resume: typeof stored) =>
+    stabilizeScaled(problem, { signal, onProgress, resume: resume?.snapshot, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
+  let outcome: Outcome;
+  if (stored) {
+    const when = stored.savedAt ? ` saved ${stored.savedAt.toISOString()}` : '';
+    log(`resuming from its checkpoint${when} (level ${stored.snapshot.level}, ${(stored.bytes / 2 ** 20).toFixed(1)} MiB)`);
+    await ctx.state.progress('resuming from a checkpoint', 0);
+    try {
+      outcome = await run(stored);
+    } catch (err) {
+      // a checkpoint of an older engine (the spec key differs): start over rather than fail the run
+      if (signal.aborted || isEngineError(err)) throw err;
+      log(`the checkpoint could not be resumed (${(err as Error).message}); starting from the beginning`);
+      await checkpoints.remove();
+      outcome = await run(null);
+    }
+  } else {
+    outcome = await run(null);
+  }
+  if (outcome.stats.certificate?.passed) return outcome;
+  log('the seeded result failed its certificate; computing it again by plain toppling');
+  return stabilize(problem, { scaled: false, threads: deps.threads, signal, onProgress });
 }

@@ -60,6 +60,12 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
       await deps.notifyOutcome(runId);
       throw new UnrecoverableError(message);
     }
+    // transient (store or database away): BullMQ retries with backoff; on the last attempt the run
+    // fails with the reason instead of staying "rendering" for ever
+    if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) {
+      await state.failed(`the farm could not draw this run's views: ${(err as Error).message}`);
+      await deps.notifyOutcome(runId);
+    }
     throw err;
   }
   if (await state.finished()) await deps.notifyOutcome(runId);

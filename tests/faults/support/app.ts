@@ -1,0 +1,60 @@
+import http, { type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { randomUUID } from 'node:crypto';
+import supertest from 'supertest';
+import { loadEnv, type Env } from '../../../shared/env.js';
+import { createApp } from '../../../api/src/app.js';
+import { connectDatabase } from '../../../api/src/db/client.js';
+import { migrateDatabase } from '../../../api/src/db/migrate.js';
+import type { AppDeps } from '../../../api/src/deps.js';
+import { createLogger } from '../../../api/src/logger.js';
+import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
+import { createJobQueue } from '../../../api/src/queue/job-queue.js';
+import { createS3BlobStore, ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
+import type { Harness } from '../../api/support/harness.js';
+
+/** The environment npm test exported, with some services swapped for a fault test's private ones. */
+export function faultEnv(overrides: Partial<Record<keyof Env, string>>): Env {
+  return loadEnv({ ...process.env, NODE_ENV: 'test', LOG_LEVEL: process.env.LOG_LEVEL ?? 'silent', ...overrides });
+}
+
+/** The API as server.ts builds it, listening on a real port (given, or free), for tests that break its services. */
+export async function startApi(fileTag: string, env: Env, port = 0): Promise<Harness & { server: Server; url: string }> {
+  await migrateDatabase(env.DATABASE_URL);
+  await ensureBucket(env);
+  const tag = `${fileTag}-${randomUUID().slice(0, 8)}`;
+  const queuePrefix = `twfault-${tag}`;
+  const database = connectDatabase(env.DATABASE_URL, 5);
+  const deps: AppDeps = {
+    env,
+    db: database.db,
+    log: createLogger(env.LOG_LEVEL),
+    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
+    blobs: createS3BlobStore(env),
+    queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
+  };
+  const app = createApp(deps, { distDir: '/nonexistent' });
+  const server = http.createServer(app);
+  await new Promise<void>((resolve) => server.listen(port, '127.0.0.1', () => resolve()));
+  const url = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+  return {
+    env,
+    deps,
+    database,
+    app,
+    server,
+    url,
+    http: supertest(url),
+    tag,
+    queuePrefix,
+    email: (name) => `${name.toLowerCase().replace(/[^a-z0-9]+/g, '.')}.${tag}@test.toppleworks.local`,
+    async close() {
+      server.closeAllConnections();
+      await new Promise((r) => server.close(r));
+      await deps.queue.close();
+      deps.mailer.close();
+      deps.blobs.close();
+      await database.close();
+    },
+  };
+}
