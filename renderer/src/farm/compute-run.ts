@@ -196,7 +196,7 @@ async function stabilizeWithCheckpoints(
   const { deps, log, signal, onProgress } = ctx;
   const stored = await checkpoints.load();
   const run = (resume: typeof stored) =>
-    stabilizeScaled(problem, { signal, onProgress, resume: resume?.snapshot, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
+    stabilizeScaled(problem, { threads: deps.threads, signal, onProgress, resume: resume?.snapshot, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
   let outcome: Outcome;
   if (stored) {
     const when = stored.savedAt ? ` saved ${stored.savedAt.toISOString()}` : '';
