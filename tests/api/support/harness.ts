@@ -43,15 +43,7 @@ export async function startHarness(fileTag: string): Promise<Harness> {
   await ensureBucket(env);
   const tag = `${fileTag}-${randomUUID().slice(0, 8)}`;
   const queuePrefix = `twtest-${tag}`;
-  const database = connectDatabase(env.DATABASE_URL, 5);
-  const deps: AppDeps = {
-    env,
-    db: database.db,
-    log: createLogger(env.LOG_LEVEL),
-    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
-    blobs: createS3BlobStore(env),
-    queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
-  };
+  const { database, deps } = connectAppDeps(env, queuePrefix);
   const app = createApp(deps, { distDir: '/nonexistent' });
   return {
     env,
@@ -62,13 +54,29 @@ export async function startHarness(fileTag: string): Promise<Harness> {
     tag,
     queuePrefix,
     email: (name) => `${name.toLowerCase().replace(/[^a-z0-9]+/g, ".")}.${tag}@test.toppleworks.local`,
-    async close() {
-      await deps.queue.close();
-      deps.mailer.close();
-      deps.blobs.close();
-      await database.close();
-    },
+    close: () => closeAppDeps(database, deps),
   };
+}
+
+/** The API's dependencies as api/src/server.ts builds them, on the services `env` names; jobs under `queuePrefix`. */
+export function connectAppDeps(env: Env, queuePrefix: string): { database: Database; deps: AppDeps } {
+  const database = connectDatabase(env.DATABASE_URL, 5);
+  const deps: AppDeps = {
+    env,
+    db: database.db,
+    log: createLogger(env.LOG_LEVEL),
+    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
+    blobs: createS3BlobStore(env),
+    queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
+  };
+  return { database, deps };
+}
+
+export async function closeAppDeps(database: Database, deps: AppDeps): Promise<void> {
+  await deps.queue.close();
+  deps.mailer.close();
+  deps.blobs.close();
+  await database.close();
 }
 
 /** A signed-in browser: the session and CSRF cookies, plus the header our web app would send. */

@@ -4,14 +4,9 @@ import { randomUUID } from 'node:crypto';
 import supertest from 'supertest';
 import { loadEnv, type Env } from '../../../shared/env.js';
 import { createApp } from '../../../api/src/app.js';
-import { connectDatabase } from '../../../api/src/db/client.js';
 import { migrateDatabase } from '../../../api/src/db/migrate.js';
-import type { AppDeps } from '../../../api/src/deps.js';
-import { createLogger } from '../../../api/src/logger.js';
-import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
-import { createJobQueue } from '../../../api/src/queue/job-queue.js';
-import { createS3BlobStore, ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
-import type { Harness } from '../../api/support/harness.js';
+import { ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
+import { closeAppDeps, connectAppDeps, type Harness } from '../../api/support/harness.js';
 
 /** The environment npm test exported, with some services swapped for a fault test's private ones. */
 export function faultEnv(overrides: Partial<Record<keyof Env, string>>): Env {
@@ -24,15 +19,7 @@ export async function startApi(fileTag: string, env: Env, port = 0): Promise<Har
   await ensureBucket(env);
   const tag = `${fileTag}-${randomUUID().slice(0, 8)}`;
   const queuePrefix = `twfault-${tag}`;
-  const database = connectDatabase(env.DATABASE_URL, 5);
-  const deps: AppDeps = {
-    env,
-    db: database.db,
-    log: createLogger(env.LOG_LEVEL),
-    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
-    blobs: createS3BlobStore(env),
-    queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
-  };
+  const { database, deps } = connectAppDeps(env, queuePrefix);
   const app = createApp(deps, { distDir: '/nonexistent' });
   const server = http.createServer(app);
   await new Promise<void>((resolve) => server.listen(port, '127.0.0.1', () => resolve()));
@@ -51,10 +38,7 @@ export async function startApi(fileTag: string, env: Env, port = 0): Promise<Har
     async close() {
       server.closeAllConnections();
       await new Promise((r) => server.close(r));
-      await deps.queue.close();
-      deps.mailer.close();
-      deps.blobs.close();
-      await database.close();
+      await closeAppDeps(database, deps);
     },
   };
 }

@@ -8,14 +8,9 @@ import { Redis } from 'ioredis';
 import { loadEnv } from '../../../shared/env.js';
 import { QUEUE_NAMES } from '../../../shared/jobs.js';
 import { createApp } from '../../../api/src/app.js';
-import { connectDatabase } from '../../../api/src/db/client.js';
 import { migrateDatabase } from '../../../api/src/db/migrate.js';
-import type { AppDeps } from '../../../api/src/deps.js';
-import { createLogger } from '../../../api/src/logger.js';
-import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
-import { createJobQueue } from '../../../api/src/queue/job-queue.js';
-import { createS3BlobStore, ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
-import type { Harness } from '../../api/support/harness.js';
+import { ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
+import { connectAppDeps, type Harness } from '../../api/support/harness.js';
 
 /**
  * The API on a database and a bucket of its own, inside the services `npm test` started. Other
@@ -53,15 +48,7 @@ export async function startPrivateApp(fileTag: string): Promise<PrivateApp> {
   await migrateDatabase(env.DATABASE_URL);
   await ensureBucket(env);
   const queuePrefix = `twtest-${tag}`;
-  const database = connectDatabase(env.DATABASE_URL, 5);
-  const deps: AppDeps = {
-    env,
-    db: database.db,
-    log: createLogger(env.LOG_LEVEL),
-    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
-    blobs: createS3BlobStore(env),
-    queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
-  };
+  const { database, deps } = connectAppDeps(env, queuePrefix);
   const app = createApp(deps, { distDir: '/nonexistent' });
   // one listening server for thousands of requests (supertest(app) would open one per request)
   const server = await new Promise<Server>((resolve) => {
