@@ -35,20 +35,22 @@ export const TOPPLING_FIT = { c: 0.02015698687728256, alpha: 1.9895417568465261 
 export const TOPPLINGS_PER_SECOND = 1.5e8;
 
 /**
- * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs,
- * measured by `npm run bench:scale` on the 2-core development machine (renderer/src/scale/README.md):
- * its cost follows the seed's error, not the toppling count, so it gets a fit of its own.
+ * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs
+ * with the farm's default two threads, measured by `npm run bench:scale` on the 2-core development
+ * machine (README.md, Speed: 10^5 and 10^6 on an idle machine, 10^7 at load 5–8): its cost follows
+ * the seed's error, not the toppling count, so it gets a curve of its own.
  */
 export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
-  [1e5, 0.3],
-  [1e6, 2.56],
-  [1e7, 250.5],
+  [1e5, 0.45],
+  [1e6, 5.09],
+  [1e7, 558.7],
 ];
 
-/** Fast-path time of other lattices relative to the square one at the same n (same bench, n = 10^5). */
-export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 1.2, honeycomb: 12, manhattan: 48 };
+/** Fast-path time of other lattices and of an i.i.d. random background relative to the square lattice at n = 10^6 (same bench). */
+export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 3.61, honeycomb: 4.45, manhattan: 4.7 };
+export const FAST_PATH_RANDOM_FACTOR = 4.51;
 /** Lattices not in that bench (f-lattice, uploaded periodic graphs): the slowest measured factor, so an estimate errs on the long side. */
-export const FAST_PATH_UNKNOWN_FACTOR = 48;
+export const FAST_PATH_UNKNOWN_FACTOR = 4.7;
 
 
 /** Smallest single source the engine sends to the fast path (renderer/src/engine/stabilize.ts SCALED_MIN_CHIPS). */
@@ -246,8 +248,7 @@ export function fastPathSeconds(spec: RunSpec): number | null {
   const single = (spec.sources ?? []).every((s) => s.chips === 0);
   if (!planar || !single || spec.background.kind === 'array' || spec.chips < FAST_PATH_MIN_CHIPS || spec.chips >= 2 ** 30) return null;
   const factor = 'preset' in spec.lattice ? (FAST_PATH_LATTICE_FACTOR[spec.lattice.preset] ?? FAST_PATH_UNKNOWN_FACTOR) : FAST_PATH_UNKNOWN_FACTOR;
-  // a random background costs about 2.7× the square lattice's time at 10^5 (same bench)
-  const background = spec.background.kind === 'random' ? 2.7 : 1;
+  const background = spec.background.kind === 'random' ? FAST_PATH_RANDOM_FACTOR : 1;
   return logLogInterpolate(FAST_PATH_MEASURED, spec.chips) * factor * background;
 }
 
