@@ -4,8 +4,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { backgroundUploads, ledgerEntries } from '../../drizzle/schema.js';
 import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, runSettled, signIn, TEST_PASSWORD, type Session } from '../api/support/harness.js';
-import { faultEnv, startApi } from './support/app.js';
+import { as, runSettled, type Session } from '../api/support/harness.js';
+import { faultEnv, fundedAuthor, startApi } from './support/app.js';
 import { expectCompletePyramids } from './support/pyramid.js';
 import { privateS3, sleep, until } from './support/services.js';
 
@@ -26,12 +26,7 @@ let labId: string;
 beforeAll(async () => {
   s3 = await privateS3('store-outage', BUCKET);
   api = await startApi('storefault', faultEnv({ S3_ENDPOINT: s3.endpoint, S3_BUCKET: BUCKET }));
-  const a = await createUser(api, 'Store Author');
-  const admin = await createUser(api, 'Store Admin', { isAdmin: true });
-  labId = await createLab(api, 'Store Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(api, a.email, TEST_PASSWORD);
-  const adminSession = await signIn(api, admin.email, TEST_PASSWORD);
-  await as(api.http.post(`/api/labs/${labId}/credits/adjustments`), adminSession).send({ kind: 'grant', credits: 500, reason: 'fault test' }).expect(201);
+  ({ author, labId } = await fundedAuthor(api, 'Store'));
   farm = await startFarmWorker(api.env, { prefix: api.queuePrefix, threads: 1 });
 }, 120_000);
 afterAll(async () => {

@@ -3,8 +3,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ledgerEntries } from '../../drizzle/schema.js';
 import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, runSettled, signIn, TEST_PASSWORD, type Session } from '../api/support/harness.js';
-import { faultEnv, startApi } from './support/app.js';
+import { as, runSettled, type Session } from '../api/support/harness.js';
+import { faultEnv, fundedAuthor, startApi } from './support/app.js';
 import { expectCompletePyramids } from './support/pyramid.js';
 import { privateRedis, sleep, until } from './support/services.js';
 
@@ -23,12 +23,7 @@ let labId: string;
 beforeAll(async () => {
   redis = await privateRedis('redis-restart');
   api = await startApi('redisfault', faultEnv({ REDIS_URL: redis.url }));
-  const a = await createUser(api, 'Queue Author');
-  const admin = await createUser(api, 'Queue Admin', { isAdmin: true });
-  labId = await createLab(api, 'Queue Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(api, a.email, TEST_PASSWORD);
-  const adminSession = await signIn(api, admin.email, TEST_PASSWORD);
-  await as(api.http.post(`/api/labs/${labId}/credits/adjustments`), adminSession).send({ kind: 'grant', credits: 500, reason: 'fault test' }).expect(201);
+  ({ author, labId } = await fundedAuthor(api, 'Queue'));
   farm = await startFarmWorker(api.env, { prefix: api.queuePrefix, threads: 1 });
 }, 120_000);
 afterAll(async () => {

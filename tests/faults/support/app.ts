@@ -6,7 +6,7 @@ import { loadEnv, type Env } from '../../../shared/env.js';
 import { createApp } from '../../../api/src/app.js';
 import { migrateDatabase } from '../../../api/src/db/migrate.js';
 import { ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
-import { closeAppDeps, connectAppDeps, type Harness } from '../../api/support/harness.js';
+import { as, closeAppDeps, connectAppDeps, createLab, createUser, signIn, TEST_PASSWORD, type Harness, type Session } from '../../api/support/harness.js';
 
 /** The environment npm test exported, with some services swapped for a fault test's private ones. */
 export function faultEnv(overrides: Partial<Record<keyof Env, string>>): Env {
@@ -41,4 +41,15 @@ export async function startApi(fileTag: string, env: Env, port = 0): Promise<Har
       await closeAppDeps(database, deps);
     },
   };
+}
+
+/** A lab with an author (signed in) and 500 credits granted by a site admin, so runs are never gated. */
+export async function fundedAuthor(h: Harness, name: string): Promise<{ author: Session; labId: string }> {
+  const a = await createUser(h, `${name} Author`);
+  const admin = await createUser(h, `${name} Admin`, { isAdmin: true });
+  const labId = await createLab(h, `${name} Lab`, [{ userId: a.id, role: 'author' }]);
+  const author = await signIn(h, a.email, TEST_PASSWORD);
+  const adminSession = await signIn(h, admin.email, TEST_PASSWORD);
+  await as(h.http.post(`/api/labs/${labId}/credits/adjustments`), adminSession).send({ kind: 'grant', credits: 500, reason: 'fault test' }).expect(201);
+  return { author, labId };
 }
