@@ -62,7 +62,11 @@ describe('fast path equals the plain engine bit for bit', () => {
             if (!isEngineError(e, 'NotStabilizedError')) throw e;
           }
           if (!plain) {
-            await expect(stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20 })).rejects.toThrow(/did not stabilize/);
+            // no room for the pile within 2^20 sites: the fast path must refuse it too. Both are asked
+            // under a 2^16-site bound, which the plain engine must refuse as well (a smaller box); the
+            // fast path takes about 50 times longer to fill 2^20 sites than 2^16 (measured, ~25 s vs 0.5 s).
+            await expect(stabilize(p, { threads: 1, maxSites: 2 ** 16, scaled: false })).rejects.toThrow(/did not stabilize/);
+            await expect(stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 16 })).rejects.toThrow(/did not stabilize/);
             continue;
           }
           // one thread (a stack over the whole grid) and two (tiles over worker threads, forced on these small grids)
