@@ -4,9 +4,10 @@ import react from '@vitejs/plugin-react';
 import tailwindcss from '@tailwindcss/vite';
 
 /**
- * Test files that compare a whole table (or the shared bucket's uploads/) before and after a request
- * to prove that nothing was stored: another file writing at the same moment would break that proof,
- * so these run on their own, after all the others.
+ * Run on their own, after all the others: files that compare a whole table (or the shared bucket's
+ * uploads/) before and after a request to prove that nothing was stored, which another file writing
+ * at the same moment would break; and the resume test, whose worker must renew a 2 s job lock on time
+ * (beside another file's work it missed the renewals, and BullMQ gave the run up as stalled).
  */
 const EXCLUSIVE = [
   'tests/api/bad-input.test.ts', // count of all labs
@@ -14,6 +15,7 @@ const EXCLUSIVE = [
   'tests/api/uploads.test.ts', // all background uploads, all objects under uploads/
   'tests/security/access.test.ts', // count of all ledger entries
   'tests/faults/object-store-outage.test.ts', // all background uploads
+  'tests/farm/resume.test.ts', // a 2 s lock held through a kill and two restarts
 ];
 
 const TEST_FILES = {
