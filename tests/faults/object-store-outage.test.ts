@@ -71,7 +71,7 @@ describe('the object store unavailable for a while', () => {
       }, 60_000, 200);
       const job = (await renderQueue.getJob(jobId))!;
       expect(await job.getState()).toMatch(/^(delayed|waiting|active)$/);
-      expect(job.failedReason).toMatch(/ECONNREFUSED|connect|socket|object store/i);
+      expect(job.failedReason).toMatch(/ECONNREFUSED/);
       expect([...statuses]).toEqual(['rendering']);
       const tile = await as(api.http.get(`/api/runs/${id}/views/heights/tidewater/iiif/info.json`), author);
       expect(tile.status).toBe(503);
