@@ -2,7 +2,8 @@ import { and, eq, inArray } from 'drizzle-orm';
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { jobOutbox, labs, ledgerEntries } from '../../drizzle/schema.js';
+import { figureVersions, jobOutbox, labs, ledgerEntries } from '../../drizzle/schema.js';
+import { figureResponseSchema, figureVersionResponseSchema, type FigureDetail } from '../../shared/api/figures.js';
 import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { seriesResponseSchema } from '../../shared/api/series.js';
 import { QUEUE_NAMES, QUEUES_OF_JOB, JOB_NAMES } from '../../shared/jobs.js';
@@ -31,6 +32,8 @@ let farm: Awaited<ReturnType<typeof startFarmWorker>> | undefined;
 let author: Session;
 let admin: Session;
 let labId: string;
+/** a run the first test finished, for the print order */
+let finishedRunId = '';
 
 beforeAll(async () => {
   redis = await privateRedis('redis-down-submit');
@@ -51,6 +54,11 @@ const timed = async <T>(call: () => Promise<T>): Promise<{ value: T; ms: number 
   return { value, ms: Date.now() - t0 };
 };
 const runOf = async (id: string): Promise<Run> => runResponseSchema.parse((await as(api.http.get(`/api/runs/${id}`), author).expect(200)).body).run;
+const detail = (body: unknown): FigureDetail => {
+  const parsed = figureResponseSchema.parse(body);
+  if (parsed.withdrawn) throw new Error('figure withdrawn');
+  return parsed.figure;
+};
 const spec = (chips: number) => ({ lattice: { preset: 'square' }, chips });
 const outboxOf = async () => api.deps.db.select().from(jobOutbox).where(eq(jobOutbox.queuePrefix, api.queuePrefix));
 
@@ -143,6 +151,41 @@ describe('submissions while Redis is down', () => {
     }
     // on the infinite lattice no grain is lost (mass conservation); the engine's own certificate passed
     expect((await runOf(rerun.id)).stats).toMatchObject({ grainsIn: '30000', grainsOut: '30000', certificate: { passed: true } });
+    finishedRunId = run.id;
     console.log(`redis down: ${wanted.length} runs answered in ≤ ${Math.max(one.ms, series.ms, again.ms)} ms, sent from the outbox after the restart, one job and one settlement each`);
+  });
+
+  it('a print order answers at once and is printed once Redis is back', { timeout: 120_000 }, async () => {
+    expect(finishedRunId, 'the first test left a finished run').not.toBe('');
+    const spec = { panels: [{ runId: finishedRunId, layer: 'heights' }], size: { kind: 'column', column: 'single' }, dpi: 150 };
+    const created = await as(api.http.post('/api/figures'), author).send({ labId, title: 'printed after an outage', spec });
+    expect(created.status, JSON.stringify(created.body)).toBe(201);
+    const figure = detail(created.body);
+    await redis.stop();
+    await until('the API to see Redis gone', async () => (await api.http.get('/api/health/ready')).status === 503, 10_000);
+    const order = await timed(() => as(api.http.post(`/api/figures/${figure.slug}/versions`), author).send({ formats: ['png'] }));
+    expect(order.value.status, JSON.stringify(order.value.body)).toBe(202);
+    expect(order.ms).toBeLessThan(PROMPT_MS);
+    const version = figureVersionResponseSchema.parse(order.value.body).version;
+    expect(version.status).toBe('queued');
+    const [row] = await api.deps.db.select({ id: figureVersions.id }).from(figureVersions).where(and(eq(figureVersions.figureId, figure.id), eq(figureVersions.number, version.number)));
+    expect((await outboxOf()).map((r) => r.jobId)).toEqual([`${JOB_NAMES.printFigure}--${row!.id}`]);
+
+    await redis.start();
+    const ready = await until('the version to be printed', async () => {
+      const v = detail((await as(api.http.get(`/api/figures/${figure.slug}`), author).expect(200)).body).versions.find((x) => x.number === version.number);
+      if (v?.status === 'failed') throw new Error(`print failed: ${v.error}`);
+      return v?.status === 'ready' ? v : null;
+    }, 90_000, 200);
+    expect(ready.files.map((f) => f.format)).toEqual(['png']);
+    expect(await outboxOf()).toEqual([]);
+    const connection = new Redis(redis.url, { maxRetriesPerRequest: null });
+    try {
+      const q = new Queue(QUEUE_NAMES.print, { connection, prefix: api.queuePrefix });
+      expect((await q.getJobs(['waiting', 'active', 'delayed', 'completed', 'failed'])).map((j) => j.id)).toEqual([`${JOB_NAMES.printFigure}--${row!.id}`]);
+      await q.close();
+    } finally {
+      await connection.quit();
+    }
   });
 });
