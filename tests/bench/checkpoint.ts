@@ -3,16 +3,21 @@
  * run, and what they save when a worker dies, as ratios against an uninterrupted run without
  * checkpoints measured in the same invocation (never a timed test: the machine is shared).
  *
- *   --n 1e6          grains at the origin of the square lattice (the seeded fast path)
- *   --every 0.5,2    checkpoint periods in seconds
+ *   --engine both      fast, plain or both: the seeded fast path and/or the plain tiled engine
+ *   --n 1e6            fast path: grains at the origin of the square lattice
+ *   --plain-n 1e5      plain engine: grains at the origin plus half as many at (60, 0), square lattice
+ *                      (two sources: the fast path does not apply)
+ *   --every 0.5,2      checkpoint periods in seconds
  *
- * Cases, each in its own child process, with s3rver running in this parent process (it shares the
- * two cores, as the object store would share a machine's network):
- * - baseline: stabilizeScaled without checkpoints;
+ * Cases, each in its own child process, all through the engine's entry point `stabilize()`, with
+ * s3rver running in this parent process (it shares the two cores, as the object store would share
+ * a machine's network):
+ * - baseline: no checkpoints;
  * - every S: the same with the farm's checkpoints every S seconds (scratch file, then PutObject);
  * - resume: a run with checkpoints every 0.5 s aborted at half the baseline's time, then loaded
  *   from the store and resumed, as a new worker does; "resume s" is the load plus the rest.
- * Every case must end on the same heights (sha256), or the benchmark stops with an error.
+ * Every case must end on the same heights (sha256) as its engine's baseline, or the benchmark stops
+ * with an error.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import type { AddressInfo } from 'node:net';
@@ -22,8 +27,8 @@ import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { randomUUID } from 'node:crypto';
 import S3rver from 's3rver';
-import { resolveProblem } from '../../renderer/src/engine/index.js';
-import { stabilizeScaled } from '../../renderer/src/scale/index.js';
+import { resolveProblem, stabilize, type Snapshot } from '../../renderer/src/engine/index.js';
+import { shutdownWorkers } from '../../renderer/src/engine/parallel.js';
 import { runCheckpoints } from '../../renderer/src/farm/checkpoints.js';
 import { createS3Client } from '../../renderer/src/render/index.js';
 import { arrayHash, heightsForExport } from '../../renderer/src/cli/export-arrays.js';
@@ -31,8 +36,11 @@ import { runInChild } from './child-case.js';
 
 const BUCKET = 'bench-checkpoints';
 
+type Engine = 'fast' | 'plain';
+
 interface CaseSpec {
   kind: 'baseline' | 'every' | 'resume';
+  engine: Engine;
   n: number;
   every?: number;
   /** resume: abort the first attempt after this many seconds */
@@ -51,14 +59,26 @@ interface CaseResult {
   firstSeconds?: number;
   loadSeconds?: number;
   restSeconds?: number;
-  resumedLevel?: number;
+  resumedKind?: string;
+}
+
+/** The benchmark's run of each engine: one source takes the fast path, a second one the plain engine. */
+function problemOf(engine: Engine, n: number) {
+  const sources = engine === 'plain' ? [{ at: [60, 0], chips: Math.floor(n / 2) }] : [];
+  return resolveProblem({ lattice: { preset: 'square' }, chips: n, sources, background: { kind: 'constant', height: 0 } } as never);
+}
+
+/** Bytes of a snapshot's arrays (the checkpoint file is these plus a header of a few hundred bytes). */
+function arrayBytes(s: Snapshot): number {
+  if (s.kind === 'tiled') return s.h.byteLength + s.od.byteLength + s.reserves.byteLength;
+  return s.grid.h.byteLength + s.grid.od.byteLength + (s.coarse ? s.coarse.u.byteLength + (s.coarse.err?.byteLength ?? 0) : 0);
 }
 
 async function runCase(spec: CaseSpec): Promise<CaseResult> {
-  const problem = resolveProblem({ lattice: { preset: 'square' }, chips: spec.n, sources: [], background: { kind: 'constant', height: 0 } });
+  const problem = problemOf(spec.engine, spec.n);
   if (spec.kind === 'baseline') {
     const t0 = performance.now();
-    const o = await stabilizeScaled(problem);
+    const o = await stabilize(problem);
     return { seconds: (performance.now() - t0) / 1000, sha256: arrayHash(heightsForExport(o.heights)), saves: 0, uploaded: 0, saveMsMean: 0, mib: 0 };
   }
   const s3 = createS3Client({ endpoint: spec.endpoint, region: 'us-east-1', accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER' });
@@ -71,12 +91,12 @@ async function runCase(spec: CaseSpec): Promise<CaseResult> {
     ck.save(s);
     saveMs += performance.now() - t;
     saves++;
-    mib = ((s.grid.h.byteLength + s.grid.od.byteLength + (s.coarse ? s.coarse.u.byteLength + (s.coarse.err?.byteLength ?? 0) : 0)) / 2 ** 20);
+    mib = arrayBytes(s) / 2 ** 20;
   };
   try {
     if (spec.kind === 'every') {
       const t0 = performance.now();
-      const o = await stabilizeScaled(problem, { checkpoint: { everySeconds: spec.every!, save } });
+      const o = await stabilize(problem, { checkpoint: { everySeconds: spec.every!, save } });
       await ck.flush();
       return { seconds: (performance.now() - t0) / 1000, sha256: arrayHash(heightsForExport(o.heights)), saves, uploaded: ck.uploaded, saveMsMean: saves ? saveMs / saves : 0, mib };
     }
@@ -84,7 +104,7 @@ async function runCase(spec: CaseSpec): Promise<CaseResult> {
     const t0 = performance.now();
     const ac = new AbortController();
     setTimeout(() => ac.abort(new Error('killed')), spec.abortAfter! * 1000);
-    await stabilizeScaled(problem, { signal: ac.signal, checkpoint: { everySeconds: 0.5, save } }).then(
+    await stabilize(problem, { signal: ac.signal, checkpoint: { everySeconds: 0.5, save } }).then(
       () => {
         throw new Error('the first attempt finished before it was aborted: use a larger --n');
       },
@@ -98,11 +118,11 @@ async function runCase(spec: CaseSpec): Promise<CaseResult> {
     const stored = await ck.load();
     if (!stored) throw new Error('no checkpoint reached the store before the abort');
     const t2 = performance.now();
-    const o = await stabilizeScaled(problem, { resume: stored.snapshot });
+    const o = await stabilize(problem, { resume: stored.snapshot });
     const t3 = performance.now();
     return {
       seconds: (t3 - t1) / 1000, sha256: arrayHash(heightsForExport(o.heights)), saves, uploaded: ck.uploaded, saveMsMean: saves ? saveMs / saves : 0, mib,
-      firstSeconds: first, loadSeconds: (t2 - t1) / 1000, restSeconds: (t3 - t2) / 1000, resumedLevel: stored.snapshot.level,
+      firstSeconds: first, loadSeconds: (t2 - t1) / 1000, restSeconds: (t3 - t2) / 1000, resumedKind: stored.snapshot.kind === 'seeded' ? `level-${stored.snapshot.level} seeded` : 'tiled',
     };
   } finally {
     ck.dispose();
@@ -111,15 +131,20 @@ async function runCase(spec: CaseSpec): Promise<CaseResult> {
 }
 
 async function main(): Promise<void> {
-  const { values } = parseArgs({ options: { n: { type: 'string', default: '1e6' }, every: { type: 'string', default: '0.5,2' }, case: { type: 'string' } } });
+  const { values } = parseArgs({
+    options: { engine: { type: 'string', default: 'both' }, n: { type: 'string', default: '1e6' }, 'plain-n': { type: 'string', default: '1e5' }, every: { type: 'string', default: '0.5,2' }, case: { type: 'string' } },
+  });
   if (values.case) {
-    console.log(JSON.stringify(await runCase(JSON.parse(values.case) as CaseSpec)));
+    const r = await runCase(JSON.parse(values.case) as CaseSpec);
+    await shutdownWorkers();
+    console.log(JSON.stringify(r));
     return;
   }
-  const n = Number(values.n);
+  const sizes: Record<Engine, number> = { fast: Number(values.n), plain: Number(values['plain-n']) };
+  const engines: Engine[] = values.engine === 'both' ? ['fast', 'plain'] : [values.engine as Engine];
   const periods = values.every!.split(',').map(Number);
-  if (!(Number.isInteger(n) && n >= 2 ** 16) || periods.some((p) => !(p > 0))) {
-    console.error('--n must be an integer ≥ 65536 and --every positive seconds');
+  if (!engines.every((e) => e === 'fast' || e === 'plain') || !(Number.isInteger(sizes.fast) && sizes.fast >= 2 ** 16) || !(Number.isInteger(sizes.plain) && sizes.plain >= 1000) || periods.some((p) => !(p > 0))) {
+    console.error('--engine must be fast, plain or both, --n an integer ≥ 65536, --plain-n an integer ≥ 1000 and --every positive seconds');
     process.exit(2);
   }
   const root = mkdtempSync(join(tmpdir(), 'tw-bench-ckpt-'));
@@ -127,22 +152,26 @@ async function main(): Promise<void> {
   const endpoint = `http://127.0.0.1:${((await server.run()) as AddressInfo).port}`;
   const script = fileURLToPath(import.meta.url);
   try {
-    const base = await runInChild<CaseResult>(script, { kind: 'baseline', n, endpoint }, 'baseline');
-    const rows: [string, CaseResult][] = [['baseline', base]];
-    for (const every of periods) rows.push([`every ${every} s`, await runInChild<CaseResult>(script, { kind: 'every', n, every, endpoint }, `every ${every}`)]);
-    const resumed = await runInChild<CaseResult>(script, { kind: 'resume', n, endpoint, abortAfter: base.seconds / 2 }, 'resume');
-    rows.push(['killed at ½, resumed', resumed]);
-    for (const [label, r] of rows) if (r.sha256 !== base.sha256) throw new Error(`${label}: heights differ from the baseline's`);
+    for (const engine of engines) {
+      const n = sizes[engine];
+      const base = await runInChild<CaseResult>(script, { kind: 'baseline', engine, n, endpoint }, `${engine} baseline`);
+      const rows: [string, CaseResult][] = [['baseline', base]];
+      for (const every of periods) rows.push([`every ${every} s`, await runInChild<CaseResult>(script, { kind: 'every', engine, n, every, endpoint }, `${engine} every ${every}`)]);
+      const resumed = await runInChild<CaseResult>(script, { kind: 'resume', engine, n, endpoint, abortAfter: base.seconds / 2 }, `${engine} resume`);
+      rows.push(['killed at ½, resumed', resumed]);
+      for (const [label, r] of rows) if (r.sha256 !== base.sha256) throw new Error(`${engine} ${label}: heights differ from the baseline's`);
 
-    console.log(`square lattice, n = ${n.toLocaleString('en-US')}; heights sha256 ${base.sha256.slice(0, 16)}… in every case`);
-    console.log(['case'.padEnd(22), 'wall s'.padStart(7), '× base'.padStart(7), 'saves'.padStart(6), 'stored'.padStart(7), 'save ms'.padStart(8), 'MiB'.padStart(6)].join('  '));
-    for (const [label, r] of rows) {
-      console.log([label.padEnd(22), r.seconds.toFixed(2).padStart(7), (r.seconds / base.seconds).toFixed(2).padStart(7), String(r.saves).padStart(6), String(r.uploaded).padStart(7), r.saveMsMean.toFixed(1).padStart(8), r.mib.toFixed(1).padStart(6)].join('  '));
+      const what = engine === 'fast' ? `seeded fast path, square lattice, n = ${n.toLocaleString('en-US')} at the origin` : `plain tiled engine, square lattice, n = ${n.toLocaleString('en-US')} at the origin + ${Math.floor(n / 2).toLocaleString('en-US')} at (60, 0)`;
+      console.log(`\n${what}; heights sha256 ${base.sha256.slice(0, 16)}… in every case`);
+      console.log(['case'.padEnd(22), 'wall s'.padStart(7), '× base'.padStart(7), 'saves'.padStart(6), 'stored'.padStart(7), 'save ms'.padStart(8), 'MiB'.padStart(6)].join('  '));
+      for (const [label, r] of rows) {
+        console.log([label.padEnd(22), r.seconds.toFixed(2).padStart(7), (r.seconds / base.seconds).toFixed(2).padStart(7), String(r.saves).padStart(6), String(r.uploaded).padStart(7), r.saveMsMean.toFixed(1).padStart(8), r.mib.toFixed(1).padStart(6)].join('  '));
+      }
+      console.log(
+        `resume: first attempt ran ${resumed.firstSeconds!.toFixed(2)} s, loading its ${resumed.resumedKind} checkpoint ${resumed.loadSeconds!.toFixed(2)} s, the rest ${resumed.restSeconds!.toFixed(2)} s ` +
+          `(${((resumed.seconds / base.seconds) * 100).toFixed(0)} % of an uninterrupted run)`,
+      );
     }
-    console.log(
-      `resume: first attempt ran ${resumed.firstSeconds!.toFixed(2)} s, loading its level-${resumed.resumedLevel} checkpoint ${resumed.loadSeconds!.toFixed(2)} s, the rest ${resumed.restSeconds!.toFixed(2)} s ` +
-        `(${((resumed.seconds / base.seconds) * 100).toFixed(0)} % of an uninterrupted run)`,
-    );
   } finally {
     await server.close();
     rmSync(root, { recursive: true, force: true });

@@ -14,21 +14,16 @@ import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { JOB_NAMES, jobIdFor, queueOf, type JobItem } from '../../shared/jobs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys, checkpointKey } from '../../renderer/src/farm/artifacts.js';
-import { readCheckpoint } from '../../renderer/src/scale/index.js';
-import { resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
+import { decodeSnapshot, resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
 import { arrayHash, heightsForExport, odometerForExport } from '../../renderer/src/cli/export-arrays.js';
 import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
 import { startWorkerProcess, type WorkerProcess } from './worker-process.js';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
 
 let h: Harness;
 let author: Session;
 let labId: string;
 let redis: Redis;
 const workers: WorkerProcess[] = [];
-const scratch = mkdtempSync(path.join(tmpdir(), 'tw-resume-test-'));
 
 /** short lock and checkpoint period so the test takes seconds; production defaults are 30 s and 60 s */
 const workerEnv = () => ({ BULLMQ_PREFIX: h.queuePrefix, WORKER_CHECKPOINT_SECONDS: '0.3', WORKER_LOCK_SECONDS: '2', WORKER_THREADS: '1' });
@@ -44,7 +39,6 @@ afterAll(async () => {
   for (const w of workers) await w.kill();
   await redis?.quit();
   await h?.close();
-  rmSync(scratch, { recursive: true, force: true });
 });
 
 async function submit(title: string, spec: unknown): Promise<Run> {
@@ -54,12 +48,13 @@ async function submit(title: string, spec: unknown): Promise<Run> {
 }
 
 /** the checkpoint in the store, read with the engine's own reader; null while there is none */
-async function storedCheckpointLevel(runId: string): Promise<number | null> {
+async function storedCheckpoint(runId: string) {
   const bytes = await h.deps.blobs.get(checkpointKey(runId));
-  if (!bytes) return null;
-  const file = path.join(scratch, 'peek.twckpt');
-  writeFileSync(file, bytes);
-  return readCheckpoint(file).level;
+  return bytes ? decodeSnapshot(new Uint8Array(bytes)) : null;
+}
+async function storedCheckpointLevel(runId: string): Promise<number | null> {
+  const s = await storedCheckpoint(runId);
+  return s?.kind === 'seeded' ? s.level : null;
 }
 
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
