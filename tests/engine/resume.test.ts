@@ -40,9 +40,9 @@ function uploaded() {
 }
 
 const cases: { name: string; p: () => Problem; first?: StabilizeOptions; second?: StabilizeOptions; kind: Snapshot['kind'] }[] = [
-  { name: 'square, two sources (two threads, then one)', p: () => problem({ lattice: { preset: 'square' }, chips: 30_000, sources: [{ at: [40, 0], chips: 15_000 }] }), first: { threads: 2 }, second: { threads: 1 }, kind: 'tiled' },
+  { name: 'square, two sources (two threads, then one)', p: () => problem({ lattice: { preset: 'square' }, chips: 20_000, sources: [{ at: [40, 0], chips: 10_000 }] }), first: { threads: 2 }, second: { threads: 1 }, kind: 'tiled' },
   { name: 'square, uploaded array background with a tall tower (reserves of the upload)', p: uploaded, first: { threads: 1, reserveBatch: 2000 }, second: { threads: 1, reserveBatch: 2000 }, kind: 'tiled' },
-  { name: 'triangular', p: () => problem({ lattice: { preset: 'triangular' }, chips: 40_000 }), kind: 'tiled' },
+  { name: 'triangular', p: () => problem({ lattice: { preset: 'triangular' }, chips: 30_000 }), kind: 'tiled' },
   { name: 'honeycomb (several classes)', p: () => problem({ lattice: { preset: 'honeycomb' }, chips: 10_000 }), kind: 'tiled' },
   { name: 'line', p: () => problem({ lattice: { preset: 'line' }, chips: 800 }), kind: 'tiled' },
   { name: 'cubic, 3-D (one thread, then two)', p: () => problem({ lattice: { preset: 'cubic' }, chips: 100_000, background: { kind: 'checkerboard', a: 0, b: 1 } }), first: { threads: 1 }, second: { threads: 2 }, kind: 'tiled' },
@@ -59,10 +59,10 @@ describe('resuming from a snapshot taken midway', () => {
       expect(snap.kind).toBe(c.kind);
       // the kind is readable in the file itself, right after the magic and the header length
       expect(saved[0]!.subarray(12, 40).toString()).toContain(`{"kind":"${c.kind}"`);
-      // really midway: some topplings done, not all
-      const done = odometerSum(snap);
-      expect(done).toBeGreaterThan(0);
-      expect(done).toBeLessThan(Number(straight.stats.totalTopplings));
+      // really midway: some topplings done, not all (a seeded grid holds a seed, which may overshoot
+      // the final odometer until repaired, so there only the level says how far it got)
+      expect(odometerSum(snap)).toBeGreaterThan(0);
+      if (snap.kind === 'tiled') expect(odometerSum(snap)).toBeLessThan(Number(straight.stats.totalTopplings));
       const resumed = await stabilize(p, { threads: 1, ...c.second, resume: snap });
       expect(strip(resumed)).toEqual(strip(straight));
       expect(resumed.stats.certificate?.passed).toBe(true);
