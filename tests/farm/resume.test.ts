@@ -60,6 +60,9 @@ async function storedCheckpointLevel(runId: string): Promise<number | null> {
 
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
 
+/** a plain-engine checkpoint of one run, kept for the next test to plant under another run */
+let foreignCheckpoint: Buffer | null = null;
+
 /** The stored arrays equal those of an uninterrupted in-process run of the same spec (sha256 of heights and odometer). */
 async function expectUninterruptedArrays(runId: string, spec: Run['spec']) {
   const keys = arrayKeys(runId);
@@ -177,6 +180,7 @@ describe('a worker killed mid-run', () => {
 
     // the store holds a snapshot of the plain engine, midway: some topplings done
     const snap = await storedCheckpoint(run.id);
+    foreignCheckpoint = await h.deps.blobs.get(checkpointKey(run.id));
     expect(snap?.kind).toBe('tiled');
     expect(snap?.kind === 'tiled' && snap.od.some((u) => u > 0)).toBe(true);
     expect(await h.deps.blobs.exists(arrayKeys(run.id).sidecar)).toBe(false);
@@ -193,6 +197,23 @@ describe('a worker killed mid-run', () => {
     const { straight } = await expectUninterruptedArrays(run.id, done.spec);
     expect(done.stats!.totalTopplings).toBe(straight.stats.totalTopplings.toString());
     expect(done.stats!.grainsIn).toBe('75000');
+    await expectChargedOnce(run.id);
+  });
+
+  it('refuses a checkpoint of another run found under its key, starts over and stores the right arrays', { timeout: 60_000 }, async () => {
+    expect(foreignCheckpoint, 'the test above keeps a checkpoint').not.toBeNull();
+    for (const w of workers.splice(0)) await w.kill();
+    // no worker runs: the job waits while a checkpoint of another specification is planted under its key
+    const spec = { lattice: { preset: 'square' }, chips: 20_000, sources: [{ at: [40, 0], chips: 10_000 }] } as const;
+    const run = await submit('Foreign checkpoint', spec);
+    await h.deps.blobs.put(checkpointKey(run.id), foreignCheckpoint!, 'application/octet-stream');
+    const worker = startWorkerProcess(workerEnv());
+    workers.push(worker);
+    const done = await runSettled(h, author, run.id, 45_000);
+    expect(done.status, `${done.error}\n${worker.output()}`).toBe('finished');
+    expect(worker.output()).toMatch(new RegExp(`run ${run.id}: the checkpoint was refused \\(the checkpoint belongs to a different run specification\\); starting from the beginning`));
+    expect(await h.deps.blobs.exists(checkpointKey(run.id))).toBe(false);
+    await expectUninterruptedArrays(run.id, done.spec);
     await expectChargedOnce(run.id);
   });
 });
