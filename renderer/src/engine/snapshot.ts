@@ -49,8 +49,9 @@ export interface TiledSnapshot extends SnapshotBase {
   od: Float64Array;
   /** reserves as (x, y, z, grains left) quadruples, lattice coordinates */
   reserves: Float64Array;
-  /** grains fed into the box so far (progress) */
+  /** grains fed into the box so far, and in the round being relaxed (progress) */
   injected: number;
+  roundFed: number;
 }
 
 export type Snapshot = SeededSnapshot | TiledSnapshot;
@@ -117,6 +118,7 @@ const headerSchema = z.discriminatedUnion('kind', [
     tiles: z.tuple([int.min(1), int.min(1), int.min(1)]),
     origin: z.tuple([int, int, int]),
     injected: z.number().min(0),
+    roundFed: z.number().min(0),
     arrays: z.array(z.strictObject({ name: z.enum(['h', 'od', 'reserves']), type: z.enum(['int32', 'float64', 'float32']), length: int.min(0), crc32: int })),
   }),
 ]);
@@ -142,7 +144,7 @@ export function encodeSnapshot(s: Snapshot): Uint8Array[] {
     meta = { level: s.level, repairRounds: s.repairRounds, prevEvents: s.prevEvents, grid, coarse };
   } else {
     arrays = [['h', s.h], ['od', s.od], ['reserves', s.reserves]];
-    meta = { tiles: s.tiles, origin: s.origin, injected: s.injected };
+    meta = { tiles: s.tiles, origin: s.origin, injected: s.injected, roundFed: s.roundFed };
   }
   const header = {
     kind: s.kind, format: s.format, engineVersion: s.engineVersion, specKey: s.specKey, ...meta,
@@ -219,7 +221,7 @@ export function decodeSnapshot(bytes: Uint8Array): Snapshot {
   if (!(r instanceof Float64Array) || r.length % 4 !== 0) throw new SnapshotError("the checkpoint's reserves are missing or malformed");
   return {
     kind: 'tiled', format: SNAPSHOT_FORMAT, engineVersion: head.engineVersion, specKey: head.specKey,
-    tiles: head.tiles, origin: head.origin, h, od: need('od', Float64Array, h.length), reserves: r, injected: head.injected,
+    tiles: head.tiles, origin: head.origin, h, od: need('od', Float64Array, h.length), reserves: r, injected: head.injected, roundFed: head.roundFed,
   };
 }
 

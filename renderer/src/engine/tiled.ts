@@ -145,7 +145,7 @@ export async function stabilizeTiled(problem: Problem, options: TiledOptions = {
   const snapshot = (): TiledSnapshot => {
     const r = new Float64Array(4 * reserves.length);
     reserves.forEach((v, k) => r.set([...v.at, v.left], 4 * k));
-    return { ...base!, kind: 'tiled', tiles: [domain.geo.tnx, domain.geo.tny, domain.geo.tnz], origin: [domain.ox, domain.oy, domain.oz], h: domain.h, od: domain.od, reserves: r, injected };
+    return { ...base!, kind: 'tiled', tiles: [domain.geo.tnx, domain.geo.tny, domain.geo.tnz], origin: [domain.ox, domain.oy, domain.oz], h: domain.h, od: domain.od, reserves: r, injected, roundFed: lastFed };
   };
   // progress is an estimate: grains fed so far, and within a batch the toppled area against the area
   // such a pile usually covers (about grains / (0.55 * degree) sites: n / 2.2 on Z^2, common practice)
@@ -171,7 +171,8 @@ export async function stabilizeTiled(problem: Problem, options: TiledOptions = {
   try {
     for (;;) {
       let fed = false;
-      lastFed = 0;
+      // progress within a round counts from what the round fed (a resumed round: what it had fed)
+      lastFed = feed ? 0 : Math.min(resume!.roundFed, injected);
       if (feed) for (const r of reserves) {
         if (r.left === 0) continue;
         const amount = Math.min(r.left, batch);
