@@ -1,7 +1,7 @@
 import { availableParallelism } from 'node:os';
 import { Domain } from './domain.js';
 import { NotStabilizedError } from './errors.js';
-import { IDLE, PENDING_FULL, relaxTile } from './kernel.js';
+import { IDLE, PENDING_FULL, relaxTile, STACK_SLACK } from './kernel.js';
 import { DEFAULT_MAX_SITES, RESERVE_BATCH } from './limits.js';
 import { buildOutcome, type Outcome } from './outcome.js';
 import { acquireWorkers, releaseWorkers, type TileWorker } from './parallel.js';
@@ -136,7 +136,7 @@ export async function stabilizeTiled(problem: Problem, options: TiledOptions = {
           if (v >= minDeg) enlist(domain.markFull(i));
         }
   }
-  const stack = new Int32Array(T[0] * T[1] * T[2]);
+  const stack = new Int32Array(T[0] * T[1] * T[2] + STACK_SLACK);
   let injected = resume?.injected ?? 0;
   let lastReport = 0;
   let lastYield = performance.now();
