@@ -300,3 +300,25 @@ export const auditEvents = pgTable('audit_events', {
   // the retention sweep and the storage page look up notices per run
   index('audit_events_action_subject_idx').on(t.action, t.subjectId),
 ]);
+
+/**
+ * The transactional outbox of farm jobs (api/src/queue/outbox.ts): a route records the job in the
+ * same transaction as the run (or figure version) it is for, so a job is never lost while Redis is
+ * away; the dispatcher adds it to BullMQ under its own job id (a repeat is a no-op) and deletes the
+ * row. One pending row per farm and job id.
+ */
+export const jobOutbox = pgTable('job_outbox', {
+  id: bigint('id', { mode: 'number' }).primaryKey().generatedAlwaysAsIdentity(),
+  /** the BullMQ key prefix of the farm it is for (BULLMQ_PREFIX): dispatchers send only their own farm's jobs */
+  queuePrefix: text('queue_prefix').notNull(),
+  /** shared/jobs.ts jobIdFor: the BullMQ job id the dispatcher adds it under */
+  jobId: text('job_id').notNull(),
+  /** shared/jobs.ts JOB_NAMES */
+  name: text('name').notNull(),
+  /** the job's data, parsed with JOB_DATA_SCHEMAS before it is sent */
+  data: jsonb('data').notNull(),
+  createdAt: createdAt(),
+  /** failed dispatch attempts (Redis away) and the last reason, for the admin and the logs */
+  attempts: integer('attempts').notNull().default(0),
+  lastError: text('last_error'),
+}, (t) => [uniqueIndex('job_outbox_job_idx').on(t.queuePrefix, t.jobId)]);

@@ -61,11 +61,11 @@ async function main(): Promise<void> {
   stack.sup.onUnexpectedExit((s) => {
     void shutdown(`${s.spec.name} exited unexpectedly (${s.exit?.code ?? s.exit?.signal}); see ${s.logFile}`, 1).then(() => process.exit(exitCode));
   });
-  if (exists(PRODUCT.worker)) stack.sup.start(workerSpec(stack.env));
+  if (exists(PRODUCT.worker)) stack.sup.start(workerSpec(stack.childEnv));
   else log.warn(`${PRODUCT.worker} does not exist yet; no renderer worker started`);
 
   if (exists(PRODUCT.api)) {
-    const api = stack.sup.start(apiSpec(stack.env));
+    const api = stack.sup.start(apiSpec(stack.childEnv));
     await waitUntil('api', () => httpOk(`${e.PUBLIC_URL}/api/health`), {
       timeoutMs: 60_000,
       gaveUp: () => (api.exit ? `exited before answering /api/health; see ${api.logFile}` : stack.stopping ? 'stopped' : null),

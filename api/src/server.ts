@@ -5,6 +5,7 @@ import type { AppDeps } from './deps.js';
 import { createLogger } from './logger.js';
 import { createSmtpMailer } from './mail/mailer.js';
 import { createJobQueue } from './queue/job-queue.js';
+import { startOutboxDispatcher } from './queue/outbox.js';
 import { createS3BlobStore, ensureBucket } from './storage/s3-blob-store.js';
 
 /** The API process: build the real dependencies from the environment, listen, and close cleanly on a signal. */
@@ -21,6 +22,8 @@ async function main(): Promise<void> {
     blobs: createS3BlobStore(env),
     queue: createJobQueue(env.REDIS_URL, { prefix: env.BULLMQ_PREFIX }),
   };
+  // jobs recorded while Redis was away (or by a process that stopped before sending them) go out from here
+  const outbox = startOutboxDispatcher(deps);
   // Express 5 hands listen errors (a port in use) to this callback instead of throwing.
   const server = createApp(deps).listen(env.PORT, env.HOST, (err?: Error) => {
     if (err) {
@@ -32,6 +35,7 @@ async function main(): Promise<void> {
   const stop = (signal: string) => {
     log.info(`${signal}: closing`);
     server.close(async () => {
+      await outbox.stop();
       await Promise.allSettled([deps.queue.close(), database.close()]);
       deps.mailer.close();
       deps.blobs.close();

@@ -1,7 +1,9 @@
+import crypto from 'node:crypto';
 import fs from 'node:fs';
 import type { AddressInfo } from 'node:net';
 import S3rver from 's3rver';
 import { closeOnSignals, exitWith, isMain, portFlag, readFlags } from './cli.js';
+import { S3_FAKE_NODE_OPTIONS } from '../lib/s3-fake-env.js';
 
 /**
  * The S3-compatible object store for development and tests: s3rver, with the project's bucket
@@ -9,6 +11,17 @@ import { closeOnSignals, exitWith, isMain, portFlag, readFlags } from './cli.js'
  * presigned URLs. Clients must use forcePathStyle and the WHEN_REQUIRED checksum settings (see
  * infra/README.md): with the SDK defaults, stream uploads are stored aws-chunked.
  */
+
+/** Whether this process can page listings (infra/lib/s3-fake-env.ts: s3rver's tokens need OpenSSL's legacy provider). */
+export function canPageListings(): boolean {
+  try {
+    crypto.createCipheriv('des', Buffer.alloc(8), Buffer.alloc(8));
+    return true;
+  } catch {
+    return false;
+  }
+}
+
 export interface S3FakeOptions {
   host?: string;
   /** 0 picks a free port */
@@ -62,6 +75,7 @@ if (isMain(import.meta.url)) {
   try {
     const fake = await startS3Fake({ host: flags.host, port: portFlag(flags, 'port', 14569), directory: flags.dir, bucket: flags.bucket });
     console.log(`s3 fake: ${fake.endpoint}, bucket ${flags.bucket ?? 'toppleworks'}, data in ${flags.dir}`);
+    if (!canPageListings()) console.error(`s3 fake: listings of more than 1,000 objects will fail: start it with NODE_OPTIONS=${S3_FAKE_NODE_OPTIONS}`);
     closeOnSignals(() => fake.close());
   } catch (err) {
     exitWith(1, `s3 fake: cannot start: ${(err as Error).message}`);

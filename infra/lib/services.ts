@@ -64,11 +64,11 @@ export const PRODUCT = {
 
 export const exists = (rel: string) => fs.existsSync(path.join(ROOT, rel));
 
-export function apiSpec(env: Record<string, string>): ServiceSpec {
+export function apiSpec(env: NodeJS.ProcessEnv): ServiceSpec {
   return tsxService('api', PRODUCT.api, [], env, { echo: true });
 }
 
-export function workerSpec(env: Record<string, string>): ServiceSpec {
+export function workerSpec(env: NodeJS.ProcessEnv): ServiceSpec {
   // a worker in the middle of a job gets time to checkpoint before SIGKILL
   return tsxService('worker', PRODUCT.worker, [], env, { echo: true, stopTimeoutMs: 20_000 });
 }

@@ -5,6 +5,7 @@ import { startPostgres, stopPostgresIn, type PostgresHandle } from './postgres.j
 import { postgresHome, profileDirs, ROOT, serviceEnv, type Profile } from './profile.js';
 import { acquireRunLock } from './run-lock.js';
 import { runOnce, tail, taskResult } from './run-once.js';
+import { s3FakeEnv } from './s3-fake-env.js';
 import { checkPortsFree, exists, fakeSpecs, PRODUCT, redisSpec, TSX, waitForPort } from './services.js';
 import { stopLeftovers, Supervisor } from './supervisor.js';
 
@@ -62,7 +63,8 @@ export class Stack {
     await checkPortsFree(p, opts.includeApiPort);
     this.check();
     // Redis and the fakes boot (a few seconds of tsx start-up) while PostgreSQL is created and started.
-    const specs = [redisSpec(p, this.childEnv), ...fakeSpecs(p, this.env).map((s) => ({ ...s, env: this.childEnv }))];
+    // the S3 fake runs with OpenSSL's legacy provider, or s3rver cannot page a listing (infra/lib/s3-fake-env.ts)
+    const specs = [redisSpec(p, this.childEnv), ...fakeSpecs(p, this.env).map((s) => ({ ...s, env: s.name === 's3' ? s3FakeEnv(this.childEnv) : this.childEnv }))];
     const ports = [p.ports.redis, p.ports.s3, p.ports.smtp, p.ports.payments];
     const started = specs.map((spec) => this.sup.start(spec));
     const ready = Promise.all(started.map((s, i) => waitForPort(s, ports[i]!)))

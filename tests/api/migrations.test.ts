@@ -46,6 +46,7 @@ describe('migrations from an empty database', () => {
       'figure_versions',
       'figures',
       'invitations',
+      'job_outbox',
       'labs',
       'ledger_entries',
       'ledger_lines',

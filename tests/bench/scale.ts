@@ -160,7 +160,7 @@ async function main(): Promise<void> {
   const fitFrom = (threads: number, from: number) => growthExponent(results.filter((r) => isSquare(r) && r.threads === threads && r.n >= from));
   const header = ['n', 'lattice', 'threads', 'wall s', 'cell updates/s', 'events/s', 'peak RSS MiB', 'bytes/cell', '2T speed-up', 'vs square', 'C s', 'C / ours', 'repairs'];
   const rows = results.map((r) => {
-    const c = isSquare(r) && r.threads === 2 ? cSeconds.get(r.n) : undefined;
+    const c = isSquare(r) ? cSeconds.get(r.n) : undefined;
     const one = results.find((o) => o.n === r.n && o.lattice === r.lattice && o.background === r.background && o.threads === 1);
     const square = results.find((o) => o.n === r.n && isSquare(o) && o.threads === r.threads);
     return [
@@ -191,7 +191,7 @@ async function main(): Promise<void> {
   );
   console.log(`load average at the end: ${loadavg().map((v) => v.toFixed(2)).join(' ')}`);
   console.log('cell updates/s = topplings of the result / wall s; events/s = toppling events the relaxation actually performed / wall s');
-  console.log('bytes/cell = (peak RSS − baseline RSS) / cells of the result arrays; C / ours = C sweep wall time over ours (2 threads) at the same n');
+  console.log('bytes/cell = (peak RSS − baseline RSS) / cells of the result arrays; C / ours = C sweep wall time over ours in the same row (one and two threads, same n)');
   console.log('2T speed-up = 1-thread wall time over 2-thread wall time at the same n; vs square = wall time over the square lattice\'s at the same n and threads');
   if (failures) {
     console.error(`${failures} check(s) failed`);

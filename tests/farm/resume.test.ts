@@ -3,6 +3,7 @@
  * worker takes the job up once the lock of the dead one runs out, resumes from the checkpoint in
  * the object store; stopped with SIGTERM, that worker hands the job straight back, and a third one
  * resumes it again and stores the same arrays as an uninterrupted run; the lab is charged once.
+ * Both paths of the engine: the seeded fast path and the plain tiled engine (two sources).
  */
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -14,21 +15,16 @@ import { runResponseSchema, type Run } from '../../shared/api/runs.js';
 import { JOB_NAMES, jobIdFor, queueOf, type JobItem } from '../../shared/jobs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys, checkpointKey } from '../../renderer/src/farm/artifacts.js';
-import { readCheckpoint } from '../../renderer/src/scale/index.js';
-import { resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
+import { decodeSnapshot, resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
 import { arrayHash, heightsForExport, odometerForExport } from '../../renderer/src/cli/export-arrays.js';
 import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
 import { startWorkerProcess, type WorkerProcess } from './worker-process.js';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
 
 let h: Harness;
 let author: Session;
 let labId: string;
 let redis: Redis;
 const workers: WorkerProcess[] = [];
-const scratch = mkdtempSync(path.join(tmpdir(), 'tw-resume-test-'));
 
 /** short lock and checkpoint period so the test takes seconds; production defaults are 30 s and 60 s */
 const workerEnv = () => ({ BULLMQ_PREFIX: h.queuePrefix, WORKER_CHECKPOINT_SECONDS: '0.3', WORKER_LOCK_SECONDS: '2', WORKER_THREADS: '1' });
@@ -44,7 +40,6 @@ afterAll(async () => {
   for (const w of workers) await w.kill();
   await redis?.quit();
   await h?.close();
-  rmSync(scratch, { recursive: true, force: true });
 });
 
 async function submit(title: string, spec: unknown): Promise<Run> {
@@ -54,15 +49,42 @@ async function submit(title: string, spec: unknown): Promise<Run> {
 }
 
 /** the checkpoint in the store, read with the engine's own reader; null while there is none */
-async function storedCheckpointLevel(runId: string): Promise<number | null> {
+async function storedCheckpoint(runId: string) {
   const bytes = await h.deps.blobs.get(checkpointKey(runId));
-  if (!bytes) return null;
-  const file = path.join(scratch, 'peek.twckpt');
-  writeFileSync(file, bytes);
-  return readCheckpoint(file).level;
+  return bytes ? decodeSnapshot(new Uint8Array(bytes)) : null;
+}
+async function storedCheckpointLevel(runId: string): Promise<number | null> {
+  const s = await storedCheckpoint(runId);
+  return s?.kind === 'seeded' ? s.level : null;
 }
 
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
+
+/** a plain-engine checkpoint of one run, kept for the next test to plant under another run */
+let foreignCheckpoint: Buffer | null = null;
+
+/** The stored arrays equal those of an uninterrupted in-process run of the same spec (sha256 of heights and odometer). */
+async function expectUninterruptedArrays(runId: string, spec: Run['spec']) {
+  const keys = arrayKeys(runId);
+  const sidecar = JSON.parse((await h.deps.blobs.get(keys.sidecar))!.toString('utf8'));
+  const heightsNpy = readNpy(new Uint8Array((await h.deps.blobs.get(keys.heights))!));
+  const odometerNpy = readNpy(new Uint8Array((await h.deps.blobs.get(keys.odometer))!));
+  const straight = await stabilize(resolveProblem(spec));
+  const heights = heightsForExport(straight.heights);
+  const odometer = odometerForExport(straight.odometer, 'int64');
+  expect(heightsNpy.shape).toEqual(straight.shape);
+  expect(sha256(new Uint8Array(heightsNpy.data.buffer, heightsNpy.data.byteOffset, heightsNpy.data.byteLength))).toBe(arrayHash(heights));
+  expect(sha256(new Uint8Array(odometerNpy.data.buffer, odometerNpy.data.byteOffset, odometerNpy.data.byteLength))).toBe(arrayHash(odometer));
+  expect(sidecar.heights.sha256).toBe(arrayHash(heights));
+  expect(sidecar.odometer.sha256).toBe(arrayHash(odometer));
+  return { straight, heightsNpy };
+}
+
+/** Charged exactly once: one reservation at submission, one settlement at the end, no release. */
+async function expectChargedOnce(runId: string) {
+  const entries = await h.deps.db.select({ kind: ledgerEntries.kind }).from(ledgerEntries).where(eq(ledgerEntries.runId, runId));
+  expect(entries.map((e) => e.kind).sort()).toEqual(['reservation', 'settlement']);
+}
 
 describe('a worker killed mid-run', () => {
   it('hands the run to a new worker, which resumes from the checkpoint (and hands it back on SIGTERM), and the arrays are those of an uninterrupted run, charged once', { timeout: 150_000 }, async () => {
@@ -132,28 +154,66 @@ describe('a worker killed mid-run', () => {
     expect(await h.deps.blobs.exists(checkpointKey(run.id))).toBe(false);
 
     // the stored arrays are those of an uninterrupted run of the same spec (computed here, in-process)
-    const keys = arrayKeys(run.id);
-    const sidecar = JSON.parse((await h.deps.blobs.get(keys.sidecar))!.toString('utf8'));
-    const heightsNpy = readNpy(new Uint8Array((await h.deps.blobs.get(keys.heights))!));
-    const odometerNpy = readNpy(new Uint8Array((await h.deps.blobs.get(keys.odometer))!));
-    const straight = await stabilize(resolveProblem(done.spec));
+    const { straight, heightsNpy } = await expectUninterruptedArrays(run.id, done.spec);
     phase('uninterrupted reference computed');
-    const heights = heightsForExport(straight.heights);
-    const odometer = odometerForExport(straight.odometer, 'int64');
-    expect(heightsNpy.shape).toEqual(straight.shape);
-    expect(sha256(new Uint8Array(heightsNpy.data.buffer, heightsNpy.data.byteOffset, heightsNpy.data.byteLength))).toBe(arrayHash(heights));
-    expect(sha256(new Uint8Array(odometerNpy.data.buffer, odometerNpy.data.byteOffset, odometerNpy.data.byteLength))).toBe(arrayHash(odometer));
-    expect(sidecar.heights.sha256).toBe(arrayHash(heights));
-    expect(sidecar.odometer.sha256).toBe(arrayHash(odometer));
     expect(done.stats!.totalTopplings).toBe(straight.stats.totalTopplings.toString());
     // grains are conserved on the infinite lattice (common practice: a toppling moves grains, never loses them)
     let grains = 0;
     for (let i = 0; i < heightsNpy.data.length; i++) grains += Number(heightsNpy.data[i]!);
     expect(grains).toBe(spec.chips);
-
-    // charged exactly once: one reservation at submission, one settlement at the end, no release
-    const entries = await h.deps.db.select({ kind: ledgerEntries.kind }).from(ledgerEntries).where(eq(ledgerEntries.runId, run.id));
-    expect(entries.map((e) => e.kind).sort()).toEqual(['reservation', 'settlement']);
+    await expectChargedOnce(run.id);
     console.info(`kill and resume: ${phases.join(', ')}`);
+  });
+
+  it('resumes a run of the plain tiled engine (two sources) from its checkpoint to the arrays of an uninterrupted run, charged once', { timeout: 60_000 }, async () => {
+    // two sources: the fast path does not apply, the plain engine computes it (about 3 s on one thread)
+    const spec = { lattice: { preset: 'square' }, chips: 50_000, sources: [{ at: [60, 0], chips: 25_000 }] } as const;
+    // workers left from the test above would take the job: this one must be the first to compute it
+    for (const w of workers.splice(0)) await w.kill();
+    const first = startWorkerProcess(workerEnv());
+    workers.push(first);
+    await first.waitFor(/renderer worker ready/);
+    const run = await submit('Plain engine killed midway', spec);
+    await first.waitFor(new RegExp(`run ${run.id}: checkpoint \\d+ stored \\(plain engine,`), 30_000);
+    await first.kill();
+    expect(first.child.signalCode).toBe('SIGKILL');
+
+    // the store holds a snapshot of the plain engine, midway: some topplings done
+    const snap = await storedCheckpoint(run.id);
+    foreignCheckpoint = await h.deps.blobs.get(checkpointKey(run.id));
+    expect(snap?.kind).toBe('tiled');
+    expect(snap?.kind === 'tiled' && snap.od.some((u) => u > 0)).toBe(true);
+    expect(await h.deps.blobs.exists(arrayKeys(run.id).sidecar)).toBe(false);
+    const [mid] = await h.deps.db.select({ status: runs.status }).from(runs).where(eq(runs.id, run.id));
+    expect(mid!.status).toBe('computing');
+
+    const second = startWorkerProcess(workerEnv());
+    workers.push(second);
+    const done = await runSettled(h, author, run.id, 45_000);
+    expect(done.status, `${done.error}\n${second.output()}`).toBe('finished');
+    expect(second.output()).toMatch(new RegExp(`run ${run.id}: resuming from its checkpoint .*\\(plain engine,`));
+    expect(await h.deps.blobs.exists(checkpointKey(run.id))).toBe(false);
+
+    const { straight } = await expectUninterruptedArrays(run.id, done.spec);
+    expect(done.stats!.totalTopplings).toBe(straight.stats.totalTopplings.toString());
+    expect(done.stats!.grainsIn).toBe('75000');
+    await expectChargedOnce(run.id);
+  });
+
+  it('refuses a checkpoint of another run found under its key, starts over and stores the right arrays', { timeout: 60_000 }, async () => {
+    expect(foreignCheckpoint, 'the test above keeps a checkpoint').not.toBeNull();
+    for (const w of workers.splice(0)) await w.kill();
+    // no worker runs: the job waits while a checkpoint of another specification is planted under its key
+    const spec = { lattice: { preset: 'square' }, chips: 20_000, sources: [{ at: [40, 0], chips: 10_000 }] } as const;
+    const run = await submit('Foreign checkpoint', spec);
+    await h.deps.blobs.put(checkpointKey(run.id), foreignCheckpoint!, 'application/octet-stream');
+    const worker = startWorkerProcess(workerEnv());
+    workers.push(worker);
+    const done = await runSettled(h, author, run.id, 45_000);
+    expect(done.status, `${done.error}\n${worker.output()}`).toBe('finished');
+    expect(worker.output()).toMatch(new RegExp(`run ${run.id}: the checkpoint was refused \\(the checkpoint belongs to a different run specification\\); starting from the beginning`));
+    expect(await h.deps.blobs.exists(checkpointKey(run.id))).toBe(false);
+    await expectUninterruptedArrays(run.id, done.spec);
+    await expectChargedOnce(run.id);
   });
 });

@@ -8,12 +8,14 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
-import { readCheckpoint, writeCheckpoint } from '../../renderer/src/scale/checkpoint.js';
+import { readSnapshotFile, writeSnapshotFile } from '../../renderer/src/farm/checkpoint-file.js';
+import type { Snapshot } from '../../renderer/src/engine/index.js';
 import { stabilizeScaled, type ScaleProgress } from '../../renderer/src/scale/scaled.js';
 import { comparable, problem } from '../engine/helpers.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const dir = mkdtempSync(join(tmpdir(), 'tw-scale-'));
+const levelOf = (s: Snapshot) => (s.kind === 'seeded' ? s.level : -1);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('checkpoints', () => {
@@ -27,14 +29,15 @@ describe('checkpoints', () => {
     // kill as soon as a checkpoint of a seeded level exists (the first levels finish in milliseconds)
     const deadline = Date.now() + 60_000;
     while (Date.now() < deadline) {
-      if (existsSync(path) && readCheckpoint(path).level <= 1) break;
+      if (existsSync(path) && levelOf(readSnapshotFile(path)) <= 1) break;
       await new Promise((r) => setTimeout(r, 20));
     }
     child.kill('SIGKILL');
     await exited;
     expect(out).not.toMatch(/done/); // it really was interrupted
-    const snap = readCheckpoint(path);
-    expect(snap.level).toBeLessThanOrEqual(1);
+    const snap = readSnapshotFile(path);
+    expect(snap.kind).toBe('seeded');
+    expect(levelOf(snap)).toBeLessThanOrEqual(1);
 
     const p = problem({ lattice: { preset: 'square' }, chips: n });
     const resumed = await stabilizeScaled(p, { resume: snap });
@@ -50,18 +53,18 @@ describe('checkpoints', () => {
 
   it('refuses a checkpoint of another run and a damaged file with one-line errors', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 5000 });
-    let snap: Parameters<typeof writeCheckpoint>[1] | null = null;
+    let snap: Snapshot | null = null;
     await stabilizeScaled(p, { baseChips: 16, checkpoint: { everySeconds: 0, save: (s) => (snap ??= structuredClone(s)) } });
     const other = problem({ lattice: { preset: 'square' }, chips: 5001 });
     if (snap) {
       await expect(stabilizeScaled(other, { resume: snap })).rejects.toThrow(/different run/);
       const path = join(dir, 'ok.ckpt');
-      writeCheckpoint(path, snap);
-      expect(readCheckpoint(path).specKey).toBe((snap as { specKey: string }).specKey);
+      writeSnapshotFile(path, snap);
+      expect(readSnapshotFile(path).specKey).toBe((snap as Snapshot).specKey);
     }
     const bad = join(dir, 'bad.ckpt');
     writeFileSync(bad, 'not a checkpoint at all');
-    expect(() => readCheckpoint(bad)).toThrow(/not a Toppleworks checkpoint/);
+    expect(() => readSnapshotFile(bad)).toThrow(/not a Toppleworks checkpoint/);
   }, 60_000);
 });
 

@@ -8,6 +8,11 @@ export type Database = { db: Db; pool: pg.Pool; close(): Promise<void> };
 /** One pool per process; `close()` ends it so tests and scripts exit cleanly. */
 export function connectDatabase(databaseUrl: string, maxConnections = 10): Database {
   const pool = new pg.Pool({ connectionString: databaseUrl, max: maxConnections });
+  // errors of ours to the database carry its name, so the API can say which service is away
+  const mark = (err: unknown) => {
+    if (err && typeof err === 'object') Object.assign(err, { dependency: 'the database' });
+    return err;
+  };
   // An idle client whose server went away (a restart, a dropped test database) emits 'error' on the
   // pool; unheard, that would end the process. The next query simply gets a fresh connection.
   pool.on('error', (err) => console.error(`database connection lost: ${err.message}`));
@@ -16,15 +21,18 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
   // The statement in progress fails on its own and the request answers 503 (http/unavailable.ts).
   pool.on('connect', (client) => {
     client.on('error', (err) => console.error(`database connection lost: ${err.message}`));
+    // a statement on a checked-out client (BEGIN and COMMIT of a transaction are not wrapped by
+    // drizzle) fails with a bare ECONNRESET when the server goes away: mark it as the database's
+    const query = client.query.bind(client) as (...args: unknown[]) => unknown;
+    (client as unknown as { query: typeof query }).query = (...args) => {
+      const r = query(...args);
+      return r instanceof Promise ? r.catch((err: unknown) => Promise.reject(mark(err))) : r;
+    };
   });
   // A failure to connect (refused, or reset while the server shuts down) carries no sign of where it
   // came from; mark it, so the API can say "the database is not answering" (http/unavailable.ts).
   // drizzle wraps failures of statements itself (DrizzleQueryError), connections not.
   const connect = pool.connect.bind(pool) as (cb?: (err: Error | undefined, ...rest: unknown[]) => void) => unknown;
-  const mark = (err: unknown) => {
-    if (err && typeof err === 'object') Object.assign(err, { dependency: 'the database' });
-    return err;
-  };
   (pool as unknown as { connect: typeof connect }).connect = (cb) =>
     cb ? connect((err, ...rest) => cb(err ? (mark(err) as Error) : err, ...rest)) : (connect() as Promise<unknown>).catch((err: unknown) => Promise.reject(mark(err)));
   const db = drizzle(pool, { schema });

@@ -1,6 +1,7 @@
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { QUEUE_NAMES, QUEUE_PREFIX, type QueueName } from '../../../shared/jobs.js';
+import { closeConnection, withinBudget } from './redis-ready.js';
 import { workerHeartbeatSchema, type WorkerHeartbeat } from '../../../shared/api/admin.js';
 
 /**
@@ -22,13 +23,17 @@ export interface FarmHealth {
   close(): Promise<void>;
 }
 
+/** the snapshot reads every queue (a few dozen commands): more than one call's budget, still prompt */
+const SNAPSHOT_MS = 5000;
+
 const runIdOf = (data: unknown) => (data && typeof data === 'object' && typeof (data as { runId?: unknown }).runId === 'string' ? (data as { runId: string }).runId : null);
 
 export function createFarmHealth(redisUrl: string, options: { prefix?: string } = {}): FarmHealth {
   const prefix = options.prefix ?? QUEUE_PREFIX;
   let connection: Redis | null = null;
   const queues = new Map<QueueName, Queue>();
-  const conn = () => (connection ??= new Redis(redisUrl, { maxRetriesPerRequest: null }));
+  // errors reach the caller through withinBudget; without a listener ioredis prints each reconnect failure
+  const conn = () => (connection ??= new Redis(redisUrl, { maxRetriesPerRequest: null }).on('error', () => {}));
   const queueFor = (name: QueueName) => {
     let q = queues.get(name);
     if (!q) queues.set(name, (q = new Queue(name, { connection: conn(), prefix })));
@@ -54,7 +59,8 @@ export function createFarmHealth(redisUrl: string, options: { prefix?: string } 
   }
 
   return {
-    async snapshot() {
+    // within a budget each (redis-ready.ts): the admin page and a retry answer 503 while Redis is away
+    snapshot: () => withinBudget(conn(), async () => {
       const out: FarmSnapshot = { queues: [], workers: await heartbeats(), bullWorkers: 0, failed: [] };
       for (const name of names) {
         const q = queueFor(name);
@@ -87,19 +93,21 @@ export function createFarmHealth(redisUrl: string, options: { prefix?: string } 
       }
       out.failed.sort((a, b) => (b.failedAt?.getTime() ?? 0) - (a.failedAt?.getTime() ?? 0));
       return out;
-    },
+    }, SNAPSHOT_MS),
     async retry(queue, jobId) {
       const name = names.find((n) => n === queue);
       if (!name) return null;
-      const job = await queueFor(name).getJob(jobId);
-      if (!job || !(await job.isFailed())) return null;
-      await job.retry('failed');
-      return { name: job.name, runId: runIdOf(job.data) };
+      return withinBudget(conn(), async () => {
+        const job = await queueFor(name).getJob(jobId);
+        if (!job || !(await job.isFailed())) return null;
+        await job.retry('failed');
+        return { name: job.name, runId: runIdOf(job.data) };
+      });
     },
     async close() {
       await Promise.all([...queues.values()].map((q) => q.close()));
       queues.clear();
-      if (connection) await connection.quit().catch(() => connection?.disconnect());
+      if (connection) await closeConnection(connection);
       connection = null;
     },
   };

@@ -84,14 +84,14 @@ export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
   r.post('/admin/labs/:labId/suspension', async (req, res) => {
     const { labId } = validate.params(req, labParamsSchema);
     const { reason } = validate.body(req, suspensionRequestSchema);
-    const row = await suspendLab({ db, queue }, labId, authOf(res).user.id, reason);
+    const row = await suspendLab({ db, queue, log: deps.log }, labId, authOf(res).user.id, reason);
     respond(res, 200, adminLabStateResponseSchema, await labState(labId, row, row.jobsAffected));
   });
 
   r.post('/admin/labs/:labId/reinstatement', async (req, res) => {
     const { labId } = validate.params(req, labParamsSchema);
     const { reason } = validate.body(req, suspensionRequestSchema);
-    const row = await reinstateLab({ db, queue }, labId, authOf(res).user.id, reason);
+    const row = await reinstateLab({ db, queue, log: deps.log }, labId, authOf(res).user.id, reason);
     respond(res, 200, adminLabStateResponseSchema, await labState(labId, row, row.jobsAffected));
   });
 

@@ -15,7 +15,8 @@ import {
   updateFigureRequestSchema,
   type Figure,
 } from '../../../shared/api/figures.js';
-import { JOB_NAMES } from '../../../shared/jobs.js';
+import { JOB_NAMES, jobIdFor } from '../../../shared/jobs.js';
+import { dispatchNow, recordJobs } from '../queue/outbox.js';
 import { figures, figureVersions, runs } from '../../../drizzle/schema.js';
 import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
@@ -47,7 +48,7 @@ import {
  * the farm), publishing with a permanent link that keeps answering after it is withdrawn, the
  * public index, and downloads through presigned, expiring addresses.
  */
-export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
+export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
   const r = Router();
 
   const publicView = (row: FigureRow): Figure => {
@@ -183,15 +184,12 @@ export function figuresRouter({ db, queue, blobs }: AppDeps): Router {
           .where(eq(figureVersions.figureId, row.figure.id))) as [{ next: number }];
         const [v] = await tx.insert(figureVersions).values({ figureId: row.figure.id, number: Number(next), spec, formats, orderedById: user.id }).returning();
         await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.order', subjectType: 'figure', subjectId: row.figure.id, detail: { version: v!.number, formats } });
+        // the print job is recorded with the version (queue/outbox.ts), so Redis being away loses no order
+        await recordJobs(tx, queue, [{ name: JOB_NAMES.printFigure, data: { versionId: v!.id } }]);
         return v!;
       });
-    // after the commit, so the worker always finds the row; an order that cannot be queued is removed again
-    try {
-      await queue.enqueue({ name: JOB_NAMES.printFigure, data: { versionId: version.id } });
-    } catch (err) {
-      await db.delete(figureVersions).where(eq(figureVersions.id, version.id));
-      throw err;
-    }
+    // sent after the commit, so the worker always finds the row; while Redis is away the outbox keeps it
+    await dispatchNow({ db, queue, log }, [jobIdFor({ name: JOB_NAMES.printFigure, data: { versionId: version.id } })]);
     respond(res, 202, figureVersionResponseSchema, { version: versionView(slug, { ...version, orderedBy: user.name }) });
   });
 

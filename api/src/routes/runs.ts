@@ -37,7 +37,7 @@ function latticeCondition(lattice: string): SQL {
   return sql`(${runs.spec}->'lattice'->>'preset' = ${lattice} or ${runs.spec}->'lattice'->>'name' = ${lattice})`;
 }
 
-export function runsRouter({ db, queue }: AppDeps): Router {
+export function runsRouter({ db, queue, log }: AppDeps): Router {
   const r = Router();
   const selectRun = () => db.select({ run: runs, author: { id: users.id, name: users.name } }).from(runs).innerJoin(users, eq(users.id, runs.authorId));
   const missing = () => notFound('run not found');
@@ -91,7 +91,7 @@ export function runsRouter({ db, queue }: AppDeps): Router {
     const body = validate.body(req, createRunRequestSchema);
     const user = authOf(res).user;
     await checkLabAccess(db, user, body.labId, 'member');
-    const { rows: [run] } = await createRuns({ db, queue }, user, body.labId, [{ title: body.title, spec: body.spec }]);
+    const { rows: [run] } = await createRuns({ db, queue, log }, user, body.labId, [{ title: body.title, spec: body.spec }]);
     respond(res, 201, runResponseSchema, { run: runView(run!, { id: user.id, name: user.name }) });
   });
 
@@ -102,7 +102,7 @@ export function runsRouter({ db, queue }: AppDeps): Router {
     const user = authOf(res).user;
     const { run } = await loadRun(id, res);
     await checkLabAccess(db, user, run.labId, 'member');
-    const { rows: [again] } = await createRuns({ db, queue }, user, run.labId, [{ title: body.title ?? run.title, spec: run.spec }], { action: 'run.rerun', detail: { from: run.id } });
+    const { rows: [again] } = await createRuns({ db, queue, log }, user, run.labId, [{ title: body.title ?? run.title, spec: run.spec }], { action: 'run.rerun', detail: { from: run.id } });
     respond(res, 201, runResponseSchema, { run: runView(again!, { id: user.id, name: user.name }) });
   });
 
@@ -134,8 +134,10 @@ export function runsRouter({ db, queue }: AppDeps): Router {
       return row;
     });
     const job: JobItem = { name: JOB_NAMES.computeRun, data: { runId: id, spec: run.spec } };
-    // A job already running notices the status; a waiting one is dropped here.
-    await queue.remove(job);
+    // A job already running notices the status; a waiting one is dropped here. While Redis is away
+    // the cancellation still stands: a worker that takes the job later skips a cancelled run, and the
+    // outbox sends no job for it.
+    await queue.remove(job).catch((err: unknown) => log.warn('the cancelled run\'s job stays on the queue until a worker skips it', { runId: id, err }));
     respond(res, 200, runResponseSchema, { run: runView(updated, author) });
   });
 

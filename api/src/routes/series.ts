@@ -16,7 +16,7 @@ export function chipsLabel(n: number): string {
   return Number.isInteger(exponent) && exponent >= 2 ? `n = 10^${exponent}` : `n = ${n.toLocaleString('en-US')}`;
 }
 
-export function seriesRouter({ db, queue }: AppDeps): Router {
+export function seriesRouter({ db, queue, log }: AppDeps): Router {
   const r = Router();
 
   async function load(id: string) {
@@ -50,7 +50,7 @@ export function seriesRouter({ db, queue }: AppDeps): Router {
     await checkLabAccess(db, user, body.labId, 'member');
     const chips = [...body.chips].sort((a, b) => a - b);
     const { seriesId } = await createRuns(
-      { db, queue },
+      { db, queue, log },
       user,
       body.labId,
       chips.map((n) => ({ title: `${body.title} · ${chipsLabel(n)}`, spec: { ...body.spec, chips: n } })),

@@ -11,6 +11,7 @@ import { setAllowance } from '../services/admin-allowance.js';
 import { hashPassword } from '../auth/passwords.js';
 import { connectDatabase } from '../db/client.js';
 import { createJobQueue } from '../queue/job-queue.js';
+import { dispatchOutbox, recordJobs } from '../queue/outbox.js';
 import { audit } from '../services/audit.js';
 
 /**
@@ -93,7 +94,8 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         const spec = runSpecSchema.parse(r.spec);
         const [row] = await tx.insert(runs).values({ labId: labIds[r.lab], authorId: who(r.by), title: r.title, spec }).returning({ id: runs.id });
         runIds.push(row!.id);
-        await queue.enqueue({ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } });
+        // in the job outbox with the row (api/src/queue/outbox.ts); sent after the commit, or by the API once Redis answers
+        await recordJobs(tx, queue, [{ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } }]);
       }
       const [figure] = await tx.insert(figures).values({
         slug: 'square-lattice-one-hundred-thousand',
@@ -113,6 +115,7 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
       await audit(tx, { actorId: null, labId: null, action: 'demo.seed', reason: 'empty database at start' });
       return true;
     });
+    if (seeded) await dispatchOutbox({ db: database.db, queue });
     return seeded ? { signIns: [...DEMO_SIGN_INS] } : null;
   } finally {
     await queue.close();

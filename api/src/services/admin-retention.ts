@@ -132,23 +132,14 @@ export async function mailRetentionNotices(deps: RetentionDeps, labId: string, a
   });
 }
 
-/** Delete keys a few at a time (the store's interface deletes one object per request). */
-async function deleteAll(blobs: BlobStore, keys: string[]): Promise<void> {
-  const left = [...keys];
-  const lane = async () => {
-    for (let k = left.pop(); k !== undefined; k = left.pop()) await blobs.delete(k);
-  };
-  await Promise.all(Array.from({ length: Math.min(16, left.length) }, lane));
-}
-
 /**
  * Delete what an expired run left in the store: everything under runs/<id>/, and the printed files of
  * versions of never-published figures composed with it (those versions become failed, saying why).
  * Idempotent: a sweep interrupted midway runs it again; `artifacts_cleared_at` is set once it is done.
  */
 export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>, runId: string, title: string): Promise<{ objects: number; prints: number }> {
-  const keys = await deps.blobs.list(`runs/${runId}/`);
-  await deleteAll(deps.blobs, keys);
+  // in batches of ≤ 1,000 per request, failed keys retried; anything left throws, so artifacts_cleared_at stays unset
+  const objects = await deps.blobs.deletePrefix(`runs/${runId}/`);
   const drafts = await deps.db
     .select({ id: figureVersions.id, files: figureVersions.files, status: figureVersions.status })
     .from(figureVersions)
@@ -156,7 +147,7 @@ export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>,
     .where(and(isNull(figures.publishedAt), sql`${figureVersions.spec}->'panels' @> ${JSON.stringify([{ runId }])}::jsonb`));
   let prints = 0;
   for (const v of drafts) {
-    await deleteAll(deps.blobs, v.files.map((f) => f.key));
+    await deps.blobs.deleteMany(v.files.map((f) => f.key));
     prints += v.files.length;
     if (v.status === 'ready') {
       await deps.db
@@ -166,7 +157,7 @@ export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>,
     }
   }
   await deps.db.update(runs).set({ artifactsClearedAt: new Date() }).where(and(eq(runs.id, runId), isNull(runs.artifactsClearedAt)));
-  return { objects: keys.length, prints };
+  return { objects, prints };
 }
 
 /**

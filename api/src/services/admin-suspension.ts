@@ -5,6 +5,9 @@ import type { Db } from '../db/client.js';
 import { conflict, forbidden, notFound } from '../http/http-error.js';
 import type { JobQueue } from '../queue/job-queue.js';
 import type { Executor } from '../billing/ledger.js';
+import { HttpError } from '../http/http-error.js';
+import type { Logger } from '../logger.js';
+import { dispatchNow, recordJobs } from '../queue/outbox.js';
 import { audit } from './audit.js';
 
 /**
@@ -21,11 +24,15 @@ export async function refuseIfSuspended(ex: Executor, labId: string): Promise<vo
   }
 }
 
+const unavailableQueue = (what: string) => new HttpError(503, `temporarily unavailable: the job queue is not answering; ${what}, try again in a moment`);
+
 async function queuedRuns(ex: Executor, labId: string) {
   return ex.select({ id: runs.id, spec: runs.spec }).from(runs).where(and(eq(runs.labId, labId), eq(runs.status, 'queued')));
 }
 
-export async function suspendLab(deps: { db: Db; queue: JobQueue }, labId: string, actorId: string, reason: string) {
+export async function suspendLab(deps: { db: Db; queue: JobQueue; log?: Logger }, labId: string, actorId: string, reason: string) {
+  // the lab's waiting jobs must come off the queue, which needs Redis: refuse at once, recording nothing, while it is away
+  if (!(await deps.queue.ping())) throw unavailableQueue('the lab was not suspended');
   const row = await deps.db.transaction(async (tx) => {
     const [lab] = await tx.select({ id: labs.id }).from(labs).where(eq(labs.id, labId));
     if (!lab) throw notFound('lab not found');
@@ -39,14 +46,20 @@ export async function suspendLab(deps: { db: Db; queue: JobQueue }, labId: strin
     await audit(tx, { actorId, labId, action: 'lab.suspend', subjectType: 'lab', subjectId: labId, reason, detail: { queuedRuns: waiting.length } });
     return updated;
   });
-  // after the commit, so a worker that looks finds the lab suspended; a job already running is left alone
+  // after the commit, so a worker that looks finds the lab suspended; a job already running is left
+  // alone, and jobs still in the outbox are not sent while the lab is suspended (queue/outbox.ts)
   const waiting = await queuedRuns(deps.db, labId);
-  for (const r of waiting) await deps.queue.remove({ name: JOB_NAMES.computeRun, data: { runId: r.id, spec: r.spec } });
+  try {
+    for (const r of waiting) await deps.queue.remove({ name: JOB_NAMES.computeRun, data: { runId: r.id, spec: r.spec } });
+  } catch (err) {
+    // Redis went away after the check above: the suspension stands; say which jobs may still run
+    deps.log?.error('lab suspended, but its waiting jobs could not be taken off the queue', { labId, runs: waiting.map((r) => r.id), err });
+  }
   return { ...row, jobsAffected: waiting.length };
 }
 
-export async function reinstateLab(deps: { db: Db; queue: JobQueue }, labId: string, actorId: string, reason: string) {
-  const row = await deps.db.transaction(async (tx) => {
+export async function reinstateLab(deps: { db: Db; queue: JobQueue; log?: Logger }, labId: string, actorId: string, reason: string) {
+  const { updated: row, jobIds } = await deps.db.transaction(async (tx) => {
     const [lab] = await tx.select({ id: labs.id }).from(labs).where(eq(labs.id, labId));
     if (!lab) throw notFound('lab not found');
     const [updated] = await tx
@@ -56,10 +69,11 @@ export async function reinstateLab(deps: { db: Db; queue: JobQueue }, labId: str
       .returning();
     if (!updated) throw conflict('the lab is not suspended');
     await audit(tx, { actorId, labId, action: 'lab.reinstate', subjectType: 'lab', subjectId: labId, reason });
-    return updated;
+    const waiting = await queuedRuns(tx, labId);
+    return { updated, jobIds: await recordJobs(tx, deps.queue, waiting.map((r) => ({ name: JOB_NAMES.computeRun, data: { runId: r.id, spec: r.spec } }))) };
   });
-  // the job id is the run's, so a job that somehow survived is not queued twice
-  const waiting = await queuedRuns(deps.db, labId);
-  for (const r of waiting) await deps.queue.enqueue({ name: JOB_NAMES.computeRun, data: { runId: r.id, spec: r.spec } });
-  return { ...row, jobsAffected: waiting.length };
+  // sent after the commit (the job id is the run's, so a job that somehow survived is not queued
+  // twice); while Redis is away the outbox keeps them
+  await dispatchNow(deps, jobIds);
+  return { ...row, jobsAffected: jobIds.length };
 }

@@ -4,6 +4,8 @@ import { JOB_NAMES, type JobItem } from '../../../shared/jobs.js';
 import type { RunSpec } from '../../../shared/run-spec.js';
 import type { Db } from '../db/client.js';
 import type { JobQueue } from '../queue/job-queue.js';
+import { dispatchNow, recordJobs } from '../queue/outbox.js';
+import type { Logger } from '../logger.js';
 import { audit } from './audit.js';
 import { checkArrayBackground } from './background-uploads.js';
 import { refuseIfTooLarge } from './run-memory.js';
@@ -15,12 +17,14 @@ export type NewRun = { title: string; spec: RunSpec };
 type RunRow = typeof runs.$inferSelect;
 
 /**
- * Record runs (and reserve their credits) in one transaction, then enqueue their compute jobs; if
- * Redis refuses a job, the runs are marked failed, so no orphan "queued" row remains.
- * Used by POST /api/runs, re-runs and series, so all three check the same things.
+ * Record runs, their credit reservations and their compute jobs (in the job outbox) in one
+ * transaction, then send the jobs to the queue. While Redis is away the answer does not wait: the
+ * runs stay queued, saying they wait for a farm slot, and the outbox dispatcher sends their jobs
+ * when Redis is back (queue/outbox.ts). Used by POST /api/runs, re-runs and series, so all three
+ * check the same things.
  */
 export async function createRuns(
-  deps: { db: Db; queue: JobQueue },
+  deps: { db: Db; queue: JobQueue; log?: Logger },
   actor: { id: string },
   labId: string,
   items: NewRun[],
@@ -49,25 +53,14 @@ export async function createRuns(
     for (const row of rows) {
       await audit(tx, { actorId: actor.id, labId, action: options.action ?? 'run.create', subjectType: 'run', subjectId: row.id, detail: { chips: row.spec.chips, ...(seriesId ? { series: seriesId } : {}), ...options.detail } });
     }
-    return { rows, seriesId };
+    // the jobs are recorded with the runs, so a run is never without its job, whatever Redis does
+    const jobIds = await recordJobs(tx, deps.queue, rows.map((row): JobItem => ({ name: JOB_NAMES.computeRun, data: { runId: row.id, spec: row.spec } })));
+    return { rows, seriesId, jobIds };
   });
-  // Enqueue only after the commit: a worker that takes the job at once must find the run queued
-  // (inside the transaction it saw no such row and skipped the job, leaving the run queued for ever).
-  const enqueued: JobItem[] = [];
-  try {
-    for (const row of created.rows) {
-      const job: JobItem = { name: JOB_NAMES.computeRun, data: { runId: row.id, spec: row.spec } };
-      await deps.queue.enqueue(job);
-      enqueued.push(job);
-    }
-  } catch (err) {
-    // no orphan "queued" rows: take back the jobs that got in and mark every run failed (its credits are then released)
-    await Promise.allSettled(enqueued.map((job) => deps.queue.remove(job)));
-    await deps.db
-      .update(runs)
-      .set({ status: 'failed', error: 'the farm queue did not accept this run; submit it again', finishedAt: new Date(), updatedAt: new Date() })
-      .where(inArray(runs.id, created.rows.map((r) => r.id)));
-    throw err;
-  }
-  return created;
+  // Send after the commit: a worker that takes the job at once must find the run queued. While Redis
+  // is away the jobs stay in the outbox and the runs say they wait for a farm slot (queue/outbox.ts).
+  await dispatchNow(deps, created.jobIds);
+  const rows = await deps.db.select().from(runs).where(inArray(runs.id, created.rows.map((r) => r.id)));
+  const byId = new Map(rows.map((r) => [r.id, r]));
+  return { rows: created.rows.map((r) => byId.get(r.id) ?? r), seriesId: created.seriesId };
 }

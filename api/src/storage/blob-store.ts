@@ -16,6 +16,14 @@ export interface BlobStore {
   /** whether an object exists, without reading it */
   exists(key: string): Promise<boolean>;
   delete(key: string): Promise<void>;
+  /**
+   * Delete many objects: batches of at most 1,000 keys (the DeleteObjects limit), each key the store
+   * reports as not deleted retried, and a BlobDeleteError naming what is left if some never go.
+   * Deleting a missing key is not an error. Resolves to the number of keys sent.
+   */
+  deleteMany(keys: string[]): Promise<number>;
+  /** delete everything under a prefix, one listing page (≤ 1,000 keys) at a time, as deleteMany does; resolves to the number deleted */
+  deletePrefix(prefix: string): Promise<number>;
   list(prefix: string): Promise<string[]>;
   /** bytes and objects stored under a prefix, from the listing (no request per object) */
   usage(prefix: string): Promise<{ bytes: number; objects: number }>;
@@ -36,4 +44,14 @@ export interface BlobObject {
   /** the store's entity tag, quoted as in HTTP */
   etag: string | undefined;
   lastModified: Date | undefined;
+}
+
+/** Keys the store would not delete after the retries: the caller must not record the deletion as done. */
+export class BlobDeleteError extends Error {
+  readonly dependency = 'the object store';
+  constructor(readonly failed: { key: string; code: string; message: string }[]) {
+    const first = failed.slice(0, 3).map((f) => `${f.key} (${f.code}: ${f.message})`).join(', ');
+    super(`the object store did not delete ${failed.length} object${failed.length === 1 ? '' : 's'}: ${first}${failed.length > 3 ? ', …' : ''}`);
+    this.name = 'BlobDeleteError';
+  }
 }

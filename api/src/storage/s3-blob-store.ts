@@ -1,6 +1,7 @@
 import {
   CreateBucketCommand,
   DeleteObjectCommand,
+  DeleteObjectsCommand,
   GetObjectCommand,
   HeadBucketCommand,
   HeadObjectCommand,
@@ -14,6 +15,7 @@ import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
 import type { Env } from '../../../shared/env.js';
 import { Readable } from 'node:stream';
 import type { BlobStore } from './blob-store.js';
+import { batchesOf, deleteBatch } from './delete-batches.js';
 // one place configures S3 clients for the local fake's needs (checksums only when required)
 import { createS3Client } from '../../../renderer/src/render/s3-sink.js';
 
@@ -26,6 +28,8 @@ function s3Client(env: S3Settings): S3Client {
 export function createS3BlobStore(env: S3Settings): BlobStore {
   const client = s3Client(env);
   const Bucket = env.S3_BUCKET;
+  /** Quiet: the answer lists only the keys that were not deleted */
+  const sendDelete = (keys: string[]) => client.send(new DeleteObjectsCommand({ Bucket, Delete: { Objects: keys.map((Key) => ({ Key })), Quiet: true } }));
   /** every object under a prefix, page by page */
   async function eachObject(prefix: string, visit: (o: _Object) => void): Promise<void> {
     let token: string | undefined;
@@ -70,6 +74,25 @@ export function createS3BlobStore(env: S3Settings): BlobStore {
     },
     async delete(key) {
       await client.send(new DeleteObjectCommand({ Bucket, Key: key }));
+    },
+    async deleteMany(keys) {
+      for (const batch of batchesOf([...new Set(keys)])) await deleteBatch(sendDelete, batch);
+      return new Set(keys).size;
+    },
+    async deletePrefix(prefix) {
+      // one page at a time, so a pyramid of millions of tiles never sits in memory; StartAfter rather
+      // than a continuation token, since the page just listed is gone by the time the next is asked for
+      let deleted = 0;
+      let after: string | undefined;
+      for (;;) {
+        const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, StartAfter: after, MaxKeys: 1000 }));
+        const keys = (page.Contents ?? []).flatMap((o) => (o.Key ? [o.Key] : []));
+        if (keys.length === 0) return deleted;
+        await deleteBatch(sendDelete, keys);
+        deleted += keys.length;
+        after = keys[keys.length - 1];
+        if (!page.IsTruncated) return deleted;
+      }
     },
     async list(prefix) {
       const keys: string[] = [];

@@ -21,9 +21,10 @@ export class Domain {
 
   constructor(
     private readonly p: Problem,
-    /** lattice-coordinate box that must lie in inner tiles: [min, max] for x, y, z */
-    need: [[number, number], [number, number], [number, number]],
+    /** lattice-coordinate box that must lie in inner tiles: [min, max] for x, y, z (none: see restore) */
+    need?: [[number, number], [number, number], [number, number]],
   ) {
+    if (!need) return;
     const dim = p.lattice.dim;
     const T = tileDims(dim);
     const tiles: number[] = [];
@@ -43,6 +44,25 @@ export class Domain {
     this.allocate(tiles as [number, number, number], low as [number, number, number]);
   }
 
+  /**
+   * A box as a snapshot left it: `tiles` per axis, the origin at array index `origin`, and its heights
+   * and odometer, adopted when they sit on SharedArrayBuffers (a decoded snapshot), copied otherwise.
+   * Tile states start idle: the caller marks the tiles that hold unstable sites.
+   */
+  static restore(p: Problem, tiles: [number, number, number], origin: [number, number, number], h: Int32Array, od: Float64Array): Domain {
+    const d = new Domain(p);
+    d.allocate(tiles, origin, false);
+    if (h.length !== d.sites || od.length !== d.sites) throw new Error(`a box of ${d.sites} sites cannot hold arrays of ${h.length} and ${od.length}`);
+    if (h.buffer instanceof SharedArrayBuffer && od.buffer instanceof SharedArrayBuffer) ((d.h = h), (d.od = od));
+    else {
+      d.h = new Int32Array(new SharedArrayBuffer(h.byteLength));
+      d.od = new Float64Array(new SharedArrayBuffer(od.byteLength));
+      d.h.set(h);
+      d.od.set(od);
+    }
+    return d;
+  }
+
   get sites(): number {
     return this.geo.nx * this.geo.ny * this.geo.nz;
   }
@@ -52,7 +72,7 @@ export class Domain {
     return tiles[0] * T[0] * tiles[1] * T[1] * tiles[2] * T[2];
   }
 
-  private allocate(tiles: [number, number, number], origin: [number, number, number]): void {
+  private allocate(tiles: [number, number, number], origin: [number, number, number], fill = true): void {
     const dim = this.p.lattice.dim;
     const [TX, TY, TZ] = tileDims(dim);
     const [px, py, pz] = this.p.lattice.period;
@@ -63,9 +83,10 @@ export class Domain {
       sx: mod(-this.ox, px), sy: mod(-this.oy, py), sz: mod(-this.oz, pz),
     };
     const n = nx * ny * nz;
+    this.state = new Uint8Array(new SharedArrayBuffer(tiles[0] * tiles[1] * tiles[2]));
+    if (!fill) return;
     this.h = new Int32Array(new SharedArrayBuffer(4 * n));
     this.od = new Float64Array(new SharedArrayBuffer(8 * n));
-    this.state = new Uint8Array(new SharedArrayBuffer(tiles[0] * tiles[1] * tiles[2]));
     this.fillBackground();
   }
 

@@ -13,6 +13,9 @@ export const IDLE = 0;
 export const PENDING_BAND = 1;
 export const PENDING_FULL = 2;
 
+/** Extra room a tile's stack needs: the kernels write the next slot before deciding whether to keep it. */
+export const STACK_SLACK = 8;
+
 /** Lattice tables flattened for the kernel; see tablesFor in tiling.ts. */
 export interface KernelTables {
   px: number;
@@ -124,7 +127,9 @@ export function relaxTile(
         const before = h[j]!;
         h[j] = before + k;
         const dj = deg[tcls[e]!]!;
-        if (before < dj && before + k >= dj) stack[sp++] = loc + ldelta[e]!;
+        // push when before < dj <= before + k, without a branch: write always, count 0 or 1
+        stack[sp] = loc + ldelta[e]!;
+        sp += ((before - dj) & (dj - 1 - before - k)) >>> 31;
       }
     } else {
       for (let e = e0; e < e1; e++) {
@@ -175,6 +180,7 @@ function relaxTileSquare(h: Int32Array, od: Float64Array, g: KernelGeometry, sta
     }
   };
   let events = 0;
+  const my = TY - 1;
   while (sp > 0) {
     const loc = stack[--sp]!;
     const lx = loc & mx, ly = loc >> bx;
@@ -185,6 +191,27 @@ function relaxTileSquare(h: Int32Array, od: Float64Array, g: KernelGeometry, sta
     h[i] = v & 3;
     od[i] += k;
     events++;
+    if (lx > 0 && lx < mx && ly > 0 && ly < my) {
+      // inside the tile: push when b < 4 <= b + k without a branch (write always, count 0 or 1);
+      // mispredicted pushes were most of the cost per toppling
+      let b = h[i - 1]!;
+      h[i - 1] = b + k;
+      stack[sp] = loc - 1;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      b = h[i + 1]!;
+      h[i + 1] = b + k;
+      stack[sp] = loc + 1;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      b = h[i - nx]!;
+      h[i - nx] = b + k;
+      stack[sp] = loc - TX;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      b = h[i + nx]!;
+      h[i + nx] = b + k;
+      stack[sp] = loc + TX;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      continue;
+    }
     let j = i - 1, b = h[j]!;
     h[j] = b + k;
     if (b < 4 && b + k >= 4) {
@@ -206,7 +233,7 @@ function relaxTileSquare(h: Int32Array, od: Float64Array, g: KernelGeometry, sta
     j = i + nx; b = h[j]!;
     h[j] = b + k;
     if (b < 4 && b + k >= 4) {
-      if (ly < TY - 1) stack[sp++] = loc + TX;
+      if (ly < my) stack[sp++] = loc + TX;
       else flag(tile + tnx);
     }
   }

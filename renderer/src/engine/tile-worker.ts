@@ -3,7 +3,7 @@
  * driver sends, replying with the tiles it activated. No state beyond the current box.
  */
 import { parentPort } from 'node:worker_threads';
-import { relaxTile, type KernelGeometry, type KernelTables } from './kernel.js';
+import { relaxTile, STACK_SLACK, type KernelGeometry, type KernelTables } from './kernel.js';
 import { drainWork } from './work-queue.js';
 
 interface Box {
@@ -25,7 +25,7 @@ parentPort!.on('message', (msg: { type: 'domain'; h: SharedArrayBuffer; od: Shar
         state: new Uint8Array(msg.state),
         geo: msg.geo,
         tables: msg.tables,
-        stack: new Int32Array(msg.geo.TX * msg.geo.TY * msg.geo.TZ),
+        stack: new Int32Array(msg.geo.TX * msg.geo.TY * msg.geo.TZ + STACK_SLACK),
       };
       return;
     }

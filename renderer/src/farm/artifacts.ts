@@ -5,8 +5,9 @@
  *   runs/<runId>/arrays/heights.npy    final heights (uint8 when they fit, else int32)
  *   runs/<runId>/arrays/odometer.npy   topplings per site (int64)
  *   runs/<runId>/arrays/run.json       specification, engine version, statistics, sha256 of the heights
- *   runs/<runId>/checkpoint/state.twckpt  the last checkpoint of a computation in progress (scale/checkpoint.ts
- *                                      format); replaced whole at each save, deleted once the arrays are stored
+ *   runs/<runId>/checkpoint/state.twckpt  the last checkpoint of a computation in progress, either engine path
+ *                                      (engine/snapshot.ts bytes, kind in the header); replaced whole at each
+ *                                      save, deleted once the arrays are stored
  *   uploads/<sha256>.npy               uploaded background arrays, addressed by content
  */
 export const arrayKeys = (runId: string) => ({

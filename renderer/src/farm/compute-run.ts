@@ -3,15 +3,13 @@ import type { S3Client } from '@aws-sdk/client-s3';
 import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
 import { computeRunDataSchema } from '../../../shared/jobs.js';
-import { ENGINE_VERSION, isEngineError, resolveProblem, runStatsToJSON, stabilize, type Outcome, type Problem } from '../engine/index.js';
-import { SCALED_MIN_CHIPS } from '../engine/stabilize.js';
-import { scaledPathApplies, stabilizeScaled } from '../scale/index.js';
+import { ENGINE_VERSION, isEngineError, isSnapshotError, resolveProblem, runStatsToJSON, stabilize, type Outcome, type Problem, type Snapshot } from '../engine/index.js';
 import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cli/export-arrays.js';
 import { toJson, type Sidecar } from '../cli/sidecar.js';
 import { writeNpy } from '../npy/index.js';
 import { radialProfile, type RadialProfile } from '../analysis/radial-profile.js';
 import { arrayKeys } from './artifacts.js';
-import { runCheckpoints, type RunCheckpoints } from './checkpoints.js';
+import { describeSnapshot, runCheckpoints, type RunCheckpoints } from './checkpoints.js';
 import { readStoredUpload } from './stored-arrays.js';
 import { runState } from './run-state.js';
 
@@ -54,9 +52,9 @@ function unrecoverable(err: unknown): err is Error {
 /**
  * Stabilizes one run: the spec travels in the job, the arrays and statistics go to the object store,
  * the state to PostgreSQL; rendering is a job of its own so render workers can scale apart.
- * Long runs on the seeded fast path save checkpoints to the store; a job handed to another worker
+ * Every run saves the engine's checkpoints (either path) to the store; a job handed to another worker
  * (its first worker died, or was stopped) resumes from the last one, with the same result bit for bit
- * (renderer/src/scale/README.md). The plain tiled engine has no checkpoints: such a run starts over.
+ * (renderer/src/engine/README.md, Checkpoints).
  */
 export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lockLost?: AbortSignal): Promise<'finished' | 'skipped'> {
   const data = computeRunDataSchema.parse(job.data);
@@ -95,13 +93,8 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
         if ((await state.current()) === 'cancelled') abort.abort(new Error('cancelled by its author'));
       });
     };
-    let outcome: Outcome;
-    if (seeded(problem)) {
-      checkpoints = runCheckpoints({ s3: deps.s3, bucket: deps.bucket, runId: data.runId, log });
-      outcome = await stabilizeWithCheckpoints(problem, checkpoints, { deps, state, log, signal: abort.signal, onProgress });
-    } else {
-      outcome = await stabilize(problem, { threads: deps.threads, signal: abort.signal, onProgress });
-    }
+    checkpoints = runCheckpoints({ s3: deps.s3, bucket: deps.bucket, runId: data.runId, log });
+    const outcome = await stabilizeWithCheckpoints(problem, checkpoints, { deps, state, log, signal: abort.signal, onProgress });
     await pending;
 
     const keys = arrayKeys(data.runId);
@@ -178,15 +171,11 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
   }
 }
 
-/** Whether the engine takes the seeded fast path for this problem (the same test as its `stabilize`). */
-function seeded(problem: Problem): boolean {
-  return scaledPathApplies(problem) && problem.sources[0]!.chips >= SCALED_MIN_CHIPS;
-}
-
 /**
- * What the engine's `stabilize` does on the fast path, with checkpoints: resume from the stored one
- * if there is one, save new ones periodically, and fall back to plain legal toppling if the
- * certificate ever failed (an uncertified result is never stored).
+ * The engine with the run's checkpoints: resume from the stored one if there is one, save new ones
+ * periodically. The engine picks the path (and falls back from an uncertified fast-path result); a
+ * stored checkpoint the engine refuses (another engine version or specification, a damaged state)
+ * is deleted and the run starts from the beginning.
  */
 async function stabilizeWithCheckpoints(
   problem: Problem,
@@ -195,26 +184,18 @@ async function stabilizeWithCheckpoints(
 ): Promise<Outcome> {
   const { deps, log, signal, onProgress } = ctx;
   const stored = await checkpoints.load();
-  const run = (resume: typeof stored) =>
-    stabilizeScaled(problem, { threads: deps.threads, signal, onProgress, resume: resume?.snapshot, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
-  let outcome: Outcome;
-  if (stored) {
-    const when = stored.savedAt ? ` saved ${stored.savedAt.toISOString()}` : '';
-    log(`resuming from its checkpoint${when} (level ${stored.snapshot.level}, ${(stored.bytes / 2 ** 20).toFixed(1)} MiB)`);
-    await ctx.state.progress('resuming from a checkpoint', 0);
-    try {
-      outcome = await run(stored);
-    } catch (err) {
-      // a checkpoint of an older engine (the spec key differs): start over rather than fail the run
-      if (signal.aborted || isEngineError(err)) throw err;
-      log(`the checkpoint could not be resumed (${(err as Error).message}); starting from the beginning`);
-      await checkpoints.remove();
-      outcome = await run(null);
-    }
-  } else {
-    outcome = await run(null);
+  const run = (resume?: Snapshot) =>
+    stabilize(problem, { threads: deps.threads, signal, onProgress, resume, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
+  if (!stored) return run();
+  const when = stored.savedAt ? ` saved ${stored.savedAt.toISOString()}` : '';
+  log(`resuming from its checkpoint${when} (${describeSnapshot(stored.snapshot)}, ${(stored.bytes / 2 ** 20).toFixed(1)} MiB)`);
+  await ctx.state.progress('resuming from a checkpoint', 0);
+  try {
+    return await run(stored.snapshot);
+  } catch (err) {
+    if (signal.aborted || !isSnapshotError(err)) throw err;
+    log(`the checkpoint was refused (${err.message}); starting from the beginning`);
+    await checkpoints.remove();
+    return run();
   }
-  if (outcome.stats.certificate?.passed) return outcome;
-  log('the seeded result failed its certificate; computing it again by plain toppling');
-  return stabilize(problem, { scaled: false, threads: deps.threads, signal, onProgress });
 }

@@ -125,6 +125,7 @@ export function relaxSome(grid: ScaleGrid, k: LatticeKernel, stack: UnstableStac
 }
 
 function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: UnstableStack, budget: number): number {
+  // each toppling may push its four neighbours: keep room for them so the pushes need no test
   let data = stack.data;
   let sp = stack.sp;
   let events = 0;
@@ -141,18 +142,23 @@ function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: Unstable
     h[i] = v & 3;
     od[i] += t;
     events++;
+    // push j when b < 4 <= b + t, without a branch: the write always happens, the count moves by 0 or 1
     let j = i - 1, b = h[j]!;
     h[j] = b + t;
-    if (b < 4 && b + t >= 4) data[sp++] = j;
+    data[sp] = j;
+    sp += ((b - 4) & (3 - b - t)) >>> 31;
     j = i + 1; b = h[j]!;
     h[j] = b + t;
-    if (b < 4 && b + t >= 4) data[sp++] = j;
+    data[sp] = j;
+    sp += ((b - 4) & (3 - b - t)) >>> 31;
     j = i - W; b = h[j]!;
     h[j] = b + t;
-    if (b < 4 && b + t >= 4) data[sp++] = j;
+    data[sp] = j;
+    sp += ((b - 4) & (3 - b - t)) >>> 31;
     j = i + W; b = h[j]!;
     h[j] = b + t;
-    if (b < 4 && b + t >= 4) data[sp++] = j;
+    data[sp] = j;
+    sp += ((b - 4) & (3 - b - t)) >>> 31;
   }
   stack.sp = sp;
   return events;
@@ -183,7 +189,9 @@ function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: 
       const b = h[j]!;
       h[j] = b + t;
       const dj = tdeg[e]!;
-      if (b < dj && b + t >= dj) data[sp++] = j;
+      // push when b < dj <= b + t, without a branch (see relaxSquare)
+      data[sp] = j;
+      sp += ((b - dj) & (dj - 1 - b - t)) >>> 31;
     }
   }
   stack.sp = sp;

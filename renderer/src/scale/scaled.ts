@@ -4,7 +4,7 @@ import { DEFAULT_MAX_SITES } from '../engine/limits.js';
 import { buildOutcome, type Outcome } from '../engine/outcome.js';
 import type { Problem } from '../engine/problem.js';
 import { certify } from './certificate.js';
-import type { Snapshot } from './checkpoint.js';
+import { checkSnapshot, snapshotBase, SnapshotError, type SeededSnapshot, type Snapshot } from '../engine/snapshot.js';
 import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { peel, untopple, windowOf } from './peel.js';
@@ -66,9 +66,9 @@ export interface ScaleOptions {
   fixedGain?: boolean;
   /** override of the extra safety next to the source (tuning; see NEAR_SAFETY) */
   nearSafety?: number;
-  /** periodic snapshots; `save` runs synchronously while the state is still */
+  /** periodic snapshots (kind 'seeded'); `save` runs synchronously while the state is still */
   checkpoint?: { everySeconds: number; save: (s: Snapshot) => void };
-  /** continue from a snapshot of the same problem */
+  /** continue from a seeded snapshot of the same problem (checked first; its arrays are taken over) */
   resume?: Snapshot;
 }
 
@@ -92,8 +92,21 @@ export function levelChips(n: number, base: number): number[] {
   return out;
 }
 
-export function specKey(p: Problem): string {
-  return JSON.stringify({ lattice: p.spec.lattice, chips: p.spec.chips, background: p.spec.background, sources: p.spec.sources });
+/**
+ * A snapshot this path can resume: same engine and specification (checkSnapshot), of this kind, at a
+ * level this run has, with arrays that fill their grids.
+ * @throws SnapshotError naming what does not fit.
+ */
+function checkSeededSnapshot(p: Problem, s: Snapshot, levels: number): SeededSnapshot {
+  checkSnapshot(p, s);
+  if (s.kind !== 'seeded') throw new SnapshotError('the checkpoint is of the plain tiled engine, not of the seeded fast path');
+  const { grid, coarse } = s;
+  if (!Number.isInteger(s.level) || s.level < 0 || s.level >= levels) throw new SnapshotError(`the checkpoint is at level ${s.level}, which this run (${levels} levels) does not have`);
+  if (grid.h.length !== grid.W * grid.H || grid.od.length !== grid.W * grid.H || grid.guard < Math.max(1, p.lattice.reach))
+    throw new SnapshotError("the checkpoint's grid is malformed");
+  if (coarse && (coarse.u.length !== coarse.W * coarse.H || (coarse.err && coarse.err.length !== coarse.u.length))) throw new SnapshotError("the checkpoint's coarse level is malformed");
+  if (!coarse && s.level < levels - 1) throw new SnapshotError('the checkpoint lacks the coarser level it was seeded from');
+  return s;
 }
 
 /** Smallest grid relaxed by tiles on several threads (measured: at 2^18 cells, n ≈ 10^5, the stack was still faster). */
@@ -141,8 +154,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let prevEvents = 0;
 
   if (options.resume) {
-    const s = options.resume;
-    if (s.specKey !== specKey(problem)) throw new Error('the checkpoint belongs to a different run');
+    const s = checkSeededSnapshot(problem, options.resume, L);
     startLevel = s.level;
     coarse = s.coarse;
     resumeGrid = s.grid;
@@ -154,6 +166,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let lastReport = 0;
   let lastYield = performance.now();
   let lastSave = performance.now();
+  let base: ReturnType<typeof snapshotBase> | undefined;
   const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false) => {
     if (!options.onProgress) return;
     const now = performance.now();
@@ -216,7 +229,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (options.signal?.aborted) throw abortError(options.signal);
       report('relax', level, prevEvents ? eventsNow / expected : 0.5, grid);
       if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
-        options.checkpoint.save({ format: 1, specKey: specKey(problem), level, grid, coarse, repairRounds, prevEvents });
+        options.checkpoint.save({ ...(base ??= snapshotBase(problem)), kind: 'seeded', level, grid, coarse, repairRounds, prevEvents });
         lastSave = performance.now();
       }
     };

@@ -1,4 +1,4 @@
-import { IDLE, PENDING_FULL, relaxTile, type KernelGeometry } from '../engine/kernel.js';
+import { IDLE, PENDING_FULL, relaxTile, STACK_SLACK, type KernelGeometry } from '../engine/kernel.js';
 import type { LatticeGraph } from '../engine/lattice.js';
 import { acquireWorkers, releaseWorkers, type TileWorker } from '../engine/parallel.js';
 import { tablesFor } from '../engine/tiling.js';
@@ -29,7 +29,7 @@ export function tileable(g: LatticeGraph): boolean {
 export class TiledRelaxer {
   private readonly tables;
   private readonly workers: TileWorker[];
-  private readonly stack = new Int32Array(TILE * TILE);
+  private readonly stack = new Int32Array(TILE * TILE + STACK_SLACK);
 
   constructor(private readonly g: LatticeGraph, threads: number) {
     this.tables = tablesFor(g);

@@ -6,6 +6,7 @@ import { loadEnv, type Env } from '../../../shared/env.js';
 import { createApp } from '../../../api/src/app.js';
 import { migrateDatabase } from '../../../api/src/db/migrate.js';
 import { ensureBucket } from '../../../api/src/storage/s3-blob-store.js';
+import { startOutboxDispatcher, type OutboxDispatcher } from '../../../api/src/queue/outbox.js';
 import { as, closeAppDeps, connectAppDeps, createLab, createUser, signIn, TEST_PASSWORD, type Harness, type Session } from '../../api/support/harness.js';
 
 /** The environment npm test exported, with some services swapped for a fault test's private ones. */
@@ -14,7 +15,7 @@ export function faultEnv(overrides: Partial<Record<keyof Env, string>>): Env {
 }
 
 /** The API as server.ts builds it, listening on a real port (given, or free), for tests that break its services. */
-export async function startApi(fileTag: string, env: Env, port = 0): Promise<Harness & { server: Server; url: string }> {
+export async function startApi(fileTag: string, env: Env, port = 0): Promise<Harness & { server: Server; url: string; outbox: OutboxDispatcher }> {
   await migrateDatabase(env.DATABASE_URL);
   await ensureBucket(env);
   const tag = `${fileTag}-${randomUUID().slice(0, 8)}`;
@@ -24,7 +25,10 @@ export async function startApi(fileTag: string, env: Env, port = 0): Promise<Har
   const server = http.createServer(app);
   await new Promise<void>((resolve) => server.listen(port, '127.0.0.1', () => resolve()));
   const url = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+  // as server.ts does: jobs recorded while Redis is away are sent when it is back
+  const outbox = startOutboxDispatcher(deps, { everyMs: 250 });
   return {
+    outbox,
     env,
     deps,
     database,
@@ -36,6 +40,7 @@ export async function startApi(fileTag: string, env: Env, port = 0): Promise<Har
     queuePrefix,
     email: (name) => `${name.toLowerCase().replace(/[^a-z0-9]+/g, '.')}.${tag}@test.toppleworks.local`,
     async close() {
+      await outbox.stop();
       server.closeAllConnections();
       await new Promise((r) => server.close(r));
       await closeAppDeps(database, deps);

@@ -5,7 +5,8 @@ import path from 'node:path';
 import { randomUUID } from 'node:crypto';
 import { startPostgres, type PostgresHandle } from '../../../infra/lib/postgres.js';
 import { postgresHome, ROOT } from '../../../infra/lib/profile.js';
-import { startS3Fake, type S3Fake } from '../../../infra/fakes/s3.js';
+import { s3FakeEnv } from '../../../infra/lib/s3-fake-env.js';
+import { TSX } from '../../../infra/lib/services.js';
 import { canConnect } from '../../../infra/lib/ports.js';
 
 /**
@@ -101,24 +102,37 @@ export async function privateRedis(name: string) {
   };
 }
 
-/** s3rver on its own port and folder; stop() makes it unreachable, start() brings the same objects back. */
+/**
+ * s3rver on its own port and folder, in a process of its own (as npm test runs it, with OpenSSL's
+ * legacy provider so listings page: infra/lib/s3-fake-env.ts); stop() makes it unreachable,
+ * start() brings the same objects back.
+ */
 export async function privateS3(name: string, bucket: string) {
   const directory = path.join(faultDir(name), 's3');
   const port = await freePort();
-  let fake: S3Fake | null = await startS3Fake({ port, directory, bucket });
+  let child: ChildProcess | null = null;
+  const start = async () => {
+    const c = spawn(TSX, ['infra/fakes/s3.ts', '--port', String(port), '--dir', directory, '--bucket', bucket], { cwd: ROOT, env: s3FakeEnv(process.env), stdio: ['ignore', 'ignore', 'inherit'] });
+    child = c;
+    const exited = new Promise<never>((_, reject) => c.once('exit', (code) => reject(new Error(`the S3 fake exited with ${code} before it listened`))));
+    exited.catch(() => undefined);
+    await Promise.race([until('the S3 fake to accept connections', () => canConnect(port), 30_000, 50), exited]);
+  };
+  await start();
   return {
     endpoint: `http://127.0.0.1:${port}`,
     port,
     async stop() {
-      await fake?.close();
-      fake = null;
+      const c = child;
+      child = null;
+      if (!c || c.exitCode !== null) return;
+      const exited = new Promise((r) => c.once('exit', r));
+      c.kill('SIGTERM');
+      await exited;
     },
-    async start() {
-      fake = await startS3Fake({ port, directory, bucket });
-    },
+    start,
     async close() {
-      await fake?.close();
-      fake = null;
+      await this.stop();
       fs.rmSync(path.dirname(directory), { recursive: true, force: true });
     },
   };
