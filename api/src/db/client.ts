@@ -7,7 +7,9 @@ export type Database = { db: Db; pool: pg.Pool; close(): Promise<void> };
 
 /** One pool per process; `close()` ends it so tests and scripts exit cleanly. */
 export function connectDatabase(databaseUrl: string, maxConnections = 10): Database {
-  const pool = new pg.Pool({ connectionString: databaseUrl, max: maxConnections });
+  // a connection attempt that gets no answer (a server half-way through a restart) gives up after
+  // 5 s and the request answers 503, instead of a request (or a shutdown waiting for it) hanging
+  const pool = new pg.Pool({ connectionString: databaseUrl, max: maxConnections, connectionTimeoutMillis: 5_000 });
   // errors of ours to the database carry its name, so the API can say which service is away
   const mark = (err: unknown) => {
     if (err && typeof err === 'object') Object.assign(err, { dependency: 'the database' });
