@@ -18,6 +18,14 @@ import { canConnect } from '../../../infra/lib/ports.js';
 
 export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
+/** SIGTERM a service we spawned and wait until it has exited (nothing to do if it already has). */
+async function stopChild(c: ChildProcess | null): Promise<void> {
+  if (!c || c.exitCode !== null) return;
+  const exited = new Promise((r) => c.once('exit', r));
+  c.kill('SIGTERM');
+  await exited;
+}
+
 export async function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const s = net.createServer();
@@ -89,10 +97,7 @@ export async function privateRedis(name: string) {
     async stop() {
       const c = child;
       child = null;
-      if (!c || c.exitCode !== null) return;
-      const exited = new Promise((r) => c.once('exit', r));
-      c.kill('SIGTERM');
-      await exited;
+      await stopChild(c);
     },
     start,
     async close() {
@@ -125,10 +130,7 @@ export async function privateS3(name: string, bucket: string) {
     async stop() {
       const c = child;
       child = null;
-      if (!c || c.exitCode !== null) return;
-      const exited = new Promise((r) => c.once('exit', r));
-      c.kill('SIGTERM');
-      await exited;
+      await stopChild(c);
     },
     start,
     async close() {
