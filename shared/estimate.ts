@@ -35,12 +35,24 @@ export const TOPPLING_FIT = { c: 0.02015698687728256, alpha: 1.9895417568465261 
 export const TOPPLINGS_PER_SECOND = 1.5e8;
 
 /**
- * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs
- * with the farm's default two threads, measured by `npm run bench:scale` on the 2-core development
- * machine (README.md, Speed: 10^5 and 10^6 on an idle machine, 10^7 at load 5–8): its cost follows
- * the seed's error, not the toppling count, so it gets a curve of its own.
+ * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs on
+ * a constant background, which it relaxes on an eighth of the plane (mirror symmetry, one thread),
+ * measured on the 2-core development machine at load 0.4 (2026-12-02, `stabilizeScaled` timed in
+ * process; README.md, Speed): its cost follows the seed's error, not the toppling count, so it gets
+ * a curve of its own.
  */
 export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
+  [1e5, 0.14],
+  [1e6, 0.62],
+  [1e7, 27.3],
+];
+
+/**
+ * The same path on the whole plane (lattices and backgrounds without that symmetry), square lattice,
+ * two threads, `npm run bench:scale` (10^5 and 10^6 on an idle machine, 10^7 at load 5–8); other
+ * lattices are priced as a factor of it.
+ */
+export const FAST_PATH_WHOLE_PLANE_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
   [1e5, 0.45],
   [1e6, 5.09],
   [1e7, 558.7],
@@ -247,9 +259,11 @@ export function fastPathSeconds(spec: RunSpec): number | null {
   const planar = 'preset' in spec.lattice ? !['line', 'cubic'].includes(spec.lattice.preset) : true;
   const single = (spec.sources ?? []).every((s) => s.chips === 0);
   if (!planar || !single || spec.background.kind === 'array' || spec.chips < FAST_PATH_MIN_CHIPS || spec.chips >= 2 ** 30) return null;
+  // the square lattice on a constant background folds onto an eighth of the plane (renderer/src/scale/symmetry.ts)
+  if ('preset' in spec.lattice && spec.lattice.preset === 'square' && spec.background.kind === 'constant') return logLogInterpolate(FAST_PATH_MEASURED, spec.chips);
   const factor = 'preset' in spec.lattice ? (FAST_PATH_LATTICE_FACTOR[spec.lattice.preset] ?? FAST_PATH_UNKNOWN_FACTOR) : FAST_PATH_UNKNOWN_FACTOR;
   const background = spec.background.kind === 'random' ? FAST_PATH_RANDOM_FACTOR : 1;
-  return logLogInterpolate(FAST_PATH_MEASURED, spec.chips) * factor * background;
+  return logLogInterpolate(FAST_PATH_WHOLE_PLANE_MEASURED, spec.chips) * factor * background;
 }
 
 /** Pixels per cell at the deepest level: the renderer's rule (renderer/src/render/plan.ts defaultPixelsPerCell). */

@@ -20,7 +20,7 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('checkpoints', () => {
   it('a run killed midway resumes from its last checkpoint to the identical result', async () => {
-    const n = 400_000;
+    const n = 4_000_000; // long enough on the folded (eighth-plane) path for a checkpoint of the finest levels
     const path = join(dir, 'run.ckpt');
     const child = spawn(process.execPath, ['--import', 'tsx', join(here, 'checkpoint-child.ts'), String(n), path], { stdio: ['ignore', 'pipe', 'pipe'] });
     let out = '';

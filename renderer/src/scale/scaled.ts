@@ -9,6 +9,7 @@ import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type Scal
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { peel, untopple, windowOf } from './peel.js';
 import { tileable, TiledRelaxer } from './tiled-relax.js';
+import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, growFoldedBox, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
 import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
@@ -70,6 +71,11 @@ export interface ScaleOptions {
   checkpoint?: { everySeconds: number; save: (s: Snapshot) => void };
   /** continue from a seeded snapshot of the same problem (checked first; its arrays are taken over) */
   resume?: Snapshot;
+  /**
+   * relax each level on the quarter or eighth of the plane that mirror symmetry allows (symmetry.ts;
+   * default true where the lattice and background allow it). The result is the same either way.
+   */
+  symmetry?: boolean;
 }
 
 /** Where the fast path applies: planar lattices, grains at the origin only, no uploaded array. */
@@ -97,9 +103,10 @@ export function levelChips(n: number, base: number): number[] {
  * level this run has, with arrays that fill their grids.
  * @throws SnapshotError naming what does not fit.
  */
-function checkSeededSnapshot(p: Problem, s: Snapshot, levels: number): SeededSnapshot {
+function checkSeededSnapshot(p: Problem, s: Snapshot, levels: number, fold: Fold | null): SeededSnapshot {
   checkSnapshot(p, s);
   if (s.kind !== 'seeded') throw new SnapshotError('the checkpoint is of the plain tiled engine, not of the seeded fast path');
+  if ((s.fold ?? null) !== fold) throw new SnapshotError(`the checkpoint relaxes ${s.fold ? `a folded grid (${s.fold})` : 'the whole plane'}; this run relaxes ${fold ? `a folded grid (${fold})` : 'the whole plane'}`);
   const { grid, coarse } = s;
   if (!Number.isInteger(s.level) || s.level < 0 || s.level >= levels) throw new SnapshotError(`the checkpoint is at level ${s.level}, which this run (${levels} levels) does not have`);
   if (grid.h.length !== grid.W * grid.H || grid.od.length !== grid.W * grid.H || grid.guard < Math.max(1, p.lattice.reach))
@@ -142,6 +149,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     fixedGain: options.fixedGain ?? g.classes.length === 1,
   };
   const L = chips.length;
+  const fold = options.symmetry === false ? null : foldOf(g, bg);
   // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
   const totalWeight = weights.reduce((a, b) => a + b, 0);
@@ -154,7 +162,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let prevEvents = 0;
 
   if (options.resume) {
-    const s = checkSeededSnapshot(problem, options.resume, L);
+    const s = checkSeededSnapshot(problem, options.resume, L, fold);
     startLevel = s.level;
     coarse = s.coarse;
     resumeGrid = s.grid;
@@ -167,7 +175,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let lastYield = performance.now();
   let lastSave = performance.now();
   let base: ReturnType<typeof snapshotBase> | undefined;
-  const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false) => {
+  const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false, folded: Fold | null = null) => {
     if (!options.onProgress) return;
     const now = performance.now();
     if (!force && now - lastReport < 500) return;
@@ -178,7 +186,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     best = Math.max(best, f);
     const elapsed = (now - t0) / 1000;
     let toppled = 0;
-    if (grid) for (let i = 0; i < grid.od.length; i++) if (grid.od[i] !== 0) toppled++;
+    if (grid && folded) toppled = countToppledFolded(grid, folded);
+    else if (grid) for (let i = 0; i < grid.od.length; i++) if (grid.od[i] !== 0) toppled++;
     options.onProgress({
       stage, fraction: best, toppledSites: toppled, level: L - 1 - level, levels: L,
       secondsLeft: stage === 'done' ? 0 : best > 0.01 ? (elapsed * (1 - best)) / best : null,
@@ -187,34 +196,39 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
 
   const threads = Math.max(1, Math.min(16, Math.floor(options.threads ?? Math.min(2, availableParallelism()))));
   // tiles pay off on big grids only: below TILED_MIN_CELLS the one stack is faster (and the workers need not boot)
-  const useTiles = (cells: number) => tileable(g) && (options.tiles ?? (threads > 1 && cells >= TILED_MIN_CELLS));
+  // (a folded grid is relaxed by the one stack: its boundary is restored between the stack's batches)
+  const useTiles = (cells: number) => !fold && tileable(g) && (options.tiles ?? (threads > 1 && cells >= TILED_MIN_CELLS));
   let tiler: TiledRelaxer | null = null;
   try {
   let grid!: ScaleGrid;
   for (let level = startLevel; level >= 0; level--) {
     const c = chips[level]!;
     let k: LatticeKernel;
+    let fb: FoldedBoundary | null = null;
     if (resumeGrid) {
       grid = resumeGrid;
       resumeGrid = null;
       k = latticeKernel(g, grid.W);
     } else if (!coarse) {
       const r = Math.ceil(0.5 * Math.sqrt(c / Math.max(1, Math.min(...g.classes.map((x) => x.length)) / 4))) + 2;
-      grid = makeGrid(g, bg, { x0: -r, x1: r, y0: -r, y1: r });
+      const box = { x0: -r, x1: r, y0: -r, y1: r };
+      grid = makeGrid(g, bg, fold ? foldBox(fold, box) : box);
       if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       k = latticeKernel(g, grid.W);
     } else {
-      grid = makeGrid(g, bg, seedBox(coarse, 4 + g.reach));
+      const box = fold ? foldBox(fold, seedBox(coarse, 4 + g.reach)) : seedBox(coarse, 4 + g.reach);
+      grid = makeGrid(g, bg, box);
       if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
       k = latticeKernel(g, grid.W);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       if (!applySeed(grid, k, coarse, c, seedOpts, peak)) {
         // a seed this rough is useless: start the level from zero instead (still exact)
-        grid = makeGrid(g, bg, seedBox(coarse, 4 + g.reach));
+        grid = makeGrid(g, bg, box);
         grid.h[grid.oy * grid.W + grid.ox] += c;
       }
     }
+    if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
     const seedCopy = options.measureSeed ? { s: grid.od.slice(), W: grid.W, ox: grid.ox, oy: grid.oy, chips: c, opts: { ...seedOpts } } : null;
     const tLevel = performance.now();
     const repairsBefore = repairRounds;
@@ -227,9 +241,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       await new Promise<void>((resolve) => setImmediate(resolve));
       lastYield = performance.now();
       if (options.signal?.aborted) throw abortError(options.signal);
-      report('relax', level, prevEvents ? eventsNow / expected : 0.5, grid);
+      report('relax', level, prevEvents ? eventsNow / expected : 0.5, grid, false, fb?.fold ?? null);
       if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
-        options.checkpoint.save({ ...(base ??= snapshotBase(problem)), kind: 'seeded', level, grid, coarse, repairRounds, prevEvents });
+        options.checkpoint.save({ ...(base ??= snapshotBase(problem)), kind: 'seeded', level, grid, coarse, repairRounds, prevEvents, ...(fb ? { fold: fb.fold } : {}) });
         lastSave = performance.now();
       }
     };
@@ -238,6 +252,17 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         const before = events;
         tiler ??= new TiledRelaxer(g, threads);
         events += await tiler.relax(grid, (e) => pauseIfDue(before + e));
+      } else if (fb) {
+        restoreBoundary(grid, k, fb, stack);
+        pushAllUnstable(grid, k, stack);
+        // stable only when a restored boundary pushes nothing more
+        do {
+          while (stack.sp > 0) {
+            events += relaxSome(grid, k, stack, 1 << 20);
+            restoreBoundary(grid, k, fb, stack);
+            await pauseIfDue(events);
+          }
+        } while (restoreBoundary(grid, k, fb, stack) > 0);
       } else {
         pushAllUnstable(grid, k, stack);
         while (stack.sp > 0) {
@@ -249,12 +274,20 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         const b = innerBox(grid);
         const w = b.x1 - b.x0 + 1, hgt = b.y1 - b.y0 + 1;
         const ax = Math.max(8, Math.ceil(w / 4)), ay = Math.max(8, Math.ceil(hgt / 4));
-        const next: Box = { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
+        const next: Box = fold ? growFoldedBox(fold, b) : { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
         grid = growGrid(g, bg, grid, next);
         if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);
-        report('grow', level, prevEvents ? events / expected : 0.5, grid, true);
+        if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
+        report('grow', level, prevEvents ? events / expected : 0.5, grid, true, fb?.fold ?? null);
         continue;
+      }
+      // the repairs, the certificate and the next level's seed work on the whole plane
+      if (fb) {
+        grid = unfold(grid, g, bg, fb.fold);
+        fb = null;
+        if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+        k = latticeKernel(g, grid.W);
       }
       // stable: any overshoot of the seed shows up as a non-empty peeled set; undo it unit by unit
       tRepair = performance.now();
@@ -283,7 +316,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       coarse = { chips: c, W: grid.W, H: grid.H, ox: grid.ox, oy: grid.oy, u: grid.od, err, gain, toppled: toppledBox(grid) };
     }
     const tEnd = performance.now();
-    const dist = seedCopy ? seedDistance(grid, seedCopy) : null;
+    const dist = seedCopy ? seedDistance(grid, seedCopy, fold) : null;
     options.onLevel?.({ chips: c, cells: grid.W * grid.H, events, repairRounds: repairRounds - repairsBefore, relaxSeconds: (tRepair - tLevel) / 1000, repairSeconds: (tEnd - tRepair) / 1000, gain: coarse?.gain ?? null, ...(dist ?? {}) });
     report('level', level, 1, grid, true);
   }
@@ -305,12 +338,14 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
 }
 
 /** Σ(u − seed)⁺, Σ(seed − u)⁺ and the largest excess; the seed's grid may be smaller than the final one (growth). */
-function seedDistance(grid: ScaleGrid, seed: { s: Float64Array; W: number; ox: number; oy: number; chips: number; opts: SeedOptions }) {
+function seedDistance(grid: ScaleGrid, seed: { s: Float64Array; W: number; ox: number; oy: number; chips: number; opts: SeedOptions }, fold: Fold | null) {
   let seedDeficit = 0, seedExcess = 0, maxExcess = 0, rawOvershoot = 0;
   const sH = seed.s.length / seed.W;
   for (let y = 0; y < grid.H; y++)
     for (let x = 0; x < grid.W; x++) {
-      const sx = x - grid.ox + seed.ox, sy = y - grid.oy + seed.oy;
+      // a folded level's seed covers the fundamental domain only: read each site's image
+      const [fx, fy] = fold ? foldXY(fold, x - grid.ox, y - grid.oy) : [x - grid.ox, y - grid.oy];
+      const sx = fx + seed.ox, sy = fy + seed.oy;
       const s0 = sx >= 0 && sx < seed.W && sy >= 0 && sy < sH ? seed.s[sy * seed.W + sx]! : 0;
       const d = grid.od[y * grid.W + x]! - s0;
       // the bulk only: next to the source the extra safety already scales with n

@@ -1,0 +1,107 @@
+/**
+ * Mirror folding of the fast path (renderer/src/scale/symmetry.ts): a single source at the origin on
+ * a mirror-invariant lattice and a uniform background has a mirror-symmetric odometer (it is the
+ * least function of its kind — least action principle, Fey, Levine & Peres, arXiv:0901.3805 — and a
+ * mirror image of it is another), so relaxing a quarter or an eighth of the plane must give the
+ * whole-plane result bit for bit. Checked against the plain engine and against the unfolded fast path.
+ */
+import { afterAll, describe, expect, it } from 'vitest';
+import { decodeSnapshot, encodeSnapshot, latticePreset, stabilize, type Outcome } from '../../renderer/src/engine/index.js';
+import { backgroundField } from '../../renderer/src/engine/background.js';
+import { periodicLattice } from '../../renderer/src/engine/lattice.js';
+import { shutdownWorkers } from '../../renderer/src/engine/parallel.js';
+import { stabilizeScaled, type LevelInfo } from '../../renderer/src/scale/scaled.js';
+import { foldOf, foldXY, multiplicity } from '../../renderer/src/scale/symmetry.js';
+import { comparable, problem } from '../engine/helpers.js';
+
+afterAll(() => shutdownWorkers());
+
+const strip = (o: Outcome) => {
+  const c = comparable(o);
+  const { certificate: _c, ...stats } = c.stats as typeof c.stats & { certificate?: unknown };
+  return { ...c, stats };
+};
+
+/** Z^2 with the second neighbours along the axes: invariant under X → −X and Y → −Y and X ↔ Y. */
+const axial2 = { period: [1, 1], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1], [2, 0], [-2, 0], [0, 2], [0, -2]]]] };
+/** Z^2 with second neighbours along X only: mirror-invariant, but X ↔ Y maps it elsewhere (quadrant only). */
+const axialX = { period: [1, 1], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1], [2, 0], [-2, 0]]]] };
+
+describe('which runs fold', () => {
+  it('square and axial lattices on uniform backgrounds fold; skewed lattices and patterned backgrounds do not', () => {
+    const flat = backgroundField({ kind: 'constant', height: 1 } as never, 2);
+    expect(foldOf(latticePreset('square'), flat)).toBe('octant');
+    expect(foldOf(periodicLattice(axial2 as never, 'a2'), flat)).toBe('octant');
+    expect(foldOf(periodicLattice(axialX as never, 'ax'), flat)).toBe('quadrant');
+    // the triangular preset's offsets include (1, 1) but not (−1, 1): not mirror-invariant in these coordinates
+    expect(foldOf(latticePreset('triangular'), flat)).toBeNull();
+    expect(foldOf(latticePreset('honeycomb'), flat)).toBeNull();
+    expect(foldOf(latticePreset('square'), backgroundField({ kind: 'checkerboard', a: 0, b: 2 } as never, 2))).toBeNull();
+    expect(foldOf(latticePreset('square'), backgroundField({ kind: 'random', seed: 1, weights: [1, 1] } as never, 2))).toBeNull();
+  });
+
+  it('folds sites onto the eighth 0 ≤ Y ≤ X and counts the images each stands for', () => {
+    expect(foldXY('octant', -3, 5)).toEqual([5, 3]);
+    expect(foldXY('quadrant', -3, 5)).toEqual([3, 5]);
+    // 8 images off the axes and the diagonal, 4 on them, 1 at the origin (common practice: D4 orbits)
+    expect([multiplicity('octant', 3, 1), multiplicity('octant', 3, 0), multiplicity('octant', 2, 2), multiplicity('octant', 0, 0)]).toEqual([8, 4, 4, 1]);
+  });
+});
+
+describe('folded equals whole-plane bit for bit', () => {
+  const cases: [string, object][] = [['square', { preset: 'square' }], ['axial2', { periodic: axial2 }], ['axialX', { periodic: axialX }]];
+  for (const [name, lattice] of cases) {
+    it(`${name}: uniform backgrounds × grain counts, against the plain engine`, async () => {
+      const g = name === 'square' ? latticePreset('square') : periodicLattice((name === 'axial2' ? axial2 : axialX) as never, name);
+      // low backgrounds keep the piles compact (common practice); 8- and 6-regular piles spread fast
+      const heights = g.classes[0]!.length === 4 ? [0, 1, 2] : [0, 1];
+      let compared = 0;
+      for (const height of heights) {
+        for (const chips of [1, 4, 37, 300, 1200, 4000, 9001, 20000]) {
+          const p = problem({ lattice: lattice as never, chips, background: { kind: 'constant', height } as never });
+          const plain = await stabilize(p, { threads: 1, maxSites: 2 ** 20, scaled: false });
+          const levels: LevelInfo[] = [];
+          const folded = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, onLevel: (l) => levels.push(l) });
+          const whole = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, symmetry: false });
+          const tag = `${name} n=${chips} h=${height}`;
+          expect(strip(folded), tag).toEqual(strip(plain));
+          expect(strip(whole), tag).toEqual(strip(plain));
+          expect(folded.stats.certificate, tag).toMatchObject({ passed: true, minimal: true });
+          compared++;
+        }
+      }
+      expect(compared).toBe(heights.length * 8);
+    }, 240_000);
+  }
+
+  it('square n = 2·10^5: the folded run does about an eighth of the toppling events', async () => {
+    const p = problem({ lattice: { preset: 'square' }, chips: 200_000 });
+    let folded = 0, whole = 0;
+    const a = await stabilizeScaled(p, { threads: 1, onLevel: (l) => (folded += l.events) });
+    const b = await stabilizeScaled(p, { threads: 1, symmetry: false, onLevel: (l) => (whole += l.events) });
+    expect(strip(a)).toEqual(strip(b));
+    // 8 images per site away from the axes and the diagonal; the axes make it a little more than 1/8
+    expect(folded / whole).toBeGreaterThan(0.1);
+    expect(folded / whole).toBeLessThan(0.16);
+  }, 120_000);
+});
+
+describe('folded checkpoints', () => {
+  it('a folded snapshot resumes to the same result and is refused by a whole-plane run', async () => {
+    const p = problem({ lattice: { preset: 'square' }, chips: 2_000_000 });
+    // the bytes a worker would store: encoded while the state is still, decoded later
+    let bytes: Uint8Array | null = null;
+    const ac = new AbortController();
+    await stabilizeScaled(p, {
+      signal: ac.signal,
+      checkpoint: { everySeconds: 0, save: (s) => ((bytes = Buffer.concat(encodeSnapshot(s))), ac.abort()) },
+    }).catch((e) => expect(String(e)).toMatch(/abort/i));
+    const snap = decodeSnapshot(bytes!);
+    expect(snap.kind === 'seeded' && snap.fold).toBe('octant');
+    await expect(stabilizeScaled(p, { resume: snap, symmetry: false })).rejects.toThrow(/folded grid \(octant\)/);
+    const resumed = await stabilizeScaled(p, { resume: snap });
+    const whole = await stabilizeScaled(p, { symmetry: false });
+    expect(strip(resumed)).toEqual(strip(whole));
+    expect(resumed.stats.certificate?.passed).toBe(true);
+  }, 180_000);
+});
