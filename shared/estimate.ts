@@ -37,14 +37,14 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
 /**
  * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs on
  * a constant background, which it relaxes on an eighth of the plane (mirror symmetry, one thread),
- * measured on the 2-core development machine at load 0.4 (2026-12-02, `stabilizeScaled` timed in
- * process; README.md, Speed): its cost follows the seed's error, not the toppling count, so it gets
+ * measured on the 2-core development machine (2026-12-02, `stabilizeScaled` timed in process, one
+ * core free, the other computing a 10^8 run; README.md, Speed): its cost follows the seed's error, not the toppling count, so it gets
  * a curve of its own.
  */
 export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
   [1e5, 0.14],
   [1e6, 0.62],
-  [1e7, 27.3],
+  [1e7, 17.5],
 ];
 
 /**
