@@ -163,6 +163,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
   const totalWeight = weights.reduce((a, b) => a + b, 0);
   const stack = new UnstableStack();
+  /** cells a folded grid's restored boundary made unstable, for the tiled relaxation */
+  const scratch = new UnstableStack(1 << 10);
   const peak = peakOf(g);
   let coarse: CoarseLevel | null = null;
   let startLevel = L - 1;
@@ -205,8 +207,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
 
   const threads = Math.max(1, Math.min(16, Math.floor(options.threads ?? Math.min(2, availableParallelism()))));
   // tiles pay off on big grids only: below TILED_MIN_CELLS the one stack is faster (and the workers need not boot)
-  // (a folded grid is relaxed by the one stack: its boundary is restored between the stack's batches)
-  const useTiles = (cells: number) => !fold && tileable(g) && (options.tiles ?? (threads > 1 && cells >= TILED_MIN_CELLS));
+  const useTiles = (cells: number) => tileable(g) && (options.tiles ?? (threads > 1 && cells >= TILED_MIN_CELLS));
   let tiler: TiledRelaxer | null = null;
   try {
   let grid!: ScaleGrid;
@@ -261,7 +262,16 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (useTiles(grid.W * grid.H)) {
         const before = events;
         tiler ??= new TiledRelaxer(g, threads);
-        events += await tiler.relax(grid, (e) => pauseIfDue(before + e));
+        const folded = fb;
+        const restore = folded
+          ? () => {
+              scratch.sp = 0;
+              restoreBoundary(grid, k, folded, scratch);
+              return scratch.data.subarray(0, scratch.sp);
+            }
+          : undefined;
+        if (folded) restoreBoundary(grid, k, folded, scratch);
+        events += await tiler.relax(grid, (e) => pauseIfDue(before + e), restore);
       } else if (fb) {
         restoreBoundary(grid, k, fb, stack);
         pushAllUnstable(grid, k, stack);

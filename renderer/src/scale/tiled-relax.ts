@@ -43,9 +43,11 @@ export class TiledRelaxer {
   /**
    * Topples every unstable non-guard cell until the grid is stable (guard cells aside). `pause` runs
    * between dispatches, while no thread is working (a consistent legal state: checkpoints, abort).
-   * Returns the number of toppling events.
+   * Returns the number of toppling events. `restore`, also run between dispatches, may raise heights
+   * (a folded grid's boundary, symmetry.ts) and returns the cells it made unstable; their tiles are
+   * relaxed again, and the grid is stable only when it returns none.
    */
-  async relax(grid: ScaleGrid, pause: (events: number) => Promise<void>): Promise<number> {
+  async relax(grid: ScaleGrid, pause: (events: number) => Promise<void>, restore?: () => ArrayLike<number>): Promise<number> {
     shareArrays(grid);
     const { W, H } = grid;
     if (W % TILE || H % TILE) throw new Error('the grid is not a whole number of tiles');
@@ -59,6 +61,16 @@ export class TiledRelaxer {
     for (const w of this.workers) w.setDomain(grid.h.buffer as SharedArrayBuffer, grid.od.buffer as SharedArrayBuffer, state.buffer as SharedArrayBuffer, geo, this.tables);
     const { tables, stack } = this;
     let events = 0;
+    const reactivate = () => {
+      const cells = restore?.() ?? [];
+      for (let k = 0; k < cells.length; k++) {
+        const i = cells[k]!;
+        const t = Math.floor((i % W) / TILE) + Math.floor(i / W / TILE) * tnx;
+        state[t] = PENDING_FULL;
+        if (!listed[t]) ((listed[t] = 1), lists[colourOf(t)]!.push(t));
+      }
+      return cells.length;
+    };
     for (;;) {
       let worked = false;
       for (let c = 0; c < 4; c++) {
@@ -82,10 +94,11 @@ export class TiledRelaxer {
           }
           for (const t of activated)
             if (!listed[t]) ((listed[t] = 1), lists[colourOf(t)]!.push(t));
+          if (restore) reactivate();
           await pause(events);
         }
       }
-      if (!worked) return events;
+      if (!worked && !(restore && reactivate() > 0)) return events;
     }
   }
 }
