@@ -80,8 +80,8 @@ export const QUEUES_OF_JOB: Record<JobName, readonly QueueName[]> = {
 /**
  * Runs whose predicted farm time (shared/estimate.ts, which knows the seeded fast path's measured
  * curve) is above this go to the large lane. The threshold only has to separate "seconds to
- * minutes" from "many minutes to hours": square n = 10^6 (predicted ~13 s) stays in the standard
- * lane, 3·10^7 (~40 min today) goes to the large one.
+ * minutes" from "many minutes to hours": square n = 10^7 (predicted ~37 s with drawing) stays in
+ * the standard lane, 10^8 (~11 min) goes to the large one, as do the other lattices from about 10^7.
  */
 export const LARGE_RUN_SECONDS = 300;
 
