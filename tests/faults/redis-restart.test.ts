@@ -36,8 +36,8 @@ const runOf = async (id: string): Promise<Run> => runResponseSchema.parse((await
 
 describe('Redis restarted during a run', () => {
   it('the job survives in the queue, retries if it must, and completes, charged once', { timeout: 240_000 }, async () => {
-    // 10^6 grains take some seconds to compute on this machine: long enough to restart Redis under it
-    const res = await as(api.http.post('/api/runs'), author).send({ labId, title: 'through a Redis restart', spec: { lattice: { preset: 'square' }, chips: 1_000_000 } });
+    // 10^7 grains take 15–30 s to compute on this machine (10^6, folded, under a second): long enough to restart Redis under it
+    const res = await as(api.http.post('/api/runs'), author).send({ labId, title: 'through a Redis restart', spec: { lattice: { preset: 'square' }, chips: 10_000_000 } });
     expect(res.status, JSON.stringify(res.body)).toBe(201);
     const id = runResponseSchema.parse(res.body).run.id;
     await until('the run to be computing', async () => (await runOf(id)).status === 'computing', 60_000);
@@ -54,7 +54,7 @@ describe('Redis restarted during a run', () => {
     const run = await runSettled(api, author, id, 200_000);
     expect(run.status, run.error ?? '').toBe('finished');
     // the engine's own certificate (stable, non-negative, mass conserved, minimal odometer) and the mass balance
-    expect(run.stats).toMatchObject({ grainsIn: '1000000', grainsOut: '1000000', symmetric: true, certificate: { passed: true } });
+    expect(run.stats).toMatchObject({ grainsIn: '10000000', grainsOut: '10000000', symmetric: true, certificate: { passed: true } });
     const tiles = await expectCompletePyramids(api, author, id, ['heights', 'toppled', 'odometer']);
     expect(tiles).toBeGreaterThan(3);
     const closing = await api.deps.db.select().from(ledgerEntries).where(eq(ledgerEntries.idempotencyKey, `close:${id}`));
