@@ -215,6 +215,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     const c = chips[level]!;
     let k: LatticeKernel;
     let fb: FoldedBoundary | null = null;
+    const levelOpts = level > 0 && seedOpts.offsetPerRootN > 0 ? { ...seedOpts, offsetPerRootN: COARSE_OFFSET_PER_ROOT_N } : seedOpts;
     if (resumeGrid) {
       grid = resumeGrid;
       resumeGrid = null;
@@ -232,15 +233,14 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
       k = latticeKernel(g, grid.W);
       grid.h[grid.oy * grid.W + grid.ox] += c;
-      const opts = level > 0 && seedOpts.offsetPerRootN > 0 ? { ...seedOpts, offsetPerRootN: COARSE_OFFSET_PER_ROOT_N } : seedOpts;
-      if (!applySeed(grid, k, coarse, c, opts, peak)) {
+      if (!applySeed(grid, k, coarse, c, levelOpts, peak)) {
         // a seed this rough is useless: start the level from zero instead (still exact)
         grid = makeGrid(g, bg, box);
         grid.h[grid.oy * grid.W + grid.ox] += c;
       }
     }
     if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
-    const seedCopy = options.measureSeed ? { s: grid.od.slice(), W: grid.W, ox: grid.ox, oy: grid.oy, chips: c, opts: { ...seedOpts } } : null;
+    const seedCopy = options.measureSeed ? { s: grid.od.slice(), W: grid.W, ox: grid.ox, oy: grid.oy, chips: c, opts: { ...levelOpts } } : null;
     const tLevel = performance.now();
     const repairsBefore = repairRounds;
     let tRepair = tLevel;
