@@ -9,7 +9,7 @@ import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type Scal
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { peel, untopple, windowOf } from './peel.js';
 import { tileable, TiledRelaxer } from './tiled-relax.js';
-import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, growFoldedBox, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
+import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
 import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
@@ -270,7 +270,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
               return scratch.data.subarray(0, scratch.sp);
             }
           : undefined;
-        if (folded) restoreBoundary(grid, k, folded, scratch);
+        restore?.(); // true boundary heights before the first dispatch
         events += await tiler.relax(grid, (e) => pauseIfDue(before + e), restore);
       } else if (fb) {
         restoreBoundary(grid, k, fb, stack);
@@ -294,7 +294,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         const b = innerBox(grid);
         const w = b.x1 - b.x0 + 1, hgt = b.y1 - b.y0 + 1;
         const ax = Math.max(8, Math.ceil(w / 4)), ay = Math.max(8, Math.ceil(hgt / 4));
-        const next: Box = fold ? growFoldedBox(fold, b) : { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
+        const grown: Box = { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
+        const next = fold ? foldBox(fold, grown) : grown; // a folded grid grows at its far sides only
         grid = growGrid(g, bg, grid, next);
         if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);

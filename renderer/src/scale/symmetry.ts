@@ -1,6 +1,6 @@
 import type { BackgroundField } from '../engine/background.js';
 import type { LatticeGraph } from '../engine/lattice.js';
-import { FROZEN, forEachGuard, makeGrid, type Box, type ScaleGrid } from './grid.js';
+import { FROZEN, forEachGuard, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import type { LatticeKernel, UnstableStack } from './kernel.js';
 
 /**
@@ -130,12 +130,6 @@ export function restoreBoundary(grid: ScaleGrid, k: LatticeKernel, fb: FoldedBou
   return pushed;
 }
 
-/** The box a folded grid grows to when the pile reaches its far edges (the mirrored sides stay put). */
-export function growFoldedBox(f: Fold, b: Box): Box {
-  const ax = Math.max(8, Math.ceil((b.x1 + 1) / 4)), ay = Math.max(8, Math.ceil((b.y1 + 1) / 4));
-  return foldBox(f, { x0: 0, x1: b.x1 + ax, y0: 0, y1: b.y1 + ay });
-}
-
 /** Toppled lattice sites a folded grid stands for (progress). */
 export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
   const { W, H, ox, oy, od } = grid;
@@ -154,7 +148,7 @@ export function unfold(grid: ScaleGrid, g: LatticeGraph, bg: BackgroundField, f:
   const G = grid.guard;
   // images fall on the folded grid's far guard (frozen) or inside it, never on its mirrored side
   const thawX = fx1 - G, thawY = fy1 - G;
-  const inner = { x0: G - grid.ox, x1: grid.W - G - 1 - grid.ox, y0: G - grid.oy, y1: grid.H - G - 1 - grid.oy };
+  const inner = innerBox(grid);
   const full = makeGrid(g, bg, { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 });
   const { W, H, ox, oy, h, od } = full;
   forEachGuard(full, (i) => (h[i] = h[i]! + FROZEN));
