@@ -28,7 +28,12 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
     const query = client.query.bind(client) as (...args: unknown[]) => unknown;
     (client as unknown as { query: typeof query }).query = (...args) => {
       const r = query(...args);
-      return r instanceof Promise ? r.catch((err: unknown) => Promise.reject(mark(err))) : r;
+      return r instanceof Promise
+        ? r.catch((err: unknown) => {
+            if (isBegin(args[0])) releaseBroken(client as pg.PoolClient, err);
+            return Promise.reject(mark(err));
+          })
+        : r;
     };
   });
   // A failure to connect (refused, or reset while the server shuts down) carries no sign of where it
@@ -40,5 +45,22 @@ export function connectDatabase(databaseUrl: string, maxConnections = 10): Datab
   const db = drizzle(pool, { schema });
   return { db, pool, close: () => pool.end() };
 }
+
+/**
+ * drizzle-orm 0.45's node-postgres transaction() runs BEGIN before the try whose finally releases
+ * the client (drizzle-team/drizzle-orm#6241, open): a BEGIN that fails (the server went away, the
+ * connection was left in an aborted transaction) keeps the client checked out for good, and the
+ * pool, and with it `close()`, waits for it for ever. Such a client is released here, as broken, so
+ * the pool destroys it. Only drizzle's transactions run BEGIN on our pooled clients.
+ */
+function releaseBroken(client: pg.PoolClient, err: unknown): void {
+  try {
+    client.release(err instanceof Error ? err : new Error(String(err)));
+  } catch {
+    // not checked out from a pool (released already): nothing to give back
+  }
+}
+
+const isBegin = (q: unknown) => /^\s*begin\b/i.test(typeof q === 'string' ? q : typeof q === 'object' && q !== null ? String((q as { text?: unknown }).text ?? '') : '');
 
 export { schema };
