@@ -13,55 +13,71 @@ import { classAt, type LatticeKernel, type UnstableStack } from './kernel.js';
  * away from the array's edges. Returns the cells of S* on `stack` (data[0 .. sp-1]); `mark` is scratch.
  */
 export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, mark: Uint8Array, win?: Window): number {
-  const { start, delta } = k;
+  const { start, delta, rstart, rdelta, single, cls, period } = k;
   const IN = 128;
   // the window: whole array unless given (cells outside it count as not in S)
   const W = win?.W ?? h.length, x0 = win?.x0 ?? 0, x1 = win?.x1 ?? W - 1, y0 = win?.y0 ?? 0, y1 = win?.y1 ?? Math.floor(h.length / W) - 1;
-  const each = (f: (i: number) => void) => {
-    for (let y = y0; y <= y1; y++) for (let i = y * W + x0, e = y * W + x1; i <= e; i++) f(i);
-  };
-  each((i) => (mark[i] = od[i]! > 0 ? IN : 0));
+  // plain loops over the window's rows (no callbacks per cell): this runs once per repair round
+  let count = 0;
+  for (let y = y0; y <= y1; y++)
+    for (let i = y * W + x0, e = y * W + x1; i <= e; i++) {
+      const inS = +(od[i]! > 0);
+      mark[i] = inS << 7;
+      count += inS;
+    }
   if (win) {
     // the ring around the window must read as "not in S"
     for (let y = Math.max(0, y0 - k.reach); y <= y1 + k.reach; y++)
       for (let x = x0 - k.reach; x <= x1 + k.reach; x++) if (y < y0 || y > y1 || x < x0 || x > x1) mark[y * W + x] = 0;
   }
-  let count = 0;
-  each((i) => {
-    if (!(mark[i]! & IN)) return;
-    count++;
-    const c = classAt(k, i);
-    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
-      const j = i + delta[e]!;
-      if (mark[j]! & IN) mark[j]!++;
-    }
-  });
-  // queue of peeled cells: a cell is peeled at most once, so the queue holds at most |S| cells
   stack.sp = 0;
-  stack.reserve(count);
+  stack.reserve(count + 1); // + 1: the slot after the last is written before the count moves
   const q = stack.data;
-  let tail = 0;
-  each((i) => {
-    const m = mark[i]!;
-    if (m & IN && h[i]! >= (m & 127)) ((mark[i] = m & 127), (q[tail++] = i));
-  });
-  let head = 0;
-  while (head < tail) {
-    const x = q[head++]!;
-    const c = classAt(k, x);
-    for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
-      const y = x + delta[e]!;
-      const m = mark[y]!;
-      if (!(m & IN)) continue;
-      const left = (m & 127) - 1;
-      if (h[y]! >= left) ((mark[y] = left), (q[tail++] = y));
-      else mark[y] = IN | left;
+  // each cell of S counts the edges into it from S (its reversed edges, read from S's marks: the IN
+  // bit is not touched here)
+  for (let y = y0; y <= y1; y++) {
+    // class of cell i: cls[i % period], kept as a running index (one modulo per row, not per cell)
+    let ci = (y * W + x0) % period;
+    for (let i = y * W + x0, e = y * W + x1; i <= e; i++, ci = ci + 1 === period ? 0 : ci + 1) {
+      if (!(mark[i]! & IN)) continue;
+      const c = single ? 0 : cls[ci]!;
+      let n = 0;
+      for (let r = rstart[c]!, r1 = rstart[c + 1]!; r < r1; r++) n += mark[i + rdelta[r]!]! >>> 7;
+      mark[i] = IN | n;
     }
   }
+  // Peel in array order: a sweep meets each cell once, and a cell peeled pushes the neighbours it
+  // freed that the sweep has already passed onto a stack, drained at once (they are close by, so in
+  // cache); those ahead are tested when the sweep reaches them. The result does not depend on the
+  // order: S* is the largest set none of whose cells can be peeled. (A queue from the rim inwards
+  // reached cells all over the array and cost ~2× more per cell.)
+  for (let y = y0; y <= y1; y++)
+    for (let p = y * W + x0, pe = y * W + x1; p <= pe; p++) {
+      const mp = mark[p]!;
+      if (!(mp & IN) || h[p]! < (mp & 127)) continue;
+      mark[p] = mp & 127;
+      let tail = 1;
+      q[0] = p;
+      while (tail > 0) {
+        const x = q[--tail]!;
+        const c = classAt(k, x);
+        for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
+          // without branches (mispredicted about half the time): a cell of S loses one in-edge, and
+          // if the sweep has passed it and its height could now take the rest back, it leaves S
+          const yy = x + delta[e]!;
+          const m = mark[yy]!;
+          const inS = m >>> 7;
+          const left = (m & 127) - inS;
+          const out = inS & ((left - h[yy]! - 1) >>> 31) & ((yy - p - 1) >>> 31);
+          mark[yy] = (m - inS) ^ (out << 7);
+          q[tail] = yy;
+          tail += out;
+        }
+      }
+    }
   let sp = 0;
-  each((i) => {
-    if (mark[i]! & IN) q[sp++] = i;
-  });
+  for (let y = y0; y <= y1; y++)
+    for (let i = y * W + x0, e = y * W + x1; i <= e; i++) if (mark[i]! & IN) q[sp++] = i;
   stack.sp = sp;
   return sp;
 }
