@@ -71,7 +71,7 @@ describe('fast path equals the plain engine bit for bit', () => {
           }
           // one thread (a stack over the whole grid) and two (tiles over worker threads, forced on these small grids)
           for (const threads of [1, 2]) {
-            const fast = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads, tiles: threads > 1 });
+            const fast = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads, strips: threads > 1 });
             expect(strip(fast), `${name} n=${chips} ${JSON.stringify(background)} threads=${threads}`).toEqual(strip(plain));
             expect(fast.stats.certificate?.passed).toBe(true);
             expect(fast.stats.certificate?.minimal).toBe(true);
@@ -109,8 +109,8 @@ describe('seeding options never change the result', () => {
       const background = preset === 'square' ? { kind: 'random', seed: 99, weights: [1, 1, 1, 1] } : { kind: 'constant', height: 0 };
       const p = problem({ lattice: { preset }, chips: 60_000, background: background as never });
       const one = await stabilizeScaled(p, { threads: 1 });
-      const two = await stabilizeScaled(p, { threads: 2, tiles: true });
-      const tilesOnOne = await stabilizeScaled(p, { threads: 1, tiles: true });
+      const two = await stabilizeScaled(p, { threads: 2, strips: true });
+      const tilesOnOne = await stabilizeScaled(p, { threads: 1, strips: true });
       expect(strip(two), preset).toEqual(strip(one));
       expect(strip(tilesOnOne), preset).toEqual(strip(one));
       expect(two.stats.certificate?.passed).toBe(true);

@@ -64,7 +64,7 @@ describe('folded equals whole-plane bit for bit', () => {
           const folded = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, onLevel: (l) => levels.push(l) });
           const whole = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, symmetry: false });
           // tiles on two threads, the boundary restored between dispatches
-          const tiled = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 2, tiles: true });
+          const tiled = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 2, strips: true });
           const tag = `${name} n=${chips} h=${height}`;
           expect(strip(folded), tag).toEqual(strip(plain));
           expect(strip(whole), tag).toEqual(strip(plain));

@@ -1,6 +1,18 @@
 import { Worker } from 'node:worker_threads';
 import type { KernelGeometry, KernelTables } from './kernel.js';
 
+/**
+ * Starts the worker module `name` (no extension) next to the module at `here`. Under tsx or vitest the
+ * sources are .ts and are booted through tsx's loader (a .ts worker file cannot be started directly).
+ */
+export function bootWorker(here: string, name: string): Worker {
+  if (here.endsWith('.ts')) {
+    const url = new URL(`${name}.ts`, here).href;
+    return new Worker(`import('tsx/esm/api').then((m) => { m.register(); return import(${JSON.stringify(url)}); })`, { eval: true });
+  }
+  return new Worker(new URL(`${name}.js`, here));
+}
+
 interface Reply {
   id: number;
   activated?: number[];
@@ -20,12 +32,7 @@ class TileWorker {
   busy = false;
 
   constructor() {
-    const here = import.meta.url;
-    // under tsx or vitest the sources are .ts: boot the worker through tsx's loader (stack.md §10)
-    if (here.endsWith('.ts')) {
-      const url = new URL('./tile-worker.ts', here).href;
-      this.worker = new Worker(`import('tsx/esm/api').then((m) => { m.register(); return import(${JSON.stringify(url)}); })`, { eval: true });
-    } else this.worker = new Worker(new URL('./tile-worker.js', here));
+    this.worker = bootWorker(import.meta.url, './tile-worker');
     this.worker.unref();
     this.worker.on('message', (r: Reply) => {
       const w = this.waiting.get(r.id);

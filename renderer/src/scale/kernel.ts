@@ -78,6 +78,9 @@ export const classAt = (k: LatticeKernel, i: number): number => (k.single ? 0 : 
 export class UnstableStack {
   data: Int32Array;
   sp = 0;
+  /** set by relaxSome when it met cells below `lo` / at or above `hi` that became unstable (left to their owner) */
+  spilledLow = false;
+  spilledHigh = false;
   constructor(capacity = 1 << 16) {
     this.data = new Int32Array(capacity);
   }
@@ -118,13 +121,15 @@ export function guardUnstable(grid: ScaleGrid, k: LatticeKernel): boolean {
 /**
  * Pops and topples up to `budget` cells (each k = floor(h / deg) times at once). Returns the number
  * of toppling events; the stack is empty when the grid is stable apart from its frozen guard.
+ * Only cells with index in [lo, hi) are toppled (a strip of rows, strips.ts): a neighbour outside that
+ * becomes unstable is popped and left alone, and `stack.spilledLow` / `spilledHigh` say it happened.
  */
-export function relaxSome(grid: ScaleGrid, k: LatticeKernel, stack: UnstableStack, budget: number): number {
-  if (k.square) return relaxSquare(grid.h, grid.od, grid.W, stack, budget);
-  return relaxGeneric(grid.h, grid.od, k, stack, budget);
+export function relaxSome(grid: Pick<ScaleGrid, 'h' | 'od' | 'W'>, k: LatticeKernel, stack: UnstableStack, budget: number, lo = 0, hi = grid.h.length): number {
+  if (k.square) return relaxSquare(grid.h, grid.od, grid.W, stack, budget, lo, hi);
+  return relaxGeneric(grid.h, grid.od, k, stack, budget, lo, hi);
 }
 
-function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: UnstableStack, budget: number): number {
+function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: UnstableStack, budget: number, lo: number, hi: number): number {
   // each toppling may push its four neighbours: keep room for them so the pushes need no test
   let data = stack.data;
   let sp = stack.sp;
@@ -136,6 +141,12 @@ function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: Unstable
       data = stack.data;
     }
     const i = data[--sp]!;
+    // one well-predicted test: outside the strip (rare, at its edges) belongs to a neighbouring strip
+    if (i < lo || i >= hi) {
+      if (i < lo) stack.spilledLow = true;
+      else stack.spilledHigh = true;
+      continue;
+    }
     const v = h[i]!;
     if (v < 4) continue;
     const t = v >> 2;
@@ -164,7 +175,7 @@ function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: Unstable
   return events;
 }
 
-function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, budget: number): number {
+function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, budget: number, lo: number, hi: number): number {
   const { single, period, cls, deg, start, delta, tdeg, maxDeg } = k;
   let data = stack.data;
   let sp = stack.sp;
@@ -176,6 +187,11 @@ function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: 
       data = stack.data;
     }
     const i = data[--sp]!;
+    if (i < lo || i >= hi) {
+      if (i < lo) stack.spilledLow = true;
+      else stack.spilledHigh = true;
+      continue;
+    }
     const c = single ? 0 : cls[i % period]!;
     const d = deg[c]!;
     const v = h[i]!;

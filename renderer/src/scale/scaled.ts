@@ -8,7 +8,7 @@ import { checkSnapshot, snapshotBase, SnapshotError, type SeededSnapshot, type S
 import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { peel, untopple, windowOf } from './peel.js';
-import { tileable, TiledRelaxer } from './tiled-relax.js';
+import { StripRelaxer } from './strips.js';
 import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
 import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
@@ -54,11 +54,11 @@ export interface ScaleOptions {
   measureSeed?: boolean;
   /**
    * threads for the relaxation, main thread included (default min(2, cores)): more than one relaxes
-   * 64 × 64 tiles concurrently (tiled-relax.ts), one uses a stack of unstable cells over the whole grid
+   * strips of rows concurrently (strips.ts), one uses a stack of unstable cells over the whole grid
    */
   threads?: number;
-  /** relax by tiles even on one thread (benchmarks and tests; default: tiles when threads > 1) */
-  tiles?: boolean;
+  /** relax by strips even on one thread or a small grid (benchmarks and tests; default: strips when threads > 1 on big grids) */
+  strips?: boolean;
   /** called after each level with what it cost (benchmarks and tuning) */
   onLevel?: (info: LevelInfo) => void;
   /** growth of the seed error away from the source per level, beyond the value scaling (default 1) */
@@ -125,8 +125,8 @@ function checkSeededSnapshot(p: Problem, s: Snapshot, levels: number, fold: Fold
  */
 const COARSE_OFFSET_PER_ROOT_N = 1;
 
-/** Smallest grid relaxed by tiles on several threads (measured: at 2^18 cells, n ≈ 10^5, the stack was still faster). */
-const TILED_MIN_CELLS = 2 ** 19;
+/** Smallest grid relaxed by strips on several threads (measured: at 2^18 cells, n ≈ 10^5, the stack was still faster). */
+const PARALLEL_MIN_CELLS = 2 ** 19;
 
 const abortError = (signal: AbortSignal) => signal.reason ?? new DOMException('stabilization aborted', 'AbortError');
 
@@ -163,7 +163,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
   const totalWeight = weights.reduce((a, b) => a + b, 0);
   const stack = new UnstableStack();
-  /** cells a folded grid's restored boundary made unstable, for the tiled relaxation */
+  /** cells a folded grid's restored boundary made unstable, for the strip relaxation */
   const scratch = new UnstableStack(1 << 10);
   const peak = peakOf(g);
   let coarse: CoarseLevel | null = null;
@@ -206,9 +206,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   };
 
   const threads = Math.max(1, Math.min(16, Math.floor(options.threads ?? Math.min(2, availableParallelism()))));
-  // tiles pay off on big grids only: below TILED_MIN_CELLS the one stack is faster (and the workers need not boot)
-  const useTiles = (cells: number) => tileable(g) && (options.tiles ?? (threads > 1 && cells >= TILED_MIN_CELLS));
-  let tiler: TiledRelaxer | null = null;
+  // strips pay off on big grids only: below PARALLEL_MIN_CELLS one stack is faster (and the workers need not boot)
+  const useStrips = (cells: number) => options.strips ?? (threads > 1 && cells >= PARALLEL_MIN_CELLS);
+  let strips: StripRelaxer | null = null;
   try {
   let grid!: ScaleGrid;
   for (let level = startLevel; level >= 0; level--) {
@@ -259,9 +259,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       }
     };
     for (;;) {
-      if (useTiles(grid.W * grid.H)) {
+      if (useStrips(grid.W * grid.H)) {
         const before = events;
-        tiler ??= new TiledRelaxer(g, threads);
+        strips ??= new StripRelaxer(threads);
         const folded = fb;
         const restore = folded
           ? () => {
@@ -270,8 +270,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
               return scratch.data.subarray(0, scratch.sp);
             }
           : undefined;
-        restore?.(); // true boundary heights before the first dispatch
-        events += await tiler.relax(grid, (e) => pauseIfDue(before + e), restore);
+        restore?.(); // true boundary heights before the first phase
+        events += await strips.relax(grid, k, g.reach, (e) => pauseIfDue(before + e), restore);
       } else if (fb) {
         restoreBoundary(grid, k, fb, stack);
         pushAllUnstable(grid, k, stack);
@@ -344,7 +344,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   coarse = null;
   return finish(grid);
   } finally {
-    tiler?.close();
+    strips?.close();
   }
 
   function finish(grid: ScaleGrid): Outcome {

@@ -1,0 +1,31 @@
+/**
+ * Worker-thread adapter around the strip visits: takes views on the shared grid and the driver's
+ * phase buffers (strips.ts), then serves phases until the driver says stop. Its only own state is
+ * its stack.
+ */
+import { parentPort } from 'node:worker_threads';
+import { UnstableStack, type LatticeKernel } from './kernel.js';
+import { serveStrips } from './strip-relax.js';
+
+interface Domain {
+  h: SharedArrayBuffer;
+  od: SharedArrayBuffer;
+  W: number;
+  k: LatticeKernel;
+  bounds: Int32Array;
+  reach: number;
+  ctl: Int32Array;
+  visits: Int32Array;
+  extra: Int32Array;
+  budget: number;
+}
+
+const stack = new UnstableStack();
+
+parentPort!.on('message', (m: Domain) => {
+  try {
+    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds, reach: m.reach }, m.ctl, m.visits, m.extra, stack, m.budget);
+  } catch (err) {
+    parentPort!.postMessage({ error: err instanceof Error ? err.message : String(err) });
+  }
+});
