@@ -79,7 +79,8 @@ function runCase(c: CaseSpec): CaseResult {
   const r = spawnSync(process.execPath, ['--max-old-space-size=8192', '--import', 'tsx', self, '--case', JSON.stringify(c)], { encoding: 'utf8', maxBuffer: 1 << 20 });
   if (r.status !== 0) throw new Error(`case ${JSON.stringify(c)} failed: ${r.stderr.trim().split('\n').pop()}`);
   const result = JSON.parse(r.stdout.trim().split('\n').pop()!) as CaseResult;
-  process.stdout.write(`${result.seconds.toFixed(2)} s\n`);
+  // the whole row's raw numbers at once: a long bench stopped midway still tells what it measured
+  process.stdout.write(`${result.seconds.toFixed(2)} s, peak RSS ${(result.maxRssBytes / 2 ** 20).toFixed(0)} MiB, ${groupThousands(result.cells)} result cells, ${result.repairRounds} repair rounds\n`);
   return result;
 }
 
@@ -118,7 +119,7 @@ async function main(): Promise<void> {
   const cpu = cpus();
   console.log(`machine: ${cpu[0]?.model ?? 'unknown cpu'}, ${cpu.length} cores, ${(totalmem() / 2 ** 30).toFixed(1)} GiB, node ${process.version}`);
   console.log(`load average at start: ${loadavg().map((v) => v.toFixed(2)).join(' ')}`);
-  console.log('fast path: coarse-to-fine odometer seeding, legal relaxation (1 thread: one stack; 2: tiles), peeling repairs and certificate\n');
+  console.log('fast path: coarse-to-fine odometer seeding, legal relaxation (1 thread: one stack; 2: strips of rows), peeling repairs and certificate\n');
   const baseline = runCase({ n: 0, lattice: 'square', background: 'zero', threads: 1 });
 
   let naive: string | null = null;

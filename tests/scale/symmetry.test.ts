@@ -2,7 +2,7 @@
  * Mirror folding of the fast path (renderer/src/scale/symmetry.ts): a single source at the origin on
  * a mirror-invariant lattice and a uniform background has a mirror-symmetric odometer (it is the
  * least function of its kind — least action principle, Fey, Levine & Peres, arXiv:0901.3805 — and a
- * mirror image of it is another), so relaxing a quarter or an eighth of the plane must give the
+ * mirror image of it is another), so relaxing a quarter (two kinds) or an eighth of the plane must give the
  * whole-plane result bit for bit. Checked against the plain engine and against the unfolded fast path.
  */
 import { afterAll, describe, expect, it } from 'vitest';
@@ -33,8 +33,8 @@ describe('which runs fold', () => {
     expect(foldOf(latticePreset('square'), flat)).toBe('octant');
     expect(foldOf(periodicLattice(axial2 as never, 'a2'), flat)).toBe('octant');
     expect(foldOf(periodicLattice(axialX as never, 'ax'), flat)).toBe('quadrant');
-    // the triangular preset's offsets include (1, 1) but not (−1, 1): not mirror-invariant in these coordinates
-    expect(foldOf(latticePreset('triangular'), flat)).toBeNull();
+    // the triangular preset's offsets include (1, 1) but not (−1, 1): its mirrors are the diagonals
+    expect(foldOf(latticePreset('triangular'), flat)).toBe('wedge');
     expect(foldOf(latticePreset('honeycomb'), flat)).toBeNull();
     expect(foldOf(latticePreset('square'), backgroundField({ kind: 'checkerboard', a: 0, b: 2 } as never, 2))).toBeNull();
     expect(foldOf(latticePreset('square'), backgroundField({ kind: 'random', seed: 1, weights: [1, 1] } as never, 2))).toBeNull();
@@ -46,13 +46,19 @@ describe('which runs fold', () => {
     // 8 images off the axes and the diagonal, 4 on them, 1 at the origin (common practice: D4 orbits)
     expect([multiplicity('octant', 3, 1), multiplicity('octant', 3, 0), multiplicity('octant', 2, 2), multiplicity('octant', 0, 0)]).toEqual([8, 4, 4, 1]);
   });
+
+  it('folds sites onto the wedge X ≥ |Y| of the diagonal mirrors', () => {
+    expect([foldXY('wedge', -3, 5), foldXY('wedge', 2, -7), foldXY('wedge', -4, -1), foldXY('wedge', 3, -3)]).toEqual([[5, -3], [7, -2], [4, 1], [3, -3]]);
+    // the group {identity, X ↔ Y, −1, (X, Y) → (−Y, −X)}: 4 images, 2 on the diagonals, 1 at the origin
+    expect([multiplicity('wedge', 3, 1), multiplicity('wedge', 3, -3), multiplicity('wedge', 0, 0)]).toEqual([4, 2, 1]);
+  });
 });
 
 describe('folded equals whole-plane bit for bit', () => {
-  const cases: [string, object][] = [['square', { preset: 'square' }], ['axial2', { periodic: axial2 }], ['axialX', { periodic: axialX }]];
+  const cases: [string, object][] = [['square', { preset: 'square' }], ['triangular', { preset: 'triangular' }], ['axial2', { periodic: axial2 }], ['axialX', { periodic: axialX }]];
   for (const [name, lattice] of cases) {
     it(`${name}: uniform backgrounds × grain counts, against the plain engine`, async () => {
-      const g = name === 'square' ? latticePreset('square') : periodicLattice((name === 'axial2' ? axial2 : axialX) as never, name);
+      const g = name === 'square' || name === 'triangular' ? latticePreset(name) : periodicLattice((name === 'axial2' ? axial2 : axialX) as never, name);
       // low backgrounds keep the piles compact (common practice); 8- and 6-regular piles spread fast
       const heights = g.classes[0]!.length === 4 ? [0, 1, 2] : [0, 1];
       let compared = 0;
@@ -63,12 +69,12 @@ describe('folded equals whole-plane bit for bit', () => {
           const levels: LevelInfo[] = [];
           const folded = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, onLevel: (l) => levels.push(l) });
           const whole = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 1, symmetry: false });
-          // tiles on two threads, the boundary restored between dispatches
+          // strips on two threads, the boundary restored between phases
           const tiled = await stabilizeScaled(p, { baseChips: 16, maxSites: 2 ** 20, threads: 2, strips: true });
           const tag = `${name} n=${chips} h=${height}`;
           expect(strip(folded), tag).toEqual(strip(plain));
           expect(strip(whole), tag).toEqual(strip(plain));
-          expect(strip(tiled), `${tag} tiles`).toEqual(strip(plain));
+          expect(strip(tiled), `${tag} strips`).toEqual(strip(plain));
           expect(folded.stats.certificate, tag).toMatchObject({ passed: true, minimal: true });
           compared++;
         }

@@ -11,10 +11,11 @@ export const SCAN_ALL = 1;
 export const SCAN_TOP = 2;
 export const SCAN_BOTTOM = 4;
 
-/** Result flags of a visit: cells of the strip above / below became unstable; the budget ran out. */
+/** Result flags of a visit: cells of the strip above / below became unstable; the budget ran out; it took place. */
 export const SPILL_UP = 1;
 export const SPILL_DOWN = 2;
 export const UNFINISHED = 4;
+export const VISITED = 8;
 
 /**
  * A phase's visits in shared memory: [claimed, count, taken from the front, taken from the back, then
@@ -111,18 +112,21 @@ export function visitStrip(d: StripDomain, s: number, mode: number, extra: Int32
 }
 
 /**
- * Takes visits until none are left and records their results: a claim (Atomics.add on the count of
- * claimed visits) entitles a thread to one more visit from its end, so the two ends never meet.
+ * Takes visits until none are left or the phase's deadline (Date.now() milliseconds in `deadline[0]`)
+ * has passed, and records their results: a claim (Atomics.add on the count of claimed visits)
+ * entitles a thread to one more visit from its end, so the two ends never meet. Visits left unclaimed
+ * at the deadline keep VISITED clear; the driver lists them again.
  */
-export function drainVisits(d: StripDomain, w: Int32Array, extra: Int32Array, stack: UnstableStack, budget: number, fromBack = false): void {
+export function drainVisits(d: StripDomain, w: Int32Array, extra: Int32Array, stack: UnstableStack, budget: number, deadline: Float64Array, fromBack = false): void {
   const n = w[1]!;
   for (;;) {
+    if (Date.now() > deadline[0]!) return;
     if (Atomics.add(w, 0, 1) >= n) return;
     const q = fromBack ? n - 1 - Atomics.add(w, 3, 1) : Atomics.add(w, 2, 1);
     const o = HEAD + ITEM * q;
     const r = visitStrip(d, w[o + STRIP]!, w[o + MODE]!, extra, w[o + E0]!, w[o + E1]!, stack, budget);
     w[o + EVENTS] = r.events;
-    w[o + FLAGS] = r.flags;
+    w[o + FLAGS] = r.flags | VISITED;
   }
 }
 
@@ -133,14 +137,14 @@ export function drainVisits(d: StripDomain, w: Int32Array, extra: Int32Array, st
 export const GEN = 0, DONE = 1, STOP = 2, FAILED = 3;
 
 /** A worker's side: waits for phases and drains them until told to stop (blocks its thread meanwhile). */
-export function serveStrips(d: StripDomain, ctl: Int32Array, visits: Int32Array, extra: Int32Array, stack: UnstableStack, budget: number): void {
+export function serveStrips(d: StripDomain, ctl: Int32Array, visits: Int32Array, extra: Int32Array, deadline: Float64Array, stack: UnstableStack, budget: number): void {
   let gen = 0;
   for (;;) {
     Atomics.wait(ctl, GEN, gen);
     gen = Atomics.load(ctl, GEN);
     if (Atomics.load(ctl, STOP)) return;
     try {
-      drainVisits(d, visits, extra, stack, budget, true);
+      drainVisits(d, visits, extra, stack, budget, deadline, true);
     } catch (err) {
       Atomics.store(ctl, FAILED, 1);
       throw err;

@@ -17,6 +17,7 @@ interface Domain {
   ctl: Int32Array;
   visits: Int32Array;
   extra: Int32Array;
+  deadline: Float64Array;
   budget: number;
 }
 
@@ -24,7 +25,7 @@ const stack = new UnstableStack();
 
 parentPort!.on('message', (m: Domain) => {
   try {
-    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds, reach: m.reach }, m.ctl, m.visits, m.extra, stack, m.budget);
+    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds, reach: m.reach }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
   } catch (err) {
     parentPort!.postMessage({ error: err instanceof Error ? err.message : String(err) });
   }

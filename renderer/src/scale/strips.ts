@@ -2,7 +2,7 @@ import type { Worker } from 'node:worker_threads';
 import { bootWorker } from '../engine/parallel.js';
 import { UnstableStack, type LatticeKernel } from './kernel.js';
 import type { ScaleGrid } from './grid.js';
-import { DONE, drainVisits, FAILED, GEN, SCAN_ALL, SCAN_BOTTOM, SCAN_TOP, setVisits, SPILL_DOWN, SPILL_UP, STOP, UNFINISHED, visitOf, visitsFor, type StripDomain } from './strip-relax.js';
+import { DONE, drainVisits, FAILED, GEN, SCAN_ALL, SCAN_BOTTOM, SCAN_TOP, setVisits, SPILL_DOWN, SPILL_UP, STOP, UNFINISHED, VISITED, visitOf, visitsFor, type StripDomain } from './strip-relax.js';
 
 /**
  * The relaxation on several threads: the grid's rows are cut into strips, and strips of one parity are
@@ -18,6 +18,9 @@ const STRIP_ROWS = 64;
 
 /** Events per visit before the strip yields (abort, progress and checkpoints run between phases). */
 const VISIT_BUDGET = 1 << 21;
+
+/** No visit starts later than this after its phase began: phases stay short even when every strip has work. */
+const PHASE_MS = 200;
 
 class StripWorker {
   readonly worker: Worker;
@@ -113,7 +116,8 @@ export class StripRelaxer {
     // restore pushes a cell only when it crosses its threshold, and it stays unstable until its strip
     // is visited: the boundary (an axis and a diagonal or two axes) fits in W + H
     const extraBuf = new Int32Array(new SharedArrayBuffer(4 * (grid.W + grid.H)));
-    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, W: grid.W, k, bounds, reach, ctl, visits, extra: extraBuf, budget: VISIT_BUDGET });
+    const deadline = new Float64Array(new SharedArrayBuffer(8));
+    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, W: grid.W, k, bounds, reach, ctl, visits, extra: extraBuf, deadline, budget: VISIT_BUDGET });
     const rowStrip = new Int32Array(grid.H);
     for (let s = 0; s < S; s++) rowStrip.fill(s, bounds[s]!, bounds[s + 1]!);
     const mode = new Uint8Array(S).fill(SCAN_ALL);
@@ -145,15 +149,22 @@ export class StripRelaxer {
           if (!strips.length) continue;
           worked = true;
           setVisits(visits, strips, modes, from, to);
+          deadline[0] = Date.now() + PHASE_MS;
           if (this.workers.length && strips.length > 1) {
             Atomics.store(ctl, DONE, 0);
             Atomics.add(ctl, GEN, 1);
             Atomics.notify(ctl, GEN);
-            drainVisits(d, visits, extraBuf, this.stack, VISIT_BUDGET);
+            drainVisits(d, visits, extraBuf, this.stack, VISIT_BUDGET, deadline);
             await phaseDone(ctl, this.workers.length, this.workers);
-          } else drainVisits(d, visits, extraBuf, this.stack, VISIT_BUDGET);
+          } else drainVisits(d, visits, extraBuf, this.stack, VISIT_BUDGET, deadline);
           for (let q = 0; q < strips.length; q++) {
             const v = visitOf(visits, q);
+            if (!(v.flags & VISITED)) {
+              // left for the next phase of this parity, with what it was to look at
+              mode[v.strip] |= modes[q]!;
+              for (let e = from[q]!; e < to[q]!; e++) extra[v.strip]!.push(extraBuf[e]!);
+              continue;
+            }
             events += v.events;
             if (v.flags & UNFINISHED) mode[v.strip] |= SCAN_ALL;
             if (v.flags & SPILL_UP && v.strip > 0) mode[v.strip - 1] |= SCAN_BOTTOM;

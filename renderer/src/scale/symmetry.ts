@@ -8,7 +8,9 @@ import type { LatticeKernel, UnstableStack } from './kernel.js';
  * reflections X → −X, Y → −Y (and, for `octant`, X ↔ Y) map onto themselves give a final state and
  * odometer with the same symmetry (the odometer is the least function of its kind, and the mirror
  * image of that function is another one). So a level is relaxed on a quarter (X, Y ≥ 0) or an eighth
- * (0 ≤ Y ≤ X) of the plane: 4× or 8× fewer toppling events, exactly the same result.
+ * (0 ≤ Y ≤ X) of the plane: 4× or 8× fewer toppling events, exactly the same result. Lattices whose
+ * mirrors are the diagonals instead, X ↔ Y and (X, Y) → (−Y, −X) (the triangular preset in its
+ * coordinates), fold onto the `wedge` X ≥ |Y|, a quarter of the plane.
  *
  * Inside the grid, cells outside the fundamental domain are sinks: frozen, never toppled, their
  * grains thrown away. A domain cell next to them (the boundary) misses what its mirrored neighbours
@@ -16,7 +18,7 @@ import type { LatticeKernel, UnstableStack } from './kernel.js';
  * kernel. Until then its stored height is below the true one, so every toppling the kernel does is
  * legal and the abelian property makes the end exact.
  */
-export type Fold = 'quadrant' | 'octant';
+export type Fold = 'quadrant' | 'octant' | 'wedge';
 
 type Offsets = readonly (readonly number[])[];
 const sameSet = (a: Offsets, b: Offsets) => {
@@ -31,27 +33,35 @@ export function foldOf(g: LatticeGraph, bg: BackgroundField): Fold | null {
   const o = g.classes[0]!;
   const mx = sameSet(o, o.map(([x, y]) => [-x!, y!]));
   const my = sameSet(o, o.map(([x, y]) => [x!, -y!]));
-  if (!mx || !my) return null;
-  return sameSet(o, o.map(([x, y]) => [y!, x!])) ? 'octant' : 'quadrant';
+  const swap = sameSet(o, o.map(([x, y]) => [y!, x!]));
+  if (mx && my) return swap ? 'octant' : 'quadrant';
+  return swap && sameSet(o, o.map(([x, y]) => [-y!, -x!])) ? 'wedge' : null;
 }
 
 /** The image of lattice site (X, Y) in the fundamental domain. */
 export function foldXY(f: Fold, X: number, Y: number): [number, number] {
+  if (f === 'wedge') {
+    if (X >= Math.abs(Y)) return [X, Y];
+    if (Y >= Math.abs(X)) return [Y, X];
+    return -X >= Math.abs(Y) ? [-X, -Y] : [-Y, -X];
+  }
   const a = Math.abs(X), b = Math.abs(Y);
   return f === 'octant' && b > a ? [b, a] : [a, b];
 }
 
-export const inDomain = (f: Fold, X: number, Y: number) => X >= 0 && Y >= 0 && (f === 'quadrant' || Y <= X);
+export const inDomain = (f: Fold, X: number, Y: number) => (f === 'wedge' ? X >= Math.abs(Y) : X >= 0 && Y >= 0 && (f === 'quadrant' || Y <= X));
 
 /** Sites of the domain's images of every site of `box` (grown to a square for the octant). */
 export function foldBox(f: Fold, b: Box): Box {
   const x1 = Math.max(Math.abs(b.x0), Math.abs(b.x1)), y1 = Math.max(Math.abs(b.y0), Math.abs(b.y1));
   const m = Math.max(x1, y1);
+  if (f === 'wedge') return { x0: 0, x1: m, y0: -m, y1: m };
   return f === 'octant' ? { x0: 0, x1: m, y0: 0, y1: m } : { x0: 0, x1, y0: 0, y1 };
 }
 
 /** Number of lattice sites site (X, Y) of the domain stands for. */
 export function multiplicity(f: Fold, X: number, Y: number): number {
+  if (f === 'wedge') return X === 0 && Y === 0 ? 1 : Math.abs(Y) === X ? 2 : 4;
   let m = (X > 0 ? 2 : 1) * (Y > 0 ? 2 : 1);
   if (f === 'octant' && X !== Y) m *= 2;
   return m;
@@ -144,21 +154,22 @@ export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
  * image (guard cells frozen as usual). The folded grid is left as it was (a checkpoint may still hold it).
  */
 export function unfold(grid: ScaleGrid, g: LatticeGraph, bg: BackgroundField, f: Fold): ScaleGrid {
-  const fx1 = grid.W - 1 - grid.ox, fy1 = grid.H - 1 - grid.oy;
+  const fx0 = -grid.ox, fy0 = -grid.oy, fx1 = grid.W - 1 - grid.ox, fy1 = grid.H - 1 - grid.oy;
   const G = grid.guard;
-  // images fall on the folded grid's far guard (frozen) or inside it, never on its mirrored side
-  const thawX = fx1 - G, thawY = fy1 - G;
+  // images fall inside the folded grid or on its far guard (frozen), never on its mirrored side
   const inner = innerBox(grid);
-  const full = makeGrid(g, bg, { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 });
+  const r = Math.max(inner.x1, inner.y1, -inner.y0);
+  const full = makeGrid(g, bg, f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r } : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 });
   const { W, H, ox, oy, h, od } = full;
   forEachGuard(full, (i) => (h[i] = h[i]! + FROZEN));
   for (let y = 0; y < H; y++) {
     const row = y * W;
     for (let x = 0; x < W; x++) {
       const [a, b] = foldXY(f, x - ox, y - oy);
-      if (a > fx1 || b > fy1) continue; // beyond the folded grid: untouched background
+      if (a < fx0 || a > fx1 || b < fy0 || b > fy1) continue; // beyond the folded grid: untouched background
       const j = (b + grid.oy) * grid.W + a + grid.ox;
-      h[row + x] = grid.h[j]! + (a > thawX || b > thawY ? FROZEN : 0);
+      const guard = a < fx0 + G || a > fx1 - G || b < fy0 + G || b > fy1 - G;
+      h[row + x] = grid.h[j]! + (guard ? FROZEN : 0);
       od[row + x] = grid.od[j]!;
     }
   }
