@@ -116,3 +116,24 @@ export function untopple(h: Int32Array, od: Float64Array, k: LatticeKernel, stac
     for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) h[x + delta[e]!]!--;
   }
 }
+
+/**
+ * Lowers the odometer to max(v − M, 0) and the heights with it (each cell gets back what it sent
+ * and loses what its in-neighbours take back), reading the old odometer throughout. Any function below
+ * the true odometer relaxes legally to it (least action principle), and one above it still ends at a
+ * stable odometer at least as high, so relaxing from here is exact either way.
+ */
+export function lowerOdometer(h: Int32Array, od: Float64Array, k: LatticeKernel, M: number): void {
+  const { rstart, rdelta, deg } = k;
+  const n = od.length;
+  for (let i = 0; i < n; i++) {
+    const c = classAt(k, i);
+    let v = h[i]! + deg[c]! * Math.min(od[i]!, M);
+    for (let e = rstart[c]!, e1 = rstart[c + 1]!; e < e1; e++) {
+      const j = i + rdelta[e]!;
+      if (j >= 0 && j < n) v -= Math.min(od[j]!, M);
+    }
+    h[i] = v;
+  }
+  for (let i = 0; i < n; i++) od[i] = Math.max(0, od[i]! - M);
+}
