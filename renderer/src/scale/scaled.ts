@@ -317,6 +317,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         report('grow', level, prevEvents ? events / expected : 0.5, grid, true, fb?.fold ?? null);
         continue;
       }
+      // the finest level needs its coarser level no more (it only seeds and goes into checkpoints of
+      // the relaxation): let it go before the whole plane and the peeling marks are allocated (peak memory)
+      if (level === 0) coarse = null;
       // the repairs, the certificate and the next level's seed work on the whole plane
       if (fb) {
         grid = unfold(grid, g, bg, fb.fold);
@@ -327,9 +330,6 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       // stable: any overshoot of the seed shows up as a non-empty peeled set; undo it unit by unit
       tRepair = performance.now();
       if (level === L - 1 && !options.resume) break; // zero seed: legal topplings only, nothing to repair
-      // the finest level needs its coarser level no more (it only seeds and goes into checkpoints of
-      // the relaxation): let it go before the peeling marks are allocated (peak memory)
-      if (level === 0) coarse = null;
       const mark = new Uint8Array(grid.h.length);
       // A big first peeled set means the seed overshot over a wide area, and the relaxation made the
       // excess grow: undoing it a unit per round over the whole plane costs far more than lowering the
