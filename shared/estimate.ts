@@ -36,33 +36,36 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
 
 /**
  * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs on
- * a constant background, which it relaxes on an eighth of the plane (mirror symmetry, one thread),
- * measured on the 2-core development machine (2026-12-02, `stabilizeScaled` timed in process, one
- * core free, the other computing a 10^8 run; README.md, Speed): its cost follows the seed's error, not the toppling count, so it gets
- * a curve of its own.
+ * a constant background, which it relaxes on an eighth of the plane (mirror symmetry) on two threads,
+ * measured on the 2-core development machine (`npm run bench:scale`, 2026-12-05; README.md, Speed):
+ * its cost follows the seed's error, not the toppling count, so it gets a curve of its own.
  */
 export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
-  [1e5, 0.14],
-  [1e6, 0.62],
-  [1e7, 17.5],
+  [1e5, 0.18],
+  [1e6, 0.53],
+  [1e7, 13.59],
+  [1e8, 417.7],
 ];
 
 /**
  * The same path on the whole plane (lattices and backgrounds without that symmetry), square lattice,
- * two threads, `npm run bench:scale` (10^5 and 10^6 on an idle machine, 10^7 at load 5–8); other
+ * two threads, `npm run bench:scale` (10^6 and 10^7 on 2026-12-05, 10^5 in an earlier bench); other
  * lattices are priced as a factor of it.
  */
 export const FAST_PATH_WHOLE_PLANE_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
   [1e5, 0.45],
-  [1e6, 5.09],
-  [1e7, 558.7],
+  [1e6, 1.71],
+  [1e7, 78.47],
 ];
 
-/** Fast-path time of other lattices and of an i.i.d. random background relative to the square lattice at n = 10^6 (same bench). */
-export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 3.61, honeycomb: 4.45, manhattan: 4.7 };
-export const FAST_PATH_RANDOM_FACTOR = 4.51;
+/**
+ * Fast-path time of other lattices and of an i.i.d. random background relative to the whole-plane
+ * square lattice at n = 10^6 (same bench; the triangular lattice folds onto a quarter of the plane).
+ */
+export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 1.25, honeycomb: 5.36, manhattan: 5.82 };
+export const FAST_PATH_RANDOM_FACTOR = 3.85;
 /** Lattices not in that bench (f-lattice, uploaded periodic graphs): the slowest measured factor, so an estimate errs on the long side. */
-export const FAST_PATH_UNKNOWN_FACTOR = 4.7;
+export const FAST_PATH_UNKNOWN_FACTOR = 5.82;
 
 
 /** Smallest single source the engine sends to the fast path (renderer/src/engine/stabilize.ts SCALED_MIN_CHIPS). */

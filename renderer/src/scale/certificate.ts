@@ -10,7 +10,11 @@ import { peel } from './peel.js';
  * Sites outside the arrays never changed (outcomes cover every toppled site plus the band its grains
  * reach), so the arrays are all that needs checking.
  */
-export function certify(problem: Problem, o: Outcome, extra: { method: Certificate['method']; repairRounds?: number }): Certificate {
+export function certify(
+  problem: Problem,
+  o: Outcome,
+  extra: { method: Certificate['method']; repairRounds?: number; scratch?: { stack: UnstableStack; mark?: Uint8Array } },
+): Certificate {
   const g = problem.lattice;
   const d = o.shape.length;
   const W = o.shape[d - 1]!, H = d >= 2 ? o.shape[d - 2]! : 1;
@@ -40,8 +44,12 @@ export function certify(problem: Problem, o: Outcome, extra: { method: Certifica
   let minimal: boolean | null = null;
   let peeledSites = 0;
   if (k.eulerian) {
-    const stack = new UnstableStack();
-    peeledSites = peel(h, od, k, stack, new Uint8Array(h.length));
+    // a caller that already holds a big enough stack and mark lends them (peak memory at 10^8: the
+    // peeling queue alone is 4 bytes per toppled site)
+    const stack = extra.scratch?.stack ?? new UnstableStack();
+    const lent = extra.scratch?.mark;
+    peeledSites = peel(h, od, k, stack, lent && lent.length >= h.length ? lent.subarray(0, h.length) : new Uint8Array(h.length));
+    stack.sp = 0;
     minimal = peeledSites === 0;
   }
   const passed = stable && nonNegative && massConserved && minimal !== false;

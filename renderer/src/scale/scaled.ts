@@ -184,6 +184,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let resumeGrid: ScaleGrid | null = null;
   let repairRounds = 0;
   let prevEvents = 0;
+  /** the last level's peeling marks, lent to the certificate with the stack (peak memory) */
+  let lastMark: Uint8Array | null = null;
 
   if (options.resume) {
     const s = checkSeededSnapshot(problem, options.resume, L, fold);
@@ -331,6 +333,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       tRepair = performance.now();
       if (level === L - 1 && !options.resume) break; // zero seed: legal topplings only, nothing to repair
       const mark = new Uint8Array(grid.h.length);
+      lastMark = mark;
       // A big first peeled set means the seed overshot over a wide area, and the relaxation made the
       // excess grow: undoing it a unit per round over the whole plane costs far more than lowering the
       // odometer and relaxing the folded level again (see LOWER_SHARE). The state is still symmetric
@@ -375,7 +378,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   function finish(grid: ScaleGrid): Outcome {
   forEachGuard(grid, (i) => (grid.h[i] = grid.h[i]! + FROZEN));
   const outcome = buildOutcome(problem, compactToCrop(grid, g.reach), 0);
-  const certificate = certify(problem, outcome, { method: 'seeded', repairRounds });
+  const certificate = certify(problem, outcome, { method: 'seeded', repairRounds, scratch: { stack, mark: lastMark ?? undefined } });
+  lastMark = null;
   outcome.stats.certificate = certificate;
   outcome.stats.seconds = (performance.now() - t0) / 1000;
   report('done', 0, 1, null, true);
