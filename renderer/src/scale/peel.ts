@@ -30,9 +30,12 @@ export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: U
     for (let y = Math.max(0, y0 - k.reach); y <= y1 + k.reach; y++)
       for (let x = x0 - k.reach; x <= x1 + k.reach; x++) if (y < y0 || y > y1 || x < x0 || x > x1) mark[y * W + x] = 0;
   }
+  // the peeling stack grows on demand (it rarely holds many cells; reserving |S| up front cost
+  // 4 bytes per toppled site of peak memory at 10^8); + 1: the slot after the last is written before
+  // the count moves
   stack.sp = 0;
-  stack.reserve(count + 1); // + 1: the slot after the last is written before the count moves
-  const q = stack.data;
+  stack.reserve(Math.min(count, 1 << 16) + k.maxDeg + 1);
+  let q = stack.data;
   // each cell of S counts the edges into it from S (its reversed edges, read from S's marks: the IN
   // bit is not touched here)
   for (let y = y0; y <= y1; y++) {
@@ -59,6 +62,11 @@ export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: U
       let tail = 1;
       q[0] = p;
       while (tail > 0) {
+        if (tail + k.maxDeg >= q.length) {
+          stack.sp = tail;
+          stack.reserve(k.maxDeg + 1);
+          q = stack.data;
+        }
         const x = q[--tail]!;
         const c = classAt(k, x);
         for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
@@ -76,8 +84,12 @@ export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: U
       }
     }
   let sp = 0;
-  for (let y = y0; y <= y1; y++)
+  for (let y = y0; y <= y1; y++) {
+    stack.sp = sp;
+    stack.reserve(x1 - x0 + 1);
+    q = stack.data;
     for (let i = y * W + x0, e = y * W + x1; i <= e; i++) if (mark[i]! & IN) q[sp++] = i;
+  }
   stack.sp = sp;
   return sp;
 }

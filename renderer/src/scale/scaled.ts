@@ -8,6 +8,7 @@ import { checkSnapshot, snapshotBase, SnapshotError, type SeededSnapshot, type S
 import { FROZEN, forEachGuard, growGrid, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack, type LatticeKernel } from './kernel.js';
 import { lowerOdometer, peel, untopple, windowOf } from './peel.js';
+import { collectGarbage } from './memory.js';
 import { StripRelaxer } from './strips.js';
 import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
 import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
@@ -137,6 +138,9 @@ const COARSE_OFFSET_PER_ROOT_N = 1;
  */
 const LOWER_SHARE = 0.02;
 const LOWER_BY = 4;
+
+/** Grids from this many cells on collect garbage before and after their largest allocations (memory.ts). */
+const BIG_GRID = 2 ** 22;
 
 /** Smallest grid relaxed by strips on several threads (measured: at 2^18 cells, n ≈ 10^5, the stack was still faster). */
 const PARALLEL_MIN_CELLS = 2 ** 19;
@@ -324,7 +328,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (level === 0) coarse = null;
       // the repairs, the certificate and the next level's seed work on the whole plane
       if (fb) {
+        if (grid.W * grid.H >= BIG_GRID) collectGarbage(); // the coarser levels' grids first (peak memory)
         grid = unfold(grid, g, bg, fb.fold);
+        if (grid.W * grid.H >= BIG_GRID) collectGarbage(); // and the folded grid
         fb = null;
         if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);

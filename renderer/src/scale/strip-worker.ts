@@ -5,6 +5,7 @@
  */
 import { parentPort } from 'node:worker_threads';
 import { UnstableStack, type LatticeKernel } from './kernel.js';
+import { collectGarbage } from './memory.js';
 import { serveStrips } from './strip-relax.js';
 
 interface Domain {
@@ -26,6 +27,9 @@ const stack = new UnstableStack();
 parentPort!.on('message', (m: Domain) => {
   try {
     serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds, reach: m.reach }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
+    // this thread's views keep the grid's shared memory alive until they are collected, and an idle
+    // thread collects late: let the grid go now (the driver's next allocations are the big ones)
+    collectGarbage();
   } catch (err) {
     parentPort!.postMessage({ error: err instanceof Error ? err.message : String(err) });
   }
