@@ -75,17 +75,29 @@ class TileWorker {
 
 const pool: TileWorker[] = [];
 
-/** Borrow `n` workers for one run; release them with releaseWorkers. */
-export function acquireWorkers(n: number): TileWorker[] {
+/** What a pooled worker must offer to be borrowed: a busy flag, its failure if it died, ref/unref. */
+export interface Pooled {
+  busy: boolean;
+  dead: Error | undefined;
+  hold(on: boolean): void;
+}
+
+/** Borrows `n` idle workers from `pool` (dropping dead ones, starting new ones with `make` as needed). */
+export function borrow<T extends Pooled>(pool: T[], n: number, make: () => T): T[] {
   for (let i = pool.length - 1; i >= 0; i--) if (pool[i]!.dead) pool.splice(i, 1);
   const ws = pool.filter((w) => !w.busy).slice(0, n);
   while (ws.length < n) {
-    const w = new TileWorker();
+    const w = make();
     pool.push(w);
     ws.push(w);
   }
   ws.forEach((w) => ((w.busy = true), w.hold(true)));
   return ws;
+}
+
+/** Borrow `n` workers for one run; release them with releaseWorkers. */
+export function acquireWorkers(n: number): TileWorker[] {
+  return borrow(pool, n, () => new TileWorker());
 }
 
 export function releaseWorkers(ws: TileWorker[]): void {

@@ -1,5 +1,5 @@
 import type { Worker } from 'node:worker_threads';
-import { bootWorker } from '../engine/parallel.js';
+import { bootWorker, borrow, type Pooled } from '../engine/parallel.js';
 import { UnstableStack, type LatticeKernel } from './kernel.js';
 import type { ScaleGrid } from './grid.js';
 import { DONE, drainVisits, FAILED, GEN, SCAN_ALL, SCAN_BOTTOM, SCAN_TOP, setVisits, SPILL_DOWN, SPILL_UP, STOP, UNFINISHED, VISITED, visitOf, visitsFor, type StripDomain } from './strip-relax.js';
@@ -22,10 +22,15 @@ const VISIT_BUDGET = 1 << 21;
 /** No visit starts later than this after its phase began: phases stay short even when every strip has work. */
 const PHASE_MS = 200;
 
-class StripWorker {
+class StripWorker implements Pooled {
   readonly worker: Worker;
   dead: Error | undefined;
   busy = false;
+
+  hold(on: boolean): void {
+    if (on) this.worker.ref();
+    else this.worker.unref();
+  }
 
   constructor() {
     this.worker = bootWorker(import.meta.url, './strip-worker');
@@ -40,17 +45,7 @@ class StripWorker {
 
 const pool: StripWorker[] = [];
 
-function acquire(n: number): StripWorker[] {
-  for (let i = pool.length - 1; i >= 0; i--) if (pool[i]!.dead) pool.splice(i, 1);
-  const ws = pool.filter((w) => !w.busy).slice(0, n);
-  while (ws.length < n) {
-    const w = new StripWorker();
-    pool.push(w);
-    ws.push(w);
-  }
-  ws.forEach((w) => ((w.busy = true), w.worker.ref()));
-  return ws;
-}
+const acquire = (n: number) => borrow(pool, n, () => new StripWorker());
 
 /** Stops the shared pool (tests and graceful shutdown). */
 export async function shutdownStripWorkers(): Promise<void> {
@@ -97,7 +92,7 @@ export class StripRelaxer {
   }
 
   close(): void {
-    this.workers.forEach((w) => ((w.busy = false), w.worker.unref()));
+    this.workers.forEach((w) => ((w.busy = false), w.hold(false)));
   }
 
   /**
