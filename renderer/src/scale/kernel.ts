@@ -96,15 +96,31 @@ export class UnstableStack {
 
 /** Pushes every unstable non-guard cell (after seeding, growth or a resume). */
 export function pushAllUnstable(grid: ScaleGrid, k: LatticeKernel, stack: UnstableStack): void {
-  const { W, H, guard: G, h } = grid;
   stack.sp = 0;
-  for (let y = G; y < H - G; y++) {
+  // guard cells are frozen far below any threshold, so whole rows can be scanned
+  pushUnstableRows(grid.h, grid.W, k, grid.guard, grid.H - grid.guard, stack);
+}
+
+/** Pushes the unstable cells of rows y0 .. y1 - 1 of a width-W array, in array order, without a branch per cell. */
+export function pushUnstableRows(h: Int32Array, W: number, k: LatticeKernel, y0: number, y1: number, stack: UnstableStack): void {
+  const { single, deg, cls, period } = k;
+  const d0 = deg[0]!;
+  for (let y = y0; y < y1; y++) {
     const row = y * W;
-    let count = 0;
-    for (let x = G; x < W - G; x++) if (h[row + x]! >= k.deg[classAt(k, row + x)]!) count++;
-    if (!count) continue;
-    stack.reserve(count);
-    for (let x = G; x < W - G; x++) if (h[row + x]! >= k.deg[classAt(k, row + x)]!) stack.data[stack.sp++] = row + x;
+    stack.reserve(W + 1); // + 1: the slot after the last is written before the count moves
+    const data = stack.data;
+    let sp = stack.sp;
+    if (single)
+      for (let i = row, e = row + W; i < e; i++) {
+        data[sp] = i;
+        sp += +(h[i]! >= d0);
+      }
+    else
+      for (let i = row, e = row + W; i < e; i++) {
+        data[sp] = i;
+        sp += +(h[i]! >= deg[cls[i % period]!]!);
+      }
+    stack.sp = sp;
   }
 }
 

@@ -11,7 +11,7 @@ import { lowerOdometer, peel, untopple, windowOf } from './peel.js';
 import { collectGarbage } from './memory.js';
 import { StripRelaxer } from './strips.js';
 import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
-import { applySeed, bulkGainOf, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
+import { applySeed, bulkGainOf, flatSafety, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
   stage: string;
@@ -217,7 +217,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     const elapsed = (now - t0) / 1000;
     let toppled = 0;
     if (grid && folded) toppled = countToppledFolded(grid, folded);
-    else if (grid) for (let i = 0; i < grid.od.length; i++) if (grid.od[i] !== 0) toppled++;
+    else if (grid) toppled = countToppled(grid);
     options.onProgress({
       stage, fraction: best, toppledSites: toppled, level: L - 1 - level, levels: L,
       secondsLeft: stage === 'done' ? 0 : best > 0.01 ? (elapsed * (1 - best)) / best : null,
@@ -291,7 +291,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
             }
           : undefined;
         restore?.(); // true boundary heights before the first phase
-        events += await strips.relax(grid, k, g.reach, (e) => pauseIfDue(before + e), restore);
+        events += await strips.relax(grid, k, (e) => pauseIfDue(before + e), restore);
       } else if (fb) {
         restoreBoundary(grid, k, fb, stack);
         pushAllUnstable(grid, k, stack);
@@ -344,15 +344,16 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       // excess grow: undoing it a unit per round over the whole plane costs far more than lowering the
       // odometer and relaxing the folded level again (see LOWER_SHARE). The state is still symmetric
       // here (the largest peelable set is unique), so the grid can be folded again.
-      if (fold && !lowered && peel(grid.h, grid.od, k, stack, mark) > LOWER_SHARE * countToppled(grid)) {
-        lowerOdometer(grid.h, grid.od, k, Math.ceil(LOWER_BY * Math.max(levelOpts.offset, levelOpts.offsetPerRootN * Math.sqrt(c))));
+      let peeled = peel(grid.h, grid.od, k, stack, mark);
+      if (fold && !lowered && peeled > 0 && peeled > LOWER_SHARE * countToppled(grid)) {
+        lowerOdometer(grid.h, grid.od, k, Math.ceil(LOWER_BY * flatSafety(levelOpts, c)));
         lowered = true;
         stack.sp = 0;
         fb = foldGrid(grid, g, fold, bg.uniform!, c);
         continue;
       }
       // global test; repairs continue in the window of the last peeled set, then the global test again
-      while (peel(grid.h, grid.od, k, stack, mark) > 0) {
+      while (peeled > 0) {
         do {
           const win = windowOf(stack, grid.W, grid.H, 2 * g.reach + 2, grid.guard);
           untopple(grid.h, grid.od, k, stack);
@@ -360,6 +361,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
           if (options.signal?.aborted) throw abortError(options.signal);
           if (peel(grid.h, grid.od, k, stack, mark, win) === 0) break;
         } while (stack.sp > 0);
+        peeled = peel(grid.h, grid.od, k, stack, mark);
       }
       stack.sp = 0;
       break;
@@ -432,6 +434,7 @@ function compactToCrop(grid: ScaleGrid, reach: number) {
   return { nx: w, ny: hh, nz: 1, ox: grid.ox - x0, oy: grid.oy - y0, oz: 0, heights: grid.h.subarray(0, w * hh), odometer: grid.od.subarray(0, w * hh) };
 }
 
+/** Sites of the grid that toppled (odometers are never negative). */
 function countToppled(grid: ScaleGrid): number {
   let n = 0;
   for (let i = 0; i < grid.od.length; i++) if (grid.od[i]! > 0) n++;

@@ -180,8 +180,11 @@ export function seedBox(c: CoarseLevel, margin: number): Box {
 /** What the seed subtracts at (X, Y) to stay below the true odometer: the flat offset and the extra near the source. */
 export function safetyAt(o: SeedOptions, chips: number, X: number, Y: number): number {
   const near = Math.abs(X) + Math.abs(Y) < 64 ? (o.nearSafety ?? NEAR_SAFETY) * chips * Math.exp(-Math.hypot(X, Y) / 8) : 0;
-  return Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips)) + near;
+  return flatSafety(o, chips) + near;
 }
+
+/** The flat part of safetyAt, the same at every site away from the source. */
+export const flatSafety = (o: SeedOptions, chips: number): number => Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips));
 
 /**
  * Writes the seed into grid.od (non-guard cells) and the heights it leaves into grid.h:

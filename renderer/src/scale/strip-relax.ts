@@ -1,4 +1,4 @@
-import { relaxSome, type LatticeKernel, type UnstableStack } from './kernel.js';
+import { pushUnstableRows, relaxSome, type LatticeKernel, type UnstableStack } from './kernel.js';
 
 /**
  * One visit of one strip of rows, shared by the driver (strips.ts) and its worker threads: push the
@@ -34,8 +34,6 @@ export interface StripDomain {
   k: LatticeKernel;
   /** strip s is rows bounds[s] .. bounds[s + 1] - 1 */
   bounds: Int32Array;
-  /** rows a toppling reaches (the lattice's reach) */
-  reach: number;
 }
 
 /** Room for a phase's visits of `strips` strips. */
@@ -60,29 +58,6 @@ export const visitOf = (w: Int32Array, q: number) => {
   return { strip: w[o + STRIP]!, events: w[o + EVENTS]!, flags: w[o + FLAGS]! };
 };
 
-function pushRows(d: StripDomain, y0: number, y1: number, stack: UnstableStack): void {
-  const { h, W, k } = d;
-  const { single, deg, cls, period } = k;
-  const d0 = deg[0]!;
-  for (let y = y0; y < y1; y++) {
-    const row = y * W;
-    stack.reserve(W + k.maxDeg);
-    const data = stack.data;
-    let sp = stack.sp;
-    if (single)
-      for (let i = row, e = row + W; i < e; i++) {
-        data[sp] = i;
-        sp += +(h[i]! >= d0);
-      }
-    else
-      for (let i = row, e = row + W; i < e; i++) {
-        data[sp] = i;
-        sp += +(h[i]! >= deg[cls[i % period]!]!);
-      }
-    stack.sp = sp;
-  }
-}
-
 /**
  * Relaxes strip `s`: finds its unstable cells (all rows, or the `reach` rows next to a neighbour that
  * spilled into it, plus `extra[e0 .. e1)`), then topples cells of the strip until it is stable or
@@ -92,11 +67,11 @@ export function visitStrip(d: StripDomain, s: number, mode: number, extra: Int32
   const y0 = d.bounds[s]!, y1 = d.bounds[s + 1]!;
   stack.sp = 0;
   stack.spilledLow = stack.spilledHigh = false;
-  if (mode & SCAN_ALL) pushRows(d, y0, y1, stack);
+  if (mode & SCAN_ALL) pushUnstableRows(d.h, d.W, d.k, y0, y1, stack);
   else {
-    const r = d.reach;
-    if (mode & SCAN_TOP) pushRows(d, y0, Math.min(y1, y0 + r), stack);
-    if (mode & SCAN_BOTTOM) pushRows(d, Math.max(y0 + ((mode & SCAN_TOP) ? r : 0), y1 - r), y1, stack);
+    const r = d.k.reach;
+    if (mode & SCAN_TOP) pushUnstableRows(d.h, d.W, d.k, y0, Math.min(y1, y0 + r), stack);
+    if (mode & SCAN_BOTTOM) pushUnstableRows(d.h, d.W, d.k, Math.max(y0 + ((mode & SCAN_TOP) ? r : 0), y1 - r), y1, stack);
   }
   if (e1 > e0) {
     stack.reserve(e1 - e0);

@@ -14,7 +14,6 @@ interface Domain {
   W: number;
   k: LatticeKernel;
   bounds: Int32Array;
-  reach: number;
   ctl: Int32Array;
   visits: Int32Array;
   extra: Int32Array;
@@ -26,7 +25,7 @@ const stack = new UnstableStack();
 
 parentPort!.on('message', (m: Domain) => {
   try {
-    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds, reach: m.reach }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
+    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
     // this thread's views keep the grid's shared memory alive until they are collected, and an idle
     // thread collects late: let the grid go now (the driver's next allocations are the big ones)
     collectGarbage();

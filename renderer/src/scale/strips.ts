@@ -101,18 +101,18 @@ export class StripRelaxer {
    * also run between phases, may raise heights (a folded grid's boundary, symmetry.ts) and returns the
    * cells it made unstable; the grid is stable only when it returns none. Returns the toppling events.
    */
-  async relax(grid: ScaleGrid, k: LatticeKernel, reach: number, pause: (events: number) => Promise<void>, restore?: () => ArrayLike<number>): Promise<number> {
+  async relax(grid: ScaleGrid, k: LatticeKernel, pause: (events: number) => Promise<void>, restore?: () => ArrayLike<number>): Promise<number> {
     shareArrays(grid);
-    const bounds = stripBounds(grid, reach, this.workers.length + 1);
+    const bounds = stripBounds(grid, k.reach, this.workers.length + 1);
     const S = bounds.length - 1;
-    const d: StripDomain = { h: grid.h, od: grid.od, W: grid.W, k, bounds, reach };
+    const d: StripDomain = { h: grid.h, od: grid.od, W: grid.W, k, bounds };
     const ctl = new Int32Array(new SharedArrayBuffer(16));
     const visits = visitsFor(S);
     // restore pushes a cell only when it crosses its threshold, and it stays unstable until its strip
     // is visited: the boundary (an axis and a diagonal or two axes) fits in W + H
     const extraBuf = new Int32Array(new SharedArrayBuffer(4 * (grid.W + grid.H)));
     const deadline = new Float64Array(new SharedArrayBuffer(8));
-    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, W: grid.W, k, bounds, reach, ctl, visits, extra: extraBuf, deadline, budget: VISIT_BUDGET });
+    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, W: grid.W, k, bounds, ctl, visits, extra: extraBuf, deadline, budget: VISIT_BUDGET });
     const rowStrip = new Int32Array(grid.H);
     for (let s = 0; s < S; s++) rowStrip.fill(s, bounds[s]!, bounds[s + 1]!);
     const mode = new Uint8Array(S).fill(SCAN_ALL);
