@@ -21,6 +21,11 @@ export const certificateSchema = z.strictObject({
   nonNegative: z.boolean(),
   /** final grains minus background grains equal the grains added */
   massConserved: z.boolean(),
+  /**
+   * every height is its start plus the grains added there, minus what its topplings sent and plus
+   * what its in-neighbours' topplings brought (optional: certificates stored before it existed lack it)
+   */
+  odometerMatches: z.boolean().optional(),
   /** the peeled set is empty: no set of toppled sites could topple once less and stay stable */
   minimal: z.boolean().nullable(),
   /** sites left in the peeled set (0 when minimal) */

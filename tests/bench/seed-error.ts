@@ -21,7 +21,7 @@ const RINGS = Math.max(1, Number(values.rings));
 if (!Number.isFinite(N) || N < 4 ** 5 * 16) throw new Error('--n must be at least 16,384');
 
 type Field = (x: number, y: number) => number;
-interface Level { n: number; W: number; H: number; ox: number; oy: number; u: Float64Array }
+interface Level { n: number; W: number; H: number; ox: number; oy: number; u: Float64Array | Uint32Array }
 
 async function solve(n: number): Promise<Level> {
   const p = resolveProblem({ lattice: { preset: 'square' }, chips: n, sources: [], background: { kind: 'constant', height: 0 } });
@@ -29,7 +29,7 @@ async function solve(n: number): Promise<Level> {
   return { n, H: o.shape[0]!, W: o.shape[1]!, oy: o.origin[0]!, ox: o.origin[1]!, u: o.odometer };
 }
 
-const valueAt = (f: Level, a: Float64Array, x: number, y: number) => {
+const valueAt = (f: Level, a: Float64Array | Uint32Array, x: number, y: number) => {
   const i = x + f.ox, j = y + f.oy;
   return i >= 0 && j >= 0 && i < f.W && j < f.H ? a[j * f.W + i]! : 0;
 };

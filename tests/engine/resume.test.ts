@@ -37,7 +37,7 @@ async function runWithSnapshots(p: Problem, opts: StabilizeOptions = {}) {
   return { outcome, saved };
 }
 
-const odometerSum = (s: Snapshot) => (s.kind === 'tiled' ? s.od : s.grid.od).reduce((a, b) => a + b, 0);
+const odometerSum = (s: Snapshot) => Array.from(s.kind === 'tiled' ? s.od : s.grid.od).reduce((a, b) => a + b, 0);
 
 /** An uploaded array background: a 41 × 41 pattern of heights 0..3 (invented test data) and a tower of 20,000 grains. */
 function uploaded() {

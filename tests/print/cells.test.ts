@@ -24,7 +24,7 @@ describe('panel pixels against the run arrays', () => {
     // facts: n = 1000 on Z² → 421 toppled sites, 18,226 topplings (independent numpy simulation)
     const pile = squarePile(1000);
     expect(pile.toppled.reduce((a, b) => a + b, 0)).toBe(421);
-    expect(pile.odometer.reduce((a, b) => a + b, 0)).toBe(18226);
+    expect(Array.from(pile.odometer).reduce((a, b) => a + b, 0)).toBe(18226);
   });
 
   for (const [layer, k, untoppled] of [

@@ -19,9 +19,24 @@ describe('certificate', () => {
       const p = problem({ lattice: { preset }, chips: preset === 'line' ? 40 : 500, background: { kind: 'random', seed: 3, weights: [1, 1] } });
       const o = stabilizeReference(p);
       const c = certify(p, o, { method: 'legal' });
-      expect(c).toMatchObject({ stable: true, nonNegative: true, massConserved: true, minimal: true, peeledSites: 0, passed: true });
+      expect(c).toMatchObject({ stable: true, nonNegative: true, massConserved: true, odometerMatches: true, minimal: true, peeledSites: 0, passed: true });
     });
   }
+
+  it('detects an odometer value that does not explain the heights (a wrapped or damaged count)', async () => {
+    const p = problem({ lattice: { preset: 'triangular' }, chips: 5000 });
+    const o = await stabilize(p, { threads: 1 });
+    expect(certify(p, o, { method: 'seeded' }).odometerMatches).toBe(true);
+    // still toppled, so the heights, the mass and the peeled set look the same: only the counts differ
+    const od = Float64Array.from(o.odometer);
+    const origin = o.origin[0]! * o.shape[1]! + o.origin[1]!;
+    od[origin] = od[origin]! + 2 ** 32;
+    const c = certify(p, { ...o, odometer: od }, { method: 'seeded' });
+    expect(c).toMatchObject({ stable: true, massConserved: true, minimal: true, odometerMatches: false, passed: false });
+    // a source whose grains are missing from the heights is caught as well
+    const q = problem({ lattice: { preset: 'triangular' }, chips: 5001 });
+    expect(certify(q, o, { method: 'seeded' })).toMatchObject({ odometerMatches: false, passed: false });
+  });
 
   it('detects an odometer one too high on every toppled site', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 3000 });

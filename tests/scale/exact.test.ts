@@ -7,7 +7,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { isEngineError, latticePreset, stabilize, type Outcome } from '../../renderer/src/engine/index.js';
 import { shutdownWorkers } from '../../renderer/src/engine/parallel.js';
-import { stabilizeScaled } from '../../renderer/src/scale/scaled.js';
+import { stabilizeScaled, wideOdometer } from '../../renderer/src/scale/scaled.js';
 import { comparable, problem } from '../engine/helpers.js';
 
 afterAll(() => shutdownWorkers());
@@ -88,12 +88,21 @@ describe('seeding options never change the result', () => {
   it('square n = 20000: offsets, error weights and base levels all give the same outcome', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 20000 });
     const plain = strip(await stabilize(p, { threads: 1, scaled: false }));
-    for (const opts of [{ offset: 0, alpha: 1.5 }, { offset: 0, alpha: 0, bulkGain: 0 }, { offset: 500 }, { baseChips: 4 }, { baseChips: 30000 }]) {
+    for (const opts of [{ offset: 0, alpha: 1.5 }, { offset: 0, alpha: 0, bulkGain: 0 }, { offset: 500 }, { baseChips: 4 }, { baseChips: 30000 }, { odometer: 'float64' as const }, { odometer: 'float64' as const, threads: 2, strips: true }]) {
       const fast = await stabilizeScaled(p, opts);
       expect(strip(fast), JSON.stringify(opts)).toEqual(plain);
       expect(fast.stats.certificate?.passed).toBe(true);
     }
   }, 120_000);
+
+  it('counts topplings in uint32 unless the bound on the next level says float64', () => {
+    // u(0) is 1,121,523 at n = 10^6 (see below): 4·10^6 grains seeded from it stay far below 2^32
+    const at = (u0: number) => Uint32Array.of(0, u0, 7);
+    expect(wideOdometer(4_000_000, { chips: 1_000_000, u: at(1_121_523) })).toBe(false);
+    expect(wideOdometer(2 ** 30 - 1, { chips: 2 ** 28, u: at(700_000_000) })).toBe(true);
+    expect(wideOdometer(4096, null)).toBe(false);
+    expect(wideOdometer(2 ** 24, null)).toBe(true);
+  });
 
   it('square n = 10^5 equals the plain tiled engine on two threads', async () => {
     const p = problem({ lattice: { preset: 'square' }, chips: 100000 });

@@ -1,4 +1,5 @@
 import { createHash } from 'node:crypto';
+import type { OdometerArray } from '../engine/outcome.js';
 
 /** uint8 when every height fits (the common case: stable heights are below the degree), else int32. */
 export function heightsForExport(heights: Int32Array): Uint8Array | Int32Array {
@@ -11,10 +12,11 @@ export function heightsForExport(heights: Int32Array): Uint8Array | Int32Array {
 
 /**
  * The odometer as int64 (exact integers, the default) or float64. The engine keeps counts in
- * float64, exact below 2^53; int64 is written as two 32-bit halves to avoid a BigInt per cell.
+ * float64, exact below 2^53, or uint32 (the fast path); int64 is written as two 32-bit halves to
+ * avoid a BigInt per cell.
  */
-export function odometerForExport(odometer: Float64Array, dtype: 'int64' | 'float64'): BigInt64Array | Float64Array {
-  if (dtype === 'float64') return odometer;
+export function odometerForExport(odometer: OdometerArray, dtype: 'int64' | 'float64'): BigInt64Array | Float64Array {
+  if (dtype === 'float64') return odometer instanceof Float64Array ? odometer : Float64Array.from(odometer);
   const out = new BigInt64Array(odometer.length);
   const halves = new Uint32Array(out.buffer);
   const little = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;

@@ -7,7 +7,7 @@ export { stabilize, takesFastPath, SCALED_MIN_CHIPS, type StabilizeOptions, type
 export { encodeSnapshot, decodeSnapshot, snapshotBytes, isSnapshotError, SnapshotError, SNAPSHOT_FORMAT, type Snapshot, type SeededSnapshot, type TiledSnapshot } from './snapshot.js';
 export { stabilizeReference } from './reference.js';
 export { stabilizeBox, boxStabilizer, type BoxResult, type BoxOptions } from './box.js';
-export type { Outcome } from './outcome.js';
+export type { OdometerArray, Outcome } from './outcome.js';
 export { runStatsToJSON, runStatsFromJSON, type RunStats, type RunStatsJson } from '../../../shared/run-stats.js';
 export { EngineInputError, ExplosionError, NotStabilizedError, isEngineError, type EngineErrorName } from './errors.js';
 export { ENGINE_VERSION } from './version.js';

@@ -2,6 +2,13 @@ import type { RunStats } from '../../../shared/run-stats.js';
 import type { Problem } from './problem.js';
 
 /**
+ * Topplings per site. The plain engine counts in doubles (exact to 2^53); the fast path keeps
+ * 32-bit unsigned counts where its bound on the odometer allows (half the memory of the largest array
+ * at 10^9 grains, scale/scaled.ts) and hands them over as they are.
+ */
+export type OdometerArray = Float64Array | Uint32Array;
+
+/**
  * The result of a run. Arrays are row-major with x as the last axis: shape (W) for the line, (H, W)
  * for planar lattices, (D, H, W) for cubic. They cover every toppled site and every site whose height
  * changed; origin is the array index of the lattice origin in array axis order.
@@ -10,7 +17,7 @@ export interface Outcome {
   shape: number[];
   origin: number[];
   heights: Int32Array;
-  odometer: Float64Array;
+  odometer: OdometerArray;
   toppled: Uint8Array;
   stats: RunStats;
 }
@@ -24,7 +31,7 @@ export interface DenseBox {
   oy: number;
   oz: number;
   heights: Int32Array | Float64Array;
-  odometer: Float64Array;
+  odometer: OdometerArray;
 }
 
 /** Exact sum of many doubles that are each exact integers: flush to bigint before 2^53 is reached. */
@@ -105,7 +112,7 @@ export function buildOutcome(p: Problem, box: DenseBox, seconds: number): Outcom
   // at 10^9 grains a second copy would double the peak memory
   const adopt = h instanceof Int32Array && W === nx && H === ny && D === nz && cx0 === -ox && cy0 === -oy && cz0 === -oz;
   const heights = adopt ? (h as Int32Array) : new Int32Array(W * H * D);
-  const odometer = adopt ? od : new Float64Array(W * H * D);
+  const odometer: OdometerArray = adopt ? od : new Float64Array(W * H * D);
   const toppled = new Uint8Array(W * H * D);
   if (adopt) for (let i = 0; i < toppled.length; i++) toppled[i] = od[i]! > 0 ? 1 : 0;
   else for (let z = 0; z < D; z++)

@@ -91,10 +91,10 @@ export function snapshotBase(p: Problem): SnapshotBase {
 }
 
 type ArrayName = 'h' | 'od' | 'reserves' | 'coarseU' | 'coarseErr';
-type AnyArray = Int32Array | Float64Array | Float32Array;
-const CTORS = { int32: Int32Array, float64: Float64Array, float32: Float32Array } as const;
+type AnyArray = Int32Array | Uint32Array | Float64Array | Float32Array;
+const CTORS = { int32: Int32Array, uint32: Uint32Array, float64: Float64Array, float32: Float32Array } as const;
 type TypeName = keyof typeof CTORS;
-const typeOf = (a: AnyArray): TypeName => (a instanceof Int32Array ? 'int32' : a instanceof Float64Array ? 'float64' : 'float32');
+const typeOf = (a: AnyArray): TypeName => (a instanceof Int32Array ? 'int32' : a instanceof Uint32Array ? 'uint32' : a instanceof Float64Array ? 'float64' : 'float32');
 const bytesOf = (a: AnyArray) => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
 const int = z.number().int();
@@ -111,7 +111,7 @@ const headerSchema = z.discriminatedUnion('kind', [
     fold: z.enum(['quadrant', 'octant', 'wedge']).optional(),
     grid: z.strictObject({ W: int.min(1), H: int.min(1), ox: int, oy: int, guard: int.min(1) }),
     coarse: z.strictObject({ chips: int.min(0), W: int.min(1), H: int.min(1), ox: int, oy: int, gain: z.number().nullable(), toppled: box }).nullable(),
-    arrays: z.array(z.strictObject({ name: z.enum(['h', 'od', 'coarseU', 'coarseErr']), type: z.enum(['int32', 'float64', 'float32']), length: int.min(0), crc32: int })),
+    arrays: z.array(z.strictObject({ name: z.enum(['h', 'od', 'coarseU', 'coarseErr']), type: z.enum(['int32', 'uint32', 'float64', 'float32']), length: int.min(0), crc32: int })),
   }),
   z.strictObject({
     kind: z.literal('tiled'),
@@ -208,13 +208,15 @@ export function decodeSnapshot(bytes: Uint8Array): Snapshot {
     if (!a || !(a instanceof ctor) || a.length !== length) throw new SnapshotError(`the checkpoint's array ${name} is missing or has the wrong type or length`);
     return a as T;
   };
+  // the fast path's odometers are uint32 or float64 (scale/grid.ts)
+  const needOdometer = (name: ArrayName, length: number) => (got.get(name) instanceof Uint32Array ? need(name, Uint32Array, length) : need(name, Float64Array, length));
   if (head.kind === 'seeded') {
     const cells = head.grid.W * head.grid.H;
-    const grid: ScaleGrid = { ...head.grid, h: need('h', Int32Array, cells), od: need('od', Float64Array, cells) };
+    const grid: ScaleGrid = { ...head.grid, h: need('h', Int32Array, cells), od: needOdometer('od', cells) };
     let coarse: CoarseLevel | null = null;
     if (head.coarse) {
       const cc = head.coarse.W * head.coarse.H;
-      coarse = { ...head.coarse, u: need('coarseU', Float64Array, cc), err: got.has('coarseErr') ? need('coarseErr', Float32Array, cc) : null };
+      coarse = { ...head.coarse, u: needOdometer('coarseU', cc), err: got.has('coarseErr') ? need('coarseErr', Float32Array, cc) : null };
     }
     return { kind: 'seeded', format: SNAPSHOT_FORMAT, engineVersion: head.engineVersion, specKey: head.specKey, level: head.level, grid, coarse, repairRounds: head.repairRounds, prevEvents: head.prevEvents, ...(head.fold ? { fold: head.fold } : {}) };
   }

@@ -1,3 +1,4 @@
+import type { OdometerArray } from '../engine/outcome.js';
 import { RenderInputError } from './errors.js';
 
 /**
@@ -8,7 +9,7 @@ export interface RenderInput {
   shape: readonly number[];
   origin: readonly number[];
   heights: Int32Array;
-  odometer: Float64Array;
+  odometer: OdometerArray;
   toppled: Uint8Array;
 }
 

@@ -1,5 +1,6 @@
 import type { BackgroundField } from '../engine/background.js';
 import type { LatticeGraph } from '../engine/lattice.js';
+import type { OdometerArray } from '../engine/outcome.js';
 
 /**
  * Guard cells carry their real height minus FROZEN, so no toppling can ever make them unstable: the
@@ -14,7 +15,8 @@ export const FROZEN = 2 ** 30;
  * so the class of a cell depends only on its index modulo W * py (see LatticeKernel.cls). W and H are
  * multiples of 64 when the period divides 64 (tiles of the two-thread relaxation), and the arrays sit
  * on SharedArrayBuffers.
- * The outer `guard` rows and columns are frozen (see FROZEN).
+ * The outer `guard` rows and columns are frozen (see FROZEN). The odometer is 32-bit unsigned unless
+ * the level's bound on it says otherwise (`wideOdometer`, scaled.ts): 8 instead of 12 bytes per cell.
  */
 export interface ScaleGrid {
   W: number;
@@ -23,7 +25,7 @@ export interface ScaleGrid {
   oy: number;
   guard: number;
   h: Int32Array;
-  od: Float64Array;
+  od: OdometerArray;
 }
 
 /** Lattice-coordinate box [x0, x1] x [y0, y1] of the sites that may topple. */
@@ -36,8 +38,11 @@ export interface Box {
 
 const ceilTo = (v: number, m: number) => Math.ceil(v / m) * m;
 
-/** Allocates a grid whose non-guard cells cover `box` (grown to the period), filled with the background. */
-export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box): ScaleGrid {
+/**
+ * Allocates a grid whose non-guard cells cover `box` (grown to the period), filled with the
+ * background; `wide`: a float64 odometer instead of uint32.
+ */
+export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box, wide = false): ScaleGrid {
   const [px, py] = g.period;
   const guard = Math.max(1, g.reach);
   const ox = ceilTo(guard - box.x0, px);
@@ -48,7 +53,7 @@ export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box): ScaleG
   const H = ceilTo(oy + box.y1 + 1 + guard, my);
   // shared, so worker threads can relax tiles of it in place
   const h = new Int32Array(new SharedArrayBuffer(4 * W * H));
-  const od = new Float64Array(new SharedArrayBuffer(8 * W * H));
+  const od = wide ? new Float64Array(new SharedArrayBuffer(8 * W * H)) : new Uint32Array(new SharedArrayBuffer(4 * W * H));
   const grid: ScaleGrid = { W, H, ox, oy, guard, h, od };
   fillBackground(grid, bg);
   return grid;
@@ -99,7 +104,7 @@ export function innerBox(grid: ScaleGrid): Box {
  * topple now), the new cells get the background. Legal: delaying a toppling never changes the result.
  */
 export function growGrid(g: LatticeGraph, bg: BackgroundField, grid: ScaleGrid, box: Box): ScaleGrid {
-  const next = makeGrid(g, bg, box);
+  const next = makeGrid(g, bg, box, isWide(grid));
   thawGuard(grid);
   const b = innerBox(grid);
   const G = grid.guard;
@@ -112,3 +117,6 @@ export function growGrid(g: LatticeGraph, bg: BackgroundField, grid: ScaleGrid, 
   }
   return next;
 }
+
+/** Whether the grid counts topplings in float64 (see ScaleGrid). */
+export const isWide = (grid: Pick<ScaleGrid, 'od'>): boolean => grid.od instanceof Float64Array;

@@ -1,4 +1,5 @@
 import type { LatticeGraph } from '../engine/lattice.js';
+import type { OdometerArray } from '../engine/outcome.js';
 import { FROZEN, forEachGuard, type ScaleGrid } from './grid.js';
 
 /**
@@ -145,7 +146,7 @@ export function relaxSome(grid: Pick<ScaleGrid, 'h' | 'od' | 'W'>, k: LatticeKer
   return relaxGeneric(grid.h, grid.od, k, stack, budget, lo, hi);
 }
 
-function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: UnstableStack, budget: number, lo: number, hi: number): number {
+function relaxSquare(h: Int32Array, od: OdometerArray, W: number, stack: UnstableStack, budget: number, lo: number, hi: number): number {
   // each toppling may push its four neighbours: keep room for them so the pushes need no test
   let data = stack.data;
   let sp = stack.sp;
@@ -191,7 +192,7 @@ function relaxSquare(h: Int32Array, od: Float64Array, W: number, stack: Unstable
   return events;
 }
 
-function relaxGeneric(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, budget: number, lo: number, hi: number): number {
+function relaxGeneric(h: Int32Array, od: OdometerArray, k: LatticeKernel, stack: UnstableStack, budget: number, lo: number, hi: number): number {
   const { single, period, cls, deg, start, delta, tdeg, maxDeg } = k;
   let data = stack.data;
   let sp = stack.sp;

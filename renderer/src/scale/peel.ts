@@ -1,3 +1,4 @@
+import type { OdometerArray } from '../engine/outcome.js';
 import { classAt, type LatticeKernel, type UnstableStack } from './kernel.js';
 
 /**
@@ -12,7 +13,10 @@ import { classAt, type LatticeKernel, type UnstableStack } from './kernel.js';
  * Works on any dense row-major array of width W whose toppled cells are at least the lattice's reach
  * away from the array's edges. Returns the cells of S* on `stack` (data[0 .. sp-1]); `mark` is scratch.
  */
-export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack, mark: Uint8Array, win?: Window): number {
+/** Most cells the peeling test's drain stack holds (4 MiB); more cost another sweep instead (`drainCap`: tests). */
+export const DRAIN_CAP = 1 << 20;
+
+export function peel(h: Int32Array, od: OdometerArray, k: LatticeKernel, stack: UnstableStack, mark: Uint8Array, win?: Window, drainCap = DRAIN_CAP): number {
   const { start, delta, rstart, rdelta, single, cls, period } = k;
   const IN = 128;
   // the window: whole array unless given (cells outside it count as not in S)
@@ -30,11 +34,11 @@ export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: U
     for (let y = Math.max(0, y0 - k.reach); y <= y1 + k.reach; y++)
       for (let x = x0 - k.reach; x <= x1 + k.reach; x++) if (y < y0 || y > y1 || x < x0 || x > x1) mark[y * W + x] = 0;
   }
-  // the peeling stack grows on demand (it rarely holds many cells; reserving |S| up front cost
-  // 4 bytes per toppled site of peak memory at 10^8); + 1: the slot after the last is written before
-  // the count moves
+  // the drain stack holds at most DRAIN_CAP cells (see below); + maxDeg + 1: a cell's pushes are
+  // written before the count moves
+  const limit = Math.max(1, Math.min(count, drainCap));
   stack.sp = 0;
-  stack.reserve(Math.min(count, 1 << 16) + k.maxDeg + 1);
+  stack.reserve(limit + k.maxDeg + 1);
   let q = stack.data;
   // each cell of S counts the edges into it from S (its reversed edges, read from S's marks: the IN
   // bit is not touched here)
@@ -53,43 +57,48 @@ export function peel(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: U
   // freed that the sweep has already passed onto a stack, drained at once (they are close by, so in
   // cache); those ahead are tested when the sweep reaches them. The result does not depend on the
   // order: S* is the largest set none of whose cells can be peeled. (A queue from the rim inwards
-  // reached cells all over the array and cost ~2× more per cell.)
-  for (let y = y0; y <= y1; y++)
-    for (let p = y * W + x0, pe = y * W + x1; p <= pe; p++) {
-      const mp = mark[p]!;
-      if (!(mp & IN) || h[p]! < (mp & 127)) continue;
-      mark[p] = mp & 127;
-      let tail = 1;
-      q[0] = p;
-      while (tail > 0) {
-        if (tail + k.maxDeg >= q.length) {
-          stack.sp = tail;
-          stack.reserve(k.maxDeg + 1);
-          q = stack.data;
-        }
-        const x = q[--tail]!;
-        const c = classAt(k, x);
-        for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
-          // without branches (mispredicted about half the time): a cell of S loses one in-edge, and
-          // if the sweep has passed it and its height could now take the rest back, it leaves S
-          const yy = x + delta[e]!;
-          const m = mark[yy]!;
-          const inS = m >>> 7;
-          const left = (m & 127) - inS;
-          const out = inS & ((left - h[yy]! - 1) >>> 31) & ((yy - p - 1) >>> 31);
-          mark[yy] = (m - inS) ^ (out << 7);
-          q[tail] = yy;
-          tail += out;
+  // reached cells all over the array and cost ~2× more per cell.) A cascade can free most of S behind
+  // the sweep (4.3·10^6 cells in one drain at square 10^7: 32 MiB of stack); a cell freed while the
+  // stack is full stays in S with its count lowered, and another sweep peels it.
+  for (let missed = 1; missed; ) {
+    missed = 0;
+    for (let y = y0; y <= y1; y++)
+      for (let p = y * W + x0, pe = y * W + x1; p <= pe; p++) {
+        const mp = mark[p]!;
+        if (!(mp & IN) || h[p]! < (mp & 127)) continue;
+        mark[p] = mp & 127;
+        let tail = 1;
+        q[0] = p;
+        while (tail > 0) {
+          const x = q[--tail]!;
+          const c = classAt(k, x);
+          for (let e = start[c]!, e1 = start[c + 1]!; e < e1; e++) {
+            // without branches (mispredicted about half the time): a cell of S loses one in-edge, and
+            // if the sweep has passed it and its height could now take the rest back, it leaves S
+            // (when the stack has room; otherwise the next sweep does it)
+            const yy = x + delta[e]!;
+            const m = mark[yy]!;
+            const inS = m >>> 7;
+            const left = (m & 127) - inS;
+            const free = inS & ((left - h[yy]! - 1) >>> 31) & ((yy - p - 1) >>> 31);
+            const out = free & ((tail - limit) >>> 31);
+            missed |= free ^ out;
+            mark[yy] = (m - inS) ^ (out << 7);
+            q[tail] = yy;
+            tail += out;
+          }
         }
       }
-    }
-  let sp = 0;
-  for (let y = y0; y <= y1; y++) {
-    stack.sp = sp;
-    stack.reserve(x1 - x0 + 1);
-    q = stack.data;
-    for (let i = y * W + x0, e = y * W + x1; i <= e; i++) if (mark[i]! & IN) q[sp++] = i;
   }
+  // S* onto the stack, counted first: reserving a row at a time reserved the whole array when the
+  // test runs without a window (one row; 32 MiB of stack at square 10^7)
+  let left = 0;
+  for (let y = y0; y <= y1; y++) for (let i = y * W + x0, e = y * W + x1; i <= e; i++) left += mark[i]! >>> 7;
+  stack.sp = 0;
+  stack.reserve(left);
+  q = stack.data;
+  let sp = 0;
+  for (let y = y0; y <= y1; y++) for (let i = y * W + x0, e = y * W + x1; i <= e; i++) if (mark[i]! & IN) q[sp++] = i;
   stack.sp = sp;
   return sp;
 }
@@ -118,7 +127,7 @@ export function windowOf(stack: UnstableStack, W: number, H: number, margin: num
 }
 
 /** Undoes one toppling of every cell on the stack (the set S* that peel found). */
-export function untopple(h: Int32Array, od: Float64Array, k: LatticeKernel, stack: UnstableStack): void {
+export function untopple(h: Int32Array, od: OdometerArray, k: LatticeKernel, stack: UnstableStack): void {
   const { start, delta, deg } = k;
   for (let s = 0; s < stack.sp; s++) {
     const x = stack.data[s]!;
@@ -135,7 +144,7 @@ export function untopple(h: Int32Array, od: Float64Array, k: LatticeKernel, stac
  * the true odometer relaxes legally to it (least action principle), and one above it still ends at a
  * stable odometer at least as high, so relaxing from here is exact either way.
  */
-export function lowerOdometer(h: Int32Array, od: Float64Array, k: LatticeKernel, M: number): void {
+export function lowerOdometer(h: Int32Array, od: OdometerArray, k: LatticeKernel, M: number): void {
   const { rstart, rdelta, deg } = k;
   const n = od.length;
   for (let i = 0; i < n; i++) {

@@ -1,7 +1,7 @@
 import { availableParallelism } from 'node:os';
 import { NotStabilizedError } from '../engine/errors.js';
 import { DEFAULT_MAX_SITES } from '../engine/limits.js';
-import { buildOutcome, type Outcome } from '../engine/outcome.js';
+import { buildOutcome, type OdometerArray, type Outcome } from '../engine/outcome.js';
 import type { Problem } from '../engine/problem.js';
 import { certify } from './certificate.js';
 import { checkSnapshot, snapshotBase, SnapshotError, type SeededSnapshot, type Snapshot } from '../engine/snapshot.js';
@@ -79,6 +79,8 @@ export interface ScaleOptions {
    * default true where the lattice and background allow it). The result is the same either way.
    */
   symmetry?: boolean;
+  /** count topplings in this type on every level (tests; default uint32 unless `wideOdometer` says a level needs float64) */
+  odometer?: 'uint32' | 'float64';
 }
 
 /** Where the fast path applies: planar lattices, grains at the origin only, no uploaded array. */
@@ -144,6 +146,20 @@ const BIG_GRID = 2 ** 22;
 
 /** Smallest grid relaxed by strips on several threads (measured: at 2^18 cells, n ≈ 10^5, the stack was still faster). */
 const PARALLEL_MIN_CELLS = 2 ** 19;
+
+/**
+ * Whether a level must count topplings in float64 rather than uint32 (grid.ts). The odometer's peak
+ * grows a little faster than the grains from level to level (its log term gains n·ln 2/(2π√det M)),
+ * so the bound is the coarser level's largest count scaled by the grains, with a quarter more and a
+ * further n to spare; a level relaxed from zero is small unless asked otherwise. The certificate would
+ * catch a wrapped count (odometerMatches), but then the run would fall back to the plain engine.
+ */
+export function wideOdometer(chips: number, coarse: Pick<CoarseLevel, 'u' | 'chips'> | null): boolean {
+  if (!coarse) return chips >= 2 ** 24;
+  let max = 0;
+  for (let i = 0; i < coarse.u.length; i++) if (coarse.u[i]! > max) max = coarse.u[i]!;
+  return (chips / coarse.chips) * max * 1.25 + chips >= 2 ** 32;
+}
 
 const abortError = (signal: AbortSignal) => signal.reason ?? new DOMException('stabilization aborted', 'AbortError');
 
@@ -242,19 +258,20 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     } else if (!coarse) {
       const r = Math.ceil(0.5 * Math.sqrt(c / Math.max(1, Math.min(...g.classes.map((x) => x.length)) / 4))) + 2;
       const box = { x0: -r, x1: r, y0: -r, y1: r };
-      grid = makeGrid(g, bg, fold ? foldBox(fold, box) : box);
+      grid = makeGrid(g, bg, fold ? foldBox(fold, box) : box, options.odometer ? options.odometer === 'float64' : wideOdometer(c, null));
       if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       k = latticeKernel(g, grid.W);
     } else {
       const box = fold ? foldBox(fold, seedBox(coarse, 4 + g.reach)) : seedBox(coarse, 4 + g.reach);
-      grid = makeGrid(g, bg, box);
+      const wide = options.odometer ? options.odometer === 'float64' : wideOdometer(c, coarse);
+      grid = makeGrid(g, bg, box, wide);
       if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
       k = latticeKernel(g, grid.W);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       if (!applySeed(grid, k, coarse, c, levelOpts, peak)) {
         // a seed this rough is useless: start the level from zero instead (still exact)
-        grid = makeGrid(g, bg, box);
+        grid = makeGrid(g, bg, box, wide);
         grid.h[grid.oy * grid.W + grid.ox] += c;
       }
     }
@@ -328,9 +345,12 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (level === 0) coarse = null;
       // the repairs, the certificate and the next level's seed work on the whole plane
       if (fb) {
-        if (grid.W * grid.H >= BIG_GRID) collectGarbage(); // the coarser levels' grids first (peak memory)
+        // the unfolded grid is 4 or 8 times the folded one: that size decides (at 3·10^7 the folded
+        // grid alone was below BIG_GRID, and 50 MB of coarser grids stayed alive through the unfolding)
+        const big = grid.W * grid.H * 4 >= BIG_GRID;
+        if (big) collectGarbage(); // the coarser levels' grids first (peak memory)
         grid = unfold(grid, g, bg, fb.fold);
-        if (grid.W * grid.H >= BIG_GRID) collectGarbage(); // and the folded grid
+        if (big) collectGarbage(); // and the folded grid
         fb = null;
         if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);
@@ -396,7 +416,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
 }
 
 /** Σ(u − seed)⁺, Σ(seed − u)⁺ and the largest excess; the seed's grid may be smaller than the final one (growth). */
-function seedDistance(grid: ScaleGrid, seed: { s: Float64Array; W: number; ox: number; oy: number; chips: number; opts: SeedOptions }, fold: Fold | null) {
+function seedDistance(grid: ScaleGrid, seed: { s: OdometerArray; W: number; ox: number; oy: number; chips: number; opts: SeedOptions }, fold: Fold | null) {
   let seedDeficit = 0, seedExcess = 0, maxExcess = 0, rawOvershoot = 0;
   const sH = seed.s.length / seed.W;
   for (let y = 0; y < grid.H; y++)

@@ -1,4 +1,5 @@
 import type { LatticeGraph } from '../engine/lattice.js';
+import type { OdometerArray } from '../engine/outcome.js';
 import { effectiveDiffusion } from './homogenize.js';
 import type { Box, ScaleGrid } from './grid.js';
 import { classAt, type LatticeKernel } from './kernel.js';
@@ -14,7 +15,7 @@ export interface CoarseLevel {
   H: number;
   ox: number;
   oy: number;
-  u: Float64Array;
+  u: OdometerArray;
   err: Float32Array | null;
   /** measured growth of the bulk error from the level below to this one, over the value scaling */
   gain: number | null;
@@ -80,13 +81,13 @@ export const NEAR_SAFETY = 0.03;
 /** Radius around the source inside which the seed error is carried over unscaled (lattice-scale structure). */
 export const NEAR_ORIGIN = 6;
 
-const sample = (c: CoarseLevel, f: Float64Array | Float32Array, x: number, y: number) => {
+const sample = (c: CoarseLevel, f: OdometerArray | Float32Array, x: number, y: number) => {
   const cx = x + c.ox, cy = y + c.oy;
   return cx >= 0 && cx < c.W && cy >= 0 && cy < c.H ? f[cy * c.W + cx]! : 0;
 };
 
 /** Bilinear value of a coarse field at fine site (X, Y), i.e. coarse coordinates (X/2, Y/2). */
-function bilinear(c: CoarseLevel, f: Float64Array | Float32Array, X: number, Y: number): number {
+function bilinear(c: CoarseLevel, f: OdometerArray | Float32Array, X: number, Y: number): number {
   const ax = X >> 1, ay = Y >> 1;
   const bx = ax + (X & 1), by = ay + (Y & 1);
   return 0.25 * (sample(c, f, ax, ay) + sample(c, f, bx, ay) + sample(c, f, ax, by) + sample(c, f, bx, by));
@@ -117,7 +118,7 @@ const modp = (a: number, m: number) => ((a % m) + m) % m;
  * (cx, cy), i.e. on the sub-lattice of spacing (px, py) through that class; lifted by the peak when
  * `p` is given. NaN when a corner did not topple (the pile's edge).
  */
-function classBilinear(c: CoarseLevel, f: Float64Array | Float32Array, px: number, py: number, cx: number, cy: number, x: number, y: number, p: Peak | null): number {
+function classBilinear(c: CoarseLevel, f: OdometerArray | Float32Array, px: number, py: number, cx: number, cy: number, x: number, y: number, p: Peak | null): number {
   const a0 = x - modp(x - cx, px), b0 = y - modp(y - cy, py);
   const a1 = a0 + px, b1 = b0 + py;
   const wx = (x - a0) / px, wy = (y - b0) / py;

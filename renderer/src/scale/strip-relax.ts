@@ -1,3 +1,4 @@
+import type { OdometerArray } from '../engine/outcome.js';
 import { pushUnstableRows, relaxSome, type LatticeKernel, type UnstableStack } from './kernel.js';
 
 /**
@@ -29,7 +30,7 @@ const STRIP = 0, MODE = 1, E0 = 2, E1 = 3, EVENTS = 4, FLAGS = 5;
 
 export interface StripDomain {
   h: Int32Array;
-  od: Float64Array;
+  od: OdometerArray;
   W: number;
   k: LatticeKernel;
   /** strip s is rows bounds[s] .. bounds[s + 1] - 1 */

@@ -11,6 +11,8 @@ import { serveStrips } from './strip-relax.js';
 interface Domain {
   h: SharedArrayBuffer;
   od: SharedArrayBuffer;
+  /** the odometer is float64, not uint32 (grid.ts) */
+  wide: boolean;
   W: number;
   k: LatticeKernel;
   bounds: Int32Array;
@@ -25,7 +27,7 @@ const stack = new UnstableStack();
 
 parentPort!.on('message', (m: Domain) => {
   try {
-    serveStrips({ h: new Int32Array(m.h), od: new Float64Array(m.od), W: m.W, k: m.k, bounds: m.bounds }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
+    serveStrips({ h: new Int32Array(m.h), od: m.wide ? new Float64Array(m.od) : new Uint32Array(m.od), W: m.W, k: m.k, bounds: m.bounds }, m.ctl, m.visits, m.extra, m.deadline, stack, m.budget);
     // this thread's views keep the grid's shared memory alive until they are collected, and an idle
     // thread collects late: let the grid go now (the driver's next allocations are the big ones)
     collectGarbage();

@@ -1,7 +1,7 @@
 import type { Worker } from 'node:worker_threads';
 import { bootWorker, borrow, type Pooled } from '../engine/parallel.js';
 import { UnstableStack, type LatticeKernel } from './kernel.js';
-import type { ScaleGrid } from './grid.js';
+import { isWide, type ScaleGrid } from './grid.js';
 import { DONE, drainVisits, FAILED, GEN, SCAN_ALL, SCAN_BOTTOM, SCAN_TOP, setVisits, SPILL_DOWN, SPILL_UP, STOP, UNFINISHED, VISITED, visitOf, visitsFor, type StripDomain } from './strip-relax.js';
 
 /**
@@ -112,7 +112,7 @@ export class StripRelaxer {
     // is visited: the boundary (an axis and a diagonal or two axes) fits in W + H
     const extraBuf = new Int32Array(new SharedArrayBuffer(4 * (grid.W + grid.H)));
     const deadline = new Float64Array(new SharedArrayBuffer(8));
-    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, W: grid.W, k, bounds, ctl, visits, extra: extraBuf, deadline, budget: VISIT_BUDGET });
+    for (const w of this.workers) w.worker.postMessage({ h: grid.h.buffer, od: grid.od.buffer, wide: isWide(grid), W: grid.W, k, bounds, ctl, visits, extra: extraBuf, deadline, budget: VISIT_BUDGET });
     const rowStrip = new Int32Array(grid.H);
     for (let s = 0; s < S; s++) rowStrip.fill(s, bounds[s]!, bounds[s + 1]!);
     const mode = new Uint8Array(S).fill(SCAN_ALL);
@@ -184,7 +184,7 @@ function shareArrays(grid: ScaleGrid): void {
   if (grid.h.buffer instanceof SharedArrayBuffer && grid.od.buffer instanceof SharedArrayBuffer) return;
   const h = new Int32Array(new SharedArrayBuffer(grid.h.byteLength));
   h.set(grid.h);
-  const od = new Float64Array(new SharedArrayBuffer(grid.od.byteLength));
+  const od = isWide(grid) ? new Float64Array(new SharedArrayBuffer(grid.od.byteLength)) : new Uint32Array(new SharedArrayBuffer(grid.od.byteLength));
   od.set(grid.od);
   grid.h = h;
   grid.od = od;

@@ -1,6 +1,6 @@
 import type { BackgroundField } from '../engine/background.js';
 import type { LatticeGraph } from '../engine/lattice.js';
-import { FROZEN, forEachGuard, innerBox, makeGrid, type Box, type ScaleGrid } from './grid.js';
+import { FROZEN, forEachGuard, innerBox, isWide, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import type { LatticeKernel, UnstableStack } from './kernel.js';
 
 /**
@@ -159,7 +159,7 @@ export function unfold(grid: ScaleGrid, g: LatticeGraph, bg: BackgroundField, f:
   // images fall inside the folded grid or on its far guard (frozen), never on its mirrored side
   const inner = innerBox(grid);
   const r = Math.max(inner.x1, inner.y1, -inner.y0);
-  const full = makeGrid(g, bg, f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r } : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 });
+  const full = makeGrid(g, bg, f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r } : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 }, isWide(grid));
   const { W, H, ox, oy, h, od } = full;
   forEachGuard(full, (i) => (h[i] = h[i]! + FROZEN));
   for (let y = 0; y < H; y++) {
