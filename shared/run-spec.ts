@@ -129,6 +129,22 @@ export const runSpecSchema = runSpecShapeSchema.superRefine(checkRenderAgainstBa
 export type RunSpec = z.infer<typeof runSpecSchema>;
 export type RunSpecInput = z.input<typeof runSpecSchema>;
 
+export const NEW_RUN_MIN_CHIPS_MESSAGE = 'must be at least 1';
+
+/**
+ * A specification for a run about to be created or estimated: at least one grain in all, since a run
+ * of none computes nothing yet is charged (0 at the origin is fine when further sources hold grains).
+ * runSpecSchema stays at 0, because it also reads back stored runs, jobs and run.json files written
+ * before this rule.
+ */
+export const newRunSpecSchema = runSpecShapeSchema
+  // negative counts get the same message as 0 (not "at least 0", which read as if 0 were fine)
+  .extend({ chips: z.number().int().min(0, NEW_RUN_MIN_CHIPS_MESSAGE).max(Number.MAX_SAFE_INTEGER) })
+  .superRefine((spec, ctx) => {
+  checkRenderAgainstBackground(spec, ctx);
+    if (spec.chips === 0 && spec.sources.every((s) => s.chips === 0)) ctx.addIssue({ code: 'custom', path: ['chips'], message: NEW_RUN_MIN_CHIPS_MESSAGE });
+  });
+
 /** One drawn view of a run: a layer in a palette, with the untoppled style it was drawn with. */
 export interface RenderView {
   layer: Layer;

@@ -90,8 +90,17 @@ export type CheckoutRequest = z.infer<typeof checkoutRequestSchema>;
 export const checkoutResponseSchema = z.object({ purchaseId: idSchema, url: z.url() });
 export type CheckoutResponse = z.infer<typeof checkoutResponseSchema>;
 
+/** The most credits one check answers for: far beyond a lab's means, still exact in a double. */
+export const CREDIT_CHECK_MAX = 1e12;
+
 /** POST /api/labs/:labId/credits/check: would a job of this many credits be accepted now? (the run form asks before submitting) */
-export const creditCheckRequestSchema = z.strictObject({ credits: z.number().int().min(0).max(1e12) });
+export const creditCheckRequestSchema = z.strictObject({
+  credits: z
+    .number({ error: 'enter a whole number of credits' })
+    .int('enter a whole number of credits')
+    .min(0, 'must be 0 or more')
+    .max(CREDIT_CHECK_MAX, `must be at most ${CREDIT_CHECK_MAX.toLocaleString('en-US')} credits; make the job smaller`),
+});
 export type CreditCheckRequest = z.infer<typeof creditCheckRequestSchema>;
 export const creditCheckSchema = z.object({
   allowed: z.boolean(),

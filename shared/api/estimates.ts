@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { runSpecSchema } from '../run-spec.js';
+import { newRunSpecSchema } from '../run-spec.js';
 
-/** POST /api/estimates: what a run would cost before it is submitted (shared/estimate.ts). */
-export const estimateRequestSchema = z.strictObject({ spec: runSpecSchema });
+/** POST /api/estimates: what a run would cost before it is submitted (shared/estimate.ts), so the same rules as a new run. */
+export const estimateRequestSchema = z.strictObject({ spec: newRunSpecSchema });
 export type EstimateRequest = z.infer<typeof estimateRequestSchema>;
 export type EstimateRequestInput = z.input<typeof estimateRequestSchema>;
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { runSpecSchema } from '../run-spec.js';
+import { newRunSpecSchema, runSpecSchema } from '../run-spec.js';
 import { runStatsSchema } from '../run-stats.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';
 
@@ -65,7 +65,7 @@ export const runParamsSchema = z.strictObject({ id: idSchema });
 export const createRunRequestSchema = z.strictObject({
   labId: idSchema,
   title: runTitleSchema,
-  spec: runSpecSchema,
+  spec: newRunSpecSchema,
 });
 export type CreateRunRequest = z.infer<typeof createRunRequestSchema>;
 export type CreateRunRequestInput = z.input<typeof createRunRequestSchema>;

@@ -8,6 +8,7 @@ import Stripe from 'stripe';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { creditPurchases, ledgerEntries, ledgerLines } from '../../drizzle/schema.js';
 import {
+  CREDIT_CHECK_MAX,
   FREE_MONTHLY_ALLOWANCE,
   checkoutResponseSchema,
   creditCheckResponseSchema,
@@ -353,6 +354,18 @@ describe('gating submissions', () => {
     expect(refused.body.issues).toEqual([{ path: 'credits', message: `20 credits missing; buy at /lab/credits?labId=${lab}` }]);
     // nothing of the refused run remains
     expect((await summary(lab)).balance.reserved).toBe(90);
+  });
+
+  it('refuses to check a cost beyond its bounds with a message that says so', async () => {
+    const lab = await freshLab('Bounds Lab');
+    // the run form once sent the cost of n = 10^12 (over 10^12 credits) and got zod's bare "Too big"
+    const res = await as(h.http.post(`/api/labs/${lab}/credits/check`), sessions.author).send({ credits: CREDIT_CHECK_MAX + 1 });
+    expect(res.status).toBe(400);
+    expect(res.body.issues).toEqual([{ path: 'credits', message: 'must be at most 1,000,000,000,000 credits; make the job smaller' }]);
+    expect(res.body.error).toBe('invalid request body: credits: must be at most 1,000,000,000,000 credits; make the job smaller');
+    const fraction = await as(h.http.post(`/api/labs/${lab}/credits/check`), sessions.author).send({ credits: 1.5 });
+    expect(fraction.body.issues).toEqual([{ path: 'credits', message: 'enter a whole number of credits' }]);
+    await as(h.http.post(`/api/labs/${lab}/credits/check`), sessions.author).send({ credits: CREDIT_CHECK_MAX }).expect(200);
   });
 
   it('never lets parallel submissions overdraw the lab: exactly as many as the credits cover get in', async () => {

@@ -139,4 +139,13 @@ describe('POST /api/estimates', () => {
     expect(bad.status).toBe(400);
     expect(bad.body.issues[0].path).toBe('spec.chips');
   });
+
+  it('warns while the author types that a run too large for the machines would be refused', async () => {
+    // n = 10^12 on Z^2 needs thousands of GiB (16 bytes a cell), beyond any machine this runs on
+    const huge = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1e12 } }).expect(200);
+    const { warnings } = estimateResponseSchema.parse(huge.body).estimate;
+    expect(warnings).toEqual([expect.stringMatching(/^this run needs about [\d,.]+ GiB of working memory, more than the [\d,.]+ GiB of the machines that compute it; use fewer grains$/)]);
+    const small = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1000 } }).expect(200);
+    expect(estimateResponseSchema.parse(small.body).estimate.warnings).toEqual([]);
+  });
 });

@@ -2,7 +2,7 @@ import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { memberships, runs } from '../../drizzle/schema.js';
+import { ledgerEntries, memberships, runs } from '../../drizzle/schema.js';
 import { listRunsResponseSchema, runResponseSchema } from '../../shared/api/runs.js';
 import { JOB_NAMES, JOBS_TO_QUEUE, jobIdFor, QUEUE_NAMES } from '../../shared/jobs.js';
 import { runSpecSchema } from '../../shared/run-spec.js';
@@ -103,5 +103,42 @@ describe('runs', () => {
     const res = await create(s, 'Not yet', { lattice: { preset: 'square' }, chips: 1 });
     expect(res.status).toBe(403);
     expect(res.body.error).toBe('verify your e-mail first');
+  });
+});
+
+describe('runs of no grains', () => {
+  const rowsOf = async (lab: string) => (await h.deps.db.select({ id: runs.id }).from(runs).where(eq(runs.labId, lab))).length;
+  const entriesOf = async (lab: string) => (await h.deps.db.select({ id: ledgerEntries.id }).from(ledgerEntries).where(eq(ledgerEntries.labId, lab))).length;
+
+  it('are refused beside the grain count, before a row or a charge exists', async () => {
+    const [r0, e0] = [await rowsOf(labId), await entriesOf(labId)];
+    const res = await create(author, 'Nothing at all', { lattice: { preset: 'square' }, chips: 0 });
+    expect(res.status).toBe(400);
+    expect(res.body.issues).toEqual([{ path: 'spec.chips', message: 'must be at least 1' }]);
+    expect(res.body.error).toMatch(/spec\.chips: must be at least 1/);
+    const estimate = await as(h.http.post('/api/estimates'), author).send({ spec: { lattice: { preset: 'square' }, chips: 0 } });
+    expect(estimate.status).toBe(400);
+    expect(estimate.body.issues).toEqual([{ path: 'spec.chips', message: 'must be at least 1' }]);
+    expect([await rowsOf(labId), await entriesOf(labId)]).toEqual([r0, e0]);
+    await create(author, 'One grain', { lattice: { preset: 'square' }, chips: 1 }).expect(201);
+  });
+
+  it('stored before the rule still read back, but are not run again as they were', async () => {
+    // a lab of its own, so the listings above keep their counts
+    const oldLab = await createLab(h, 'Old Runs Lab', [{ userId: authorId, role: 'author' }]);
+    const [old] = await h.deps.db
+      .insert(runs)
+      .values({ labId: oldLab, authorId, title: 'An empty pile from before', spec: { lattice: { preset: 'square' }, chips: 0, sources: [], background: { kind: 'constant', height: 0 } }, status: 'finished', finishedAt: new Date() })
+      .returning();
+    const got = runResponseSchema.parse((await as(h.http.get(`/api/runs/${old!.id}`), author).expect(200)).body);
+    expect(got.run.spec.chips).toBe(0);
+    const listed = listRunsResponseSchema.parse((await as(h.http.get(`/api/runs?labId=${oldLab}`), author).expect(200)).body);
+    expect(listed.runs.map((r) => r.id)).toEqual([old!.id]);
+
+    const again = await as(h.http.post(`/api/runs/${old!.id}/rerun`), author).send({});
+    expect(again.status).toBe(400);
+    expect(again.body.issues).toEqual([{ path: 'spec.chips', message: 'must be at least 1' }]);
+    expect(again.body.error).toMatch(/duplicate it with edits/);
+    expect([await rowsOf(oldLab), await entriesOf(oldLab)]).toEqual([1, 0]);
   });
 });

@@ -1,7 +1,7 @@
 import { describe, expect, test } from 'vitest';
 import fc from 'fast-check';
 import { format as mathFormat } from 'mathjs';
-import { estimateSecondsLeft, formatCountText, formatDuration, formatPercent, groupThousands, powerOfTen } from './format.js';
+import { estimateSecondsLeft, formatCountText, formatDuration, formatElapsed, formatPercent, groupThousands, powerOfTen } from './format.js';
 
 describe('exact number display', () => {
   test('the brief’s own worked example: one million reads "1,000,000 (10^6)"', () => {
@@ -46,6 +46,34 @@ describe('time left and progress', () => {
     expect(formatDuration(45)).toBe('45 s');
     expect(formatDuration(200)).toBe('3 min 20 s');
     expect(formatDuration(7500)).toBe('2 h 05 min');
+  });
+
+  test('long durations read in days and years, with grouped digits, never as a wall of hours', () => {
+    expect(formatDuration(86_399)).toBe('23 h 59 min');
+    expect(formatDuration(86_400)).toBe('1 day 0 h');
+    expect(formatDuration(3 * 86_400 + 4 * 3600 + 59)).toBe('3 days 4 h');
+    const year = 365.25 * 86_400;
+    expect(formatDuration(year)).toBe('1 year');
+    expect(formatDuration(1.5 * year)).toBe('1.5 years');
+    // the estimate an author saw for n = 10^12 on the square lattice: "27959728007 h 36 min"
+    expect(formatDuration(27_959_728_007 * 3600 + 36 * 60)).toBe('3,189,565 years');
+    for (const s of [1e9, 1e12, 1e15, Number.MAX_SAFE_INTEGER]) {
+      const text = formatDuration(s);
+      expect(text).toMatch(/^\d{1,3}(,\d{3})* years$/);
+      expect(text.length).toBeLessThan(30);
+    }
+  });
+
+  test('a measured time under a few seconds keeps its fraction instead of reading "0 s"', () => {
+    expect(formatElapsed(0)).toBe('under 1 ms');
+    expect(formatElapsed(0.0004)).toBe('under 1 ms');
+    expect(formatElapsed(0.035)).toBe('35 ms');
+    expect(formatElapsed(0.4)).toBe('400 ms');
+    expect(formatElapsed(0.9996)).toBe('1.0 s');
+    expect(formatElapsed(2.44)).toBe('2.4 s');
+    expect(formatElapsed(45)).toBe('45 s');
+    expect(formatElapsed(7500)).toBe('2 h 05 min');
+    expect(formatElapsed(-1)).toBe('unknown');
   });
 
   test('time left extrapolates the rate so far: a quarter done in 60 s leaves 180 s', () => {

@@ -46,16 +46,48 @@ export function withUnit(n: number | bigint, singular: string, plural = `${singu
   return `${groupThousands(n)} ${n === 1 || n === 1n ? singular : plural}`;
 }
 
-/** Whole seconds as "2 h 05 min", "3 min 20 s" or "45 s". */
+const DAY = 86_400;
+/** a Julian year: the unit only has to read right, not to match a calendar */
+const YEAR = 365.25 * DAY;
+
+/**
+ * Whole seconds as "45 s", "3 min 20 s", "2 h 05 min", "3 days 4 h" or, past a year, "1.5 years" and
+ * "3,190,605 years", so a huge estimate stays short and readable.
+ */
 export function formatDuration(totalSeconds: number): string {
   if (!Number.isFinite(totalSeconds) || totalSeconds < 0) return 'unknown';
   const s = Math.round(totalSeconds);
+  if (s >= YEAR) {
+    const years = s / YEAR;
+    // one decimal while it still says something, whole grouped years beyond
+    const text = years < 10 ? String(Math.floor(years * 10) / 10) : groupThousands(Math.floor(years));
+    return `${text} ${text === '1' ? 'year' : 'years'}`;
+  }
+  if (s >= DAY) {
+    const d = Math.floor(s / DAY);
+    const h = Math.floor((s % DAY) / 3600);
+    return `${d} ${d === 1 ? 'day' : 'days'} ${h} h`;
+  }
   const h = Math.floor(s / 3600);
   const m = Math.floor((s % 3600) / 60);
   const sec = s % 60;
   if (h > 0) return `${h} h ${String(m).padStart(2, '0')} min`;
   if (m > 0) return `${m} min ${String(sec).padStart(2, '0')} s`;
   return `${sec} s`;
+}
+
+/**
+ * A measured time, such as the engine's: like formatDuration, but a run of a fraction of a second
+ * reads "0.4 s" or "35 ms" rather than "0 s".
+ */
+export function formatElapsed(seconds: number): string {
+  if (!Number.isFinite(seconds) || seconds < 0) return 'unknown';
+  if (seconds < 0.001) return 'under 1 ms';
+  const ms = Math.round(seconds * 1000);
+  if (ms < 1000) return `${ms} ms`;
+  // one decimal while whole seconds would hide most of the time ("1 s" for 1.4 s)
+  if (seconds < 9.95) return `${seconds.toFixed(1)} s`;
+  return formatDuration(seconds);
 }
 
 /** Progress 0..1 as a whole percent, never showing 100 % before the job is really done. */

@@ -7,6 +7,7 @@ import { badRequest } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
 import { findBackground } from '../services/background-uploads.js';
+import { memoryWarning } from '../services/run-memory.js';
 
 /** The estimator's own refusals (an unknown lattice preset) are the client's 400. */
 function estimateOrReject(...args: Parameters<typeof estimateRun>) {
@@ -28,6 +29,9 @@ export function estimatesRouter({ db }: AppDeps): Router {
     const upload = bg.kind === 'array' ? await findBackground(db, bg.sha256) : null;
     if (bg.kind === 'array' && !upload) throw badRequest(`spec.background: no uploaded background has sha256 ${bg.sha256}`);
     const estimate = estimateOrReject(spec, upload ? { shape: upload.shape, meanHeight: upload.meanHeight } : undefined);
+    // the submit would be refused for its memory: say so while the author is still typing
+    const tooLarge = memoryWarning(estimate);
+    if (tooLarge) estimate.warnings.push(tooLarge);
     respond(res, 200, estimateResponseSchema, { estimate });
   });
 

@@ -10,13 +10,14 @@ import {
   runResponseSchema,
   type ListRunsQuery,
 } from '../../../shared/api/runs.js';
+import { newRunSpecSchema } from '../../../shared/run-spec.js';
 import { JOB_NAMES, type JobItem } from '../../../shared/jobs.js';
 import { runs, users } from '../../../drizzle/schema.js';
 import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
 import { badRequest, conflict, forbidden, notFound } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
-import { validate } from '../http/validate.js';
+import { toIssues, validate } from '../http/validate.js';
 import { audit } from '../services/audit.js';
 import { streamRunEvents } from '../services/run-events.js';
 import { createRuns } from '../services/runs.js';
@@ -102,6 +103,12 @@ export function runsRouter({ db, queue, log }: AppDeps): Router {
     const user = authOf(res).user;
     const { run } = await loadRun(id, res);
     await checkLabAccess(db, user, run.labId, 'member');
+    // a run stored before today's rules (say, of 0 grains) must not be run, and charged, again as it was
+    const fresh = newRunSpecSchema.safeParse(run.spec);
+    if (!fresh.success) {
+      const issues = toIssues(fresh.error).map((i) => ({ path: i.path ? `spec.${i.path}` : 'spec', message: i.message }));
+      throw badRequest(`this run's specification is not accepted for a new run (${issues.map((i) => `${i.path}: ${i.message}`).join('; ')}); duplicate it with edits instead`, issues);
+    }
     const { rows: [again] } = await createRuns({ db, queue, log }, user, run.labId, [{ title: body.title ?? run.title, spec: run.spec }], { action: 'run.rerun', detail: { from: run.id } });
     respond(res, 201, runResponseSchema, { run: runView(again!, { id: user.id, name: user.name }) });
   });

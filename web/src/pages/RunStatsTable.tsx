@@ -1,6 +1,6 @@
 import type { ReactNode } from 'react';
 import { runStatsFromJSON, type RunStats } from '../../../shared/run-stats.js';
-import { formatDuration, groupThousands } from '../format.js';
+import { formatElapsed, groupThousands } from '../format.js';
 import { statRows } from '../runStats.js';
 import { Count } from '../ui/index.js';
 
@@ -69,7 +69,8 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
           </span>
         ),
       },
-      { label: 'Engine time', value: formatDuration(s.seconds) },
+      // the engine's own measured seconds (a fraction for small runs), not rounded away to "0 s"
+      { label: 'Engine time', value: formatElapsed(s.seconds) },
     );
   } else {
     for (const r of statRows(stats)) {
@@ -79,7 +80,7 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
       });
     }
   }
-  if (wallSeconds !== null) rows.push({ label: 'Wall-clock time', value: formatDuration(wallSeconds) });
+  if (wallSeconds !== null) rows.push({ label: 'Wall-clock time', value: formatElapsed(wallSeconds) });
   if (rows.length === 0) return <p className="text-sm text-ink-faint">No statistics yet.</p>;
   return (
     <table className="w-full text-sm">

@@ -4,10 +4,10 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { useEstimate } from '../api/queries.js';
 import {
-  createRunRequestSchema, createSeriesRequestSchema, runSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
+  createRunRequestSchema, createSeriesRequestSchema, newRunSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
 } from '../api/contract.js';
 import { backgroundKindName, latticeName } from '../labels.js';
-import { formatDuration } from '../format.js';
+import { formatDuration, groupThousands } from '../format.js';
 import { Button, Count, FormError, SelectField, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 import { BackgroundUpload } from './BackgroundUpload.js';
 import { RenderChoices } from './RenderChoices.js';
@@ -26,7 +26,7 @@ function useDebounced<T>(value: T, ms: number): T {
   return v;
 }
 
-const bytesText = (b: number) => (b >= 2 ** 30 ? `${(b / 2 ** 30).toFixed(2)} GiB` : b >= 2 ** 20 ? `${(b / 2 ** 20).toFixed(1)} MiB` : `${Math.ceil(b / 1024)} KiB`);
+const bytesText = (b: number) => (b >= 2 ** 30 ? `${(b / 2 ** 30).toLocaleString('en-US', { minimumFractionDigits: 2, maximumFractionDigits: 2 })} GiB` : b >= 2 ** 20 ? `${(b / 2 ** 20).toFixed(1)} MiB` : `${Math.ceil(b / 1024)} KiB`);
 
 /**
  * Everything a run can be: a preset or drawn/uploaded periodic lattice, every background kind, extra
@@ -47,13 +47,13 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
       const ns = seriesChipsOfForm(f).filter(Number.isSafeInteger);
       spec.chips = ns.length ? Math.max(...ns) : NaN;
     }
-    const r = runSpecSchema.safeParse(spec);
+    const r = newRunSpecSchema.safeParse(spec);
     return r.success ? (r.data as RunSpecInput) : null;
   }, [f]);
   const specForEstimateDebounced = useDebounced(specForEstimate, 400);
   // what the shared schema says about the drawing choices, shown as the author ticks them
   const liveRenderIssues = useMemo(() => {
-    const r = runSpecSchema.safeParse(specOfForm(f));
+    const r = newRunSpecSchema.safeParse(specOfForm(f));
     const at = (k: string) => (r.success ? undefined : r.error.issues.find((i) => i.path.join('.') === `render.${k}`)?.message);
     return { layers: at('layers'), palettes: at('palettes') };
   }, [f]);
@@ -68,11 +68,14 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
       void qc.invalidateQueries({ queryKey: ['runs'] });
       void navigate(to);
     },
-    onError: (e) => setErrors(serverFieldErrors(e)),
+    // the series form has one field for all its counts, so the server's chips.<i> land there
+    onError: (e) => setErrors(Object.fromEntries(Object.entries(serverFieldErrors(e)).map(([k, v]) => [f.mode === 'series' && /^chips(\.|$)/.test(k) ? 'seriesChips' : k, v]))),
   });
 
   function submit(e: FormEvent) {
     e.preventDefault();
+    // a refusal from an earlier attempt no longer describes what is being submitted now
+    create.reset();
     const spec = specOfForm(f);
     if (f.mode === 'single') {
       const r = validate(createRunRequestSchema, { labId, title: f.title, spec });
@@ -95,8 +98,8 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
   const shownKey = estimate.data ? (estimate.isPlaceholderData ? null : specForEstimateDebounced) : null;
   const estimatedFor = shownKey ? Number(shownKey.chips) + (shownKey.sources ?? []).reduce((a, s) => a + s.chips, 0) : null;
   return (
-    <form noValidate onSubmit={submit} className="grid grid-cols-[1fr_20rem] gap-8" aria-label="new run">
-      <div className="grid grid-cols-3 content-start gap-5">
+    <form noValidate onSubmit={submit} className="grid grid-cols-[minmax(0,1fr)_20rem] gap-8" aria-label="new run">
+      <div className="grid min-w-0 grid-cols-3 content-start gap-5">
         <TextField label="Title" name="title" value={f.title} onChange={(e) => set({ title: e.target.value })} error={errors.title} fieldClassName="col-span-3" placeholder="e.g. Square lattice, one million grains" />
 
         <SelectField
@@ -129,7 +132,7 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
             value={f.chips}
             onChange={(e) => set({ chips: e.target.value })}
             error={errors['spec.chips']}
-            hint={Number.isSafeInteger(grains) && grains >= 0 ? <Count n={grains} unit="grains" /> : 'a whole number, e.g. 1000000 or 10^6'}
+            hint={Number.isSafeInteger(grains) && grains >= 1 ? <Count n={grains} unit="grains" /> : 'a whole number of at least 1, e.g. 1000000 or 10^6'}
           />
         ) : (
           <TextField
@@ -211,10 +214,11 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
         />
       </div>
 
-      <aside className="flex flex-col gap-4">
-        <div className="rounded-lg border border-rule bg-paper px-5 py-4 text-sm" aria-label="estimate" data-testid="estimate">
+      <aside className="flex min-w-0 flex-col gap-4">
+        {/* huge n gives long numbers: they wrap inside the column rather than run past the page edge */}
+        <div className="min-w-0 rounded-lg border border-rule bg-paper px-5 py-4 text-sm wrap-anywhere" aria-label="estimate" data-testid="estimate">
           <h3 className="mb-2 font-semibold">Before you start</h3>
-          {estimatedFor !== null ? (
+          {estimatedFor !== null && specForEstimate ? (
             <p className="-mt-1 mb-2 text-xs text-ink-soft" data-testid="estimate-for">
               {f.mode === 'series' ? 'largest run, ' : ''}n = <Count n={estimatedFor} />
               {estimate.isFetching || specForEstimate !== specForEstimateDebounced ? ' · updating…' : ''}
@@ -227,16 +231,16 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           ) : !est ? (
             <p className="text-ink-soft">Estimating…</p>
           ) : (
-            <dl className={`grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 ${estimate.isFetching || specForEstimate !== specForEstimateDebounced ? 'opacity-50' : ''}`}>
+            <dl className={`grid grid-cols-[auto_minmax(0,1fr)] gap-x-4 gap-y-1 ${estimate.isFetching || specForEstimate !== specForEstimateDebounced ? 'opacity-50' : ''}`}>
               <dt className="text-ink-soft">Domain</dt>
               <dd className="text-right">
-                <Count n={est.cells} unit="cells" />
-                <span className="block font-mono text-[11px] text-ink-faint">{est.shape.join(' × ')}</span>
+                <Count n={est.cells} unit="cells" stacked />
+                <span className="block font-mono text-[11px] text-ink-faint">{est.shape.map((d) => groupThousands(d)).join(' × ')}</span>
               </dd>
               <dt className="text-ink-soft">Memory</dt>
               <dd className="text-right tnum">{bytesText(est.bytes)}</dd>
               <dt className="text-ink-soft">Time</dt>
-              <dd className="text-right tnum">about {formatDuration(est.seconds)}</dd>
+              <dd className="text-right tnum" data-testid="estimate-time">about {formatDuration(est.seconds)}</dd>
               <dt className="text-ink-soft">Drawing</dt>
               <dd className="text-right tnum" data-testid="estimate-pyramids">
                 {est.pyramids} view{est.pyramids === 1 ? '' : 's'}, {formatDuration(est.renderSeconds)}
@@ -245,15 +249,16 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
               <dd className="text-right font-semibold tnum" data-testid="estimate-credits">{est.credits.toLocaleString('en-US')}</dd>
             </dl>
           )}
-          {est?.warnings.map((w) => (
+          {/* an earlier answer stays in est while the form is incomplete: its warnings and credits no longer apply */}
+          {specForEstimate ? est?.warnings.map((w) => (
             <p key={w} className="mt-2 rounded bg-amber-tint px-2 py-1 text-xs text-amber">
               {w}
             </p>
-          ))}
-          {est && f.mode !== 'series' ? <CreditGate labId={labId} credits={est.credits} /> : null}
+          )) : null}
+          {est && specForEstimate && f.mode !== 'series' ? <CreditGate labId={labId} credits={est.credits} /> : null}
         </div>
-        {create.isError && !Object.keys(errors).length ? <FormError error={create.error} /> : null}
-        {errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
+        {/* every refusal of the submit shows here, also those naming no field of the form (say, a run too large for the machines) */}
+        {create.isError ? <FormError error={create.error} /> : errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
         <div className="flex justify-end gap-3">
           {onClose ? (
             <Button tone="quiet" onClick={onClose}>

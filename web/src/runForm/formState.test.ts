@@ -1,5 +1,7 @@
 import { describe, expect, test } from 'vitest';
-import { runSpecSchema } from '../api/contract.js';
+import { randomUUID } from 'node:crypto';
+import { createRunRequestSchema, runSpecSchema } from '../api/contract.js';
+import { validate } from '../ui/formErrors.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkCell } from './UnitCellEditor.js';
 import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
@@ -13,6 +15,19 @@ describe('grain counts as people type them', () => {
     expect(parseGrains('')).toBeNaN();
     expect(parseGrainList('10^4, 10^5, 10^6')).toEqual([1e4, 1e5, 1e6]);
     expect(parseGrainList('10000 40000')).toEqual([1e4, 4e4]);
+  });
+});
+
+describe('the grain count of a new run', () => {
+  test('0 grains is refused beside the field, before anything is sent', () => {
+    const r = validate(createRunRequestSchema, { labId: randomUUID(), title: 'Nothing at all', spec: specOfForm({ ...emptyForm(), chips: '0' }) });
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.errors).toEqual({ 'spec.chips': 'must be at least 1' });
+    expect(validate(createRunRequestSchema, { labId: randomUUID(), title: 'One grain', spec: specOfForm({ ...emptyForm(), chips: '1' }) }).ok).toBe(true);
+  });
+
+  test('a stored specification of 0 grains still reads back (runs from before the rule)', () => {
+    expect(runSpecSchema.parse({ lattice: { preset: 'square' }, chips: 0 }).chips).toBe(0);
   });
 });
 

@@ -6,9 +6,12 @@ import { groupThousands, powerOfTen } from '../format.js';
  */
 export function Count({ n, unit, showPower = true, stacked = false }: { n: number | bigint; unit?: string; showPower?: boolean; stacked?: boolean }) {
   const p = showPower ? powerOfTen(n) : null;
+  const unitText = unit ? <span className="text-ink-soft"> {unit}</span> : null;
   return (
     <span className="tnum whitespace-nowrap">
       {groupThousands(n)}
+      {/* stacked: the unit stays on the number's line, above the power of ten */}
+      {stacked ? unitText : null}
       {p ? (
         // stacked: the power of ten on its own line, for narrow table columns
         <span className={stacked ? 'block text-xs text-ink-soft' : 'text-ink-soft'}>
@@ -18,7 +21,7 @@ export function Count({ n, unit, showPower = true, stacked = false }: { n: numbe
           {')'}
         </span>
       ) : null}
-      {unit ? <span className="text-ink-soft"> {unit}</span> : null}
+      {stacked ? null : unitText}
     </span>
   );
 }
