@@ -52,6 +52,11 @@ export type ColumnName = keyof typeof JOURNAL_WIDTHS_MM;
 
 const lengthUnitSchema = z.enum(['mm', 'in']);
 
+/** The longest caption a figure can carry: it is printed under the panels, so it must fit a page. */
+export const CAPTION_MAX_CHARS = 2000;
+/** Caption size when the composition does not choose one. */
+export const DEFAULT_CAPTION_PT = 9;
+
 /** The tallest journal-column page, chosen or following from the content (2 m: a long poster strip). */
 export const MAX_PAGE_HEIGHT_MM = 2000;
 
@@ -132,7 +137,7 @@ export const figureSpecSchema = z
       .strictObject({ unit: z.enum(['lattice', 'rescaled']).default('lattice'), length: z.number().positive().max(1e9).optional() })
       .optional(),
     legend: z.boolean().default(true),
-    caption: z.strictObject({ text: z.string().min(1).max(2000), fontPt: z.number().min(5).max(36).default(9) }).optional(),
+    caption: z.strictObject({ text: z.string().min(1).max(CAPTION_MAX_CHARS), fontPt: z.number().min(5).max(36).default(DEFAULT_CAPTION_PT) }).optional(),
     /** automatic panel labels: (a), (b), … or (1), (2), … */
     labels: z.enum(['none', 'letters', 'numbers']).default('letters'),
     /** size of labels, legend and scale-bar text */
@@ -149,6 +154,18 @@ export const figureSpecSchema = z
   });
 export type FigureSpec = z.infer<typeof figureSpecSchema>;
 export type FigureSpecInput = z.input<typeof figureSpecSchema>;
+
+/**
+ * The composition with the figure's own caption (the one its form and reader page show) as the
+ * printed caption, keeping the composition's font size; a blank caption prints none. A figure's
+ * caption and its spec's caption are stored apart, so this is applied wherever a spec is read.
+ */
+export function specWithCaption(spec: FigureSpec, caption: string): FigureSpec {
+  const { caption: before, ...rest } = spec;
+  if (!caption.trim()) return rest;
+  // captions stored before the two limits were aligned may be longer; the print cuts them with an ellipsis anyway
+  return { ...rest, caption: { text: caption.slice(0, CAPTION_MAX_CHARS), fontPt: before?.fontPt ?? DEFAULT_CAPTION_PT } };
+}
 
 /** What layout needs to know about a run: its array box and its number of grains. */
 export interface RunGeometry {
@@ -353,7 +370,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   const scaleBand = spec.scaleBar ? pt2px(spec.textPt * 0.5) + barThick + pt2px(spec.textPt * 0.3) + textLine : 0;
   const legendKinds = new Set(spec.panels.map(legendGroupKey)).size;
   const legendBand = spec.legend ? pt2px(spec.textPt * 0.8) + legendKinds * legendRowPx(spec.textPt, dpi) : 0;
-  const captionFont = spec.caption?.fontPt ?? 9;
+  const captionFont = spec.caption?.fontPt ?? DEFAULT_CAPTION_PT;
   const captionLines = spec.caption ? estimateCaptionLines(spec.caption.text, captionFont, Math.max(1, contentW), dpi) : 0;
   const captionBand = spec.caption ? pt2px(captionFont * 0.8) + captionLines * linePx(captionFont, dpi) : 0;
 

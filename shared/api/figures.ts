@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { figureSpecSchema } from '../print.js';
+import { CAPTION_MAX_CHARS, figureSpecSchema } from '../print.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';
 
 /** Permanent-link slugs: lower-case words joined by hyphens. */
@@ -137,7 +137,8 @@ export type FigureResponse = z.infer<typeof figureResponseSchema>;
 export const createFigureRequestSchema = z.strictObject({
   labId: idSchema,
   title: z.string().trim().min(1, 'give the figure a title').max(200),
-  caption: z.string().max(4000).default(''),
+  /** printed under the panels (the spec's caption follows it) and shown on the reader page */
+  caption: z.string().max(CAPTION_MAX_CHARS).default(''),
   /** the permanent link's last part; derived from the title when omitted */
   slug: slugSchema.optional(),
   spec: figureSpecSchema,
@@ -147,7 +148,7 @@ export type CreateFigureRequest = z.input<typeof createFigureRequestSchema>;
 export const updateFigureRequestSchema = z
   .strictObject({
     title: z.string().trim().min(1, 'give the figure a title').max(200).optional(),
-    caption: z.string().max(4000).optional(),
+    caption: z.string().max(CAPTION_MAX_CHARS).optional(),
     spec: figureSpecSchema.optional(),
   })
   .refine((b) => b.title !== undefined || b.caption !== undefined || b.spec !== undefined, { message: 'send a title, caption or spec to change' });

@@ -3,7 +3,7 @@ import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { figureVersions, runs } from '../../drizzle/schema.js';
+import { figures, figureVersions, runs } from '../../drizzle/schema.js';
 import {
   FIGURES_PAGE_SIZE,
   figureResponseSchema,
@@ -14,6 +14,7 @@ import {
 } from '../../shared/api/figures.js';
 import { JOB_NAMES, QUEUE_NAMES, jobIdFor } from '../../shared/jobs.js';
 import { pixelsFor } from '../../shared/print.js';
+import { runLink } from '../../web/src/pages/citation.js';
 import { sendFigureReadyMail } from '../../api/src/services/figures-ready-mail.js';
 import { finishedRun, markReady } from './figures-fixtures.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
@@ -23,6 +24,7 @@ let h: Harness;
 let author: Session;
 let outsider: Session;
 let authorEmail: string;
+let authorId: string;
 let labId: string;
 let otherLabRun: string;
 let runSquare: string;
@@ -42,6 +44,7 @@ beforeAll(async () => {
   const a = await createUser(h, 'Figure Author');
   const o = await createUser(h, 'Figure Outsider');
   authorEmail = a.email;
+  authorId = a.id;
   labId = await createLab(h, 'Figure Lab', [{ userId: a.id, role: 'author' }]);
   const otherLab = await createLab(h, 'Other Figure Lab', [{ userId: o.id, role: 'manager' }]);
   author = await signIn(h, a.email, TEST_PASSWORD);
@@ -117,6 +120,77 @@ describe('composing a figure', () => {
     const list = labFiguresResponseSchema.parse((await as(h.http.get(`/api/labs/${labId}/figures`), author).expect(200)).body);
     expect(list.figures.map((x) => x.slug)).toContain(f.slug);
     expect((await as(h.http.get(`/api/labs/${labId}/figures`), outsider)).status).toBe(404);
+  });
+});
+
+describe('one caption, shown and printed', () => {
+  const printedCaption = async (slug: string, number: number) => {
+    const v = detail((await as(h.http.get(`/api/figures/${slug}`), author).expect(200)).body).versions.find((x) => x.number === number);
+    return v?.spec.caption;
+  };
+
+  it('prints the caption typed in the form even when the composition carries none, and follows edits of it', async () => {
+    // the figure's caption and a composition without one: what a client that only fills "Caption" sends
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Captioned ${h.tag}`, caption: 'Sixteen grains, printed.', spec: spec(runSquare) }).expect(201)).body);
+    expect(f.spec.caption).toEqual({ text: 'Sixteen grains, printed.', fontPt: 9 });
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['pdf'] }).expect(202);
+    expect(await printedCaption(f.slug, 1)).toEqual({ text: 'Sixteen grains, printed.', fontPt: 9 });
+
+    // a caption-only edit keeps the composition's font size and reaches the next print
+    await as(h.http.put(`/api/figures/${f.slug}`), author).send({ spec: spec(runSquare, { caption: { text: 'Sixteen grains, printed.', fontPt: 11 } }) }).expect(200);
+    await as(h.http.put(`/api/figures/${f.slug}`), author).send({ caption: 'Edited caption.' }).expect(200);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['pdf'] }).expect(202);
+    expect(await printedCaption(f.slug, 2)).toEqual({ text: 'Edited caption.', fontPt: 11 });
+
+    // cleared in the form: nothing is printed under the panels
+    const cleared = detail((await as(h.http.put(`/api/figures/${f.slug}`), author).send({ caption: '', spec: spec(runSquare) }).expect(200)).body);
+    expect(cleared.caption).toBe('');
+    expect(cleared.spec.caption).toBeUndefined();
+
+    // a client that sends the caption only inside the composition gets it shown as well
+    const inSpec = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Spec caption ${h.tag}`, spec: spec(runSquare, { caption: { text: 'Only in the spec.' } }) }).expect(201)).body);
+    expect(inSpec.caption).toBe('Only in the spec.');
+  });
+
+  it('prints the caption of a figure stored before compositions were (the demo figure)', async () => {
+    const slug = `stored-caption-${h.tag}`;
+    await h.deps.db.insert(figures).values({ slug, title: 'Stored without a composition', caption: 'Final stable heights of sixteen grains.', runId: runSquare, createdById: authorId });
+    const f = detail((await as(h.http.get(`/api/figures/${slug}`), author).expect(200)).body);
+    expect(f.spec.caption?.text).toBe('Final stable heights of sixteen grains.');
+    await as(h.http.post(`/api/figures/${slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    expect((await printedCaption(slug, 1))?.text).toBe('Final stable heights of sixteen grains.');
+  });
+
+  it('refuses a caption longer than a page can print, with a message', async () => {
+    const res = await as(h.http.post('/api/figures'), author).send({ labId, title: `Long ${h.tag}`, caption: 'x'.repeat(2001), spec: spec(runSquare) });
+    expect(res.status).toBe(400);
+    expect(res.body.issues.some((i: { path: string }) => i.path === 'caption')).toBe(true);
+  });
+});
+
+describe('citing a run', () => {
+  it('points at a link a reader without an account can open once a figure of the run is published', async () => {
+    const run = await finishedRun(h, labId, authorId, 'cited pile');
+    const labList = async () => labFiguresResponseSchema.parse((await as(h.http.get(`/api/labs/${labId}/figures`), author).expect(200)).body).figures;
+    const origin = 'https://toppleworks.example';
+    const path = (url: string) => url.slice(origin.length);
+
+    // unpublished: the only link is the lab's viewer, and the citation says so (its data needs a session)
+    const before = runLink(run, await labList(), origin);
+    expect(before).toMatchObject({ public: false, url: `${origin}/runs/${run}/view` });
+    expect((await h.http.get(`/api/runs/${run}`)).status).toBe(401);
+
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Cited ${h.tag}`, spec: spec(run) }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    await markReady(h, f.id, 1);
+    await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200);
+
+    const after = runLink(run, await labList(), origin);
+    expect(after).toMatchObject({ public: true, url: `${origin}/f/${f.slug}` });
+    // what the reader page at that address loads answers without a session, and is this run
+    const slug = path(after.url).replace(/^\/f\//, '');
+    const reader = detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
+    expect(reader.runId).toBe(run);
   });
 });
 

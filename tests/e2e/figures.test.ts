@@ -74,6 +74,11 @@ describe('figures in the browser', () => {
     await page.getByText(/Every cell prints as 8 × 8 printed pixels/).waitFor();
     // the proof's panel image has loaded from the run's stored whole-pile image
     await expect.poll(() => page.locator('[data-testid="proof"] image').count()).toBe(1);
+    // the proof shows the print's legend (read from the run's stored view) and the caption's lines
+    await page.getByTestId('proof-legend').getByText('Final height', { exact: true }).waitFor();
+    await expect.poll(() => page.getByTestId('proof-legend').locator('rect').count()).toBeGreaterThan(3);
+    expect(await page.getByTestId('proof-legend-missing').count()).toBe(0);
+    await page.getByTestId('proof-text').getByText(/^Final stable heights/).waitFor();
     await page.waitForTimeout(500);
     await screenshot(page, 'figures-compose');
 
@@ -139,8 +144,25 @@ describe('figures in the browser', () => {
     const png = await download.body();
     expect((await sharp(png).metadata()).width).toBe(pixelsFor(90, 300));
 
+    // before publishing, the run's citation says plainly that its link is for the lab only
+    const runId = submitted.body.run.id;
+    await page.goto(`/runs/${runId}/view`);
+    await page.getByTestId('run-link-private').waitFor();
+    await expect.poll(() => page.getByTestId('run-bibtex').textContent()).toContain('the link opens only for members of the lab');
+    await page.goto('/lab/figures/a-thousand-grains-on-z2');
+
     await page.getByRole('button', { name: 'Publish' }).click();
     await page.getByText('Anyone with the link can read').waitFor();
+
+    // published: the run is cited by the figure's permanent link, and the entry is shown whole
+    await page.goto(`/runs/${runId}/view`);
+    await page.getByTestId('run-link-public').waitFor();
+    const runBib = page.getByTestId('run-bibtex');
+    const cited = /\\url\{([^}]+)\}/.exec((await runBib.textContent()) ?? '')?.[1];
+    expect(cited).toBe(`${stack.url}/f/a-thousand-grains-on-z2`);
+    expect(await runBib.evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
+    await screenshot(page, 'figures-run-citation');
+    await page.goto('/lab/figures/a-thousand-grains-on-z2');
 
     // a reader without an account follows the permanent link
     const reader = await newPage(browser, stack.url);
@@ -148,6 +170,10 @@ describe('figures in the browser', () => {
     await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
     await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2,/);
+    expect(await reader.getByTestId('bibtex').evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
+    // the run's citation opens for this reader without an account
+    await reader.goto(cited!);
+    await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByTestId('figure-zoom').waitFor({ timeout: 20_000 });
     await reader.waitForTimeout(1000);
     await screenshot(reader, 'figures-reader');

@@ -8,6 +8,7 @@ import { figureSpecSchema, layoutFigure, pixelsFor } from '../../shared/print.js
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { wrapText } from '../../renderer/src/print/index.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
 import { waitForMail } from '../api/support/outbox.js';
 
@@ -161,6 +162,44 @@ describe('the figure.print job', () => {
     expect(text).toContain('(a)');
     expect(text).toContain('(b)');
     expect(text).toContain('Heights beside the toppled sites.');
+  });
+
+  it('prints the caption typed in the compose form under the panels, wrapped, in PNG, TIFF and PDF', { timeout: 90_000 }, async () => {
+    // the form's Caption field (the figure's caption) with a composition that carries none of its own
+    const caption = 'Final stable heights after 1000 grains are added at the origin of the square lattice, on an empty background; the caption is long enough to wrap over several lines.';
+    const spec = { panels: [{ runId: run.id }], size: { kind: 'column', column: 'single' }, dpi: 300 };
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Captioned ${h.tag}`, caption, spec }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png', 'tiff', 'pdf'] }).expect(202);
+    const v = await printed(f.slug, 1);
+    const layout = layoutFigure(figureSpecSchema.parse(v.spec), [{ runId: run.id, shape: run.stats!.shape, origin: run.stats!.origin, chips: 1000 }]);
+    const box = layout.caption!;
+    expect(box.text).toBe(caption);
+    const [row] = await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id));
+    const file = (format: string) => h.deps.blobs.get(row!.files.find((x) => x.format === format)!.key).then((b) => b!);
+
+    // ink (dark grey anti-aliased text) on every reserved caption line of both raster formats
+    const linePx = Math.ceil(((box.fontPt * 1.25) / 72) * layout.dpi);
+    const lines = wrapText(caption, 'regular', box.fontPt, (box.width * 72) / layout.dpi).length;
+    expect(lines).toBeGreaterThan(1);
+    expect(lines * linePx).toBeLessThanOrEqual(box.height);
+    for (const format of ['png', 'tiff']) {
+      const { data, info } = await sharp(await file(format)).removeAlpha().raw().toBuffer({ resolveWithObject: true });
+      for (let l = 0; l < lines; l++) {
+        let ink = 0;
+        for (let y = box.y + l * linePx; y < box.y + (l + 1) * linePx; y++)
+          for (let x = box.x; x < box.x + box.width; x++) {
+            const o = (y * info.width + x) * info.channels;
+            if (data[o]! < 128 && data[o] === data[o + 1] && data[o] === data[o + 2]) ink++;
+          }
+        expect(ink, `${format}, caption line ${l + 1}`).toBeGreaterThan(50);
+      }
+    }
+
+    // the PDF carries the caption as text, every word of it
+    const pdfjs = await import('pdfjs-dist/legacy/build/pdf.mjs');
+    const page = await (await pdfjs.getDocument({ data: new Uint8Array(await file('pdf')), disableFontFace: true, verbosity: 0 }).promise).getPage(1);
+    const text = (await page.getTextContent()).items.map((i) => ('str' in i ? i.str : '')).join(' ');
+    expect(text.replace(/\s+/g, ' ')).toContain(caption.replace(/\s+/g, ' '));
   });
 
   it('records why an order failed, and stores no file', { timeout: 60_000 }, async () => {

@@ -16,6 +16,7 @@ import {
   type Figure,
 } from '../../../shared/api/figures.js';
 import { JOB_NAMES, jobIdFor } from '../../../shared/jobs.js';
+import { specWithCaption } from '../../../shared/print.js';
 import { dispatchNow, recordJobs } from '../queue/outbox.js';
 import { figures, figureVersions, runs } from '../../../drizzle/schema.js';
 import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
@@ -28,6 +29,7 @@ import { lockRunsForPublication } from '../services/admin-retention.js';
 import { audit } from '../services/audit.js';
 import {
   blockingWarnings,
+  captionAfter,
   compositionRuns,
   figureAccess,
   figureDetail,
@@ -120,12 +122,14 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
     const user = authOf(res).user;
     await checkLabAccess(db, user, body.labId, 'member');
     await compositionRuns(db, body.labId, body.spec);
+    // one caption: shown on the reader page and printed under the panels
+    const caption = captionAfter(body.caption, body.spec, '');
     const row = await db
       .transaction(async (tx) => {
         const slug = body.slug ?? (await freeSlug(tx, slugFrom(body.title)));
         const [f] = await tx
           .insert(figures)
-          .values({ slug, title: body.title, caption: body.caption, runId: body.spec.panels[0]!.runId, createdById: user.id, spec: body.spec })
+          .values({ slug, title: body.title, caption, runId: body.spec.panels[0]!.runId, createdById: user.id, spec: specWithCaption(body.spec, caption) })
           .returning();
         await audit(tx, { actorId: user.id, labId: body.labId, action: 'figure.create', subjectType: 'figure', subjectId: f!.id, detail: { slug } });
         return f!;
@@ -147,13 +151,15 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
         throw conflict('a published figure keeps its first panel\'s run; unpublish it first to change that run');
       }
     }
+    const caption = captionAfter(body.caption, body.spec, row.figure.caption);
+    const spec = body.spec ?? row.figure.spec;
     await db.transaction(async (tx) => {
       await tx
         .update(figures)
         .set({
           title: body.title ?? row.figure.title,
-          caption: body.caption ?? row.figure.caption,
-          spec: body.spec ?? row.figure.spec,
+          caption,
+          spec: spec ? specWithCaption(spec, caption) : null,
           runId: body.spec ? body.spec.panels[0]!.runId : row.figure.runId,
           updatedAt: new Date(),
         })

@@ -2,7 +2,7 @@ import { and, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Response } from 'express';
 import { figures, figureVersions, labs, runs, users, type FigureFileRecord } from '../../../drizzle/schema.js';
 import type { FigureDetail, FigureFile, FigureRun, FigureVersion, LabFigure } from '../../../shared/api/figures.js';
-import { figureSpecSchema, layoutFigure, type FigureSpec, type LayoutWarning } from '../../../shared/print.js';
+import { figureSpecSchema, layoutFigure, specWithCaption, type FigureSpec, type LayoutWarning } from '../../../shared/print.js';
 import { checkLabAccess } from '../auth/middleware.js';
 import type { Db } from '../db/client.js';
 import { badRequest, forbidden, notFound, unauthorized, type HttpError } from '../http/http-error.js';
@@ -58,9 +58,22 @@ export function labFigureView({ figure, run, labName, author, creator, latestVer
 /** Published and not withdrawn: anyone may read it. */
 export const isPublic = (f: typeof figures.$inferSelect): boolean => f.publishedAt !== null && f.withdrawnAt === null;
 
-/** A figure row made before compositions were stored: one panel of its run, a journal column wide. */
+/**
+ * The composition that prints: the stored spec (a row made before compositions were stored: one
+ * panel of its run, a journal column wide) with the figure's caption under the panels.
+ */
 export function specOf(f: typeof figures.$inferSelect): FigureSpec {
-  return f.spec ?? figureSpecSchema.parse({ panels: [{ runId: f.runId }], size: { kind: 'column', column: 'single' } });
+  const spec = f.spec ?? figureSpecSchema.parse({ panels: [{ runId: f.runId }], size: { kind: 'column', column: 'single' } });
+  return specWithCaption(spec, f.caption);
+}
+
+/**
+ * The caption a write leaves on a figure: the one sent, else (a client that only filled the spec)
+ * the spec's printed caption, else the one it had.
+ */
+export function captionAfter(sent: string | undefined, spec: FigureSpec | undefined, before: string): string {
+  if (sent !== undefined && (sent.trim() || !spec?.caption)) return sent;
+  return spec?.caption?.text ?? before;
 }
 
 export const fileHref = (slug: string, number: number, format: string) => `/api/figures/${slug}/versions/${number}/files/${format}`;

@@ -1,4 +1,5 @@
-import { colourTable, legendFor, paletteById, type LayerStats, type Legend, type Rgba } from '../../../shared/palettes.js';
+import type { LayerStats, Legend, Rgba } from '../../../shared/palettes.js';
+import { panelLegend } from '../../../shared/print-marks.js';
 import { figureSpecSchema, layoutFigure, type FigureLayout, type FigureSpec, type PanelLayout, type PanelSpec } from '../../../shared/print.js';
 import { computeStats } from '../render/stats.js';
 import { indexHistogram, layerScale, type LayerScale } from '../render/layers.js';
@@ -18,9 +19,7 @@ export interface PrintRun {
   stats?: LayerStats;
 }
 
-/** Paper white: masked cells drawn "transparent" print as unprinted paper. */
-export const PAPER: Rgba = [255, 255, 255, 255];
-export const INK: Rgba = [0, 0, 0, 255];
+export { PAPER, INK } from '../../../shared/print-marks.js';
 
 /** Everything needed to draw one panel, fixed once per order. */
 export interface PreparedPanel {
@@ -72,10 +71,10 @@ export function prepareFigure(specInput: unknown, runs: readonly PrintRun[]): Pr
     if (!stats) stats = computeStats(plane);
     statsCache.set(key, stats);
     const scale = layerScale(ps.layer, stats);
-    const palette = paletteById(ps.palette);
-    const table = colourTable(palette, ps.layer, stats, ps.untoppled).map((c) => (c[3] === 0 ? PAPER : ([c[0], c[1], c[2], 255] as Rgba)));
+    // the same legend and colours the web proof derives from the run's stored statistics
+    const { legend, table } = panelLegend(ps, stats);
     const priority = pl.reduction > 1 ? tiePriority(indexHistogram(plane, scale)) : new Uint8Array(256);
-    return { spec: ps, layout: pl, plane, stats, scale, priority, table, legend: legendFor(palette, ps.layer, stats, ps.untoppled) };
+    return { spec: ps, layout: pl, plane, stats, scale, priority, table: [...table], legend };
   });
   return { spec, layout, panels };
 }

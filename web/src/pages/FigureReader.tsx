@@ -4,7 +4,7 @@ import { useFigure, useRunJson, useViewDrawn } from '../api/queries.js';
 import { isStatus } from '../api/ApiError.js';
 import { backgroundKindName, latticeName } from '../labels.js';
 import { formatDate } from '../format.js';
-import { Count, EmptyState, ErrorPanel, FactList, LinkButton, Notice, Section, SkeletonBlock } from '../ui/index.js';
+import { CitationBlock, Count, EmptyState, ErrorPanel, FactList, LinkButton, Notice, Section, SkeletonBlock } from '../ui/index.js';
 import { figureBibtex } from './citation.js';
 import { FileList } from './figures/FileList.js';
 
@@ -127,9 +127,7 @@ export function FigureReader() {
             {permalink}
           </a>
         </p>
-        <pre className="overflow-x-auto rounded-md border border-rule-soft bg-paper px-4 py-3 font-mono text-xs leading-relaxed text-ink" data-testid="bibtex">
-          {figureBibtex(f, permalink, runJson.data ? { engineVersion: runJson.data.engineVersion, heightsSha256: runJson.data.heights.sha256 } : undefined)}
-        </pre>
+        <CitationBlock testId="bibtex" text={figureBibtex(f, permalink, runJson.data ? { engineVersion: runJson.data.engineVersion, heightsSha256: runJson.data.heights.sha256 } : undefined)} />
       </Section>
     </article>
   );

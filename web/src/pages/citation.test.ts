@@ -1,7 +1,7 @@
 import { describe, expect, test } from 'vitest';
 import bibtexParse from '@orcid/bibtex-parse-js';
-import { figureBibtex, runBibtex } from './citation.js';
-import type { Figure } from '../api/contract.js';
+import { figureBibtex, runBibtex, runLink } from './citation.js';
+import type { Figure, LabFigure } from '../api/contract.js';
 
 const figure: Figure = {
   id: '8a6e0d8e-3f43-4a8f-9d53-0c1f1c7b2a10',
@@ -52,12 +52,51 @@ describe('BibTeX entry of a run', () => {
         finishedAt: '2026-12-01T23:00:00.000Z',
         engineVersion: '0.3.1',
         heightsSha256: 'ab'.repeat(32),
-        permalink: 'https://example.org/runs/1f2e3d4c/view',
+        permalink: 'https://example.org/f/square-lattice',
+        public: true,
       }),
     );
     expect(entry!.citationKey).toBe('toppleworks-run-1f2e3d4c');
     expect(entry!.entryTags.year).toBe('2026');
+    expect(entry!.entryTags.howpublished).toBe('\\url{https://example.org/f/square-lattice}');
     expect(entry!.entryTags.note).toContain('engine 0.3.1');
     expect(entry!.entryTags.note).toContain(`sha256 ${'ab'.repeat(32)}`);
+    expect(entry!.entryTags.note).not.toContain('members');
+  });
+
+  test('an entry whose link only the lab can open says so in the entry itself', () => {
+    const [entry] = bibtexParse.toJSON(
+      runBibtex({ runId: figure.runId, title: 't', authors: ['A'], finishedAt: null, engineVersion: '1', heightsSha256: 'cd'.repeat(32), permalink: 'https://example.org/runs/x/view', public: false }),
+    );
+    expect(entry!.entryTags.note).toContain('the link opens only for members of the lab that computed it');
+  });
+});
+
+describe('the link a run is cited by', () => {
+  const runId = figure.runId;
+  const labFigure = (slug: string, patch: Partial<LabFigure> = {}): LabFigure => ({
+    ...figure,
+    slug,
+    labId: '0d9a4c1e-2b3f-4e5a-8c7d-6f5e4d3c2b1a',
+    withdrawnAt: null,
+    latestVersion: 1,
+    newestStatus: 'ready',
+    ...patch,
+  });
+
+  test('is the permanent link of the first published figure that leads with the run', () => {
+    const figures = [
+      labFigure('later', { publishedAt: '2026-12-02T00:00:00.000Z' }),
+      labFigure('draft', { publishedAt: null }),
+      labFigure('withdrawn', { publishedAt: '2026-11-01T00:00:00.000Z', withdrawnAt: '2026-11-02T00:00:00.000Z' }),
+      labFigure('another-run', { runId: '2f2e3d4c-5b6a-4789-8abc-def012345678', publishedAt: '2026-10-01T00:00:00.000Z' }),
+      labFigure('first', { publishedAt: '2026-11-30T00:00:00.000Z' }),
+    ];
+    expect(runLink(runId, figures, 'https://example.org')).toEqual({ url: 'https://example.org/f/first', public: true, figure: { slug: 'first', title: figure.title } });
+  });
+
+  test('without a published figure is the lab’s viewer, marked as not public', () => {
+    const figures = [labFigure('draft', { publishedAt: null }), labFigure('withdrawn', { withdrawnAt: '2026-12-03T00:00:00.000Z' })];
+    expect(runLink(runId, figures, 'https://example.org')).toEqual({ url: `https://example.org/runs/${runId}/view`, public: false, figure: null });
   });
 });

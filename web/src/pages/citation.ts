@@ -1,4 +1,4 @@
-import type { Figure } from '../api/contract.js';
+import type { Figure, LabFigure } from '../api/contract.js';
 
 /** Braces and backslashes would break a BibTeX field; escape the few characters that matter. */
 function bibEscape(s: string): string {
@@ -32,6 +32,32 @@ export interface RunCitation {
   /** sha256 of the heights array data (run.json) */
   heightsSha256: string;
   permalink: string;
+  /** false: the link opens only for members of the run's lab, and the entry says so */
+  public: boolean;
+}
+
+export interface RunLink {
+  url: string;
+  /** whether a reader without an account can open it */
+  public: boolean;
+  /** the published figure the link belongs to, when it is public */
+  figure: { slug: string; title: string } | null;
+}
+
+/**
+ * Where a citation of a run should point. Runs are private to their lab by design; what a lab makes
+ * public is a figure, whose permanent link (/f/<slug>) deep-zooms into its first panel's run and
+ * offers that run's arrays and hashes to anyone. So a run that leads a published figure is cited by
+ * the figure's link (the first one published, so the citation does not move when more follow);
+ * otherwise only the lab's own viewer link exists, and it is marked as such.
+ */
+export function runLink(runId: string, labFigures: readonly LabFigure[], origin: string): RunLink {
+  const shown = labFigures
+    .filter((f) => f.runId === runId && f.publishedAt !== null && f.withdrawnAt === null)
+    .sort((a, b) => a.publishedAt!.localeCompare(b.publishedAt!) || a.slug.localeCompare(b.slug));
+  const first = shown[0];
+  if (first) return { url: `${origin}/f/${first.slug}`, public: true, figure: { slug: first.slug, title: first.title } };
+  return { url: `${origin}/runs/${runId}/view`, public: false, figure: null };
 }
 
 /**
@@ -46,7 +72,7 @@ export function runBibtex(c: RunCitation): string {
     `  author       = {${c.authors.map(bibEscape).join(' and ')}},`,
     year ? `  year         = {${year}},` : null,
     `  howpublished = {\\url{${c.permalink}}},`,
-    `  note         = {Computed with Toppleworks engine ${bibEscape(c.engineVersion)}; heights sha256 ${c.heightsSha256}},`,
+    `  note         = {Computed with Toppleworks engine ${bibEscape(c.engineVersion)}; heights sha256 ${c.heightsSha256}${c.public ? '' : '; the link opens only for members of the lab that computed it'}},`,
     '}',
   ];
   return lines.filter((l) => l !== null).join('\n');

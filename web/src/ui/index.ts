@@ -1,5 +1,6 @@
 /** The design system: import pages' building blocks from here. */
 export * from './Button.js';
+export * from './CitationBlock.js';
 export * from './Count.js';
 export * from './EmptyState.js';
 export * from './ErrorPanel.js';

@@ -1,7 +1,8 @@
 import { Link, useParams, useSearchParams } from 'react-router';
-import { useRun, useRunJson, useRuns } from '../api/queries.js';
+import { useLabFigures, useRun, useRunJson, useRuns } from '../api/queries.js';
 import { formatCountText } from '../format.js';
-import { runBibtex } from '../pages/citation.js';
+import { runBibtex, runLink } from '../pages/citation.js';
+import { CitationBlock } from '../ui/index.js';
 import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
@@ -91,6 +92,9 @@ export function ViewerPage() {
 
   const r = run.data?.run;
   const meta = runJson.data;
+  // the lab's figures tell whether a published figure gives this run a public link
+  const labFigures = useLabFigures(r?.labId);
+  const link = r && !labFigures.isPending ? runLink(r.id, labFigures.data?.figures ?? [], window.location.origin) : null;
   return (
     <div className="min-h-screen bg-night text-white">
       <title>{`${title} · deep zoom · Toppleworks`}</title>
@@ -122,18 +126,40 @@ export function ViewerPage() {
         </div>
         <div>
           <h2 className="mb-3 text-base font-semibold">Cite this run</h2>
-          {r && meta ? (
-            <pre className="overflow-x-auto rounded-md border border-white/15 bg-black/30 px-4 py-3 font-mono text-xs leading-relaxed text-white/90" data-testid="run-bibtex">
-              {runBibtex({
-                runId: r.id,
-                title: r.title,
-                authors: [r.author.name],
-                finishedAt: r.finishedAt,
-                engineVersion: meta.engineVersion,
-                heightsSha256: meta.heights.sha256,
-                permalink: `${window.location.origin}/runs/${r.id}/view`,
-              })}
-            </pre>
+          {r && meta && link ? (
+            <>
+              {link.public ? (
+                <p className="mb-3 text-white/70" data-testid="run-link-public">
+                  Public permanent link, through the published figure “{link.figure!.title}”:{' '}
+                  <a className="break-all font-mono text-sky-300" href={link.url}>
+                    {link.url}
+                  </a>
+                  . Anyone can open it, zoom into this run and check the heights against the hash below.
+                </p>
+              ) : (
+                <p className="mb-3 text-amber-200" data-testid="run-link-private">
+                  For lab members only: runs are private to their lab, so this link asks everyone else to sign in. To cite the run in a paper,{' '}
+                  <Link className="text-sky-300" to={`/figures/new?run=${r.id}`}>
+                    compose a figure of it
+                  </Link>{' '}
+                  and publish it; this entry then points at the figure’s public permanent link.
+                </p>
+              )}
+              <CitationBlock
+                dark
+                testId="run-bibtex"
+                text={runBibtex({
+                  runId: r.id,
+                  title: r.title,
+                  authors: [r.author.name],
+                  finishedAt: r.finishedAt,
+                  engineVersion: meta.engineVersion,
+                  heightsSha256: meta.heights.sha256,
+                  permalink: link.url,
+                  public: link.public,
+                })}
+              />
+            </>
           ) : (
             <p className="text-white/60">{runJson.isError ? (runJson.error as Error).message : 'Reading run.json…'}</p>
           )}

@@ -68,7 +68,6 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
     [runs],
   );
   const layout = parsed.success ? layoutFigure(parsed.data, geometry) : null;
-  const shapes = useMemo(() => new Map(runs.map((r) => [r.id, r.stats!.shape] as const)), [runs]);
   const issues = parsed.success ? [] : parsed.error.issues.map((i) => `${i.path.join('.') || 'figure'}: ${i.message}`);
 
   async function submit(e: React.FormEvent) {
@@ -244,7 +243,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
 
         <div className="sticky top-6 flex flex-col gap-4">
           <Section title="Proof" description={layout ? `${layout.page.widthMm.toFixed(1)} × ${layout.page.heightMm.toFixed(1)} mm · ${layout.page.widthPx.toLocaleString('en-US')} × ${layout.page.heightPx.toLocaleString('en-US')} px at ${layout.dpi} DPI` : 'fix the settings below the form to see the page'}>
-            {layout && parsed.success ? <ProofPreview spec={parsed.data as FigureSpec} layout={layout} runShapes={shapes} /> : null}
+            {layout && parsed.success ? <ProofPreview spec={parsed.data as FigureSpec} layout={layout} runs={runs} /> : null}
             {issues.length ? (
               <div className="mt-3">
                 <Notice tone="warning" title="These settings are not valid yet">

@@ -1,11 +1,20 @@
+import { useEffect, useMemo, useState } from 'react';
 import { useQueries } from '@tanstack/react-query';
+import { rgbaToHex, type LayerStats } from '../../../../shared/palettes.js';
+import { figureTextMarks, WORK_SANS_ASCENT_EM, type Mark, type TextWidth } from '../../../../shared/print-marks.js';
 import type { FigureLayout, FigureSpec } from '../../../../shared/print.js';
+import type { Run } from '../../api/contract.js';
+import { keys } from '../../api/queries.js';
+import { drawnOf, paletteSegmentOf } from '../../viewer/drawnViews.js';
+import { fetchViewLegend, type ArtifactBase } from '../../viewer/runArtifacts.js';
+import { proofLegends } from './proofLegend.js';
 
 /**
  * The proof: the page drawn to scale from the same `layoutFigure` the print engine uses, with each
  * panel cut from its run's whole-pile image (the largest whole-image size the deep-zoom pyramid
- * stores), so margins, panel places, labels, scale bars, legend and caption sit where they will print.
- * Cells are shown with nearest-neighbour scaling; the print itself draws every cell exactly.
+ * stores), and labels, scale-bar numbers, legend and caption from the same `figureTextMarks` the
+ * print draws, measured with the page's Work Sans. Cells are shown with nearest-neighbour scaling;
+ * the print itself draws every cell exactly.
  */
 
 type Info = { width: number; height: number; sizes?: { width: number; height: number }[] };
@@ -13,7 +22,38 @@ type Info = { width: number; height: number; sizes?: { width: number; height: nu
 const iiifBase = (runId: string, layer: string, palette: string, clear: boolean) =>
   `/api/runs/${encodeURIComponent(runId)}/views/${layer}/${palette}${clear ? '~clear' : ''}/iiif`;
 
-export function ProofPreview({ spec, layout, runShapes }: { spec: FigureSpec; layout: FigureLayout; runShapes: Map<string, readonly number[]> }) {
+/** Work Sans widths from the browser's own copy of the font (the one @fontsource bundles for the app). */
+function useWorkSansWidths(): TextWidth {
+  const [ready, setReady] = useState(() => typeof document === 'undefined' || document.fonts.check('700 12px "Work Sans"'));
+  useEffect(() => {
+    if (ready) return;
+    let live = true;
+    // measured before the font arrives, widths would be the fallback font's
+    void Promise.all([document.fonts.load('400 12px "Work Sans"'), document.fonts.load('700 12px "Work Sans"')]).then(() => live && setReady(true));
+    return () => {
+      live = false;
+    };
+  }, [ready]);
+  return useMemo(() => {
+    const ctx = document.createElement('canvas').getContext('2d');
+    const cache = new Map<string, number>();
+    return (face, sizePt, text) => {
+      const key = `${face}|${text}`;
+      let per100 = cache.get(key);
+      if (per100 === undefined) {
+        if (!ctx) return text.length * 0.55 * sizePt;
+        ctx.font = `${face === 'bold' ? 700 : 400} 100px "Work Sans"`;
+        per100 = ctx.measureText(text).width;
+        cache.set(key, per100);
+      }
+      return (per100 / 100) * sizePt;
+    };
+    // a fresh measurer (and cache) once the font has loaded
+  }, [ready]);
+}
+
+export function ProofPreview({ spec, layout, runs }: { spec: FigureSpec; layout: FigureLayout; runs: readonly Run[] }) {
+  const byId = useMemo(() => new Map(runs.map((r) => [r.id, r] as const)), [runs]);
   const views = spec.panels.map((p) => iiifBase(p.runId, p.layer, p.palette, p.untoppled === 'transparent'));
   const infos = useQueries({
     queries: views.map((base) => ({
@@ -25,14 +65,36 @@ export function ProofPreview({ spec, layout, runShapes }: { spec: FigureSpec; la
       staleTime: 5 * 60_000,
     })),
   });
+  // one stored view per run is enough: every view of a run is drawn from the same statistics
+  const runIds = [...new Set(spec.panels.map((p) => p.runId))];
+  const stored = useQueries({
+    queries: runIds.map((id) => {
+      const base: ArtifactBase = { kind: 'run', id };
+      const drawn = drawnOf(byId.get(id)?.spec);
+      const layer = drawn.layers[0]!;
+      const palette = paletteSegmentOf(drawn, layer, drawn.palettes[0]!);
+      return { queryKey: keys.legend(base, layer, palette), queryFn: () => fetchViewLegend(base, layer, palette), staleTime: 60_000, enabled: spec.legend };
+    }),
+  });
+  const statsOf = (runId: string): LayerStats | null | undefined => {
+    const q = stored[runIds.indexOf(runId)];
+    if (!q || q.isPending) return undefined;
+    return q.data?.stats ?? null;
+  };
+  const widthOf = useWorkSansWidths();
+  const found = layout.legend ? proofLegends(spec, layout, byId, statsOf) : null;
+  const marks = figureTextMarks(layout, found && 'legends' in found ? found.legends : null, widthOf);
+
   const { widthPx: W, heightPx: H } = layout.page;
-  const text = (pt: number) => (pt / 72) * layout.dpi;
+  const s = layout.dpi / 72; // page pixels per point
+  const legendBox = layout.legend;
+  const inLegend = (m: Mark) => legendBox !== null && m.y * s >= legendBox.y - 1 && m.y * s < legendBox.y + legendBox.height;
   return (
     <svg viewBox={`0 0 ${W} ${H}`} className="block h-auto w-full rounded-sm bg-white shadow-[0_2px_10px_rgba(0,0,0,0.12)]" role="img" aria-label="proof of the page" data-testid="proof">
       <rect x={layout.content.x} y={layout.content.y} width={layout.content.width} height={layout.content.height} fill="none" stroke="#d9d4c7" strokeDasharray={`${W / 120} ${W / 120}`} strokeWidth={W / 800} />
       {layout.panels.map((pl) => {
         const info = infos[pl.index]?.data ?? null;
-        const shape = runShapes.get(pl.runId);
+        const shape = byId.get(pl.runId)?.stats?.shape;
         const arrayW = shape ? shape[shape.length - 1]! : 1;
         const arrayH = shape && shape.length >= 2 ? shape[shape.length - 2]! : 1;
         const size = info?.sizes?.length ? info.sizes[info.sizes.length - 1]! : null;
@@ -54,38 +116,38 @@ export function ProofPreview({ spec, layout, runShapes }: { spec: FigureSpec; la
             ) : (
               <g>
                 <rect x={pl.image.x} y={pl.image.y} width={pl.image.width} height={pl.image.height} fill="#ece8de" />
-                <text x={pl.image.x + pl.image.width / 2} y={pl.image.y + pl.image.height / 2} textAnchor="middle" fontSize={text(layout.textPt)} fill="#777">
+                <text x={pl.image.x + pl.image.width / 2} y={pl.image.y + pl.image.height / 2} textAnchor="middle" fontSize={layout.textPt * s} fill="#777">
                   {infos[pl.index]?.isPending ? 'loading…' : 'no proof image for this layer and palette'}
                 </text>
               </g>
             )}
-            {pl.label && pl.labelAt ? (
-              <text x={pl.labelAt.x} y={pl.labelAt.y + text(layout.textPt)} fontSize={text(layout.textPt)} fontWeight={600} fill="#111">
-                {pl.label}
-              </text>
-            ) : null}
-            {pl.scaleBar ? (
-              <g>
-                <rect x={pl.scaleBar.bar.x} y={pl.scaleBar.bar.y} width={pl.scaleBar.bar.width} height={pl.scaleBar.bar.height} fill="#111" />
-                <text x={pl.scaleBar.textAt.x} y={pl.scaleBar.textAt.y + text(layout.textPt)} fontSize={text(layout.textPt)} fill="#111">
-                  {pl.scaleBar.text}
-                </text>
-              </g>
-            ) : null}
+            {pl.scaleBar ? <rect x={pl.scaleBar.bar.x} y={pl.scaleBar.bar.y} width={pl.scaleBar.bar.width} height={pl.scaleBar.bar.height} fill="#000" /> : null}
           </g>
         );
       })}
-      {layout.legend ? <rect x={layout.legend.x} y={layout.legend.y} width={layout.legend.width} height={layout.legend.height} fill="#f3f0e8" /> : null}
-      {layout.legend ? (
-        <text x={layout.legend.x + text(4)} y={layout.legend.y + text(layout.textPt) * 1.2} fontSize={text(layout.textPt)} fill="#777">
-          colour legend
-        </text>
+      {legendBox && found && 'missing' in found ? (
+        <g data-testid="proof-legend-missing">
+          <rect x={legendBox.x} y={legendBox.y} width={legendBox.width} height={legendBox.height} fill="#f3f0e8" />
+          <text x={legendBox.x + 4 * s} y={legendBox.y + layout.textPt * 1.2 * s} fontSize={layout.textPt * s} fill="#777">
+            {found.missing}
+          </text>
+        </g>
       ) : null}
-      {layout.caption ? (
-        <foreignObject x={layout.caption.x} y={layout.caption.y} width={layout.caption.width} height={layout.caption.height}>
-          <p style={{ margin: 0, fontSize: text(layout.caption.fontPt), lineHeight: 1.25, color: '#222' }}>{layout.caption.text}</p>
-        </foreignObject>
-      ) : null}
+      <g data-testid="proof-legend">{marks.filter(inLegend).map((m, i) => markElement(m, i, s))}</g>
+      <g data-testid="proof-text">{marks.filter((m) => !inLegend(m)).map((m, i) => markElement(m, i, s))}</g>
     </svg>
   );
+}
+
+/** One mark in page pixels, drawn as the PDF draws it (text top = line box top, baseline one ascent below). */
+function markElement(m: Mark, key: number, s: number) {
+  if (m.kind === 'text') {
+    return (
+      <text key={key} x={m.x * s} y={(m.y + WORK_SANS_ASCENT_EM * m.sizePt) * s} fontFamily='"Work Sans"' fontWeight={m.face === 'bold' ? 700 : 400} fontSize={m.sizePt * s} fill="#000" style={{ fontKerning: 'normal', whiteSpace: 'pre' }}>
+        {m.text}
+      </text>
+    );
+  }
+  const rect = { x: m.x * s, y: m.y * s, width: m.width * s, height: m.height * s };
+  return m.kind === 'fill' ? <rect key={key} {...rect} fill={rgbaToHex(m.colour)} /> : <rect key={key} {...rect} fill="none" stroke={rgbaToHex(m.colour)} strokeWidth={Math.max(1, m.lineWidthPt * s)} />;
 }
