@@ -35,7 +35,12 @@ describe('which runs fold', () => {
     expect(foldOf(periodicLattice(axialX as never, 'ax'), flat)).toBe('quadrant');
     // the triangular preset's offsets include (1, 1) but not (−1, 1): its mirrors are the diagonals
     expect(foldOf(latticePreset('triangular'), flat)).toBe('wedge');
-    expect(foldOf(latticePreset('honeycomb'), flat)).toBeNull();
+    // lattices with several classes: the brick-wall honeycomb (up bonds on even x + y, down on odd)
+    // keeps X → −X only; the f-lattice's classes keep both axes but not X ↔ Y; Manhattan's one-way
+    // streets keep no mirror through a site
+    expect(foldOf(latticePreset('honeycomb'), flat)).toBe('half');
+    expect(foldOf(latticePreset('f-lattice'), flat)).toBe('quadrant');
+    expect(foldOf(latticePreset('manhattan'), flat)).toBeNull();
     expect(foldOf(latticePreset('square'), backgroundField({ kind: 'checkerboard', a: 0, b: 2 } as never, 2))).toBeNull();
     expect(foldOf(latticePreset('square'), backgroundField({ kind: 'random', seed: 1, weights: [1, 1] } as never, 2))).toBeNull();
   });
@@ -47,6 +52,11 @@ describe('which runs fold', () => {
     expect([multiplicity('octant', 3, 1), multiplicity('octant', 3, 0), multiplicity('octant', 2, 2), multiplicity('octant', 0, 0)]).toEqual([8, 4, 4, 1]);
   });
 
+  it('folds sites onto the half plane X ≥ 0', () => {
+    expect([foldXY('half', -3, 5), foldXY('half', 2, -7)]).toEqual([[3, 5], [2, -7]]);
+    expect([multiplicity('half', 3, -1), multiplicity('half', 0, 4)]).toEqual([2, 1]);
+  });
+
   it('folds sites onto the wedge X ≥ |Y| of the diagonal mirrors', () => {
     expect([foldXY('wedge', -3, 5), foldXY('wedge', 2, -7), foldXY('wedge', -4, -1), foldXY('wedge', 3, -3)]).toEqual([[5, -3], [7, -2], [4, 1], [3, -3]]);
     // the group {identity, X ↔ Y, −1, (X, Y) → (−Y, −X)}: 4 images, 2 on the diagonals, 1 at the origin
@@ -55,12 +65,13 @@ describe('which runs fold', () => {
 });
 
 describe('folded equals whole-plane bit for bit', () => {
-  const cases: [string, object][] = [['square', { preset: 'square' }], ['triangular', { preset: 'triangular' }], ['axial2', { periodic: axial2 }], ['axialX', { periodic: axialX }]];
+  const presets = ['square', 'triangular', 'honeycomb', 'f-lattice'];
+  const cases: [string, object][] = [...presets.map((p): [string, object] => [p, { preset: p }]), ['axial2', { periodic: axial2 }], ['axialX', { periodic: axialX }]];
   for (const [name, lattice] of cases) {
     it(`${name}: uniform backgrounds × grain counts, against the plain engine`, async () => {
-      const g = name === 'square' || name === 'triangular' ? latticePreset(name) : periodicLattice((name === 'axial2' ? axial2 : axialX) as never, name);
+      const g = presets.includes(name) ? latticePreset(name) : periodicLattice((name === 'axial2' ? axial2 : axialX) as never, name);
       // low backgrounds keep the piles compact (common practice); 8- and 6-regular piles spread fast
-      const heights = g.classes[0]!.length === 4 ? [0, 1, 2] : [0, 1];
+      const heights = g.classes[0]!.length === 4 ? [0, 1, 2] : g.classes[0]!.length <= 3 ? [0] : [0, 1];
       let compared = 0;
       for (const height of heights) {
         for (const chips of [1, 4, 37, 300, 1200, 4000, 9001, 20000]) {

@@ -37,7 +37,7 @@ export interface SeededSnapshot extends SnapshotBase {
   repairRounds: number;
   prevEvents: number;
   /** the grid covers the fundamental domain of this mirror symmetry only (scale/symmetry.ts) */
-  fold?: 'quadrant' | 'octant' | 'wedge';
+  fold?: 'quadrant' | 'octant' | 'wedge' | 'half';
 }
 
 /** The plain tiled engine: its working box and the grains still waiting in the sources' reserves. */
@@ -108,7 +108,7 @@ const headerSchema = z.discriminatedUnion('kind', [
     level: int.min(0),
     repairRounds: int.min(0),
     prevEvents: z.number().min(0),
-    fold: z.enum(['quadrant', 'octant', 'wedge']).optional(),
+    fold: z.enum(['quadrant', 'octant', 'wedge', 'half']).optional(),
     grid: z.strictObject({ W: int.min(1), H: int.min(1), ox: int, oy: int, guard: int.min(1) }),
     coarse: z.strictObject({ chips: int.min(0), W: int.min(1), H: int.min(1), ox: int, oy: int, gain: z.number().nullable(), toppled: box }).nullable(),
     arrays: z.array(z.strictObject({ name: z.enum(['h', 'od', 'coarseU', 'coarseErr']), type: z.enum(['int32', 'uint32', 'float64', 'float32']), length: int.min(0), crc32: int })),

@@ -303,23 +303,23 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         const restore = folded
           ? () => {
               scratch.sp = 0;
-              restoreBoundary(grid, k, folded, scratch);
+              restoreBoundary(grid, folded, scratch);
               return scratch.data.subarray(0, scratch.sp);
             }
           : undefined;
         restore?.(); // true boundary heights before the first phase
         events += await strips.relax(grid, k, (e) => pauseIfDue(before + e), restore);
       } else if (fb) {
-        restoreBoundary(grid, k, fb, stack);
+        restoreBoundary(grid, fb, stack);
         pushAllUnstable(grid, k, stack);
         // stable only when a restored boundary pushes nothing more
         do {
           while (stack.sp > 0) {
             events += relaxSome(grid, k, stack, 1 << 20);
-            restoreBoundary(grid, k, fb, stack);
+            restoreBoundary(grid, fb, stack);
             await pauseIfDue(events);
           }
-        } while (restoreBoundary(grid, k, fb, stack) > 0);
+        } while (restoreBoundary(grid, fb, stack) > 0);
       } else {
         pushAllUnstable(grid, k, stack);
         while (stack.sp > 0) {

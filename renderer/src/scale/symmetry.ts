@@ -1,7 +1,7 @@
 import type { BackgroundField } from '../engine/background.js';
 import type { LatticeGraph } from '../engine/lattice.js';
 import { FROZEN, forEachGuard, innerBox, isWide, makeGrid, type Box, type ScaleGrid } from './grid.js';
-import type { LatticeKernel, UnstableStack } from './kernel.js';
+import type { UnstableStack } from './kernel.js';
 
 /**
  * Mirror symmetry of a single-source run. Grains at the origin on a lattice and background that the
@@ -10,7 +10,9 @@ import type { LatticeKernel, UnstableStack } from './kernel.js';
  * image of that function is another one). So a level is relaxed on a quarter (X, Y ≥ 0) or an eighth
  * (0 ≤ Y ≤ X) of the plane: 4× or 8× fewer toppling events, exactly the same result. Lattices whose
  * mirrors are the diagonals instead, X ↔ Y and (X, Y) → (−Y, −X) (the triangular preset in its
- * coordinates), fold onto the `wedge` X ≥ |Y|, a quarter of the plane.
+ * coordinates), fold onto the `wedge` X ≥ |Y|, a quarter of the plane; a lattice with the mirror
+ * X → −X only (the honeycomb preset's brick wall) onto the `half` X ≥ 0. Lattices with several classes
+ * fold as well when each class's offsets, mirrored, are those of the mirrored site's class.
  *
  * Inside the grid, cells outside the fundamental domain are sinks: frozen, never toppled, their
  * grains thrown away. A domain cell next to them (the boundary) misses what its mirrored neighbours
@@ -18,7 +20,7 @@ import type { LatticeKernel, UnstableStack } from './kernel.js';
  * kernel. Until then its stored height is below the true one, so every toppling the kernel does is
  * legal and the abelian property makes the end exact.
  */
-export type Fold = 'quadrant' | 'octant' | 'wedge';
+export type Fold = 'quadrant' | 'octant' | 'wedge' | 'half';
 
 type Offsets = readonly (readonly number[])[];
 const sameSet = (a: Offsets, b: Offsets) => {
@@ -27,15 +29,31 @@ const sameSet = (a: Offsets, b: Offsets) => {
   return sa.length === sb.length && sa.every((v, i) => v === sb[i]);
 };
 
-/** The largest fold a run allows: one-class planar lattice with mirror-invariant offsets, uniform background, grains at the origin. */
+const mod = (a: number, m: number) => ((a % m) + m) % m;
+
+/** The offsets of lattice site (X, Y) (its class's). */
+const offsetsAt = (g: LatticeGraph, X: number, Y: number): Offsets => g.classes[mod(Y, g.period[1]) * g.period[0] + mod(X, g.period[0])]!;
+
+/** The largest fold a run allows: planar lattice and its classes invariant under the mirrors, uniform background, grains at the origin. */
 export function foldOf(g: LatticeGraph, bg: BackgroundField): Fold | null {
-  if (g.dim !== 2 || g.classes.length !== 1 || bg.uniform === undefined) return null;
-  const o = g.classes[0]!;
-  const mx = sameSet(o, o.map(([x, y]) => [-x!, y!]));
-  const my = sameSet(o, o.map(([x, y]) => [x!, -y!]));
-  const swap = sameSet(o, o.map(([x, y]) => [y!, x!]));
+  if (g.dim !== 2 || bg.uniform === undefined) return null;
+  // a linear map m is a symmetry when the offsets of every site, mapped, are those of its image
+  // (checked over two periods each way, enough for the classes of both ends of every map)
+  const P = 2 * Math.max(g.period[0], g.period[1]);
+  const keeps = (m: (x: number, y: number) => [number, number]) => {
+    for (let Y = -P; Y < P; Y++)
+      for (let X = -P; X < P; X++) {
+        const [a, b] = m(X, Y);
+        if (!sameSet(offsetsAt(g, a, b), offsetsAt(g, X, Y).map(([x, y]) => m(x!, y!)))) return false;
+      }
+    return true;
+  };
+  const mx = keeps((x, y) => [-x, y]);
+  const my = keeps((x, y) => [x, -y]);
+  const swap = keeps((x, y) => [y, x]);
   if (mx && my) return swap ? 'octant' : 'quadrant';
-  return swap && sameSet(o, o.map(([x, y]) => [-y!, -x!])) ? 'wedge' : null;
+  if (swap && keeps((x, y) => [-y, -x])) return 'wedge';
+  return mx ? 'half' : null;
 }
 
 /** The image of lattice site (X, Y) in the fundamental domain. */
@@ -45,23 +63,27 @@ export function foldXY(f: Fold, X: number, Y: number): [number, number] {
     if (Y >= Math.abs(X)) return [Y, X];
     return -X >= Math.abs(Y) ? [-X, -Y] : [-Y, -X];
   }
+  if (f === 'half') return [Math.abs(X), Y];
   const a = Math.abs(X), b = Math.abs(Y);
   return f === 'octant' && b > a ? [b, a] : [a, b];
 }
 
-export const inDomain = (f: Fold, X: number, Y: number) => (f === 'wedge' ? X >= Math.abs(Y) : X >= 0 && Y >= 0 && (f === 'quadrant' || Y <= X));
+export const inDomain = (f: Fold, X: number, Y: number) =>
+  f === 'wedge' ? X >= Math.abs(Y) : f === 'half' ? X >= 0 : X >= 0 && Y >= 0 && (f === 'quadrant' || Y <= X);
 
 /** Sites of the domain's images of every site of `box` (grown to a square for the octant). */
 export function foldBox(f: Fold, b: Box): Box {
   const x1 = Math.max(Math.abs(b.x0), Math.abs(b.x1)), y1 = Math.max(Math.abs(b.y0), Math.abs(b.y1));
   const m = Math.max(x1, y1);
   if (f === 'wedge') return { x0: 0, x1: m, y0: -m, y1: m };
+  if (f === 'half') return { x0: 0, x1, y0: b.y0, y1: b.y1 };
   return f === 'octant' ? { x0: 0, x1: m, y0: 0, y1: m } : { x0: 0, x1, y0: 0, y1 };
 }
 
 /** Number of lattice sites site (X, Y) of the domain stands for. */
 export function multiplicity(f: Fold, X: number, Y: number): number {
   if (f === 'wedge') return X === 0 && Y === 0 ? 1 : Math.abs(Y) === X ? 2 : 4;
+  if (f === 'half') return X > 0 ? 2 : 1;
   let m = (X > 0 ? 2 : 1) * (Y > 0 ? 2 : 1);
   if (f === 'octant' && X !== Y) m *= 2;
   return m;
@@ -70,8 +92,9 @@ export function multiplicity(f: Fold, X: number, Y: number): number {
 /** The domain's boundary cells and the cells whose odometers their in-neighbours stand for. */
 export interface FoldedBoundary {
   fold: Fold;
-  /** boundary cells (grid indices) */
+  /** boundary cells (grid indices) and their thresholds */
   cells: Int32Array;
+  deg: Int32Array;
   /** in-neighbours of cells[i]: sources[from[i] .. from[i + 1] - 1], grid indices in the domain */
   from: Int32Array;
   sources: Int32Array;
@@ -88,8 +111,14 @@ const cellOf = (grid: ScaleGrid, X: number, Y: number) => (Y + grid.oy) * grid.W
 /** Freezes every sink of a folded grid (height −FROZEN, odometer 0) and lists the boundary. */
 export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number, chips: number): FoldedBoundary {
   const { W, H, ox, oy, h, od } = grid;
-  const cells: number[] = [], from = [0], sources: number[] = [], sinks = new Set<number>();
-  const offs = g.classes[0]!;
+  const cells: number[] = [], degs: number[] = [], from = [0], sources: number[] = [], sinks = new Set<number>();
+  // in-neighbours of a site of class t: X − o for the offsets o that lead from their class to t
+  const [px, py] = g.period;
+  const into: [number, number][][] = g.classes.map(() => []);
+  g.classes.forEach((offs, c) => {
+    const cx = c % px, cy = (c - cx) / px;
+    for (const o of offs) into[mod(cy + o[1]!, py) * px + mod(cx + o[0]!, px)]!.push([o[0]!, o[1]!]);
+  });
   for (let y = 0; y < H; y++)
     for (let x = 0; x < W; x++) {
       const X = x - ox, Y = y - oy;
@@ -101,20 +130,22 @@ export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number
       }
       // guard cells stay frozen (their mirrored neighbours are guard cells too, which never topple)
       if (x < grid.guard || y < grid.guard || x >= W - grid.guard || y >= H - grid.guard) continue;
-      let outside = false;
-      for (const o of offs) if (!inDomain(f, X + o[0]!, Y + o[1]!)) outside = true;
-      if (!outside) continue;
+      const offs = offsetsAt(g, X, Y);
+      for (const o of offs) if (!inDomain(f, X + o[0]!, Y + o[1]!)) sinks.add(cellOf(grid, X + o[0]!, Y + o[1]!));
+      // a cell with an in-neighbour outside the domain misses its grains: its height is restored
+      const ins = into[mod(Y, py) * px + mod(X, px)]!;
+      if (ins.every(([a, b]) => inDomain(f, X - a, Y - b))) continue;
       cells.push(i);
-      // in-neighbours: the offsets are mirror-invariant, so the reversed offsets are the same set
-      for (const o of offs) {
-        const [a, b] = foldXY(f, X - o[0]!, Y - o[1]!);
-        sources.push(cellOf(grid, a, b));
-        if (!inDomain(f, X + o[0]!, Y + o[1]!)) sinks.add(cellOf(grid, X + o[0]!, Y + o[1]!));
+      degs.push(offs.length);
+      // the in-neighbour's odometer is its image's (mirror symmetry)
+      for (const [a, b] of ins) {
+        const [fa, fb] = foldXY(f, X - a, Y - b);
+        sources.push(cellOf(grid, fa, fb));
       }
       from.push(sources.length);
     }
   return {
-    fold: f, cells: Int32Array.from(cells), from: Int32Array.from(from), sources: Int32Array.from(sources),
+    fold: f, cells: Int32Array.from(cells), deg: Int32Array.from(degs), from: Int32Array.from(from), sources: Int32Array.from(sources),
     sinks: Int32Array.from([...sinks].filter((i) => i >= 0 && i < h.length)), base, origin: cellOf(grid, 0, 0), chips,
   };
 }
@@ -123,14 +154,14 @@ export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number
  * Gives every boundary cell its true height (background + grains + what its in-neighbours toppled −
  * what it toppled) and empties the sinks. Pushes the cells that became unstable; returns how many.
  */
-export function restoreBoundary(grid: ScaleGrid, k: LatticeKernel, fb: FoldedBoundary, stack: UnstableStack): number {
+export function restoreBoundary(grid: ScaleGrid, fb: FoldedBoundary, stack: UnstableStack): number {
   const { h, od } = grid;
-  const d = k.deg[0]!;
   for (let s = 0; s < fb.sinks.length; s++) h[fb.sinks[s]!] = -FROZEN;
   stack.reserve(fb.cells.length);
   let pushed = 0;
   for (let c = 0; c < fb.cells.length; c++) {
     const i = fb.cells[c]!;
+    const d = fb.deg[c]!;
     let v = fb.base + (i === fb.origin ? fb.chips : 0) - d * od[i]!;
     for (let e = fb.from[c]!, e1 = fb.from[c + 1]!; e < e1; e++) v += od[fb.sources[e]!]!;
     const old = h[i]!;
@@ -159,7 +190,11 @@ export function unfold(grid: ScaleGrid, g: LatticeGraph, bg: BackgroundField, f:
   // images fall inside the folded grid or on its far guard (frozen), never on its mirrored side
   const inner = innerBox(grid);
   const r = Math.max(inner.x1, inner.y1, -inner.y0);
-  const full = makeGrid(g, bg, f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r } : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 }, isWide(grid));
+  const box: Box =
+    f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r }
+    : f === 'half' ? { x0: -inner.x1, x1: inner.x1, y0: inner.y0, y1: inner.y1 }
+    : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 };
+  const full = makeGrid(g, bg, box, isWide(grid));
   const { W, H, ox, oy, h, od } = full;
   forEachGuard(full, (i) => (h[i] = h[i]! + FROZEN));
   for (let y = 0; y < H; y++) {
