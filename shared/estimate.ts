@@ -41,31 +41,32 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
  * its cost follows the seed's error, not the toppling count, so it gets a curve of its own.
  */
 export const FAST_PATH_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
-  [1e5, 0.18],
-  [1e6, 0.53],
-  [1e7, 13.59],
-  [1e8, 417.7],
+  [1e5, 0.19],
+  [1e6, 0.62],
+  [1e7, 10.81],
+  [1e8, 383.8],
 ];
 
 /**
  * The same path on the whole plane (lattices and backgrounds without that symmetry), square lattice,
- * two threads, `npm run bench:scale` (10^6 and 10^7 on 2026-12-05, 10^5 in an earlier bench); other
- * lattices are priced as a factor of it.
+ * two threads, `npm run bench:scale` (10^6 at 09:30 UTC and 10^7 earlier on 2026-12-05, 10^5 in an
+ * earlier bench); other lattices are priced as a factor of it.
  */
 export const FAST_PATH_WHOLE_PLANE_MEASURED: readonly (readonly [n: number, seconds: number])[] = [
   [1e5, 0.45],
-  [1e6, 1.71],
+  [1e6, 2.02],
   [1e7, 78.47],
 ];
 
 /**
  * Fast-path time of other lattices and of an i.i.d. random background relative to the whole-plane
- * square lattice at n = 10^6 (same bench; the triangular lattice folds onto a quarter of the plane).
+ * square lattice at n = 10^6 (same bench; the triangular lattice folds onto a quarter of the plane,
+ * the honeycomb onto a half).
  */
-export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 1.25, honeycomb: 5.36, manhattan: 5.82 };
-export const FAST_PATH_RANDOM_FACTOR = 3.85;
+export const FAST_PATH_LATTICE_FACTOR: Readonly<Record<string, number>> = { square: 1, triangular: 1.49, honeycomb: 3.7, manhattan: 6.04 };
+export const FAST_PATH_RANDOM_FACTOR = 3.36;
 /** Lattices not in that bench (f-lattice, uploaded periodic graphs): the slowest measured factor, so an estimate errs on the long side. */
-export const FAST_PATH_UNKNOWN_FACTOR = 5.82;
+export const FAST_PATH_UNKNOWN_FACTOR = 6.04;
 
 
 /** Smallest single source the engine sends to the fast path (renderer/src/engine/stabilize.ts SCALED_MIN_CHIPS). */
