@@ -27,6 +27,7 @@ import { parseArgs } from 'node:util';
 import { groupThousands, parseCount, powerOfTen } from '../../renderer/src/cli/numbers.js';
 import { resolveProblem, runStatsToJSON } from '../../renderer/src/engine/index.js';
 import { stabilizeScaled, type LevelInfo } from '../../renderer/src/scale/scaled.js';
+import { BYTES_PER_CELL } from '../../shared/estimate.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const self = fileURLToPath(import.meta.url);
@@ -56,7 +57,10 @@ async function runCaseHere(c: CaseSpec): Promise<CaseResult> {
   const problem = resolveProblem({ lattice: { preset: c.lattice }, chips: c.n, sources: [], background });
   const levels: LevelInfo[] = [];
   const t0 = performance.now();
-  const outcome = c.n > 0 ? await stabilizeScaled(problem, { threads: c.threads, ...(c.whole ? { symmetry: false } : {}), onLevel: (l) => levels.push(l) }) : null;
+  // the farm's site budget (memory over BYTES_PER_CELL, renderer/src/farm/farm-worker.ts), not the
+  // engine's default 2^26, which 3·10^8 grains exceed
+  const maxSites = Math.floor(totalmem() / BYTES_PER_CELL);
+  const outcome = c.n > 0 ? await stabilizeScaled(problem, { threads: c.threads, maxSites, ...(c.whole ? { symmetry: false } : {}), onLevel: (l) => levels.push(l) }) : null;
   const seconds = (performance.now() - t0) / 1000;
   const stats = outcome ? runStatsToJSON(outcome.stats) : null;
   return {

@@ -10,7 +10,7 @@ import { decodeSnapshot, encodeSnapshot, latticePreset, stabilize, type Outcome 
 import { backgroundField } from '../../renderer/src/engine/background.js';
 import { periodicLattice } from '../../renderer/src/engine/lattice.js';
 import { shutdownWorkers } from '../../renderer/src/engine/parallel.js';
-import { stabilizeScaled, type LevelInfo } from '../../renderer/src/scale/scaled.js';
+import { stabilizeScaled, type LevelInfo, type ScaleProgress } from '../../renderer/src/scale/scaled.js';
 import { foldOf, foldXY, multiplicity } from '../../renderer/src/scale/symmetry.js';
 import { comparable, problem } from '../engine/helpers.js';
 
@@ -109,6 +109,26 @@ describe('folded equals whole-plane bit for bit', () => {
     expect(folded / whole).toBeGreaterThan(0.1);
     expect(folded / whole).toBeLessThan(0.16);
   }, 120_000);
+});
+
+describe('site budget of a folded run', () => {
+  it('is checked against the whole plane the level unfolds onto, before the level is relaxed', async () => {
+    // square n = 2·10^6: whole-plane grids of 409,600 cells at n/4 and 1,327,104 at n (measured); the
+    // folded ones hold an eighth of that, so only the unfolded size can refuse the finest level, and
+    // it must do so before relaxing it (3·10^8 grains once relaxed 45 minutes on an eighth first)
+    const p = problem({ lattice: { preset: 'square' }, chips: 2_000_000 });
+    const relaxed: number[] = [];
+    const finest: ScaleProgress[] = [];
+    const run = stabilizeScaled(p, {
+      threads: 1, maxSites: 1_000_000,
+      onLevel: (l) => relaxed.push(l.chips),
+      onProgress: (q) => q.level === q.levels - 1 && finest.push(q),
+    });
+    await expect(run).rejects.toThrow(/did not stabilize within the bound of 1000000 sites/);
+    expect(relaxed).toContain(500_000);
+    expect(relaxed).not.toContain(2_000_000);
+    expect(finest).toEqual([]);
+  }, 60_000);
 });
 
 describe('lowering instead of repairing', () => {

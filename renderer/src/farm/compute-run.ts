@@ -26,6 +26,8 @@ export interface ComputeDeps {
   threads?: number;
   /** seconds between checkpoints (WORKER_CHECKPOINT_SECONDS) */
   checkpointSeconds: number;
+  /** largest domain in sites (default: the engine's DEFAULT_MAX_SITES) */
+  maxSites?: number;
   /** fires when the worker process is asked to stop: the run goes back to the queue at its last checkpoint */
   shutdown?: AbortSignal;
   /** the worker's own output (the job's BullMQ log gets the same lines) */
@@ -185,7 +187,7 @@ async function stabilizeWithCheckpoints(
   const { deps, log, signal, onProgress } = ctx;
   const stored = await checkpoints.load();
   const run = (resume?: Snapshot) =>
-    stabilize(problem, { threads: deps.threads, signal, onProgress, resume, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
+    stabilize(problem, { threads: deps.threads, maxSites: deps.maxSites, signal, onProgress, resume, checkpoint: { everySeconds: deps.checkpointSeconds, save: (s) => checkpoints.save(s) } });
   if (!stored) return run();
   const when = stored.savedAt ? ` saved ${stored.savedAt.toISOString()}` : '';
   log(`resuming from its checkpoint${when} (${describeSnapshot(stored.snapshot)}, ${(stored.bytes / 2 ** 20).toFixed(1)} MiB)`);

@@ -1,4 +1,4 @@
-import { hostname } from 'node:os';
+import { hostname, totalmem } from 'node:os';
 import { DeleteObjectCommand } from '@aws-sdk/client-s3';
 import { Queue, Worker, type Job } from 'bullmq';
 import { Redis } from 'ioredis';
@@ -6,6 +6,7 @@ import { connectDatabase } from '../../../api/src/db/client.js';
 import { createS3BlobStore } from '../../../api/src/storage/s3-blob-store.js';
 import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
 import type { Env } from '../../../shared/env.js';
+import { BYTES_PER_CELL } from '../../../shared/estimate.js';
 import { HEARTBEAT_EVERY_MS, HEARTBEAT_TTL_SECONDS, heartbeatKey } from '../../../shared/api/admin.js';
 import { JOB_NAMES, QUEUE_NAMES, jobIdFor, queueOf, type JobItem } from '../../../shared/jobs.js';
 import { createS3Client } from '../render/index.js';
@@ -31,6 +32,11 @@ export interface FarmWorkerOptions {
   threads?: number;
   /** seconds between checkpoints (default env.WORKER_CHECKPOINT_SECONDS) */
   checkpointSeconds?: number;
+  /**
+   * largest domain a run may grow to, in sites (default: this machine's memory over BYTES_PER_CELL,
+   * the rule the API admits runs by, so a run it accepts is not refused here after hours of work)
+   */
+  maxSites?: number;
   /** lock duration and stalled-check interval in seconds (default env.WORKER_LOCK_SECONDS) */
   lockSeconds?: number;
   /** re-deliveries of a compute job whose worker died before BullMQ fails it (default MAX_STALLED.compute) */
@@ -80,6 +86,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
   };
   const threads = options.threads ?? env.WORKER_THREADS;
   const checkpointSeconds = options.checkpointSeconds ?? env.WORKER_CHECKPOINT_SECONDS;
+  const maxSites = options.maxSites ?? Math.floor(totalmem() / BYTES_PER_CELL);
   const lockMs = Math.round((options.lockSeconds ?? env.WORKER_LOCK_SECONDS) * 1000);
   const held = (maxStalledCount: number) => ({ connection, prefix, lockDuration: lockMs, stalledInterval: lockMs, maxStalledCount });
   const notifyPrintReady = async (versionId: string) => {
@@ -95,6 +102,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
     bucket: env.S3_BUCKET,
     threads,
     checkpointSeconds,
+    maxSites,
     shutdown: shutdown.signal,
     log,
     notifyOutcome,

@@ -38,19 +38,23 @@ export interface Box {
 
 const ceilTo = (v: number, m: number) => Math.ceil(v / m) * m;
 
-/**
- * Allocates a grid whose non-guard cells cover `box` (grown to the period), filled with the
- * background; `wide`: a float64 odometer instead of uint32.
- */
-export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box, wide = false): ScaleGrid {
+/** Size and origin of the grid makeGrid allocates for `box` (so a caller can check it first). */
+export function gridShape(g: LatticeGraph, box: Box): Pick<ScaleGrid, 'W' | 'H' | 'ox' | 'oy' | 'guard'> {
   const [px, py] = g.period;
   const guard = Math.max(1, g.reach);
   const ox = ceilTo(guard - box.x0, px);
   const oy = ceilTo(guard - box.y0, py);
   // whole 64 × 64 tiles where periods allow (the two-thread relaxation needs them; a few rows more otherwise)
   const mx = 64 % px === 0 ? 64 : px, my = 64 % py === 0 ? 64 : py;
-  const W = ceilTo(ox + box.x1 + 1 + guard, mx);
-  const H = ceilTo(oy + box.y1 + 1 + guard, my);
+  return { W: ceilTo(ox + box.x1 + 1 + guard, mx), H: ceilTo(oy + box.y1 + 1 + guard, my), ox, oy, guard };
+}
+
+/**
+ * Allocates a grid whose non-guard cells cover `box` (grown to the period), filled with the
+ * background; `wide`: a float64 odometer instead of uint32.
+ */
+export function makeGrid(g: LatticeGraph, bg: BackgroundField, box: Box, wide = false): ScaleGrid {
+  const { W, H, ox, oy, guard } = gridShape(g, box);
   // shared, so worker threads can relax tiles of it in place
   const h = new Int32Array(new SharedArrayBuffer(4 * W * H));
   const od = wide ? new Float64Array(new SharedArrayBuffer(8 * W * H)) : new Uint32Array(new SharedArrayBuffer(4 * W * H));

@@ -10,7 +10,7 @@ import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack
 import { lowerOdometer, peel, untopple, windowOf } from './peel.js';
 import { collectGarbage } from './memory.js';
 import { StripRelaxer } from './strips.js';
-import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, type Fold, type FoldedBoundary } from './symmetry.js';
+import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, unfoldedCells, type Fold, type FoldedBoundary } from './symmetry.js';
 import { applySeed, bulkGainOf, flatSafety, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
@@ -192,6 +192,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   };
   const L = chips.length;
   const fold = options.symmetry === false ? null : foldOf(g, bg);
+  // a folded level is unfolded onto the whole plane once relaxed: the site budget applies to that grid,
+  // checked before relaxing (3·10^8 grains relaxed 45 minutes on an eighth before the unfolding refused)
+  const planeCells = (grid: ScaleGrid) => (fold ? unfoldedCells(grid, g, fold) : grid.W * grid.H);
   // progress weights: work per level grows about 12x per 4x grains (measured growth ~n^1.8)
   const weights = chips.map((_, l) => Math.pow(12, L - 1 - l));
   const totalWeight = weights.reduce((a, b) => a + b, 0);
@@ -259,14 +262,14 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       const r = Math.ceil(0.5 * Math.sqrt(c / Math.max(1, Math.min(...g.classes.map((x) => x.length)) / 4))) + 2;
       const box = { x0: -r, x1: r, y0: -r, y1: r };
       grid = makeGrid(g, bg, fold ? foldBox(fold, box) : box, options.odometer ? options.odometer === 'float64' : wideOdometer(c, null));
-      if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+      if (planeCells(grid) > maxSites) throw new NotStabilizedError(maxSites);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       k = latticeKernel(g, grid.W);
     } else {
       const box = fold ? foldBox(fold, seedBox(coarse, 4 + g.reach)) : seedBox(coarse, 4 + g.reach);
       const wide = options.odometer ? options.odometer === 'float64' : wideOdometer(c, coarse);
       grid = makeGrid(g, bg, box, wide);
-      if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+      if (planeCells(grid) > maxSites) throw new NotStabilizedError(maxSites);
       k = latticeKernel(g, grid.W);
       grid.h[grid.oy * grid.W + grid.ox] += c;
       if (!applySeed(grid, k, coarse, c, levelOpts, peak)) {
@@ -334,7 +337,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
         const grown: Box = { x0: b.x0 - ax, x1: b.x1 + ax, y0: b.y0 - ay, y1: b.y1 + ay };
         const next = fold ? foldBox(fold, grown) : grown; // a folded grid grows at its far sides only
         grid = growGrid(g, bg, grid, next);
-        if (grid.W * grid.H > maxSites) throw new NotStabilizedError(maxSites);
+        if (planeCells(grid) > maxSites) throw new NotStabilizedError(maxSites);
         k = latticeKernel(g, grid.W);
         if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
         report('grow', level, prevEvents ? events / expected : 0.5, grid, true, fb?.fold ?? null);

@@ -1,6 +1,6 @@
 import type { BackgroundField } from '../engine/background.js';
 import type { LatticeGraph } from '../engine/lattice.js';
-import { FROZEN, forEachGuard, innerBox, isWide, makeGrid, type Box, type ScaleGrid } from './grid.js';
+import { FROZEN, forEachGuard, gridShape, innerBox, isWide, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import type { UnstableStack } from './kernel.js';
 
 /**
@@ -180,6 +180,22 @@ export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
   return n;
 }
 
+/** The whole-plane box a folded grid unfolds onto: the images of its non-guard cells. */
+function unfoldedBox(grid: ScaleGrid, f: Fold): Box {
+  // images fall inside the folded grid or on its far guard (frozen), never on its mirrored side
+  const inner = innerBox(grid);
+  const r = Math.max(inner.x1, inner.y1, -inner.y0);
+  if (f === 'wedge') return { x0: -r, x1: r, y0: -r, y1: r };
+  if (f === 'half') return { x0: -inner.x1, x1: inner.x1, y0: inner.y0, y1: inner.y1 };
+  return { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 };
+}
+
+/** Cells of the whole-plane grid `unfold` would allocate (a site budget is checked against it before relaxing). */
+export function unfoldedCells(grid: ScaleGrid, g: LatticeGraph, f: Fold): number {
+  const { W, H } = gridShape(g, unfoldedBox(grid, f));
+  return W * H;
+}
+
 /**
  * The whole-plane grid of a relaxed folded grid: every site takes the height and odometer of its
  * image (guard cells frozen as usual). The folded grid is left as it was (a checkpoint may still hold it).
@@ -187,14 +203,7 @@ export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
 export function unfold(grid: ScaleGrid, g: LatticeGraph, bg: BackgroundField, f: Fold): ScaleGrid {
   const fx0 = -grid.ox, fy0 = -grid.oy, fx1 = grid.W - 1 - grid.ox, fy1 = grid.H - 1 - grid.oy;
   const G = grid.guard;
-  // images fall inside the folded grid or on its far guard (frozen), never on its mirrored side
-  const inner = innerBox(grid);
-  const r = Math.max(inner.x1, inner.y1, -inner.y0);
-  const box: Box =
-    f === 'wedge' ? { x0: -r, x1: r, y0: -r, y1: r }
-    : f === 'half' ? { x0: -inner.x1, x1: inner.x1, y0: inner.y0, y1: inner.y1 }
-    : { x0: -inner.x1, x1: inner.x1, y0: -inner.y1, y1: inner.y1 };
-  const full = makeGrid(g, bg, box, isWide(grid));
+  const full = makeGrid(g, bg, unfoldedBox(grid, f), isWide(grid));
   const { W, H, ox, oy, h, od } = full;
   forEachGuard(full, (i) => (h[i] = h[i]! + FROZEN));
   for (let y = 0; y < H; y++) {
