@@ -62,7 +62,7 @@ describe('the new-run form with grain counts out of range', () => {
     await screenshot(page, 'run-form-huge-n');
 
     await page.getByRole('button', { name: 'Start run' }).click();
-    const alert = page.locator('form[aria-label="new run"] aside').getByRole('alert').filter({ hasText: /^spec: this run needs about [\d,.]+ GiB of working memory/ });
+    const alert = page.locator('form[aria-label="new run"] aside').getByRole('alert').filter({ hasText: /^this run needs about [\d,.]+ GiB of working memory/ });
     await alert.waitFor();
     expect(await alert.textContent()).toMatch(/use fewer grains$/);
     expect(new URL(page.url()).pathname).toBe('/runs/new');

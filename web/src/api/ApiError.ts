@@ -24,3 +24,13 @@ export function isApiError(e: unknown): e is ApiError {
 export function isStatus(e: unknown, status: number): boolean {
   return isApiError(e) && e.status === status;
 }
+
+/**
+ * The message for people: the API puts the field first ("spec: this run needs …") for scripts, and a
+ * form already says where it is, so that prefix is left off.
+ */
+export function messageForPeople(e: unknown): string {
+  const message = e instanceof Error ? e.message : String(e);
+  const path = isApiError(e) ? e.issues[0]?.path : undefined;
+  return path && message.startsWith(`${path}: `) ? message.slice(path.length + 2) : message;
+}

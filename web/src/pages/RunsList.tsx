@@ -11,7 +11,6 @@ import {
   SortableTable, StatusBadge, statusLabel, type Column, type SortState,
 } from '../ui/index.js';
 import { NewRunForm } from './NewRunForm.js';
-import { PERIODIC_PRESET_NAMES } from '../runForm/formState.js';
 
 const PAGE_SIZE = 25;
 type SortKey = NonNullable<ListRunsQueryInput['sort']>;
@@ -137,7 +136,7 @@ export function RunsList() {
         </SelectField>
         <SelectField label="Lattice" value={lattice ?? ''} onChange={(e) => set({ lattice: e.target.value })} fieldClassName="w-48">
           <option value="">any lattice</option>
-          {[...LATTICE_PRESETS, ...PERIODIC_PRESET_NAMES, 'periodic'].map((l) => (
+          {[...LATTICE_PRESETS, 'periodic'].map((l) => (
             <option key={l} value={l}>
               {latticeName(l)}
             </option>

@@ -1,5 +1,5 @@
 import type { ReactNode } from 'react';
-import { isApiError } from '../api/ApiError.js';
+import { isApiError, messageForPeople } from '../api/ApiError.js';
 
 /** Shows what went wrong in the API's own words, with the request id for support. */
 export function ErrorPanel({ error, title, children }: { error: unknown; title?: ReactNode; children?: ReactNode }) {
@@ -27,7 +27,7 @@ function headingFor(status: number | undefined): string {
 /** A short inline message under a form, e.g. "wrong e-mail or password". */
 export function FormError({ error }: { error: unknown }) {
   if (!error) return null;
-  const message = error instanceof Error ? error.message : String(error);
+  const message = messageForPeople(error);
   return (
     <p role="alert" className="rounded-md border border-stamp/30 bg-stamp-tint/60 px-3 py-2 text-sm text-stamp">
       {message}
