@@ -1,5 +1,5 @@
 import type { BackgroundField } from '../engine/background.js';
-import type { LatticeGraph } from '../engine/lattice.js';
+import { classOf, type LatticeGraph } from '../engine/lattice.js';
 import { FROZEN, forEachGuard, gridShape, innerBox, isWide, makeGrid, type Box, type ScaleGrid } from './grid.js';
 import type { UnstableStack } from './kernel.js';
 
@@ -29,10 +29,8 @@ const sameSet = (a: Offsets, b: Offsets) => {
   return sa.length === sb.length && sa.every((v, i) => v === sb[i]);
 };
 
-const mod = (a: number, m: number) => ((a % m) + m) % m;
-
 /** The offsets of lattice site (X, Y) (its class's). */
-const offsetsAt = (g: LatticeGraph, X: number, Y: number): Offsets => g.classes[mod(Y, g.period[1]) * g.period[0] + mod(X, g.period[0])]!;
+const offsetsAt = (g: LatticeGraph, X: number, Y: number): Offsets => g.classes[classOf(g, X, Y, 0)]!;
 
 /** The largest fold a run allows: planar lattice and its classes invariant under the mirrors, uniform background, grains at the origin. */
 export function foldOf(g: LatticeGraph, bg: BackgroundField): Fold | null {
@@ -113,11 +111,11 @@ export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number
   const { W, H, ox, oy, h, od } = grid;
   const cells: number[] = [], degs: number[] = [], from = [0], sources: number[] = [], sinks = new Set<number>();
   // in-neighbours of a site of class t: X − o for the offsets o that lead from their class to t
-  const [px, py] = g.period;
+  const px = g.period[0];
   const into: [number, number][][] = g.classes.map(() => []);
   g.classes.forEach((offs, c) => {
     const cx = c % px, cy = (c - cx) / px;
-    for (const o of offs) into[mod(cy + o[1]!, py) * px + mod(cx + o[0]!, px)]!.push([o[0]!, o[1]!]);
+    for (const o of offs) into[classOf(g, cx + o[0]!, cy + o[1]!, 0)]!.push([o[0]!, o[1]!]);
   });
   for (let y = 0; y < H; y++)
     for (let x = 0; x < W; x++) {
@@ -133,7 +131,7 @@ export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number
       const offs = offsetsAt(g, X, Y);
       for (const o of offs) if (!inDomain(f, X + o[0]!, Y + o[1]!)) sinks.add(cellOf(grid, X + o[0]!, Y + o[1]!));
       // a cell with an in-neighbour outside the domain misses its grains: its height is restored
-      const ins = into[mod(Y, py) * px + mod(X, px)]!;
+      const ins = into[classOf(g, X, Y, 0)]!;
       if (ins.every(([a, b]) => inDomain(f, X - a, Y - b))) continue;
       cells.push(i);
       degs.push(offs.length);

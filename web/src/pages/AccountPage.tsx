@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from 'react';
+import { useRef, useState, type FormEvent } from 'react';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { keys, useSetActiveLab, useSignOut, useTokens } from '../api/queries.js';
@@ -6,7 +6,7 @@ import { createTokenRequestSchema, type ApiToken, type CreateTokenResponse } fro
 import { useSignedIn } from '../auth/useSignedIn.js';
 import { formatDateTime } from '../format.js';
 import {
-  Button, EmptyState, ErrorPanel, FactList, FormError, Notice, PageHeading, Section, SelectField, SkeletonTable,
+  Button, CopyButton, EmptyState, ErrorPanel, FactList, FormError, Notice, PageHeading, Section, SelectField, SkeletonTable,
   SortableTable, TextField, validate, serverFieldErrors, type Column, type FieldErrors,
 } from '../ui/index.js';
 
@@ -78,6 +78,7 @@ function Tokens() {
   const qc = useQueryClient();
   const [errors, setErrors] = useState<FieldErrors>({});
   const [secret, setSecret] = useState<CreateTokenResponse | null>(null);
+  const secretEl = useRef<HTMLElement>(null);
   const create = useMutation({
     mutationFn: (body: unknown) => api<CreateTokenResponse>('POST', '/api/me/tokens', body),
     onSuccess: (r) => {
@@ -142,10 +143,10 @@ function Tokens() {
         <div className="mb-6">
           <Notice tone="success" title={`Token “${secret.token.label}” created — copy it now, it is shown only once`}>
             <div className="mt-2 flex items-center gap-3">
-              <code data-testid="token-secret" className="select-all rounded border border-rule bg-sheet px-3 py-1.5 font-mono text-sm text-ink">
+              <code ref={secretEl} data-testid="token-secret" className="select-all rounded border border-rule bg-sheet px-3 py-1.5 font-mono text-sm text-ink">
                 {secret.secret}
               </code>
-              <CopyButton text={secret.secret} />
+              <CopyButton text={secret.secret} target={secretEl} />
               <Button size="sm" tone="quiet" onClick={() => setSecret(null)}>
                 Done
               </Button>
@@ -171,22 +172,3 @@ function Tokens() {
   );
 }
 
-/** Copies through the clipboard API where the page may use it; elsewhere selects the text for the person to copy. */
-function CopyButton({ text }: { text: string }) {
-  const [state, setState] = useState<'idle' | 'copied' | 'selected'>('idle');
-  async function copy() {
-    try {
-      await navigator.clipboard.writeText(text);
-      setState('copied');
-    } catch {
-      const el = document.querySelector('[data-testid="token-secret"]');
-      if (el) window.getSelection()?.selectAllChildren(el);
-      setState('selected');
-    }
-  }
-  return (
-    <Button size="sm" tone="quiet" onClick={() => void copy()}>
-      {state === 'copied' ? 'Copied' : state === 'selected' ? 'Selected — press Ctrl+C' : 'Copy'}
-    </Button>
-  );
-}

@@ -1,6 +1,7 @@
 /** The design system: import pages' building blocks from here. */
 export * from './Button.js';
 export * from './CitationBlock.js';
+export * from './CopyButton.js';
 export * from './Count.js';
 export * from './EmptyState.js';
 export * from './ErrorPanel.js';
