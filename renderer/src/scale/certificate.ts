@@ -33,7 +33,6 @@ export function certify(
   // this ties the odometer's values to the heights (mass and minimality read only heights and u > 0).
   // checkTiledSnapshot (engine/tiled-resume.ts) checks the same balance with bounds per in-edge, on
   // boxes without the reach margin an outcome has; here index arithmetic keeps it one pass at 10^9
-
   const added = new Map<number, number>();
   for (const s of problem.sources) {
     if (s.chips === 0) continue;
