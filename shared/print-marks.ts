@@ -86,20 +86,19 @@ export function figureTextMarks(layout: FigureLayout, legends: readonly PanelLeg
   if (layout.legend && legends) {
     const line = textPt * LINE_SPACING;
     const rowPt = legendRowPx(textPt, layout.dpi) * k;
-    // panels whose legends are identical share one row (the layout reserved a row per run and style)
-    const groups = new Map<string, PanelLegend & { labels: string[] }>();
+    // one row per row the layout reserved, so what is drawn fills the legend band exactly; panels
+    // sharing a row share their run, slice, layer and style, hence the very same legend
+    const rows = new Map<number, PanelLegend & { labels: string[] }>();
     legends.forEach((pl, i) => {
-      const content = JSON.stringify(pl.legend);
-      const g = groups.get(content) ?? { ...pl, labels: [] };
-      const label = layout.panels[i]?.label;
-      if (label) g.labels.push(label);
-      groups.set(content, g);
+      const panel = layout.panels[i];
+      if (!panel || panel.legendRow === null) return;
+      const g = rows.get(panel.legendRow) ?? { ...pl, labels: [] };
+      if (panel.label) g.labels.push(panel.label);
+      rows.set(panel.legendRow, g);
     });
-    let y = layout.legend.y * k;
-    for (const g of groups.values()) {
+    for (const [row, g] of [...rows].sort((a, b) => a[0] - b[0])) {
       const title = g.labels.length > 0 && g.labels.length < legends.length ? `${g.labels.join(', ')} ${g.legend.title}` : g.legend.title;
-      legendRow(marks, g.legend, g.table, title.charAt(0).toUpperCase() + title.slice(1), layout.legend.x * k, y, layout.legend.width * k, line, textPt, widthOf);
-      y += rowPt;
+      legendRow(marks, g.legend, g.table, title.charAt(0).toUpperCase() + title.slice(1), layout.legend.x * k, layout.legend.y * k + row * rowPt, layout.legend.width * k, line, textPt, widthOf);
     }
   }
 
@@ -126,7 +125,10 @@ function swatch(marks: Mark[], x: number, y: number, side: number, colour: strin
 
 const opaque = (c: Rgba): Rgba => [c[0], c[1], c[2], 255];
 
-/** One legend row: a bold title line, then swatches with labels, or a ramp with labelled stops below it. */
+/**
+ * One legend row: a bold title line, then swatches or a ramp on the second line with their labels
+ * on the third, so every kind of row is the three lines the layout reserves.
+ */
 function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title: string, x: number, y: number, width: number, line: number, textPt: number, widthOf: TextWidth): void {
   const sw = textPt * 0.9;
   const text = (face: TextFace, tx: number, ty: number, s: string) => marks.push({ kind: 'text', face, sizePt: textPt, x: tx, y: ty, text: s });
@@ -134,13 +136,15 @@ function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title:
   text('bold', x, y, title);
   const y1 = y + line;
   if (legend.kind === 'discrete' && legend.entries.length <= 32) {
+    // each swatch centred over its label; entries that would leave the row are left out
     let cx = x;
     for (const e of legend.entries) {
-      const w = sw + textPt * 0.3 + labelWidth(e.label) + textPt * 0.9;
+      const lw = labelWidth(e.label);
+      const w = Math.max(sw, lw);
       if (cx + w > x + width) break;
-      swatch(marks, cx, y1, sw, e.transparent ? null : e.colour);
-      text('regular', cx + sw + textPt * 0.3, y1, e.label);
-      cx += w;
+      swatch(marks, cx + (w - sw) / 2, y1, sw, e.transparent ? null : e.colour);
+      text('regular', cx + (w - lw) / 2, y1 + line, e.label);
+      cx += w + textPt * 0.9;
     }
     return;
   }
@@ -169,9 +173,12 @@ function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title:
     lastEnd = l.end;
   }
   if (legend.kind === 'continuous' && legend.masked) {
+    // laid out as a swatch of the discrete rows: centred over its label
+    const lw = labelWidth(legend.masked.label);
+    const w = Math.max(sw, lw);
     const mx = x + barW + textPt * 1.5;
-    swatch(marks, mx, y1, sw, legend.masked.transparent ? null : legend.masked.colour);
-    text('regular', mx + sw + textPt * 0.3, y1, legend.masked.label);
+    swatch(marks, mx + (w - sw) / 2, y1, sw, legend.masked.transparent ? null : legend.masked.colour);
+    text('regular', mx + (w - lw) / 2, y1 + line, legend.masked.label);
   }
 }
 

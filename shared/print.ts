@@ -230,6 +230,8 @@ export interface PanelLayout {
   /** printed pixels per cell, k or 1/r */
   pixelsPerCell: number;
   scaleBar: ScaleBarLayout | null;
+  /** the legend row this panel's colours are explained in (0 = first), null without a legend */
+  legendRow: number | null;
 }
 
 export interface FigureLayout {
@@ -321,14 +323,37 @@ export function niceLength(target: number): number {
   return Number((m * base).toPrecision(6));
 }
 
-/** Panels with the same run, layer, palette and untoppled style share one legend row. */
-export function legendGroupKey(p: Pick<PanelSpec, 'runId' | 'layer' | 'palette' | 'untoppled'>): string {
-  return `${p.runId}|${p.layer}|${p.palette}|${p.untoppled}`;
+/**
+ * Panels with the same run, slice, layer, palette and untoppled style share one legend row: their
+ * colour scales are the same by construction, so the rows are known before any statistics are.
+ */
+export function legendGroupKey(p: Pick<PanelSpec, 'runId' | 'layer' | 'palette' | 'untoppled' | 'z'>): string {
+  return `${p.runId}|${p.z ?? 0}|${p.layer}|${p.palette}|${p.untoppled}`;
 }
 
-/** One legend row: a title line, a line of swatches, a line of labels under a continuous ramp, a gap. */
+/** The legend row of each panel of a spec, in order of first appearance. */
+export function legendRowsOf(panels: readonly Pick<PanelSpec, 'runId' | 'layer' | 'palette' | 'untoppled' | 'z'>[]): { rowOf: number[]; rows: number } {
+  const index = new Map<string, number>();
+  const rowOf = panels.map((p) => {
+    const key = legendGroupKey(p);
+    if (!index.has(key)) index.set(key, index.size);
+    return index.get(key)!;
+  });
+  return { rowOf, rows: index.size };
+}
+
+/** The space between two legend rows, page pixels. */
+export function legendRowGapPx(textPt: number, dpi: number): number {
+  return Math.round(((textPt * 0.6) / POINTS_PER_INCH) * dpi);
+}
+
+/**
+ * One legend row: a title line, a line of swatches or a ramp, a line of their labels, then the gap
+ * to the next row. Every kind of legend fills the same three lines, so the reserved band is exactly
+ * what is drawn, whatever the colour scales turn out to be.
+ */
 export function legendRowPx(textPt: number, dpi: number): number {
-  return 3 * linePx(textPt, dpi) + Math.round(((textPt * 0.6) / POINTS_PER_INCH) * dpi);
+  return 3 * linePx(textPt, dpi) + legendRowGapPx(textPt, dpi);
 }
 
 const fmt = (v: number) => v.toLocaleString('en-US', { maximumFractionDigits: 6 });
@@ -368,8 +393,9 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   const labelBand = labels.some((l) => l !== null) ? textLine + pt2px(spec.textPt * 0.3) : 0;
   const barThick = Math.max(1, px(0.6));
   const scaleBand = spec.scaleBar ? pt2px(spec.textPt * 0.5) + barThick + pt2px(spec.textPt * 0.3) + textLine : 0;
-  const legendKinds = new Set(spec.panels.map(legendGroupKey)).size;
-  const legendBand = spec.legend ? pt2px(spec.textPt * 0.8) + legendKinds * legendRowPx(spec.textPt, dpi) : 0;
+  const legendRows = legendRowsOf(spec.panels);
+  // the last row needs no gap after it: the caption keeps its own
+  const legendBand = spec.legend ? pt2px(spec.textPt * 0.8) + legendRows.rows * legendRowPx(spec.textPt, dpi) - legendRowGapPx(spec.textPt, dpi) : 0;
   const captionFont = spec.caption?.fontPt ?? DEFAULT_CAPTION_PT;
   const captionLines = spec.caption ? estimateCaptionLines(spec.caption.text, captionFont, Math.max(1, contentW), dpi) : 0;
   const captionBand = spec.caption ? pt2px(captionFont * 0.8) + captionLines * linePx(captionFont, dpi) : 0;
@@ -409,7 +435,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     return { run, region: r, w: r.xMax - r.xMin + 1, h: r.yMax - r.yMin + 1, window: { x: r.xMin + ox, y: r.yMin + oy, width: r.xMax - r.xMin + 1, height: r.yMax - r.yMin + 1 }, zIndex };
   });
 
-  // Page height: fixed, or (journal column without a height) what the panels need at the slot width.
+  // Page height: fixed, or (journal column without a height) at most what the panels need at the
+  // slot width; the rows are packed to what they use once the panels are sized (below).
   let heightPx: number;
   const fixedBands = m.top + m.bottom + legendBand + captionBand + (rows - 1) * gap;
   if (sizeMm.height !== null) {
@@ -426,26 +453,16 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     const gridH = rows * ((rowH || slotW) + labelBand + scaleBand);
     heightPx = fixedBands + gridH;
   }
-  const heightMm = sizeMm.height ?? (heightPx / dpi) * MM_PER_INCH;
-  if (sizeMm.height === null && heightMm > MAX_PAGE_HEIGHT_MM) {
-    warnings.push({
-      code: 'size-not-met',
-      blocking: true,
-      message: `the size asked for cannot be met: at this column width the panels would make the page ${fmt(Math.round(heightMm))} mm tall (at most ${fmt(MAX_PAGE_HEIGHT_MM)} mm); choose a page height, a wider region or a fixed magnification`,
-    });
-  }
-  const contentH = heightPx - m.top - m.bottom;
   const gridH = heightPx - fixedBands;
   const slotH = Math.floor(gridH / rows);
   const imageBoxW = slotW;
   const imageBoxH = slotH - labelBand - scaleBand;
-  const content: PxRect = { x: m.left, y: m.top, width: contentW, height: contentH };
 
   if (contentW <= 0 || imageBoxW < 1 || imageBoxH < 1) {
     warnings.push({
       code: 'no-room',
       blocking: true,
-      message: `the size asked for cannot be met at this resolution: after margins, labels, legend and caption no room is left for the panels on a ${fmt(Math.round(sizeMm.width))} × ${fmt(Math.round(heightMm))} mm page`,
+      message: `the size asked for cannot be met at this resolution: after margins, labels, legend and caption no room is left for the panels on a ${fmt(Math.round(sizeMm.width))} × ${fmt(Math.round(sizeMm.height ?? (heightPx / dpi) * MM_PER_INCH))} mm page`,
     });
   }
 
@@ -498,9 +515,9 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     }
     const iw = k > 0 ? c.w * k : Math.ceil(c.w / r);
     const ih = k > 0 ? c.h * k : Math.ceil(c.h / r);
-    const row = Math.floor(i / cols);
     const col = i % cols;
-    const slot: PxRect = { x: m.left + col * (slotW + gap), y: m.top + row * (slotH + gap), width: slotW, height: slotH };
+    // y relative to the row's top for now: rows are packed once every panel's height is known
+    const slot: PxRect = { x: m.left + col * (slotW + gap), y: 0, width: slotW, height: slotH };
     const image: PxRect = { x: slot.x + Math.floor((slotW - iw) / 2), y: slot.y + labelBand, width: iw, height: ih };
     const pixelsPerCell = k > 0 ? k : 1 / r;
     const label = labels[i];
@@ -532,8 +549,46 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
       reduction: k > 0 ? 1 : r,
       pixelsPerCell,
       scaleBar,
+      legendRow: spec.legend ? legendRows.rowOf[i] : null,
     });
   });
+
+  // Each row is as tall as its tallest panel with its label and scale bar, so the legend and the
+  // caption follow the last scale bar directly; a fixed page keeps what is left as paper at the
+  // bottom. Rows no panel reaches take no room; a row whose panels could not be placed keeps its slot.
+  const rowUsed = Array.from({ length: rows }, (_, r) => (r * cols < spec.panels.length ? slotH : 0));
+  for (const r of new Set(panels.map((q) => Math.floor(q.index / cols)))) {
+    rowUsed[r] = Math.max(...panels.filter((q) => Math.floor(q.index / cols) === r).map((q) => labelBand + q.image.height + scaleBand));
+  }
+  const rowTop: number[] = [];
+  let gridBottom = m.top;
+  rowUsed.forEach((h, r) => {
+    if (r > 0 && h > 0) gridBottom += gap;
+    rowTop.push(gridBottom);
+    gridBottom += h;
+  });
+  for (const q of panels) {
+    const r = Math.floor(q.index / cols);
+    const dy = rowTop[r];
+    q.slot.y += dy;
+    q.slot.height = rowUsed[r];
+    q.image.y += dy;
+    if (q.labelAt) q.labelAt.y += dy;
+    if (q.scaleBar) {
+      q.scaleBar.bar.y += dy;
+      q.scaleBar.textAt.y += dy;
+    }
+  }
+  if (sizeMm.height === null) heightPx = gridBottom + legendBand + captionBand + m.bottom;
+  const heightMm = sizeMm.height ?? (heightPx / dpi) * MM_PER_INCH;
+  if (sizeMm.height === null && heightMm > MAX_PAGE_HEIGHT_MM) {
+    warnings.push({
+      code: 'size-not-met',
+      blocking: true,
+      message: `the size asked for cannot be met: at this column width the panels would make the page ${fmt(Math.round(heightMm))} mm tall (at most ${fmt(MAX_PAGE_HEIGHT_MM)} mm); choose a page height, a wider region or a fixed magnification`,
+    });
+  }
+  const content: PxRect = { x: m.left, y: m.top, width: contentW, height: heightPx - m.top - m.bottom };
 
   if (shared === 'rescaled' && fitIdx.length > 1) {
     const per = panels.filter((q) => fitIdx.includes(q.index)).map((q) => q.pixelsPerCell * Math.sqrt(Math.max(1, cells[q.index]!.run.chips)));
@@ -547,7 +602,6 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     }
   }
 
-  const gridBottom = m.top + rows * slotH + (rows - 1) * gap;
   const legend: PxRect | null = spec.legend ? { x: m.left, y: gridBottom + pt2px(spec.textPt * 0.8), width: contentW, height: legendBand - pt2px(spec.textPt * 0.8) } : null;
   const caption = spec.caption
     ? { x: m.left, y: gridBottom + legendBand + pt2px(captionFont * 0.8), width: contentW, height: captionBand - pt2px(captionFont * 0.8), text: spec.caption.text, fontPt: captionFont }

@@ -40,9 +40,10 @@ describe('page size', () => {
     const l = layout({ size: { kind: 'column', column: 'single' }, dpi: 600, margins: { top: 0, right: 0, bottom: 0, left: 0 }, legend: false, labels: 'none', panels: [{ runId: 'r' }] }, [run('r', 200)]);
     expect(l.page.widthPx).toBe(pixelsFor(90, 600));
     expect(l.page.widthPx).toBe(2126);
-    // a square run in a square slot: page as tall as wide, cells of floor(2126 / 200) = 10 px
-    expect(l.page.heightPx).toBe(2126);
+    // a square run in a 2126 px slot: cells of floor(2126 / 200) = 10 px, and the page as tall as
+    // the 2000 px panel they make (no band of paper under it)
     expect(l.panels[0].cellPx).toBe(10);
+    expect(l.page.heightPx).toBe(2000);
     expect(l.printable).toBe(true);
   });
 
@@ -132,6 +133,67 @@ describe('panels', () => {
     expect(panelLabelText(2, 'numbers')).toBe('(3)');
     expect(panelLabelText(0, 'none', 'A')).toBe('A');
     expect([0.19, 7, 25, 480].map(niceLength)).toEqual([0.1, 5, 20, 200]);
+  });
+});
+
+describe('scale bar, legend and caption', () => {
+  const bottomOfScaleText = (l: ReturnType<typeof layout>) => Math.max(...l.panels.map((p) => p.scaleBar!.textAt.y)) + textLine(l);
+  const textLine = (l: ReturnType<typeof layout>) => Math.ceil(((l.textPt * 1.25) / 72) * l.dpi);
+  const pt = (l: ReturnType<typeof layout>, v: number) => Math.round((v / 72) * l.dpi);
+  const spec = (size: FigureSpecInput['size'], extra: Partial<FigureSpecInput> = {}): FigureSpecInput => ({
+    size,
+    dpi: 300,
+    grid: { rows: 1, cols: 2 },
+    panels: [{ runId: 'r' }, { runId: 'r', layer: 'odometer' }],
+    scaleBar: { unit: 'lattice' },
+    caption: { text: 'Two views of one pile.' },
+    ...extra,
+  });
+
+  for (const [name, size] of [
+    ['an A4 page', { kind: 'paper', paper: 'A4' }],
+    ['a full-width column', { kind: 'column', column: 'full' }],
+  ] as const) {
+    it(`follow each other with only their own spacing on ${name}`, () => {
+      const l = layout(spec(size), [run('r', 61)]);
+      expect(l.printable).toBe(true);
+      // the legend starts 0.8 × the text size under the last scale-bar line, whatever room the page has left
+      expect(l.legend!.y - bottomOfScaleText(l)).toBe(pt(l, 8 * 0.8));
+      // two rows of three lines each and one gap between them: the band is exactly what is drawn
+      expect(l.legend!.height).toBe(2 * 3 * textLine(l) + pt(l, 8 * 0.6));
+      // the caption starts 0.8 × its own size under the legend
+      expect(l.caption!.y - (l.legend!.y + l.legend!.height)).toBe(pt(l, 9 * 0.8));
+      // a column page ends one margin under the caption; a paper page keeps the rest as paper below
+      const end = l.caption!.y + l.caption!.height + pixelsFor(10, 300);
+      if (size.kind === 'column') expect(l.page.heightPx).toBe(end);
+      else expect(l.page.heightPx).toBeGreaterThan(end);
+    });
+  }
+
+  it('packs rows to the panels they hold, on a fixed page too', () => {
+    // 2 × 2 on A4 with wide, short regions: each row is far shorter than half the page
+    const wide = { xMin: -30, xMax: 30, yMin: -5, yMax: 5 };
+    const l = layout(
+      { size: { kind: 'paper', paper: 'A4' }, dpi: 300, grid: { rows: 2, cols: 2 }, scaleBar: { unit: 'lattice' }, panels: [0, 1, 2, 3].map(() => ({ runId: 'r', region: wide })) },
+      [run('r', 61)],
+    );
+    const [a, , c] = l.panels;
+    // the second row's label starts one grid gap (4 mm) under the first row's scale-bar line
+    expect(c.labelAt!.y - (a.scaleBar!.textAt.y + textLine(l))).toBe(pixelsFor(4, 300));
+    expect(c.slot.y).toBe(a.slot.y + a.slot.height + pixelsFor(4, 300));
+  });
+
+  it('gives panels of one run, slice, layer and style one legend row, and others their own', () => {
+    const l = layout(
+      {
+        size: { kind: 'paper', paper: 'A4' },
+        grid: { rows: 2, cols: 2 },
+        panels: [{ runId: 'r' }, { runId: 'r', region: { xMin: 0, xMax: 5, yMin: 0, yMax: 5 } }, { runId: 's' }, { runId: 'r', palette: 'kiln' }],
+      },
+      [run('r', 61), run('s', 61)],
+    );
+    expect(l.panels.map((p) => p.legendRow)).toEqual([0, 0, 1, 2]);
+    expect(layout({ size: { kind: 'paper', paper: 'A4' }, legend: false, panels: [{ runId: 'r' }] }, [run('r', 61)]).panels[0].legendRow).toBeNull();
   });
 });
 

@@ -157,6 +157,22 @@ describe('text in the PNG and TIFF', () => {
     expect(all).toContain('10 lattice units');
   });
 
+  it('fills the legend band to its last line: swatch rows carry their labels under the swatches', async () => {
+    for (const spec of [indexedSpec, rgbSpec]) {
+      const path = join(dir, 'legend-band.png');
+      const { layout: l } = await renderPrint(spec, runs(), { png: path });
+      const img = await decodeRgb(path);
+      const band = l.legend!;
+      const line = Math.ceil(((l.textPt * 1.25) / POINTS_PER_INCH) * l.dpi);
+      // the band's last line (labels of the last row) has ink: no empty reserved line before the caption
+      expect(countInk(img, { x: band.x, y: band.y + band.height - line, width: band.width, height: line })).toBeGreaterThan(100);
+      // and nothing is drawn between the band and the caption, nor between the last scale bar and the band
+      const lastBar = Math.max(...l.panels.map((p) => p.scaleBar!.textAt.y)) + line;
+      expect(countInk(img, { x: 0, y: lastBar, width: img.width, height: band.y - lastBar })).toBe(0);
+      expect(countInk(img, { x: 0, y: band.y + band.height, width: img.width, height: l.caption!.y - band.y - band.height })).toBe(0);
+    }
+  });
+
   it('wraps a caption into lines that fit, in order, and marks a cut with an ellipsis', () => {
     const text = `${caption}\nSecond paragraph: Work Sans, ${'unbreakable'.repeat(12)} and the end.`;
     const width = 200;
