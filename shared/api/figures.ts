@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { CAPTION_MAX_CHARS, figureSpecSchema } from '../print.js';
+import { backgroundSchema } from '../run-spec.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';
 
 /** Permanent-link slugs: lower-case words joined by hyphens. */
@@ -28,6 +29,8 @@ export const figureSchema = z.object({
   lattice: z.string(),
   /** the background kind from the run spec: constant, checkerboard, motif, random, annuli, array */
   background: z.string(),
+  /** the same background with the parameters that define it (a reader needs the height, not just "constant") */
+  backgroundSpec: backgroundSchema,
   chips: z.number().int().min(0),
   /** null while unpublished (only lab members see those) */
   publishedAt: isoDateSchema.nullable(),

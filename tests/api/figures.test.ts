@@ -270,6 +270,8 @@ describe('ordering, publishing and withdrawing', () => {
         .expect(200)
         .then((r) => listFiguresResponseSchema.parse(r.body).figures.filter((f) => f.slug === slug));
     expect(await mine('')).toHaveLength(1);
+    // the entry names the background with its value, not only its kind
+    expect((await mine(''))[0]!.backgroundSpec).toEqual({ kind: 'constant', height: 0 });
     expect(await mine('?lattice=square&background=constant&nMin=16&nMax=16')).toHaveLength(1);
     expect(await mine('?lattice=triangular')).toHaveLength(0);
     expect(await mine('?background=checkerboard')).toHaveLength(0);
@@ -298,6 +300,16 @@ describe('ordering, publishing and withdrawing', () => {
     expect(await found('?lattice=square&background=checkerboard&nMin=16&nMax=16')).toBe(true);
     expect(await found('?background=checkerboard&nMin=17')).toBe(false);
     expect(await found('?background=random')).toBe(false);
+    // the page of a figure whose first panel is on the checkerboard gives both of its heights to readers
+    const checkered = detail(
+      (await as(h.http.post('/api/figures'), author).send({ labId, title: `Checkered ${h.tag}`, spec: spec(runChecker) }).expect(201)).body,
+    );
+    await as(h.http.post(`/api/figures/${checkered.slug}/versions`), author).send({}).expect(202);
+    await markReady(h, checkered.id, 1);
+    await as(h.http.post(`/api/figures/${checkered.slug}/publish`), author).expect(200);
+    const read = detail((await h.http.get(`/api/figures/${checkered.slug}`).expect(200)).body);
+    expect([read.background, read.backgroundSpec]).toEqual(['checkerboard', { kind: 'checkerboard', a: 0, b: 1 }]);
+    await as(h.http.post(`/api/figures/${checkered.slug}/unpublish`), author).expect(200);
     const list = listFiguresResponseSchema.parse((await h.http.get('/api/figures?background=checkerboard').expect(200)).body);
     // the count follows the same filter as the page (other test files may publish figures too)
     if (list.figures.length < FIGURES_PAGE_SIZE) expect(list.total).toBe(list.figures.length);

@@ -93,7 +93,8 @@ describe('series', () => {
     expect(res.status).toBe(201);
     const { series } = seriesResponseSchema.parse(res.body);
     expect(series.runs.map((r) => r.spec.chips)).toEqual([10_000, 40_000, 100_000, 1_000_000]);
-    expect(series.runs.map((r) => r.title)).toEqual(['Square scaling · n = 10^4', 'Square scaling · n = 40,000', 'Square scaling · n = 10^5', 'Square scaling · n = 10^6']);
+    // powers of ten with real superscripts, as every page writes them (the viewer shows these titles)
+    expect(series.runs.map((r) => r.title)).toEqual(['Square scaling · n = 10⁴', 'Square scaling · n = 40,000', 'Square scaling · n = 10⁵', 'Square scaling · n = 10⁶']);
     expect(new Set(series.runs.map((r) => r.seriesId))).toEqual(new Set([series.id]));
     for (const r of series.runs) {
       expect(r.spec).toEqual({ lattice: { preset: 'square' }, chips: r.spec.chips, sources: [], background: { kind: 'constant', height: 0 } });

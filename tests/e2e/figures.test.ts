@@ -157,6 +157,11 @@ describe('figures in the browser', () => {
     // published: the run is cited by the figure's permanent link, and the entry is shown whole
     await page.goto(`/runs/${runId}/view`);
     await page.getByTestId('run-link-public').waitFor();
+    // the viewer writes n as the other pages do: 1,000 (10³) with a real superscript
+    const grains = page.getByTestId('viewer-grains');
+    expect(await grains.innerHTML()).toMatch(/\(10<sup[^>]*>3<\/sup>\)/);
+    // as text the superscript 3 follows the 10 directly, with no caret
+    expect(await grains.textContent()).toContain('n = 1,000 (103) grains');
     const runBib = page.getByTestId('run-bibtex');
     const cited = /\\url\{([^}]+)\}/.exec((await runBib.textContent()) ?? '')?.[1];
     expect(cited).toBe(`${stack.url}/f/a-thousand-grains-on-z2`);
@@ -169,6 +174,8 @@ describe('figures in the browser', () => {
     await reader.goto('/f/a-thousand-grains-on-z2');
     await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
+    // the background with its value (the run's spec: constant height 0), not only its kind
+    await reader.getByText('constant 0', { exact: true }).waitFor();
     await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2,/);
     expect(await reader.getByTestId('bibtex').evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
     // the run's citation opens for this reader without an account
@@ -179,6 +186,7 @@ describe('figures in the browser', () => {
     await screenshot(reader, 'figures-reader');
     await reader.goto('/figures');
     await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
+    await reader.getByText('constant 0', { exact: true }).waitFor();
 
     // the author withdraws it; the link keeps answering, saying so
     await page.getByRole('button', { name: 'Unpublish' }).click();

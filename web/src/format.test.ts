@@ -1,11 +1,20 @@
 import { describe, expect, test } from 'vitest';
 import fc from 'fast-check';
 import { format as mathFormat } from 'mathjs';
-import { estimateSecondsLeft, formatCountText, formatDuration, formatElapsed, formatPercent, groupThousands, powerOfTen } from './format.js';
+import { estimateSecondsLeft, formatCountText, formatDuration, formatElapsed, formatPercent, groupThousands, powerOfTen, superscriptDigits } from './format.js';
 
 describe('exact number display', () => {
-  test('the brief’s own worked example: one million reads "1,000,000 (10^6)"', () => {
-    expect(formatCountText(1_000_000)).toBe('1,000,000 (10^6)');
+  test('the brief’s own worked example: one million reads "1,000,000 (10^6)", the power as a real superscript', () => {
+    expect(formatCountText(1_000_000)).toBe('1,000,000 (10⁶)');
+    expect(formatCountText(2_500_000)).toBe('2,500,000 (2.5 × 10⁶)');
+    expect(formatCountText(10n ** 20n)).toBe('100,000,000,000,000,000,000 (10²⁰)');
+    expect(formatCountText(123_456)).not.toContain('^');
+  });
+
+  test('superscript digits for exponents where markup cannot go', () => {
+    expect(superscriptDigits(0)).toBe('⁰');
+    expect(superscriptDigits(1234567890)).toBe('¹²³⁴⁵⁶⁷⁸⁹⁰');
+    expect(superscriptDigits(-12)).toBe('⁻¹²');
   });
 
   test('thousands grouping stays exact beyond 2^53 with bigint', () => {

@@ -3,43 +3,10 @@
  * Pure functions, so the same rules hold in tables, headings and tests.
  */
 
-const grouped = new Intl.NumberFormat('en-US', { maximumFractionDigits: 0, useGrouping: true });
+import { groupThousands } from '../../shared/counts.js';
 
-/** 1234567 -> "1,234,567". Integers only; bigint keeps counts beyond 2^53 exact. */
-export function groupThousands(n: number | bigint): string {
-  if (typeof n === 'number' && !Number.isFinite(n)) return String(n);
-  return grouped.format(n);
-}
-
-export interface PowerOfTen {
-  /** decimal mantissa written exactly, e.g. "2.5"; "1" for an exact power of ten */
-  mantissa: string;
-  exponent: number;
-}
-
-/**
- * Scientific form written from the integer's digits, so no rounding ever creeps in:
- * 1000000 -> { mantissa: "1", exponent: 6 }, 2500000 -> { mantissa: "2.5", exponent: 6 }.
- * Returns null for |n| < 1000, where the plain number says it all.
- */
-export function powerOfTen(n: number | bigint): PowerOfTen | null {
-  if (typeof n === 'number' && (!Number.isInteger(n))) return null;
-  const negative = n < 0;
-  const digits = (negative ? -BigInt(n) : BigInt(n)).toString();
-  if (digits.length < 4) return null;
-  const exponent = digits.length - 1;
-  const rest = digits.slice(1).replace(/0+$/, '');
-  const mantissa = (negative ? '-' : '') + digits[0] + (rest ? `.${rest}` : '');
-  return { mantissa, exponent };
-}
-
-/** Plain-text form, e.g. "1,000,000 (10^6)" or "2,500,000 (2.5 × 10^6)"; used for titles and copy. */
-export function formatCountText(n: number | bigint): string {
-  const p = powerOfTen(n);
-  if (!p) return groupThousands(n);
-  const power = p.mantissa === '1' ? `10^${p.exponent}` : `${p.mantissa} × 10^${p.exponent}`;
-  return `${groupThousands(n)} (${power})`;
-}
+// the count rules live in shared/ so API-made titles follow them too; re-exported for the pages
+export { formatCountText, groupThousands, powerOfTen, superscriptDigits, type PowerOfTen } from '../../shared/counts.js';
 
 /** "1 grain", "2 grains": units are always named. */
 export function withUnit(n: number | bigint, singular: string, plural = `${singular}s`): string {

@@ -37,21 +37,38 @@ export function backgroundKindName(kind: string): string {
   return BACKGROUND_NAMES[kind] ?? kind;
 }
 
-/** One line describing the background, e.g. "checkerboard 3 / 1" or "random i.i.d., seed 7". */
+/** Motifs of at most this many cells are written out; larger ones by their size alone. */
+const MOTIF_CELLS_WRITTEN = 16;
+/** Random backgrounds over at most this many heights list their weights. */
+const WEIGHTS_WRITTEN = 8;
+const weightFormat = new Intl.NumberFormat('en-US', { maximumSignificantDigits: 4 });
+
+/**
+ * One short line with the parameters that define the background, e.g. "constant 2",
+ * "checkerboard 3 / 1", "periodic motif 2×2 [0 1; 2 3]" or "random i.i.d. 0–2, weights 1 : 2 : 1, seed 7".
+ */
 export function backgroundOfSpec(b: Background): string {
   switch (b.kind) {
     case 'constant':
       return `constant ${b.height}`;
     case 'checkerboard':
       return `checkerboard ${b.a} / ${b.b}`;
-    case 'motif':
-      return `periodic motif ${b.cells[0]?.length ?? 0}×${b.cells.length}`;
-    case 'random':
-      return `random i.i.d., seed ${b.seed}`;
+    case 'motif': {
+      const size = `${b.cells[0]?.length ?? 0}×${b.cells.length}`;
+      const count = b.cells.reduce((n, row) => n + row.length, 0);
+      return count <= MOTIF_CELLS_WRITTEN ? `periodic motif ${size} [${b.cells.map((row) => row.join(' ')).join('; ')}]` : `periodic motif ${size}`;
+    }
+    case 'random': {
+      const top = b.weights.length - 1;
+      const heights = top === 0 ? 'heights 0' : `heights 0–${top}`;
+      const weights = b.weights.length > 1 && b.weights.length <= WEIGHTS_WRITTEN ? `, weights ${b.weights.map((w) => weightFormat.format(w)).join(' : ')}` : '';
+      return `random i.i.d. ${heights}${weights}, seed ${b.seed}`;
+    }
     case 'annuli':
       return `annuli ${b.a} / ${b.b}`;
     case 'array':
-      return `uploaded array ${b.shape.join('×')}`;
+      // the content hash names the upload; its first digits are enough to tell two apart
+      return `uploaded array ${b.shape.join('×')}, sha256 ${b.sha256.slice(0, 8)}…`;
   }
 }
 

@@ -44,6 +44,7 @@ export function labFigureView({ figure, run, labName, author, creator, latestVer
     runId: run.id,
     lattice: latticeLabel(run.spec),
     background: run.spec.background.kind,
+    backgroundSpec: run.spec.background,
     chips: run.spec.chips,
     publishedAt: iso(figure.publishedAt),
     withdrawnAt: iso(figure.withdrawnAt),

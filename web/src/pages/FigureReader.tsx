@@ -2,7 +2,7 @@ import { lazy, Suspense } from 'react';
 import { Link, useParams } from 'react-router';
 import { useFigure, useRunJson, useViewDrawn } from '../api/queries.js';
 import { isStatus } from '../api/ApiError.js';
-import { backgroundKindName, latticeName } from '../labels.js';
+import { backgroundOfSpec, latticeName } from '../labels.js';
 import { formatDate } from '../format.js';
 import { CitationBlock, Count, EmptyState, ErrorPanel, FactList, LinkButton, Notice, Section, SkeletonBlock } from '../ui/index.js';
 import { figureBibtex } from './citation.js';
@@ -93,7 +93,7 @@ export function FigureReader() {
             items={[
               { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
               { term: 'Lattice', value: latticeName(f.lattice) },
-              { term: 'Background', value: backgroundKindName(f.background) },
+              { term: 'Background', value: backgroundOfSpec(f.backgroundSpec) },
               { term: 'Published', value: formatDate(f.publishedAt) },
             ]}
           />

@@ -1,17 +1,14 @@
 import { Link, useSearchParams } from 'react-router';
 import { useFigures, useMe } from '../api/queries.js';
 import { FIGURES_PAGE_SIZE, LATTICE_PRESETS, type Figure } from '../api/contract.js';
-import { backgroundKindName, latticeName } from '../labels.js';
-import { formatDate } from '../format.js';
+import { backgroundKindName, backgroundOfSpec, latticeName } from '../labels.js';
+import { formatDate, superscriptDigits } from '../format.js';
 import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, SelectField, SkeletonTable } from '../ui/index.js';
 
 const BACKGROUND_KINDS = ['constant', 'checkerboard', 'motif', 'random', 'annuli', 'array'] as const;
 
 /** Grain counts by decade, the way piles are compared: 10^k ≤ n < 10^(k+1). */
-const N_BANDS = [2, 3, 4, 5, 6, 7, 8, 9].map((k) => ({ value: String(k), label: k === 9 ? 'n ≥ 10⁹' : `10${sup(k)} ≤ n < 10${sup(k + 1)}`, nMin: 10 ** k, nMax: k === 9 ? undefined : 10 ** (k + 1) - 1 }));
-function sup(k: number): string {
-  return String(k).replace(/\d/g, (d) => '⁰¹²³⁴⁵⁶⁷⁸⁹'[Number(d)]!);
-}
+const N_BANDS = [2, 3, 4, 5, 6, 7, 8, 9].map((k) => ({ value: String(k), label: k === 9 ? 'n ≥ 10⁹' : `10${superscriptDigits(k)} ≤ n < 10${superscriptDigits(k + 1)}`, nMin: 10 ** k, nMax: k === 9 ? undefined : 10 ** (k + 1) - 1 }));
 
 export function FiguresIndex() {
   const [params, setParams] = useSearchParams();
@@ -106,7 +103,7 @@ function FigureEntry({ figure: f }: { figure: Figure }) {
         <dt className="text-ink-faint">lattice</dt>
         <dd className="text-ink">{latticeName(f.lattice)}</dd>
         <dt className="text-ink-faint">background</dt>
-        <dd className="text-ink">{backgroundKindName(f.background)}</dd>
+        <dd className="text-ink">{backgroundOfSpec(f.backgroundSpec)}</dd>
         <dt className="text-ink-faint">published</dt>
         <dd className="text-ink">{formatDate(f.publishedAt)}</dd>
       </dl>

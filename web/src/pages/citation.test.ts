@@ -11,6 +11,7 @@ const figure: Figure = {
   runId: '1f2e3d4c-5b6a-4789-8abc-def012345678',
   lattice: 'honeycomb',
   background: 'constant',
+  backgroundSpec: { kind: 'constant', height: 0 },
   chips: 50_000,
   publishedAt: '2026-11-30T12:00:00.000Z',
   authors: ['Maren Tollis', 'Perrin Ashcombe'],

@@ -1,14 +1,13 @@
 import { CartesianGrid, Legend, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis } from 'recharts';
-import { formatCountText } from '../format.js';
+import { formatCountText, superscriptDigits } from '../format.js';
 import { INK } from './RunPlots.js';
 import { decadeTicks, sqrtFit, type RadiusPoint } from './plotData.js';
 
 const tick = { fontSize: 11, fill: INK.soft };
-const SUPERSCRIPT = '⁰¹²³⁴⁵⁶⁷⁸⁹';
 /** 1000 → "10³": SVG tick text cannot hold <sup>, so the exponent is written in superscript digits. */
 export const powerLabel = (v: number) => {
   const e = Math.round(Math.log10(v));
-  return Math.abs(10 ** e - v) < 1e-9 * v ? `10${String(e).replace(/\d/g, (d) => SUPERSCRIPT[Number(d)]!)}` : v.toLocaleString('en-US');
+  return Math.abs(10 ** e - v) < 1e-9 * v ? `10${superscriptDigits(e)}` : v.toLocaleString('en-US');
 };
 
 /** Radius of the toppled region against n on log-log axes, with the reference line c·√n fitted through the points. */

@@ -4,9 +4,11 @@ import { groupThousands, powerOfTen } from '../format.js';
  * An exact count: "1,000,000 (10⁶)" with a real superscript, followed by its unit when given.
  * The power of ten appears only from 1,000 up, where it helps a reader judge scale at a glance.
  */
-export function Count({ n, unit, showPower = true, stacked = false }: { n: number | bigint; unit?: string; showPower?: boolean; stacked?: boolean }) {
+export function Count({ n, unit, showPower = true, stacked = false, dark = false }: { n: number | bigint; unit?: string; showPower?: boolean; stacked?: boolean; dark?: boolean }) {
   const p = showPower ? powerOfTen(n) : null;
-  const unitText = unit ? <span className="text-ink-soft"> {unit}</span> : null;
+  // on the dark ground the surrounding text is already the quiet tone: unit and power inherit it
+  const soft = dark ? undefined : 'text-ink-soft';
+  const unitText = unit ? <span className={soft}> {unit}</span> : null;
   return (
     <span className="tnum whitespace-nowrap">
       {groupThousands(n)}
@@ -14,7 +16,7 @@ export function Count({ n, unit, showPower = true, stacked = false }: { n: numbe
       {stacked ? unitText : null}
       {p ? (
         // stacked: the power of ten on its own line, for narrow table columns
-        <span className={stacked ? 'block text-xs text-ink-soft' : 'text-ink-soft'}>
+        <span className={stacked ? `block text-xs ${soft ?? ''}` : soft}>
           {stacked ? '(' : ' ('}
           {p.mantissa === '1' ? null : <>{p.mantissa} × </>}
           10<sup className="text-[0.7em]">{p.exponent}</sup>

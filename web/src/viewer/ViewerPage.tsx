@@ -1,8 +1,7 @@
 import { Link, useParams, useSearchParams } from 'react-router';
 import { useLabFigures, useRun, useRunJson, useRuns } from '../api/queries.js';
-import { formatCountText } from '../format.js';
 import { runBibtex, runLink } from '../pages/citation.js';
-import { CitationBlock } from '../ui/index.js';
+import { CitationBlock, Count } from '../ui/index.js';
 import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
@@ -122,7 +121,7 @@ export function ViewerPage() {
               <span className="text-white/60">specification, engine version, statistics, hashes</span>
             </li>
           </ul>
-          {r ? <p className="mt-4 text-white/60">n = {formatCountText(r.spec.chips)} grains · lattice coordinates are relative to the origin, y growing downward as in the array.</p> : null}
+          {r ? <p className="mt-4 text-white/60" data-testid="viewer-grains">n = <Count n={r.spec.chips} unit="grains" dark /> · lattice coordinates are relative to the origin, y growing downward as in the array.</p> : null}
         </div>
         <div>
           <h2 className="mb-3 text-base font-semibold">Cite this run</h2>

@@ -1,0 +1,53 @@
+/**
+ * Exact counts written for people: thousands grouped, large counts also as a power of ten with a
+ * real superscript. Shared so the web pages and the API's generated titles (series runs) write them
+ * alike; pure functions, so the same rules hold in tables, headings, titles and tests.
+ */
+
+const grouped = new Intl.NumberFormat('en-US', { maximumFractionDigits: 0, useGrouping: true });
+
+/** 1234567 -> "1,234,567". Integers only; bigint keeps counts beyond 2^53 exact. */
+export function groupThousands(n: number | bigint): string {
+  if (typeof n === 'number' && !Number.isFinite(n)) return String(n);
+  return grouped.format(n);
+}
+
+export interface PowerOfTen {
+  /** decimal mantissa written exactly, e.g. "2.5"; "1" for an exact power of ten */
+  mantissa: string;
+  exponent: number;
+}
+
+/**
+ * Scientific form written from the integer's digits, so no rounding ever creeps in:
+ * 1000000 -> { mantissa: "1", exponent: 6 }, 2500000 -> { mantissa: "2.5", exponent: 6 }.
+ * Returns null for |n| < 1000, where the plain number says it all.
+ */
+export function powerOfTen(n: number | bigint): PowerOfTen | null {
+  if (typeof n === 'number' && (!Number.isInteger(n))) return null;
+  const negative = n < 0;
+  const digits = (negative ? -BigInt(n) : BigInt(n)).toString();
+  if (digits.length < 4) return null;
+  const exponent = digits.length - 1;
+  const rest = digits.slice(1).replace(/0+$/, '');
+  const mantissa = (negative ? '-' : '') + digits[0] + (rest ? `.${rest}` : '');
+  return { mantissa, exponent };
+}
+
+const SUPERSCRIPT_DIGITS = '⁰¹²³⁴⁵⁶⁷⁸⁹';
+
+/** 6 -> "⁶", -12 -> "⁻¹²": exponents where markup cannot go (SVG ticks, option labels, tooltips). */
+export function superscriptDigits(k: number): string {
+  return String(k).replace(/\d/g, (d) => SUPERSCRIPT_DIGITS[Number(d)]!).replace('-', '⁻');
+}
+
+/**
+ * Plain-text form, e.g. "1,000,000 (10⁶)" or "2,500,000 (2.5 × 10⁶)", for titles and copy; in markup
+ * `ui/Count` writes the same with a <sup>. Both superscript, so no page reads "10^6".
+ */
+export function formatCountText(n: number | bigint): string {
+  const p = powerOfTen(n);
+  if (!p) return groupThousands(n);
+  const power = `10${superscriptDigits(p.exponent)}`;
+  return `${groupThousands(n)} (${p.mantissa === '1' ? power : `${p.mantissa} × ${power}`})`;
+}
