@@ -154,6 +154,27 @@ describe('figures in the browser', () => {
     await page.getByRole('button', { name: 'Publish' }).click();
     await page.getByText('Anyone with the link can read').waitFor();
 
+    // the viewer's toolbar keeps one row at common laptop widths, even with a second pane and its lock,
+    // and the panes with their legends stay on the screen
+    for (const width of [1280, 1024]) {
+      await page.setViewportSize({ width, height: 800 });
+      await page.goto(`/runs/${runId}/view?with=layer:odometer`);
+      const controls = [page.getByRole('link', { name: /A thousand grains for print/ }), page.getByLabel('Layer'), page.getByLabel('Palette'), page.getByLabel('Beside it'), page.getByLabel('Lock'), page.getByRole('button', { name: 'Whole pile' }), page.getByRole('button', { name: 'Origin, single cells' }), page.getByRole('button', { name: 'PNG of this view' })];
+      await controls[4]!.waitFor();
+      const boxes = await Promise.all(controls.map(async (c) => (await c.boundingBox())!));
+      const middle = (b: { y: number; height: number }) => b.y + b.height / 2;
+      for (const [i, b] of boxes.entries()) {
+        expect(Math.abs(middle(b) - middle(boxes[0]!)), `control ${i} at ${width} px`).toBeLessThan(4);
+        if (i > 0) expect(b.x, `control ${i} at ${width} px`).toBeGreaterThanOrEqual(boxes[i - 1]!.x + boxes[i - 1]!.width);
+      }
+      expect(boxes.at(-1)!.x + boxes.at(-1)!.width).toBeLessThanOrEqual(width);
+      const legend = page.getByText('final height', { exact: true }).first();
+      await legend.waitFor();
+      expect((await legend.boundingBox())!.y + 20).toBeLessThanOrEqual(800);
+      await screenshot(page, `figures-viewer-toolbar-${width}`);
+    }
+    await page.setViewportSize({ width: 1280, height: 800 });
+
     // published: the run is cited by the figure's permanent link, and the entry is shown whole
     await page.goto(`/runs/${runId}/view`);
     await page.getByTestId('run-link-public').waitFor();

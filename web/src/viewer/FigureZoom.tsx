@@ -43,7 +43,7 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
               </option>
             ))}
           </DarkSelect>
-          <DarkSelect label="Beside it" value={beside} onChange={(e) => setBeside(e.target.value as DrawnLayer | '')}>
+          <DarkSelect label="Beside it" shrink value={beside} onChange={(e) => setBeside(e.target.value as DrawnLayer | '')}>
             <option value="">nothing</option>
             {drawn.layers.filter((l) => l !== layer).map((l) => (
               <option key={l} value={l}>
@@ -51,8 +51,9 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
               </option>
             ))}
           </DarkSelect>
-          <span className="ml-3 text-white/60">
-            Download{' '}
+          <span className="whitespace-nowrap text-white/60">
+            {/* the word gives way below 1280 px so the row keeps one line; the links say what they are */}
+            <span className="sr-only xl:not-sr-only">Download </span>
             <a className="text-sky-300" href={arrayUrl(base, 'heights.npy')} download>
               heights.npy
             </a>{' '}

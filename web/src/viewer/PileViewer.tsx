@@ -39,7 +39,7 @@ function geometryOf(run: RunJson): RunGeometry {
  * lattice units (the same cell under the same screen point) or rescaled by √n (the same x/√n), so a
  * run can be compared with another layer of itself or with another run.
  */
-export function PileViewer({ panes, lock, toolbar, height = 'h-[calc(100vh-3.5rem)]' }: { panes: PaneSpec[]; lock: Lock; toolbar?: ReactNode; height?: string }) {
+export function PileViewer({ panes, lock, toolbar, height = 'h-screen' }: { panes: PaneSpec[]; lock: Lock; toolbar?: ReactNode; height?: string }) {
   const states = useRef<(PaneState | null)[]>([]);
   const leader = useRef(0);
   const syncing = useRef(false);
@@ -97,21 +97,29 @@ export function PileViewer({ panes, lock, toolbar, height = 'h-[calc(100vh-3.5re
   };
 
   return (
-    <div className="flex flex-col bg-night text-white">
-      <div className="flex flex-wrap items-center gap-2 border-b border-white/10 px-4 py-2 text-xs">
-        {toolbar}
-        <span className="ml-auto" />
-        <DarkButton onClick={home}>Whole pile</DarkButton>
-        <DarkButton onClick={closeUp}>Origin, single cells</DarkButton>
-        <DarkButton onClick={() => zoomBy(2)} aria-label="zoom in">
-          +
-        </DarkButton>
-        <DarkButton onClick={() => zoomBy(0.5)} aria-label="zoom out">
-          −
-        </DarkButton>
-        <DarkButton onClick={() => void savePng()}>PNG of this view</DarkButton>
+    // the panes take what the toolbar leaves of `height`, so a toolbar on two rows never pushes them out of view
+    <div className={`flex flex-col bg-night text-white ${height}`}>
+      {/* one row from 1024 px up (long titles and run names shrink first), two clean groups below */}
+      <div className="flex flex-wrap items-center gap-x-4 gap-y-2 border-b border-white/10 px-4 py-2 text-xs lg:flex-nowrap">
+        {toolbar ? <div className="flex min-w-0 flex-wrap items-center gap-x-3 gap-y-2 lg:flex-nowrap">{toolbar}</div> : null}
+        <div className="ml-auto flex shrink-0 items-center gap-1.5">
+          <DarkButton onClick={home}>Whole pile</DarkButton>
+          {/* short visible words; the full name stays the button's accessible name and tooltip */}
+          <DarkButton onClick={closeUp} title="Origin, single cells" aria-label="Origin, single cells">
+            Origin
+          </DarkButton>
+          <DarkButton onClick={() => zoomBy(2)} aria-label="zoom in">
+            +
+          </DarkButton>
+          <DarkButton onClick={() => zoomBy(0.5)} aria-label="zoom out">
+            −
+          </DarkButton>
+          <DarkButton onClick={() => void savePng()} title="PNG of this view" aria-label="PNG of this view">
+            PNG
+          </DarkButton>
+        </div>
       </div>
-      <div className={`grid ${panes.length > 1 ? 'grid-cols-2' : 'grid-cols-1'} gap-px bg-white/10 ${height}`}>
+      <div className={`grid min-h-0 flex-1 ${panes.length > 1 ? 'grid-cols-2' : 'grid-cols-1'} gap-px bg-white/10`}>
         {panes.map((p, i) => (
           <Pane
             key={`${i}:${JSON.stringify(p.base)}:${p.layer}:${p.palette}`}
@@ -245,11 +253,12 @@ export function DarkButton({ children, className = '', ...rest }: React.ButtonHT
   );
 }
 
-export function DarkSelect({ label, children, ...rest }: React.SelectHTMLAttributes<HTMLSelectElement> & { label: string }) {
+/** A labelled select of the dark toolbar; `shrink` lets it give up width first (long run names) when the row is full. */
+export function DarkSelect({ label, children, shrink = false, ...rest }: React.SelectHTMLAttributes<HTMLSelectElement> & { label: string; shrink?: boolean }) {
   return (
-    <label className="flex items-center gap-1.5 text-white/70">
+    <label className={`flex items-center gap-1.5 whitespace-nowrap text-white/70 ${shrink ? 'min-w-0' : 'shrink-0'}`}>
       {label}
-      <select className="max-w-56 rounded border border-white/20 bg-night px-2 py-1 text-xs text-white" {...rest}>
+      <select className={`${shrink ? 'min-w-24' : ''} max-w-56 rounded border border-white/20 bg-night py-1 pl-2 pr-1 text-xs text-white`} {...rest}>
         {children}
       </select>
     </label>

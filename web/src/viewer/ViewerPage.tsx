@@ -48,8 +48,10 @@ export function ViewerPage() {
 
   const toolbar = (
     <>
-      <Link to={`/runs/${id}`} className="mr-2 max-w-64 truncate text-white/70 no-underline hover:text-white" title={title}>
-        ← {title}
+      {/* below 1280 px the arrow alone (the panes name the run), leaving the row to the choices */}
+      <Link to={`/runs/${id}`} className="min-w-0 max-w-64 shrink-0 truncate text-white/70 no-underline hover:text-white xl:shrink" title={title}>
+        ← <span className="hidden xl:inline">{title}</span>
+        <span className="sr-only xl:hidden">{title}</span>
       </Link>
       <DarkSelect label="Layer" value={layer} onChange={(e) => set({ layer: e.target.value })}>
         {drawn.layers.map((l) => (
@@ -65,7 +67,7 @@ export function ViewerPage() {
           </option>
         ))}
       </DarkSelect>
-      <DarkSelect label="Beside it" value={compare} onChange={(e) => set({ with: e.target.value, lock: null })}>
+      <DarkSelect label="Beside it" shrink value={compare} onChange={(e) => set({ with: e.target.value, lock: null })}>
         <option value="">nothing</option>
         {drawn.layers.filter((l) => l !== layer).map((l) => (
           <option key={l} value={`layer:${l}`}>

@@ -15,8 +15,8 @@ import {
 } from '../../../../shared/print.js';
 import type { FigureDetail, Run } from '../../api/contract.js';
 import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';
-import { latticeName } from '../../labels.js';
-import { Button, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
+import { latticeOfSpec } from '../../labels.js';
+import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 
@@ -127,7 +127,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 </Button>
                 <TextField label="Grid rows" type="number" min={1} max={8} value={spec.grid?.rows ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, rows: Number(e.target.value) } })} fieldClassName="w-24" />
                 <TextField label="Grid columns" type="number" min={1} max={8} value={spec.grid?.cols ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, cols: Number(e.target.value) } })} fieldClassName="w-28" />
-                <SelectField label="Shared scale" value={spec.grid?.sharedScale ?? 'none'} onChange={(e) => setSpec({ grid: { ...spec.grid, sharedScale: e.target.value as 'none' } })} fieldClassName="w-56">
+                <SelectField label="Shared scale" value={spec.grid?.sharedScale ?? 'none'} onChange={(e) => setSpec({ grid: { ...spec.grid, sharedScale: e.target.value as 'none' } })}>
                   <option value="none">none: each panel fills its place</option>
                   <option value="lattice">the same lattice unit</option>
                   <option value="rescaled">the same rescaled unit x/√n</option>
@@ -137,7 +137,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
           </Section>
 
           <Section title="Size and resolution">
-            <div className="grid grid-cols-3 gap-4">
+            {/* two columns: at three, options such as "journal column width" were cut beside the proof */}
+            <div className="grid grid-cols-2 gap-4">
               <SelectField
                 label="Size"
                 value={size.kind}
@@ -147,8 +148,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                   })
                 }
               >
-                <option value="column">journal column width</option>
-                <option value="paper">paper size (ISO A, US)</option>
+                <option value="column">journal column</option>
+                <option value="paper">paper (ISO A, US)</option>
                 <option value="custom">custom size</option>
               </SelectField>
               {size.kind === 'paper' ? (
@@ -210,11 +211,19 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 <option value="none">none</option>
               </SelectField>
             </div>
-            <div className="mt-4 grid grid-cols-4 gap-4">
+            <p className="mt-4 text-sm font-medium text-ink">Margins (mm)</p>
+            <div className="mt-1.5 grid grid-cols-4 gap-4">
               {(['top', 'right', 'bottom', 'left'] as const).map((side) => (
                 <TextField
                   key={side}
-                  label={`Margin ${side} (mm)`}
+                  // one short word on screen, so the four fields line up; the whole name for assistive technology
+                  label={
+                    <>
+                      <span className="sr-only">Margin </span>
+                      {side[0]!.toUpperCase() + side.slice(1)}
+                      <span className="sr-only"> (mm)</span>
+                    </>
+                  }
                   type="number"
                   min={0}
                   step="any"
@@ -288,10 +297,24 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
     <fieldset className="rounded-lg border border-rule-soft px-4 pb-4 pt-2" data-testid={`panel-${index}`}>
       <legend className="px-1 text-sm font-semibold text-ink">Panel {index + 1}</legend>
       <div className="grid grid-cols-2 gap-4">
-        <SelectField label="Run" value={panel.runId} onChange={(e) => onChange({ runId: e.target.value, region: undefined })}>
+        {/* run titles are long: the run takes the whole row so its name is not cut */}
+        <SelectField
+          label="Run"
+          fieldClassName="col-span-2"
+          value={panel.runId}
+          onChange={(e) => onChange({ runId: e.target.value, region: undefined })}
+          // lattice and n under the field rather than in every option, so the closed field has room for the title
+          hint={
+            run ? (
+              <>
+                {latticeOfSpec(run.spec.lattice)} · n = <Count n={run.spec.chips} />
+              </>
+            ) : undefined
+          }
+        >
           {runs.map((r) => (
             <option key={r.id} value={r.id}>
-              {r.title} — {latticeName('preset' in r.spec.lattice ? r.spec.lattice.preset : 'periodic')}, n = {r.spec.chips.toLocaleString('en-US')}
+              {r.title}
             </option>
           ))}
         </SelectField>
