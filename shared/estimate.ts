@@ -10,7 +10,9 @@ import { renderViews, type Background, type LatticeChoice, type LatticePreset, t
  *   V ≈ n / g. We take g = (2/3)(deg − 1 − h̄), with deg the lattice degree and h̄ the mean background
  *   height: on Z^2 with h̄ = 0 this gives g = 2 and the radius sqrt(n / (2π)), the published outer
  *   bound for the square lattice (arXiv:0704.0688). The array is the bounding box of that ball (or
- *   segment) plus a margin of one cell, widened to cover every source and an uploaded background.
+ *   segment), stretched per axis by the lattice's shape factors (`DOMAIN_SHAPE_FACTORS`: piles of
+ *   other presets are wider or narrower than the square lattice's in lattice coordinates), plus a
+ *   margin of one cell, widened to cover every source and an uploaded background.
  * - Memory. About 16 bytes per cell: int32 heights, float64 odometer and the engine's bookkeeping.
  * - Work. Total topplings T ∝ n^(1 + 2/d) (the odometer solves a Poisson problem on a domain of
  *   radius n^(1/d)). Z^1 with no background is exact: m(m+1)(2m+1)/6 with m = ⌊n/2⌋. Z^2 uses a power
@@ -106,6 +108,32 @@ export const BYTES_PER_CELL = 16;
 /** Floor of the mean gain per toppled site, so near-critical backgrounds give a large domain, not ∞. */
 export const MIN_GAIN = 0.25;
 
+/**
+ * Half-width and half-height [x, y] of a planar preset's array relative to the square lattice's, in
+ * units of the mass radius above. Measured here with the engine (`npx tsx tests/bench/domain-shape.ts`,
+ * 2026-12-05): single sources of 10^4, 3·10^4, 10^5, 3·10^5 and 10^6 grains on background 0; each
+ * axis's half-extent over the mass radius, divided by the square lattice's at the same n; the largest
+ * over those n, rounded up to two decimals. So every preset keeps the square lattice's margin over
+ * its real pile (about 10 %, the gap between the published bound and real piles). The honeycomb
+ * preset is a brick wall: on the hexagonal lattice with unit edges, neighbours along a row are √3/2
+ * apart and rows 3/2 apart, so a round pile spans √3 times as many columns as rows (measured W/H
+ * 1.70–1.73). Lattices without an entry (uploaded periodic graphs, the line, the cubic lattice) keep
+ * the round ball.
+ */
+export const DOMAIN_SHAPE_FACTORS: Readonly<Partial<Record<LatticePreset, readonly [x: number, y: number]>>> = {
+  square: [1, 1],
+  triangular: [1.18, 1.18],
+  honeycomb: [1.3, 0.75],
+  'f-lattice': [1.06, 1.06],
+  manhattan: [1.04, 1.04],
+};
+
+/** The shape factor of each array axis in lattice order (x, y, z). */
+export function domainShapeFactors(lattice: LatticeChoice, dimension: 1 | 2 | 3): number[] {
+  const planar = 'preset' in lattice ? DOMAIN_SHAPE_FACTORS[lattice.preset as LatticePreset] : undefined;
+  return planar && dimension === 2 ? [...planar] : Array<number>(dimension).fill(1);
+}
+
 export interface LatticeShape {
   dimension: 1 | 2 | 3;
   /** mean number of neighbours (the toppling threshold) */
@@ -174,7 +202,7 @@ export interface RunEstimate {
   cells: number;
   /** predicted array shape, array axis order: (W), (H, W) or (D, H, W) */
   shape: number[];
-  /** predicted radius of the toppled region, in lattice cells */
+  /** radius of a round pile of the predicted area, in lattice cells (the box stretches it by DOMAIN_SHAPE_FACTORS) */
   radius: number;
   /** working memory of the engine */
   bytes: number;
@@ -232,10 +260,11 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   const volumeRadius = d === 1 ? n / (2 * Math.max(MIN_GAIN, 1 - mean)) : (n / ((d === 2 ? Math.PI : (4 / 3) * Math.PI) * gain)) ** (1 / d);
   // every source must sit inside the box, and so must an uploaded background centred on the origin
   const reach = Math.max(0, ...sources.map((s) => Math.max(...s.at.map(Math.abs))));
+  const factors = domainShapeFactors(spec.lattice, d);
   const half: number[] = [];
   for (let a = 0; a < d; a++) {
     const uploadHalf = upload && spec.background.kind === 'array' ? Math.ceil((upload.shape[upload.shape.length - 1 - a] ?? 0) / 2) : 0;
-    half.push(Math.max(Math.ceil(volumeRadius) + reach, uploadHalf));
+    half.push(Math.max(Math.ceil(volumeRadius * factors[a]!) + reach, uploadHalf));
   }
   const shape = half.map((r) => 2 * r + 3).reverse();
   const cells = shape.reduce((a, b) => a * b, 1);
