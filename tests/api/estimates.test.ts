@@ -1,3 +1,4 @@
+import { totalmem } from 'node:os';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { estimateResponseSchema } from '../../shared/api/estimates.js';
 import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, FAST_PATH_MEASURED, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
@@ -140,11 +141,23 @@ describe('POST /api/estimates', () => {
     expect(bad.body.issues[0].path).toBe('spec.chips');
   });
 
-  it('warns while the author types that a run too large for the machines would be refused', async () => {
-    // n = 10^12 on Z^2 needs thousands of GiB (16 bytes a cell), beyond any machine this runs on
-    const huge = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1e12 } }).expect(200);
-    const { warnings } = estimateResponseSchema.parse(huge.body).estimate;
-    expect(warnings).toEqual([expect.stringMatching(/^this run needs about [\d,.]+ GiB of working memory, more than the [\d,.]+ GiB of the machines that compute it; use fewer grains$/)]);
+  it('refuses a run too large for the machines with its memory, needed against available, not with its cost', async () => {
+    // n = 10^12 on Z^2 needs thousands of GiB (16 bytes a cell), beyond any machine this runs on; its
+    // price (over 10^12 credits) only follows from that size, so the memory is the reason given
+    const s: RunSpecInput = { lattice: { preset: 'square' }, chips: 1e12 };
+    const e = estimateRun(spec(s));
+    expect(e.bytes).toBeGreaterThan(totalmem());
+    const huge = await as(h.http.post('/api/estimates'), who).send({ spec: s });
+    expect(huge.status).toBe(400);
+    const said = /^spec: this run needs about ([\d,.]+) GiB of working memory \(a ([\d,]+) × ([\d,]+) domain, ([\d,]+) cells at (\d+) bytes each\), more than the ([\d,.]+) GiB of the machines that compute it; use fewer grains$/.exec(huge.body.error);
+    expect(said, huge.body.error).not.toBeNull();
+    const num = (t: string) => Number(t.replaceAll(',', ''));
+    const [needed, h0, w0, cells, perCell, available] = [num(said![1]!), num(said![2]!), num(said![3]!), num(said![4]!), num(said![5]!), num(said![6]!)];
+    // needed: the estimate's domain at the engine's bytes per cell; available: this machine's memory
+    expect([h0, w0, cells, perCell]).toEqual([...e.shape, e.cells, BYTES_PER_CELL]);
+    expect(Math.abs(needed - e.bytes / 2 ** 30)).toBeLessThanOrEqual(0.05);
+    expect(Math.abs(available - totalmem() / 2 ** 30)).toBeLessThanOrEqual(0.05);
+    expect(huge.body.issues).toEqual([{ path: 'spec', message: `needs about ${said![1]} GiB of working memory; the machines have ${said![6]} GiB` }]);
     const small = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1000 } }).expect(200);
     expect(estimateResponseSchema.parse(small.body).estimate.warnings).toEqual([]);
   });

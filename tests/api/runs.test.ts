@@ -1,9 +1,12 @@
+import { totalmem } from 'node:os';
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ledgerEntries, memberships, runs } from '../../drizzle/schema.js';
+import { CREDIT_CHECK_MAX } from '../../shared/api/credits.js';
 import { listRunsResponseSchema, runResponseSchema } from '../../shared/api/runs.js';
+import { estimateRun } from '../../shared/estimate.js';
 import { JOB_NAMES, JOBS_TO_QUEUE, jobIdFor, QUEUE_NAMES } from '../../shared/jobs.js';
 import { runSpecSchema } from '../../shared/run-spec.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
@@ -140,5 +143,28 @@ describe('runs of no grains', () => {
     expect(again.body.issues).toEqual([{ path: 'spec.chips', message: 'must be at least 1' }]);
     expect(again.body.error).toMatch(/duplicate it with edits/);
     expect([await rowsOf(oldLab), await entriesOf(oldLab)]).toEqual([1, 0]);
+  });
+});
+
+describe('runs larger than the machines', () => {
+  it('are refused for their memory, needed against available, not for their price, and leave nothing behind', async () => {
+    // a lab of its own with no paid credits: were the price looked at first, this would be a 402
+    const poorLab = await createLab(h, 'Huge Runs Lab', [{ userId: authorId, role: 'author' }]);
+    const spec = runSpecSchema.parse({ lattice: { preset: 'honeycomb' }, chips: 1e12 });
+    const e = estimateRun(spec);
+    expect(e.bytes).toBeGreaterThan(totalmem());
+    expect(e.credits).toBeGreaterThan(CREDIT_CHECK_MAX);
+    const stored = async () => [
+      (await h.deps.db.select({ id: runs.id }).from(runs).where(eq(runs.labId, poorLab))).length,
+      (await h.deps.db.select({ id: ledgerEntries.id }).from(ledgerEntries).where(eq(ledgerEntries.labId, poorLab))).length,
+    ];
+    const before = await stored();
+    const res = await as(h.http.post('/api/runs'), author).send({ labId: poorLab, title: 'A trillion grains', spec });
+    expect(res.status).toBe(400);
+    expect(res.body.error).toMatch(/^spec: this run needs about [\d,.]+ GiB of working memory \(a [\d,]+ × [\d,]+ domain, [\d,]+ cells at 16 bytes each\), more than the [\d,.]+ GiB of the machines that compute it; use fewer grains$/);
+    expect(res.body.error).toContain(`a ${e.shape.map((s) => s.toLocaleString('en-US')).join(' × ')} domain`);
+    expect(res.body.issues).toEqual([{ path: 'spec', message: expect.stringMatching(/^needs about [\d,.]+ GiB of working memory; the machines have [\d,.]+ GiB$/) }]);
+    expect(await stored()).toEqual(before);
+    expect(before[0]).toBe(0);
   });
 });

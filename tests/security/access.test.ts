@@ -167,14 +167,14 @@ describe('runs larger than the machine', () => {
     const huge = { lattice: { preset: 'square' }, chips: 1e12 };
     const res = await as(h.http.post('/api/runs'), a).send({ labId: labA, title: 'too big', spec: huge });
     expect(res.status).toBe(400);
-    expect(res.body.error).toMatch(/^spec: this run needs about [\d,.]+ GiB of working memory \(a \d+ × \d+ domain, [\d,]+ cells\), more than the [\d,.]+ GiB/);
+    expect(res.body.error).toMatch(/^spec: this run needs about [\d,.]+ GiB of working memory \(a [\d,]+ × [\d,]+ domain, [\d,]+ cells at \d+ bytes each\), more than the [\d,.]+ GiB/);
     const series = await as(h.http.post('/api/series'), a).send({ labId: labA, title: 'too big series', spec: { lattice: { preset: 'square' } }, chips: [1000, 1e12] });
     expect(series.status).toBe(400);
     expect(series.body.error).toMatch(/GiB of working memory/);
     expect([await rows(), await entries()]).toEqual([r0, e0]);
-    // the estimate itself still answers, so the form can show why
+    // the estimate refuses with the same reason, so the form shows it before any submit (or credit check)
     const est = await as(h.http.post('/api/estimates'), a).send({ spec: huge });
-    expect(est.status).toBe(200);
-    expect(est.body.estimate.bytes).toBeGreaterThan(2 ** 40);
+    expect(est.status).toBe(400);
+    expect(est.body.error).toBe(res.body.error);
   });
 });

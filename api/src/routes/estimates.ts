@@ -1,23 +1,12 @@
 import { Router } from 'express';
 import { estimateRequestSchema, estimateResponseSchema } from '../../../shared/api/estimates.js';
-import { EstimateError, estimateRun } from '../../../shared/estimate.js';
 import { requireUser } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
 import { badRequest } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
 import { findBackground } from '../services/background-uploads.js';
-import { memoryWarning } from '../services/run-memory.js';
-
-/** The estimator's own refusals (an unknown lattice preset) are the client's 400. */
-function estimateOrReject(...args: Parameters<typeof estimateRun>) {
-  try {
-    return estimateRun(...args);
-  } catch (err) {
-    if (err instanceof EstimateError) throw badRequest(`spec: ${err.message}`);
-    throw err;
-  }
-}
+import { estimateOrRefuse, refuseIfTooLarge } from '../services/run-memory.js';
 
 export function estimatesRouter({ db }: AppDeps): Router {
   const r = Router();
@@ -28,10 +17,9 @@ export function estimatesRouter({ db }: AppDeps): Router {
     const bg = spec.background;
     const upload = bg.kind === 'array' ? await findBackground(db, bg.sha256) : null;
     if (bg.kind === 'array' && !upload) throw badRequest(`spec.background: no uploaded background has sha256 ${bg.sha256}`);
-    const estimate = estimateOrReject(spec, upload ? { shape: upload.shape, meanHeight: upload.meanHeight } : undefined);
-    // the submit would be refused for its memory: say so while the author is still typing
-    const tooLarge = memoryWarning(estimate);
-    if (tooLarge) estimate.warnings.push(tooLarge);
+    const estimate = estimateOrRefuse(spec, upload ? { shape: upload.shape, meanHeight: upload.meanHeight } : undefined);
+    // the submit's own refusal, while the author is still typing: its price (and any credit check of it) would only follow from the size
+    refuseIfTooLarge(estimate);
     respond(res, 200, estimateResponseSchema, { estimate });
   });
 

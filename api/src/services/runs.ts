@@ -8,7 +8,7 @@ import { dispatchNow, recordJobs } from '../queue/outbox.js';
 import type { Logger } from '../logger.js';
 import { audit } from './audit.js';
 import { checkArrayBackground } from './background-uploads.js';
-import { refuseIfTooLarge } from './run-memory.js';
+import { estimateOrRefuse, refuseIfTooLarge } from './run-memory.js';
 import { reserveForRuns } from '../billing/gate.js';
 import { refuseIfSuspended } from './admin-suspension.js';
 import { issueLabAllowance } from './admin-allowance.js';
@@ -34,8 +34,8 @@ export async function createRuns(
   await refuseIfSuspended(deps.db, labId);
   // a lab whose allowance an admin set gets this month's at that amount, before the ledger issues the default
   await issueLabAllowance(deps.db, labId);
-  // more memory than the machine has: refused with the estimate before anything is recorded
-  for (const item of items) refuseIfTooLarge(item.spec);
+  // more memory than the machine has: refused with the estimate before anything is recorded or priced
+  for (const item of items) refuseIfTooLarge(estimateOrRefuse(item.spec));
   for (const item of items) await checkArrayBackground(deps.db, item.spec.background, item.spec.lattice);
   const created = await deps.db.transaction(async (tx) => {
     let seriesId: string | null = null;
