@@ -1,5 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import { Queue } from 'bullmq';
+import { eq } from 'drizzle-orm';
 import { Redis } from 'ioredis';
 import pg from 'pg';
 import supertest from 'supertest';
@@ -10,11 +11,11 @@ import { migrateDatabase } from '../../api/src/db/migrate.js';
 import { createLogger } from '../../api/src/logger.js';
 import { createSmtpMailer } from '../../api/src/mail/mailer.js';
 import { createJobQueue } from '../../api/src/queue/job-queue.js';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { DEMO_FIGURE_SLUG, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
 import { createS3BlobStore } from '../../api/src/storage/s3-blob-store.js';
-import { figures, runs, users } from '../../drizzle/schema.js';
+import { figures, figureVersions, runs, users } from '../../drizzle/schema.js';
 import { QUEUE_NAMES } from '../../shared/jobs.js';
-import { testEnv } from './support/harness.js';
+import { as, sessionFrom, testEnv } from './support/harness.js';
 
 /** The demo seed on a database created empty for this test. */
 const base = testEnv();
@@ -55,7 +56,7 @@ describe('demo seed', () => {
     expect(await database.db.$count(users)).toBe(DEMO_SIGN_INS.length);
   });
 
-  it('queues its runs without invented statistics and publishes one figure', async () => {
+  it('queues its runs without invented statistics and composes one figure', async () => {
     const rows = await database.db.select().from(runs);
     expect(rows.length).toBeGreaterThanOrEqual(3);
     expect(rows.every((r) => r.status === 'queued' && r.stats === null && r.finishedAt === null)).toBe(true);
@@ -65,8 +66,42 @@ describe('demo seed', () => {
     expect((await q.getJobCounts('wait')).wait).toBe(rows.length);
     await q.close();
     await redis.quit();
-    const published = (await database.db.select().from(figures)).filter((f) => f.publishedAt !== null);
-    expect(published).toHaveLength(1);
+    const composed = await database.db.select().from(figures);
+    expect(composed.map((f) => [f.slug, f.runId])).toEqual([[DEMO_FIGURE_SLUG, rows.find((r) => r.title.startsWith('One hundred thousand grains'))!.id]]);
+  });
+
+  it('publishes no figure without a print, as the publish route requires of everyone', async () => {
+    // readers download the printed files of a published figure; the demo's has none until the farm prints it
+    const [figure] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
+    expect(figure!.publishedAt).toBeNull();
+    expect(await database.db.$count(figureVersions, eq(figureVersions.figureId, figure!.id))).toBe(0);
+    const deps = {
+      env,
+      db: database.db,
+      log: createLogger('silent'),
+      mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
+      blobs: createS3BlobStore(env),
+      queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
+    };
+    const http = supertest(createApp(deps, { distDir: '/nonexistent' }));
+    try {
+      // a reader finds nothing published, and the figure's link is not public
+      expect((await http.get('/api/figures')).body.figures).toEqual([]);
+      expect((await http.get(`/api/figures/${DEMO_FIGURE_SLUG}`)).status).toBe(404);
+      // its author sees the draft and is told by the route what publishing needs
+      const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
+      const who = sessionFrom(await http.post('/api/auth/sign-in').send({ email: author.email, password: author.password }));
+      expect((await as(http.get(`/api/figures/${DEMO_FIGURE_SLUG}`), who)).status).toBe(200);
+      const publish = await as(http.post(`/api/figures/${DEMO_FIGURE_SLUG}/publish`), who);
+      expect(publish.status).toBe(409);
+      expect(publish.body.error).toMatch(/^order a print and wait until it is ready before publishing/);
+      const [after] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
+      expect(after!.publishedAt).toBeNull();
+    } finally {
+      await deps.queue.close();
+      deps.mailer.close();
+      deps.blobs.close();
+    }
   });
 
   it('lets every printed demo sign-in sign in, with the role it claims', async () => {

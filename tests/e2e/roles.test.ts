@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Browser } from 'playwright-core';
-import { DEMO_LAB, DEMO_OTHER_LAB, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { DEMO_FIGURE_SLUG, DEMO_LAB, DEMO_OTHER_LAB, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
 import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
 import { linkTo, waitForMail } from './outbox.js';
 import { startStack, type Stack } from './stack.js';
@@ -235,17 +235,22 @@ describe('demo roles in the browser', () => {
     await manager.getByText('No open invitations').waitFor();
   });
 
-  test('a reader finds the published figure and its reader page with a citation', async () => {
+  test('the demo figure stays private until it is printed: readers do not find it, its author is told what publishing needs', async () => {
+    // publishing needs a ready print (the publish route's rule); the demo's figure has none until the farm prints it
+    const reader = await newPage(browser, stack.url);
+    await reader.goto('/figures');
+    await reader.getByText('Nothing published yet').waitFor();
+    await reader.goto(`/f/${DEMO_FIGURE_SLUG}`);
+    await reader.getByText('No figure at this link').waitFor();
+    await reader.goto('/f/no-such-figure');
+    await reader.getByText('No figure at this link').waitFor();
+
     const page = await newPage(browser, stack.url);
-    await page.goto('/figures');
-    await page.getByRole('link', { name: 'One hundred thousand grains, square lattice' }).click();
-    await page.waitForURL((u) => u.pathname === '/f/square-lattice-one-hundred-thousand');
+    await signIn(page, demo('author').email, demo('author').password);
+    await page.goto(`/lab/figures/${DEMO_FIGURE_SLUG}`);
     await page.getByRole('heading', { name: 'One hundred thousand grains, square lattice' }).waitFor();
-    const bib = await page.locator('pre').textContent();
-    expect(bib).toContain('@misc{square-lattice-one-hundred-thousand,');
-    expect(bib).toContain(`${stack.url}/f/square-lattice-one-hundred-thousand`);
-    await screenshot(page, 'figure-reader');
-    await page.goto('/f/no-such-figure');
-    await page.getByText('No figure at this link').waitFor();
+    await page.getByText('Publishing needs a ready print.').waitFor();
+    expect(await page.getByRole('button', { name: 'Publish' }).isDisabled()).toBe(true);
+    await screenshot(page, 'demo-figure-draft');
   });
 });

@@ -39,6 +39,8 @@ const NAMES: Record<DemoSignIn['role'], string> = {
 
 export const DEMO_LAB = 'Tessellate Hill Sandpile Group';
 export const DEMO_OTHER_LAB = 'Lowmoor Combinatorics Circle';
+/** The demo's figure of its first run: a draft until the author has it printed and publishes it. */
+export const DEMO_FIGURE_SLUG = 'square-lattice-one-hundred-thousand';
 
 type DemoRun = { lab: 'main' | 'other'; by: DemoSignIn['role']; title: string; spec: RunSpecInput };
 
@@ -97,16 +99,17 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         // in the job outbox with the row (api/src/queue/outbox.ts); sent after the commit, or by the API once Redis answers
         await recordJobs(tx, queue, [{ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } }]);
       }
+      // Composed but not published: publishing needs a ready print (POST /api/figures/:slug/publish),
+      // which the farm makes from the finished run; the author orders it once the run is computed.
       const [figure] = await tx.insert(figures).values({
-        slug: 'square-lattice-one-hundred-thousand',
+        slug: DEMO_FIGURE_SLUG,
         title: 'One hundred thousand grains, square lattice',
         caption: 'Final stable heights after 100 000 grains are dropped at the origin of Z², on an empty background.',
         runId: runIds[0]!,
         createdById: who('author'),
-        publishedAt: new Date(),
       }).returning();
       await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
-      await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.publish', subjectType: 'figure', subjectId: figure!.id, detail: { slug: figure!.slug } });
+      await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.create', subjectType: 'figure', subjectId: figure!.id, detail: { slug: figure!.slug } });
       // The other lab is over quota (for the admin console): an admin cut its free allowance for a pilot,
       // it bought a little, and its queued runs hold every credit it has.
       await setAllowance(tx, other!.id, who('admin'), { freeAllowance: 2, reason: 'pilot lab: a small free allowance while the farm is busy' });
