@@ -52,8 +52,9 @@ describe.concurrent('stabilize CLI: results checked against published values', (
   });
 
   it.for([
-    // OEIS A349990, offset 0: number of nonempty sites for n grains at the origin of Z^2
-    [0, 0], [1, 1], [4, 4], [5, 5], [16, 12], [28, 16], [32, 20], [56, 32], [60, 36], [68, 36],
+    // OEIS A349990, offset 0: number of nonempty sites for n grains at the origin of Z^2 (n = 0 is
+    // refused as a run of no grains, below)
+    [1, 1], [4, 4], [5, 5], [16, 12], [28, 16], [32, 20], [56, 32], [60, 36], [68, 36],
   ])('n = %i on Z^2 leaves %i nonempty sites (OEIS A349990)', async ([n, expected], { onTestFinished }) => {
     const w = new Workspace(onTestFinished);
     await w.json(['--lattice', 'square', '--chips', String(n), '--heights', 'h.npy']);
@@ -118,6 +119,17 @@ describe.concurrent('stabilize CLI: results checked against published values', (
 });
 
 describe.concurrent('stabilize CLI: outputs and options', () => {
+  it('takes 0 grains at the origin when a further source holds grains, as the API does', async ({ onTestFinished }) => {
+    const w = new Workspace(onTestFinished);
+    const report = await w.json(['--lattice', 'square', '--chips', '0', '--source', '2,0:5', '--heights', 'h.npy']);
+    expect(w.readJson('h.json').spec).toMatchObject({ chips: 0, sources: [{ at: [2, 0], chips: 5 }] });
+    expect(report.grainsIn).toBe('5');
+    const heights = w.array('h.npy');
+    // all 5 grains are in the array (mass conservation), on 5 sites as at the origin (OEIS A349990, n = 5)
+    expect(sum(heights.data as Uint8Array)).toBe(5);
+    expect(nonzero(heights.data as Uint8Array)).toBe(5);
+  });
+
   it('writes a sidecar with the full spec, engine version, statistics and the sha256 of the heights bytes', async ({ onTestFinished }) => {
     const w = new Workspace(onTestFinished);
     const report = await w.json(['--lattice', 'square', '--chips', '300', '--source', '5,-3:40', '--heights', 'pile.npy', '--odometer', 'odo.npy', '--odometer-dtype', 'float64']);
@@ -212,6 +224,9 @@ describe.concurrent('stabilize CLI: bad input exits non-zero with one stderr lin
     ['fractional --chips', ['--lattice', 'square', '--chips', '2.5', ...out], /--chips must be a whole number/, () => {}],
     ['--chips above 2^53 - 1', ['--lattice', 'square', '--chips', '9007199254740993', ...out], /larger than 2\^53/, () => {}],
     ['missing --chips', ['--lattice', 'square', ...out], /--chips is required/, () => {}],
+    // the API's rule for a new run (shared/run-spec.ts newRunSpecSchema): at least one grain in all
+    ['no grains at all', ['--lattice', 'square', '--chips', '0', ...out], /invalid run specification: chips: must be at least 1 \(a run needs at least one grain in all: --chips 0 only with a --source that adds grains\)$/, () => {}],
+    ['no grains in the sources either', ['--lattice', 'triangular', '--chips', '0', '--source', '3,1:0', '--source', '-2,0:0', ...out], /chips: must be at least 1 \(a run needs at least one grain in all/, () => {}],
     ['unknown lattice', ['--lattice', 'hexagonal-ish', '--chips', '5', ...out], /unknown lattice 'hexagonal-ish'/, () => {}],
     ['unknown option', ['--lattice', 'square', '--chips', '5', '--colour', 'red', ...out], /Unknown option '--colour'/, () => {}],
     ['periodic file that is not JSON', ['--lattice', 'periodic:cell.json', '--chips', '5', ...out], /not valid JSON/, (d) => writeFileSync(join(d, 'cell.json'), '{"period": [2, 2], "neighbours": [')],

@@ -46,7 +46,8 @@ exactly, and write the final heights and the odometer as NumPy .npy arrays.
 
   --lattice NAME            line | square | cubic | triangular | honeycomb
   --lattice periodic:F.json a periodic graph on Z^2: {"period":[px,py],"neighbours":[[[[dx,dy],...]]], "name"?}
-  --chips N                 grains at the origin (0 .. 2^53−1; 1e6 and 1_000_000 are accepted)
+  --chips N                 grains at the origin (0 .. 2^53−1; 1e6 and 1_000_000 are accepted;
+                            0 only when --source adds grains: a run needs at least one in all)
   --source X,Y:N            N more grains at (X,Y) (X for line, X,Y,Z for cubic); repeatable
   --background B            constant:H | checkerboard:A,B | motif:F.npy | random:SEED:P0,P1,...
                             | annuli:A,B | file:F.npy | file:F.png           (default constant:0)

@@ -1,4 +1,4 @@
-import { runSpecSchema, type RunSpec } from '../../../shared/run-spec.js';
+import { NEW_RUN_MIN_CHIPS_MESSAGE, newRunSpecSchema, type RunSpec } from '../../../shared/run-spec.js';
 import type { CliOptions } from './args.js';
 import { resolveBackgroundArg } from './background-arg.js';
 import { CliInputError } from './errors.js';
@@ -26,8 +26,14 @@ export async function resolveRunInputs(options: CliOptions): Promise<RunInputs> 
       `background array has shape (${upload.shape.join(', ')}) but the ${options.lattice} lattice needs a ${dimension}-dimensional array`,
     );
   }
-  const parsed = runSpecSchema.safeParse({ lattice, chips: options.chips, sources, background });
-  if (!parsed.success) throw new CliInputError(`invalid run specification: ${firstIssue(parsed.error)}`);
+  // the API's rule for a new run (at least one grain in all), so the command refuses what the farm would
+  const parsed = newRunSpecSchema.safeParse({ lattice, chips: options.chips, sources, background });
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    const noGrains = issue?.path.join('.') === 'chips' && issue.message === NEW_RUN_MIN_CHIPS_MESSAGE;
+    const hint = noGrains ? ' (a run needs at least one grain in all: --chips 0 only with a --source that adds grains)' : '';
+    throw new CliInputError(`invalid run specification: ${firstIssue(parsed.error)}${hint}`);
+  }
   const inputPaths = [options.lattice, options.background ?? '']
     .map((arg) => /^(?:periodic|motif|file):(.+)$/.exec(arg)?.[1])
     .filter((p): p is string => p !== undefined);
