@@ -2,7 +2,8 @@
  * `npm start`: the whole product on this machine. After infra/prepare.sh has installed what was
  * missing, start PostgreSQL, Redis, the S3/mail/payments fakes, apply migrations, seed the demo,
  * build the web app, start the renderer worker and the API (which serves dist/), print the URL and
- * the demo sign-ins, and run until Ctrl-C or SIGTERM, then stop everything it started.
+ * the demo sign-ins, have a freshly seeded demo's figure printed and published in the background,
+ * and run until Ctrl-C or SIGTERM, then stop everything it started.
  * State lives in .local/dev/ and survives restarts.
  */
 import { watchAncestors } from './lib/ancestry.js';
@@ -53,7 +54,7 @@ async function main(): Promise<void> {
   const e = stack.env;
   log.info(`PostgreSQL ${e.DATABASE_URL}, Redis ${e.REDIS_URL}, S3 ${e.S3_ENDPOINT}, payments ${e.STRIPE_API_BASE}, SMTP ${e.SMTP_URL}`);
 
-  const [signIns] = await stack.parallel(
+  const [seed] = await stack.parallel(
     stack.migrate().then((migrated) => (migrated ? stack.seed() : null)),
     stack.buildWeb(),
   );
@@ -80,12 +81,19 @@ async function main(): Promise<void> {
     `  mail outbox: ${e.MAIL_OUTBOX_URL}/messages  ·  payments fake: ${e.STRIPE_API_BASE}/_fake/events`,
     `  data: ${profile.dir}  ·  logs: ${stack.dirs.logs}`,
   ];
-  if (signIns && signIns.length) {
+  if (seed && seed.signIns.length) {
     lines.push('  demo sign-ins:');
-    for (const s of signIns) lines.push(`    ${s.role.padEnd(10)} ${s.email.padEnd(42)} ${s.password}`);
+    for (const s of seed.signIns) lines.push(`    ${s.role.padEnd(10)} ${s.email.padEnd(42)} ${s.password}`);
   }
   lines.push('  press Ctrl-C to stop', '');
   process.stdout.write(lines.join('\n') + '\n');
+
+  // A demo seeded by this start gets its figure printed and published once the farm has computed its
+  // run; in the background, so the app is usable at once. A database seeded earlier is left alone.
+  if (seed?.seeded && exists(PRODUCT.api) && exists(PRODUCT.worker)) {
+    log.info(`demo figure: its print is ordered and it is published once its run is computed (progress in ${stack.dirs.logs}/demo-finisher.log)`);
+    void stack.finishDemo(t0);
+  }
 }
 
 main().catch(async (err: Error) => {

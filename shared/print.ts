@@ -156,6 +156,15 @@ export type FigureSpec = z.infer<typeof figureSpecSchema>;
 export type FigureSpecInput = z.input<typeof figureSpecSchema>;
 
 /**
+ * What a new figure of one run starts as on the compose page: the whole run a single journal
+ * column wide at 300 DPI, with a scale bar in lattice units. The demo's figure is composed the
+ * same way, so it prints as a figure composed by hand would.
+ */
+export function startingComposition(runId: string): FigureSpecInput {
+  return { panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, scaleBar: { unit: 'lattice' } };
+}
+
+/**
  * The composition with the figure's own caption (the one its form and reader page show) as the
  * printed caption, keeping the composition's font size; a blank caption prints none. A figure's
  * caption and its spec's caption are stored apart, so this is applied wherever a spec is read.

@@ -3,6 +3,7 @@
  * api/ code (whose modules may read the environment at load time or keep pools open):
  *   tsx infra/lib/product-task.ts migrate   -> migrateDatabase(DATABASE_URL)
  *   tsx infra/lib/product-task.ts seed      -> seedDemo(env); prints the demo sign-ins as JSON
+ *   tsx infra/lib/product-task.ts finish-demo -> finishDemo(PUBLIC_URL): prints and publishes the demo figure
  * The last stdout line starting with RESULT is the machine-readable answer.
  */
 import path from 'node:path';
@@ -32,7 +33,15 @@ async function main(task: string | undefined): Promise<unknown> {
     const result = await mod.seedDemo(loadEnv());
     return { seeded: result !== null, signIns: result?.signIns ?? mod.DEMO_SIGN_INS ?? [] };
   }
-  throw new Error(`unknown task '${task}': use migrate or seed`);
+  if (task === 'finish-demo') {
+    const { loadEnv } = (await load('shared/env.ts')) as typeof import('../../shared/env.js');
+    const mod = (await load(PRODUCT.demoFinisher)) as {
+      finishDemo?: (baseUrl: string, options: { log(line: string): void }) => Promise<unknown>;
+    };
+    if (typeof mod.finishDemo !== 'function') throw new Error(`${PRODUCT.demoFinisher} does not export finishDemo(baseUrl)`);
+    return mod.finishDemo(loadEnv().PUBLIC_URL, { log: (line) => console.log(`${new Date().toISOString()} ${line}`) });
+  }
+  throw new Error(`unknown task '${task}': use migrate, seed or finish-demo`);
 }
 
 main(process.argv[2]).then(

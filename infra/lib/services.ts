@@ -57,6 +57,7 @@ export function fakeSpecs(p: Profile, env: Record<string, string>): ServiceSpec[
 export const PRODUCT = {
   migrate: 'api/src/db/migrate.ts',
   seed: 'api/src/seed/demo.ts',
+  demoFinisher: 'api/src/seed/demo-finisher.ts',
   api: 'api/src/server.ts',
   worker: 'renderer/src/worker.ts',
   webEntry: 'web/src/main.tsx',

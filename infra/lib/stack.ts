@@ -100,8 +100,11 @@ export class Stack {
     return true;
   }
 
-  /** Seed the demo data; returns the demo sign-ins (also when the database was seeded before). */
-  async seed(): Promise<{ role: string; email: string; password: string }[] | null> {
+  /**
+   * Seed the demo data; returns the demo sign-ins (also when the database was seeded before) and
+   * whether this call seeded it.
+   */
+  async seed(): Promise<{ seeded: boolean; signIns: { role: string; email: string; password: string }[] } | null> {
     if (!exists(PRODUCT.seed)) {
       this.log.warn(`${PRODUCT.seed} does not exist yet; no demo data`);
       return null;
@@ -110,7 +113,28 @@ export class Stack {
     if (r.code !== 0) throw new InfraError(`demo seed failed:\n${tail(r.output)}\n(full log: ${path.join(this.dirs.logs, 'seed.log')})`);
     const res = taskResult<{ seeded: boolean; signIns: { role: string; email: string; password: string }[] }>(r.output);
     this.log.info(res?.seeded ? 'demo data seeded' : 'demo data already present; left as it is');
-    return res?.signIns ?? [];
+    return { seeded: res?.seeded ?? false, signIns: res?.signIns ?? [] };
+  }
+
+  /**
+   * Have the demo figure printed and published by its author once the farm has computed its run
+   * (api/src/seed/demo-finisher.ts, over HTTP to the running API), and say in one line how it
+   * ended. Meant to run in the background of a start; it never throws.
+   */
+  async finishDemo(startedAt: number): Promise<void> {
+    if (!exists(PRODUCT.demoFinisher)) return this.log.warn(`${PRODUCT.demoFinisher} does not exist yet; the demo figure stays a draft`);
+    const logFile = path.join(this.dirs.logs, 'demo-finisher.log');
+    const after = () => `${((Date.now() - startedAt) / 1000).toFixed(0)} s after start`;
+    try {
+      const r = await this.task('finish-demo');
+      const res = taskResult<{ outcome: 'published'; url: string; version: number } | { outcome: 'left' | 'gave-up'; reason: string }>(r.output);
+      if (res?.outcome === 'published') this.log.info(`demo figure printed and published: ${res.url}  (print version ${res.version}, ${after()})`);
+      else if (res?.outcome === 'left') this.log.info(`demo figure left as it is: ${res.reason}`);
+      else if (res) this.log.warn(`demo figure not published: ${res.reason}; its author can order the print and publish it on ${this.env.PUBLIC_URL}/lab/figures (see ${logFile})`);
+      else if (!this.stopping) this.log.warn(`the demo finisher ended with code ${r.code} and no answer; the demo figure may still be a draft (see ${logFile})`);
+    } catch (err) {
+      if (!this.stopping) this.log.warn(`the demo finisher could not run (${(err as Error).message}); the demo figure stays a draft`);
+    }
   }
 
   /** vite build into dist/ (skipped with a warning while the web entry does not exist). */
@@ -132,11 +156,11 @@ export class Stack {
     return true;
   }
 
-  private async task(name: 'migrate' | 'seed') {
+  private async task(name: 'migrate' | 'seed' | 'finish-demo') {
     const r = await runOnce(TSX, ['infra/lib/product-task.ts', name], {
       env: this.childEnv,
       cwd: ROOT,
-      logFile: path.join(this.dirs.logs, `${name}.log`),
+      logFile: path.join(this.dirs.logs, name === 'finish-demo' ? 'demo-finisher.log' : `${name}.log`),
       signal: this.abort.signal,
     });
     this.check();

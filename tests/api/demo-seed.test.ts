@@ -1,30 +1,41 @@
-import { randomUUID } from 'node:crypto';
+import { createHash, randomUUID } from 'node:crypto';
+import http, { type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
 import { Queue } from 'bullmq';
-import { eq } from 'drizzle-orm';
+import { and, eq, inArray } from 'drizzle-orm';
 import { Redis } from 'ioredis';
 import pg from 'pg';
 import supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createApp } from '../../api/src/app.js';
-import { connectDatabase, type Database } from '../../api/src/db/client.js';
+import type { Database } from '../../api/src/db/client.js';
 import { migrateDatabase } from '../../api/src/db/migrate.js';
-import { createLogger } from '../../api/src/logger.js';
-import { createSmtpMailer } from '../../api/src/mail/mailer.js';
-import { createJobQueue } from '../../api/src/queue/job-queue.js';
+import type { AppDeps } from '../../api/src/deps.js';
 import { DEMO_FIGURE_SLUG, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { createS3BlobStore } from '../../api/src/storage/s3-blob-store.js';
-import { figures, figureVersions, runs, users } from '../../drizzle/schema.js';
+import { finishDemo } from '../../api/src/seed/demo-finisher.js';
+import { ensureBucket } from '../../api/src/storage/s3-blob-store.js';
+import { auditEvents, figures, figureVersions, runs, users } from '../../drizzle/schema.js';
+import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { figureResponseSchema, listFiguresResponseSchema } from '../../shared/api/figures.js';
 import { QUEUE_NAMES } from '../../shared/jobs.js';
-import { as, sessionFrom, testEnv } from './support/harness.js';
+import { figureSpecSchema, specWithCaption, startingComposition } from '../../shared/print.js';
+import { as, closeAppDeps, connectAppDeps, sessionFrom, testEnv } from './support/harness.js';
 
-/** The demo seed on a database created empty for this test. */
+/** The demo seed on a database created empty for this test, with the API it is served by. */
 const base = testEnv();
 const dbName = `tw_seed_${randomUUID().replaceAll('-', '').slice(0, 12)}`;
 const url = new URL(base.DATABASE_URL);
 url.pathname = `/${dbName}`;
 const env = { ...base, DATABASE_URL: url.toString() };
 const queuePrefix = `twtest-seed-${randomUUID().slice(0, 8)}`;
+const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
 let database: Database;
+let deps: AppDeps;
+let api: ReturnType<typeof supertest>;
+/** the same app listening on a port, for the finisher, which talks HTTP as `npm start` has it do */
+let server: Server;
+let baseUrl: string;
+let farm: Awaited<ReturnType<typeof startFarmWorker>> | undefined;
 
 async function admin(sql: string) {
   const c = new pg.Client({ connectionString: base.DATABASE_URL });
@@ -35,15 +46,31 @@ async function admin(sql: string) {
 beforeAll(async () => {
   await admin(`create database ${dbName}`);
   await migrateDatabase(env.DATABASE_URL);
-  database = connectDatabase(env.DATABASE_URL, 2);
+  await ensureBucket(env);
+  ({ database, deps } = connectAppDeps(env, queuePrefix));
+  const app = createApp(deps, { distDir: '/nonexistent' });
+  api = supertest(app);
+  server = await new Promise<Server>((resolve, reject) => {
+    const s = http.createServer(app);
+    s.once('error', reject);
+    s.listen(0, '127.0.0.1', () => resolve(s));
+  });
+  baseUrl = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
 });
 afterAll(async () => {
+  await farm?.close();
+  if (server) {
+    server.closeAllConnections();
+    await new Promise<void>((r) => server.close(() => r()));
+  }
   const redis = new Redis(env.REDIS_URL, { maxRetriesPerRequest: null });
-  const q = new Queue(QUEUE_NAMES.compute, { connection: redis, prefix: queuePrefix });
-  await q.obliterate({ force: true });
-  await q.close();
+  for (const name of Object.values(QUEUE_NAMES)) {
+    const q = new Queue(name, { connection: redis, prefix: queuePrefix });
+    await q.obliterate({ force: true });
+    await q.close();
+  }
   await redis.quit();
-  await database.close();
+  await closeAppDeps(database, deps);
   await admin(`drop database if exists ${dbName} with (force)`);
 });
 
@@ -56,7 +83,7 @@ describe('demo seed', () => {
     expect(await database.db.$count(users)).toBe(DEMO_SIGN_INS.length);
   });
 
-  it('queues its runs without invented statistics and composes one figure', async () => {
+  it('queues its runs without invented statistics and composes one figure as the compose page starts one', async () => {
     const rows = await database.db.select().from(runs);
     expect(rows.length).toBeGreaterThanOrEqual(3);
     expect(rows.every((r) => r.status === 'queued' && r.stats === null && r.finishedAt === null)).toBe(true);
@@ -67,7 +94,10 @@ describe('demo seed', () => {
     await q.close();
     await redis.quit();
     const composed = await database.db.select().from(figures);
-    expect(composed.map((f) => [f.slug, f.runId])).toEqual([[DEMO_FIGURE_SLUG, rows.find((r) => r.title.startsWith('One hundred thousand grains'))!.id]]);
+    const first = rows.find((r) => r.title.startsWith('One hundred thousand grains'))!;
+    expect(composed.map((f) => [f.slug, f.runId])).toEqual([[DEMO_FIGURE_SLUG, first.id]]);
+    // one journal column at 300 DPI with a scale bar, its caption printed under the pile
+    expect(composed[0]!.spec).toEqual(specWithCaption(figureSpecSchema.parse(startingComposition(first.id)), composed[0]!.caption));
   });
 
   it('publishes no figure without a print, as the publish route requires of everyone', async () => {
@@ -75,57 +105,75 @@ describe('demo seed', () => {
     const [figure] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
     expect(figure!.publishedAt).toBeNull();
     expect(await database.db.$count(figureVersions, eq(figureVersions.figureId, figure!.id))).toBe(0);
-    const deps = {
-      env,
-      db: database.db,
-      log: createLogger('silent'),
-      mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
-      blobs: createS3BlobStore(env),
-      queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
-    };
-    const http = supertest(createApp(deps, { distDir: '/nonexistent' }));
-    try {
-      // a reader finds nothing published, and the figure's link is not public
-      expect((await http.get('/api/figures')).body.figures).toEqual([]);
-      expect((await http.get(`/api/figures/${DEMO_FIGURE_SLUG}`)).status).toBe(404);
-      // its author sees the draft and is told by the route what publishing needs
-      const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
-      const who = sessionFrom(await http.post('/api/auth/sign-in').send({ email: author.email, password: author.password }));
-      expect((await as(http.get(`/api/figures/${DEMO_FIGURE_SLUG}`), who)).status).toBe(200);
-      const publish = await as(http.post(`/api/figures/${DEMO_FIGURE_SLUG}/publish`), who);
-      expect(publish.status).toBe(409);
-      expect(publish.body.error).toMatch(/^order a print and wait until it is ready before publishing/);
-      const [after] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
-      expect(after!.publishedAt).toBeNull();
-    } finally {
-      await deps.queue.close();
-      deps.mailer.close();
-      deps.blobs.close();
-    }
+    // a reader finds nothing published, and the figure's link is not public
+    expect((await api.get('/api/figures')).body.figures).toEqual([]);
+    expect((await api.get(`/api/figures/${DEMO_FIGURE_SLUG}`)).status).toBe(404);
+    // its author sees the draft and is told by the route what publishing needs
+    const who = sessionFrom(await api.post('/api/auth/sign-in').send({ email: author.email, password: author.password }));
+    expect((await as(api.get(`/api/figures/${DEMO_FIGURE_SLUG}`), who)).status).toBe(200);
+    const publish = await as(api.post(`/api/figures/${DEMO_FIGURE_SLUG}/publish`), who);
+    expect(publish.status).toBe(409);
+    expect(publish.body.error).toMatch(/^order a print and wait until it is ready before publishing/);
+    const [after] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
+    expect(after!.publishedAt).toBeNull();
   });
 
   it('lets every printed demo sign-in sign in, with the role it claims', async () => {
-    const deps = {
-      env,
-      db: database.db,
-      log: createLogger('silent'),
-      mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
-      blobs: createS3BlobStore(env),
-      queue: createJobQueue(env.REDIS_URL, { prefix: queuePrefix }),
-    };
-    const http = supertest(createApp(deps, { distDir: '/nonexistent' }));
     for (const s of DEMO_SIGN_INS) {
       expect(s.password.length).toBeGreaterThanOrEqual(10);
-      const res = await http.post('/api/auth/sign-in').send({ email: s.email, password: s.password });
-      expect(res.status).toBe(200);
-      const cookie = (res.headers['set-cookie'] as unknown as string[]).map((c) => c.split(';')[0]).join('; ');
-      const me = (await http.get('/api/me').set('Cookie', cookie)).body;
+      const who = sessionFrom(await api.post('/api/auth/sign-in').send({ email: s.email, password: s.password }).expect(200));
+      const me = (await as(api.get('/api/me'), who)).body;
       expect(me.user.isAdmin).toBe(s.role === 'admin');
       if (s.role === 'author' || s.role === 'manager') expect(me.labs.map((l: { role: string }) => l.role)).toEqual([s.role]);
       if (s.role === 'other lab') expect(me.labs).toHaveLength(1);
     }
-    await deps.queue.close();
-    deps.mailer.close();
-    deps.blobs.close();
+  });
+
+  it('gives up with a reason, touching nothing, while no worker has computed the figure\'s run', async () => {
+    const result = await finishDemo(baseUrl, { runTimeoutMs: 300, pollMs: 100 });
+    expect(result).toEqual({ outcome: 'gave-up', reason: 'its run was still queued after 0.3 s' });
+    const [figure] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
+    expect(figure!.publishedAt).toBeNull();
+    expect(await database.db.$count(figureVersions, eq(figureVersions.figureId, figure!.id))).toBe(0);
+  });
+
+  it('the finisher of `npm start` has the farm print the figure and publishes it as its author; readers then see it; a second pass does nothing', { timeout: 240_000 }, async () => {
+    farm = await startFarmWorker(env, { prefix: queuePrefix, threads: 2, log: () => {} });
+    const result = await finishDemo(baseUrl, { pollMs: 250, runTimeoutMs: 180_000, printTimeoutMs: 120_000 });
+    expect(result).toEqual({ outcome: 'published', slug: DEMO_FIGURE_SLUG, url: `${baseUrl}/f/${DEMO_FIGURE_SLUG}`, version: 1 });
+
+    // stored as the routes store it: one ready version of the three formats, ordered and published by the author
+    const [figure] = await database.db.select().from(figures).where(eq(figures.slug, DEMO_FIGURE_SLUG));
+    expect(figure!.publishedAt).not.toBeNull();
+    expect(figure!.withdrawnAt).toBeNull();
+    const [me] = await database.db.select().from(users).where(eq(users.email, author.email));
+    const versions = await database.db.select().from(figureVersions).where(eq(figureVersions.figureId, figure!.id));
+    expect(versions.map((v) => [v.number, v.status, v.orderedById, v.formats])).toEqual([[1, 'ready', me!.id, ['png', 'tiff', 'pdf']]]);
+    expect(versions[0]!.spec).toEqual(figure!.spec);
+    const actions = await database.db
+      .select({ action: auditEvents.action, actorId: auditEvents.actorId })
+      .from(auditEvents)
+      .where(and(eq(auditEvents.subjectId, figure!.id), inArray(auditEvents.action, ['figure.order', 'figure.publish'])));
+    expect(actions.map((a) => a.action).sort()).toEqual(['figure.order', 'figure.publish']);
+    expect(actions.every((a) => a.actorId === me!.id)).toBe(true);
+    const [run] = await database.db.select().from(runs).where(eq(runs.id, figure!.runId));
+    expect(run!.status).toBe('finished');
+
+    // an anonymous reader: in the index, on the permanent link, and the PNG downloads with the listed checksum
+    const index = listFiguresResponseSchema.parse((await api.get('/api/figures').expect(200)).body);
+    expect(index.figures.map((f) => f.slug)).toEqual([DEMO_FIGURE_SLUG]);
+    const page = figureResponseSchema.parse((await api.get(`/api/figures/${DEMO_FIGURE_SLUG}`).expect(200)).body);
+    if (page.withdrawn) throw new Error('the demo figure reads as withdrawn');
+    expect(page.figure.canEdit).toBe(false);
+    expect(page.figure.latestVersion).toBe(1);
+    const png = page.figure.versions[0]!.files.find((f) => f.format === 'png')!;
+    const link = await api.get(png.href).expect(302);
+    const bytes = Buffer.from(await (await fetch(link.headers.location!)).arrayBuffer());
+    expect(bytes.subarray(1, 4).toString('latin1')).toBe('PNG');
+    expect(createHash('sha256').update(bytes).digest('hex')).toBe(png.sha256);
+
+    // idempotent: the published figure is left as it is, with no second print
+    expect(await finishDemo(baseUrl, { pollMs: 250 })).toEqual({ outcome: 'left', reason: 'the demo figure is already published' });
+    expect(await database.db.$count(figureVersions, eq(figureVersions.figureId, figure!.id))).toBe(1);
   });
 });

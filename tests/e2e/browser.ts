@@ -43,3 +43,15 @@ export async function signIn(page: Page, email: string, password: string, next?:
   await page.getByRole('button', { name: 'Sign in' }).click();
   await page.waitForURL((u) => u.pathname !== '/sign-in');
 }
+
+/** Call the API from the signed-in page, the way the web app does (cookies plus the CSRF header). */
+export async function apiCall<T>(page: Page, method: string, path: string, body?: unknown): Promise<{ status: number; body: T }> {
+  return page.evaluate(
+    async ({ method, path, body }) => {
+      const csrf = decodeURIComponent(document.cookie.split('; ').find((c) => c.startsWith('tw_csrf='))?.slice(8) ?? '');
+      const res = await fetch(path, { method, headers: { 'Content-Type': 'application/json', 'X-CSRF-Token': csrf }, body: body === undefined ? undefined : JSON.stringify(body) });
+      return { status: res.status, body: (await res.json()) as T };
+    },
+    { method, path, body },
+  );
+}

@@ -1,14 +1,14 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import sharp from 'sharp';
-import { eq } from 'drizzle-orm';
 import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { figures, users } from '../../drizzle/schema.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
 import { readNpy } from '../../renderer/src/npy/read.js';
 import { writeNpy } from '../../renderer/src/npy/write.js';
+import type { FigureResponse } from '../../shared/api/figures.js';
 import { heightColour, hexToRgba, paletteById } from '../../shared/palettes.js';
-import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
+import { startingComposition } from '../../shared/print.js';
+import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
 import { startStack, type Stack } from './stack.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
@@ -58,7 +58,7 @@ describe('render farm in the browser', () => {
   let stack: Stack;
   let browser: Browser;
   let worker: Awaited<ReturnType<typeof startFarmWorker>>;
-  /** the run the first test computes, published as a figure by the second */
+  /** the run the first test computes, printed and published as a figure by the second */
   let finishedRunId = '';
 
   beforeAll(async () => {
@@ -189,20 +189,33 @@ describe('render farm in the browser', () => {
     expect(bib).toMatch(/heights sha256 [0-9a-f]{64}/);
   });
 
-  test('a reader without an account deep-zooms into a published figure of that run', { timeout: 60_000 }, async () => {
+  test('its author prints and publishes a figure of that run, and a reader without an account deep-zooms into it', { timeout: 120_000 }, async () => {
     expect(finishedRunId).not.toBe('');
-    // the API has no publishing route yet, so the figure row is written the way publishing would write it
-    const [me] = await stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
-    await stack.deps.db.insert(figures).values({
-      slug: 'farm-check-square-1e6',
+    // through the routes the figure pages use: compose, order the print, wait until the farm has printed it, publish
+    const slug = 'farm-check-square-1e6';
+    const desk = await newPage(browser, stack.url);
+    await signIn(desk, author.email, author.password);
+    const me = await apiCall<{ activeLabId: string }>(desk, 'GET', '/api/me');
+    const composed = await apiCall<FigureResponse>(desk, 'POST', '/api/figures', {
+      labId: me.body.activeLabId,
+      slug,
       title: 'A million grains, computed on the farm',
       caption: 'Final heights of 10^6 grains toppled from the origin of the square lattice.',
-      runId: finishedRunId,
-      createdById: me!.id,
-      publishedAt: new Date(),
+      spec: startingComposition(finishedRunId),
     });
+    expect(composed.status, JSON.stringify(composed.body)).toBe(201);
+    expect((await apiCall(desk, 'POST', `/api/figures/${slug}/versions`, {})).status).toBe(202);
+    const newest = async () => {
+      const r = (await apiCall<FigureResponse>(desk, 'GET', `/api/figures/${slug}`)).body;
+      return r.withdrawn ? 'withdrawn' : (r.figure.versions[0]?.status ?? 'none');
+    };
+    await expect.poll(newest, { timeout: 90_000, interval: 500 }).toBe('ready');
+    const published = await apiCall<{ error?: string }>(desk, 'POST', `/api/figures/${slug}/publish`);
+    expect(published.status, published.body.error).toBe(200);
+    await desk.context().close();
+
     const page = await newPage(browser, stack.url);
-    await page.goto('/f/farm-check-square-1e6');
+    await page.goto(`/f/${slug}`);
     const zoom = page.getByTestId('figure-zoom');
     const pane = zoom.getByTestId('viewer-pane').first();
     await pane.locator('canvas').first().waitFor();

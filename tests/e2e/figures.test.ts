@@ -1,27 +1,15 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import sharp from 'sharp';
 import { eq } from 'drizzle-orm';
 import { hashPassword } from '../../api/src/auth/passwords.js';
 import { labs, memberships, users } from '../../drizzle/schema.js';
 import { pixelsFor } from '../../shared/print.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
+import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
 import { startStack, type Stack } from './stack.js';
 
 const PASSWORD = 'figure-press-passphrase';
-
-/** Call the API from the signed-in page, the way the web app does (cookies plus the CSRF header). */
-async function apiCall<T>(page: Page, method: string, path: string, body?: unknown): Promise<{ status: number; body: T }> {
-  return page.evaluate(
-    async ({ method, path, body }) => {
-      const csrf = decodeURIComponent(document.cookie.split('; ').find((c) => c.startsWith('tw_csrf='))?.slice(8) ?? '');
-      const res = await fetch(path, { method, headers: { 'Content-Type': 'application/json', 'X-CSRF-Token': csrf }, body: body === undefined ? undefined : JSON.stringify(body) });
-      return { status: res.status, body: (await res.json()) as T };
-    },
-    { method, path, body },
-  );
-}
 
 /**
  * The figure publisher end to end, with the real API and a real farm worker: an author composes a

@@ -3,6 +3,7 @@ import { fileURLToPath } from 'node:url';
 import { count, eq, sql } from 'drizzle-orm';
 import { loadEnv, type Env } from '../../../shared/env.js';
 import { JOB_NAMES } from '../../../shared/jobs.js';
+import { figureSpecSchema, specWithCaption, startingComposition } from '../../../shared/print.js';
 import { runSpecSchema, type RunSpecInput } from '../../../shared/run-spec.js';
 import { figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
 import { bookOfflinePurchase } from '../billing/adjustments.js';
@@ -39,7 +40,10 @@ const NAMES: Record<DemoSignIn['role'], string> = {
 
 export const DEMO_LAB = 'Tessellate Hill Sandpile Group';
 export const DEMO_OTHER_LAB = 'Lowmoor Combinatorics Circle';
-/** The demo's figure of its first run: a draft until the author has it printed and publishes it. */
+/**
+ * The demo's figure of its first run: seeded as a draft, since publishing needs a ready print of the
+ * finished run; `npm start` then has it printed and published by its author (./demo-finisher.ts).
+ */
 export const DEMO_FIGURE_SLUG = 'square-lattice-one-hundred-thousand';
 
 type DemoRun = { lab: 'main' | 'other'; by: DemoSignIn['role']; title: string; spec: RunSpecInput };
@@ -99,14 +103,16 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         // in the job outbox with the row (api/src/queue/outbox.ts); sent after the commit, or by the API once Redis answers
         await recordJobs(tx, queue, [{ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } }]);
       }
-      // Composed but not published: publishing needs a ready print (POST /api/figures/:slug/publish),
-      // which the farm makes from the finished run; the author orders it once the run is computed.
+      // Composed as the compose page starts a figure, but not published: publishing needs a ready print
+      // (POST /api/figures/:slug/publish), which the farm makes from the finished run (./demo-finisher.ts).
+      const caption = 'Final stable heights after 100 000 grains are dropped at the origin of Z², on an empty background.';
       const [figure] = await tx.insert(figures).values({
         slug: DEMO_FIGURE_SLUG,
         title: 'One hundred thousand grains, square lattice',
-        caption: 'Final stable heights after 100 000 grains are dropped at the origin of Z², on an empty background.',
+        caption,
         runId: runIds[0]!,
         createdById: who('author'),
+        spec: specWithCaption(figureSpecSchema.parse(startingComposition(runIds[0]!)), caption),
       }).returning();
       await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
       await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.create', subjectType: 'figure', subjectId: figure!.id, detail: { slug: figure!.slug } });

@@ -9,6 +9,7 @@ import {
   PAPER_NAMES,
   figureSpecSchema,
   layoutFigure,
+  startingComposition,
   type FigureSpec,
   type FigureSpecInput,
   type PanelSpec,
@@ -26,7 +27,7 @@ const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled:
 type Draft = { title: string; caption: string; spec: FigureSpecInput };
 
 function newDraft(runId: string): Draft {
-  return { title: '', caption: '', spec: { panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, scaleBar: { unit: 'lattice' } } };
+  return { title: '', caption: '', spec: startingComposition(runId) };
 }
 
 /** /figures/new (?run=<id> to start from that run) and /lab/figures/:slug/edit: compose a figure from the lab's finished runs. */
