@@ -3,6 +3,7 @@ import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
+import { LATTICE_NAMES } from '../../renderer/src/engine/index.js';
 import { writeNpy } from '../../renderer/src/npy/index.js';
 import { runStatsSchema } from '../../shared/run-stats.js';
 import { Workspace } from './run-cli.js';
@@ -214,6 +215,9 @@ describe.concurrent('stabilize CLI: outputs and options', () => {
     const r = await w.ok(['--help']);
     expect(r.stdout).toContain('--lattice');
     expect(r.stdout).toContain('--odometer-dtype');
+    // every lattice the engine accepts by name is offered (the list once left out f-lattice and manhattan)
+    const offered = r.stdout.split('\n').find((l) => l.trimStart().startsWith('--lattice NAME'))!;
+    for (const name of LATTICE_NAMES) expect(offered).toContain(name);
   });
 });
 

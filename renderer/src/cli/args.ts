@@ -1,4 +1,5 @@
 import { parseArgs } from 'node:util';
+import { LATTICE_NAMES } from '../engine/lattice.js';
 import { CliInputError } from './errors.js';
 import { parseCount } from './numbers.js';
 
@@ -44,7 +45,7 @@ export const USAGE = `Usage: npm run -s stabilize -- --lattice NAME|periodic:FIL
 Stabilize N grains at the origin of a lattice (plus optional extra sources) on a background,
 exactly, and write the final heights and the odometer as NumPy .npy arrays.
 
-  --lattice NAME            line | square | cubic | triangular | honeycomb
+  --lattice NAME            ${LATTICE_NAMES.join(' | ')}
   --lattice periodic:F.json a periodic graph on Z^2: {"period":[px,py],"neighbours":[[[[dx,dy],...]]], "name"?}
   --chips N                 grains at the origin (0 .. 2^53−1; 1e6 and 1_000_000 are accepted;
                             0 only when --source adds grains: a run needs at least one in all)
