@@ -1,4 +1,8 @@
-import { renderViews, type Background, type LatticeChoice, type LatticePreset, type RunSpec } from './run-spec.js';
+import { renderViews, type LatticeChoice, type LatticePreset, type RunSpec } from './run-spec.js';
+import { backgroundMean, latticeShape, mayNotStabilizeWarning, type ArrayBackgroundInfo } from './stability.js';
+
+// the lattice and background facts live in stability.ts (the run-spec schema needs them too); re-exported for existing callers
+export { backgroundMean, EstimateError, latticeShape, type ArrayBackgroundInfo, type LatticeShape } from './stability.js';
 
 /**
  * Predicted size, memory, time and cost of a run, before it is submitted. Pure: the run form calls it
@@ -134,69 +138,6 @@ export function domainShapeFactors(lattice: LatticeChoice, dimension: 1 | 2 | 3)
   return planar && dimension === 2 ? [...planar] : Array<number>(dimension).fill(1);
 }
 
-export interface LatticeShape {
-  dimension: 1 | 2 | 3;
-  /** mean number of neighbours (the toppling threshold) */
-  degree: number;
-}
-
-const PRESET_SHAPES: Record<LatticePreset, LatticeShape> = {
-  line: { dimension: 1, degree: 2 },
-  square: { dimension: 2, degree: 4 },
-  cubic: { dimension: 3, degree: 6 },
-  triangular: { dimension: 2, degree: 6 },
-  honeycomb: { dimension: 2, degree: 3 },
-  // directed presets (renderer/src/engine/lattice.ts PERIODIC_PRESETS): out-degree 2 everywhere
-  'f-lattice': { dimension: 2, degree: 2 },
-  manhattan: { dimension: 2, degree: 2 },
-};
-
-/** Thrown for a specification the estimator cannot describe (an unknown lattice preset). */
-export class EstimateError extends Error {
-  override name = 'EstimateError';
-}
-
-export function latticeShape(lattice: LatticeChoice): LatticeShape {
-  if ('preset' in lattice) {
-    const shape = PRESET_SHAPES[lattice.preset as LatticePreset] as LatticeShape | undefined;
-    if (!shape) throw new EstimateError(`unknown lattice preset "${lattice.preset}"; expected one of ${Object.keys(PRESET_SHAPES).join(', ')}`);
-    return shape;
-  }
-  const classes = lattice.periodic.neighbours.flat();
-  if (classes.length === 0) throw new EstimateError('the periodic lattice has no residue classes');
-  const degree = classes.reduce((sum, offsets) => sum + offsets.length, 0) / classes.length;
-  if (degree <= 0) throw new EstimateError('the periodic lattice has no edges');
-  return { dimension: 2, degree };
-}
-
-/** What the estimator needs to know about an uploaded background (the API reads it from the upload record). */
-export interface ArrayBackgroundInfo {
-  shape: number[];
-  meanHeight: number;
-}
-
-/** Mean background height h̄ of the specification (inside the array for an uploaded background). */
-export function backgroundMean(bg: Background, upload?: ArrayBackgroundInfo): number {
-  switch (bg.kind) {
-    case 'constant':
-      return bg.height;
-    case 'checkerboard':
-    case 'annuli':
-      return (bg.a + bg.b) / 2;
-    case 'motif': {
-      const cells = bg.cells.flat();
-      return cells.reduce((a, b) => a + b, 0) / cells.length;
-    }
-    case 'random': {
-      const total = bg.weights.reduce((a, b) => a + b, 0);
-      if (total <= 0) throw new EstimateError('random background: the weights add up to zero');
-      return bg.weights.reduce((sum, w, h) => sum + w * h, 0) / total;
-    }
-    case 'array':
-      return upload?.meanHeight ?? 0;
-  }
-}
-
 export interface RunEstimate {
   /** cells of the final array (the bounding box of the predicted pile plus a margin) */
   cells: number;
@@ -252,8 +193,8 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   const n = spec.chips + sources.reduce((sum, s) => sum + s.chips, 0);
   const mean = backgroundMean(spec.background, upload);
   const warnings: string[] = [];
-  // Above 2d − 2 (i.e. deg − 2) compactness is not guaranteed; at deg − 1 everywhere one grain explodes (arXiv:0901.3805).
-  if (mean > degree - 2) warnings.push(`the mean background height ${round3(mean)} is above ${degree - 2}; the pile may grow much faster than expected or never stabilize`);
+  const warning = mayNotStabilizeWarning(mean, degree);
+  if (warning) warnings.push(warning);
   const rawGain = (2 / 3) * (degree - 1 - mean);
   const gain = Math.max(MIN_GAIN, rawGain);
   // Z^1 final heights are 0/1, so a toppled site holds 1 − h̄ grains more than its background
@@ -314,4 +255,3 @@ export function pyramidSeconds(shape: readonly number[]): number {
   return RENDER_OVERHEAD_SECONDS + (w * h * k * k) / RENDER_PIXELS_PER_SECOND;
 }
 
-const round3 = (x: number) => Math.round(x * 1000) / 1000;

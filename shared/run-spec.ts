@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { DEFAULT_PALETTE_ID, layerSchema, PALETTE_IDS, paletteIdSchema, untoppledStyleSchema, type Layer, type PaletteId, type UntoppledStyle } from './palettes.js';
+import { neverStabilizesReason } from './stability.js';
 
 /**
  * The specification of one run: the single contract read by the CLI, the API, the web form and the
@@ -113,6 +114,28 @@ export function checkRenderAgainstBackground(spec: { background: Background; ren
   }
 }
 
+/** The field of each background kind that a refusal of the whole background is shown by (for the form). */
+const BACKGROUND_FIELD: Record<Background['kind'], string | undefined> = {
+  constant: 'height',
+  checkerboard: 'a',
+  annuli: 'a',
+  motif: 'cells',
+  random: 'weights',
+  array: undefined,
+};
+
+/**
+ * A new run whose background can never stabilize on its lattice is refused before it is stored or
+ * charged (shared/stability.ts says when that is certain; runs that only might not are accepted
+ * with the estimator's warning). `params.neverStabilizes` lets the CLI answer as the engine would.
+ */
+export function checkBackgroundCanStabilize(spec: { lattice: LatticeChoice; background: Background }, ctx: z.RefinementCtx): void {
+  const reason = neverStabilizesReason(spec.lattice, spec.background);
+  if (!reason) return;
+  const field = BACKGROUND_FIELD[spec.background.kind];
+  ctx.addIssue({ code: 'custom', path: field ? ['background', field] : ['background'], message: reason, params: { neverStabilizes: true } });
+}
+
 /** The fields of a specification, without its cross-field rules (for `.omit`, which refinements forbid). */
 export const runSpecShapeSchema = z.strictObject({
   lattice: latticeSchema,
@@ -133,7 +156,8 @@ export const NEW_RUN_MIN_CHIPS_MESSAGE = 'must be at least 1';
 
 /**
  * A specification for a run about to be created or estimated: at least one grain in all, since a run
- * of none computes nothing yet is charged (0 at the origin is fine when further sources hold grains).
+ * of none computes nothing yet is charged (0 at the origin is fine when further sources hold grains),
+ * and a background that can stabilize at all (checkBackgroundCanStabilize).
  * runSpecSchema stays at 0, because it also reads back stored runs, jobs and run.json files written
  * before this rule.
  */
@@ -141,7 +165,8 @@ export const newRunSpecSchema = runSpecShapeSchema
   // negative counts get the same message as 0 (not "at least 0", which read as if 0 were fine)
   .extend({ chips: z.number().int().min(0, NEW_RUN_MIN_CHIPS_MESSAGE).max(Number.MAX_SAFE_INTEGER) })
   .superRefine((spec, ctx) => {
-  checkRenderAgainstBackground(spec, ctx);
+    checkRenderAgainstBackground(spec, ctx);
+    checkBackgroundCanStabilize(spec, ctx);
     if (spec.chips === 0 && spec.sources.every((s) => s.chips === 0)) ctx.addIssue({ code: 'custom', path: ['chips'], message: NEW_RUN_MIN_CHIPS_MESSAGE });
   });
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { checkRenderAgainstBackground, chipsSchema, runSpecShapeSchema } from '../run-spec.js';
+import { checkBackgroundCanStabilize, checkRenderAgainstBackground, chipsSchema, runSpecShapeSchema } from '../run-spec.js';
 import { idSchema, isoDateSchema } from './errors.js';
 import { runSchema, runTitleSchema } from './runs.js';
 
@@ -10,7 +10,11 @@ export const createSeriesRequestSchema = z.strictObject({
   labId: idSchema,
   title: runTitleSchema,
   /** the run specification without its grain count; each run gets one of `chips` */
-  spec: runSpecShapeSchema.omit({ chips: true }).superRefine(checkRenderAgainstBackground),
+  spec: runSpecShapeSchema.omit({ chips: true }).superRefine((spec, ctx) => {
+    checkRenderAgainstBackground(spec, ctx);
+    // every run of a series gets at least one grain, so the new-run rule applies to each
+    checkBackgroundCanStabilize(spec, ctx);
+  }),
   chips: z
     .array(chipsSchema.min(1, 'each grain count must be at least 1'))
     .min(2, 'a series needs at least 2 grain counts')

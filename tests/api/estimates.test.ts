@@ -2,7 +2,8 @@ import { totalmem } from 'node:os';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { estimateResponseSchema } from '../../shared/api/estimates.js';
 import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, FAST_PATH_MEASURED, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
-import { LATTICE_PRESETS, runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
+import { LATTICE_PRESETS, newRunSpecSchema, runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
+import { backgroundFloor, neverStabilizesReason } from '../../shared/stability.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 
 const spec = (s: RunSpecInput) => runSpecSchema.parse(s);
@@ -110,6 +111,56 @@ describe('the estimator (shared/estimate.ts)', () => {
     const far = estimateRun(spec({ lattice: { preset: 'square' }, chips: 100, sources: [{ at: [500, 0], chips: 100 }] }));
     expect(far.shape[1]).toBeGreaterThan(1000);
     expect(() => estimateRun(spec({ lattice: { preset: 'kagome-ish' }, chips: 10 }))).toThrow(EstimateError);
+  });
+});
+
+describe('backgrounds that can never stabilize (shared/stability.ts)', () => {
+  // every site at least its threshold − 1: the first grain makes every site it reaches topple
+  // (common practice; the engine's own refusal in renderer/src/engine/explosion.ts agrees)
+  it('refuses exactly when every site is at least its threshold − 1', () => {
+    const sq = { preset: 'square' };
+    expect(neverStabilizesReason(sq, { kind: 'constant', height: 3 })).toBeDefined();
+    expect(neverStabilizesReason(sq, { kind: 'constant', height: 2 })).toBeUndefined();
+    expect(neverStabilizesReason(sq, { kind: 'checkerboard', a: 3, b: 9 })).toBeDefined();
+    expect(neverStabilizesReason(sq, { kind: 'checkerboard', a: 3, b: 2 })).toBeUndefined();
+    expect(neverStabilizesReason(sq, { kind: 'annuli', a: 0, b: 7 })).toBeUndefined();
+    expect(neverStabilizesReason(sq, { kind: 'motif', cells: [[3, 3], [3, 2]] })).toBeUndefined();
+    expect(neverStabilizesReason(sq, { kind: 'random', seed: 1, weights: [0, 0, 0, 5] })).toBeDefined();
+    // a tiny weight on 2 leaves sites that can absorb grains
+    expect(neverStabilizesReason(sq, { kind: 'random', seed: 1, weights: [0, 0, 1e-6, 5] })).toBeUndefined();
+    // an upload is 0 outside its array
+    expect(neverStabilizesReason(sq, { kind: 'array', sha256: 'a'.repeat(64), shape: [3, 3] })).toBeUndefined();
+    // thresholds per preset: triangular 6, honeycomb 3, line 2, cubic 6
+    expect(neverStabilizesReason({ preset: 'triangular' }, { kind: 'constant', height: 4 })).toBeUndefined();
+    expect(neverStabilizesReason({ preset: 'triangular' }, { kind: 'constant', height: 5 })).toBeDefined();
+    expect(neverStabilizesReason({ preset: 'honeycomb' }, { kind: 'constant', height: 1 })).toBeUndefined();
+    expect(neverStabilizesReason({ preset: 'honeycomb' }, { kind: 'constant', height: 2 })).toBeDefined();
+    expect(neverStabilizesReason({ preset: 'line' }, { kind: 'constant', height: 1 })).toBeDefined();
+    expect(neverStabilizesReason({ preset: 'cubic' }, { kind: 'checkerboard', a: 4, b: 5 })).toBeUndefined();
+    // an unknown preset is refused elsewhere, with its own message
+    expect(neverStabilizesReason({ preset: 'kagome-ish' }, { kind: 'constant', height: 9 })).toBeUndefined();
+  });
+
+  it('judges a drawn unit cell by its largest threshold, so it never refuses what might stabilize', () => {
+    // class (0, 0) has 4 neighbours, class (1, 0) has 2: at 2 everywhere the first class is below 3
+    const mixed = { periodic: { period: [2, 1] as [number, number], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1]], [[1, 0], [-1, 0]]]] as [number, number][][][] } };
+    expect(neverStabilizesReason(mixed, { kind: 'constant', height: 2 })).toBeUndefined();
+    expect(neverStabilizesReason(mixed, { kind: 'constant', height: 3 })).toMatch(/and 3 is one below 4, the largest toppling threshold of this lattice's sites: /);
+  });
+
+  it('reads the lowest recurring height of each background kind', () => {
+    expect(backgroundFloor({ kind: 'motif', cells: [[4, 7], [2, 9]] })).toBe(2);
+    expect(backgroundFloor({ kind: 'random', seed: 0, weights: [0, 0, 3, 1] })).toBe(2);
+    expect(backgroundFloor({ kind: 'random', seed: 0, weights: [0, 0] })).toBeUndefined();
+  });
+
+  it('is the new-run schema\'s rule, on the background field, and keeps the soft warning for the rest', () => {
+    const r = newRunSpecSchema.safeParse({ lattice: { preset: 'square' }, chips: 5, background: { kind: 'constant', height: 3 } });
+    expect(r.success).toBe(false);
+    expect(r.error!.issues.map((i) => [i.path.join('.'), i.message])).toEqual([['background.height', neverStabilizesReason({ preset: 'square' }, { kind: 'constant', height: 3 })]]);
+    // mean 2.5 above 2d − 2 = 2, but the 2s can absorb grains: accepted with the warning
+    const maybe = newRunSpecSchema.parse({ lattice: { preset: 'square' }, chips: 5, background: { kind: 'checkerboard', a: 3, b: 2 } });
+    expect(estimateRun(maybe).warnings).toEqual(['the mean background height 2.5 is above 2; the pile may grow much faster than expected or never stabilize']);
   });
 });
 

@@ -168,3 +168,67 @@ describe('runs larger than the machines', () => {
     expect(before[0]).toBe(0);
   });
 });
+
+describe('runs whose background can never stabilize', () => {
+  // every site at its threshold − 1 or more: one grain makes every site topple in turn (common
+  // practice; the engine refuses these too, renderer/src/engine/explosion.ts)
+  const never: [string, unknown, string][] = [
+    ['constant 3 on the square lattice', { lattice: { preset: 'square' }, chips: 1000, background: { kind: 'constant', height: 3 } }, 'spec.background.height'],
+    ['constant 4 on the square lattice', { lattice: { preset: 'square' }, chips: 1000, background: { kind: 'constant', height: 4 } }, 'spec.background.height'],
+    ['a checkerboard of 5 and 3', { lattice: { preset: 'square' }, chips: 10, background: { kind: 'checkerboard', a: 5, b: 3 } }, 'spec.background.a'],
+    ['a motif of 3s and 4s', { lattice: { preset: 'square' }, chips: 10, background: { kind: 'motif', cells: [[3, 4], [4, 3]] } }, 'spec.background.cells'],
+    ['random weights only on 3 and up', { lattice: { preset: 'square' }, chips: 10, background: { kind: 'random', seed: 1, weights: [0, 0, 0, 1, 2] } }, 'spec.background.weights'],
+    ['annuli of 2 on the honeycomb lattice', { lattice: { preset: 'honeycomb' }, chips: 10, background: { kind: 'annuli', a: 2, b: 2 } }, 'spec.background.a'],
+    ['constant 1 on the line', { lattice: { preset: 'line' }, chips: 10, background: { kind: 'constant', height: 1 } }, 'spec.background.height'],
+    ['constant 5 on the cubic lattice', { lattice: { preset: 'cubic' }, chips: 10, background: { kind: 'constant', height: 5 } }, 'spec.background.height'],
+    // the form sends the periodic presets as their unit cell: F-lattice, out-degree 2
+    ['constant 1 on the F-lattice', { lattice: { periodic: { period: [2, 2], neighbours: [[[[1, 0], [-1, 0]], [[0, 1], [0, -1]]], [[[0, 1], [0, -1]], [[1, 0], [-1, 0]]]] }, name: 'f-lattice' }, chips: 10, background: { kind: 'constant', height: 1 } }, 'spec.background.height'],
+  ];
+  const stored = async (lab: string) => [
+    (await h.deps.db.select({ id: runs.id }).from(runs).where(eq(runs.labId, lab))).length,
+    (await h.deps.db.select({ id: ledgerEntries.id }).from(ledgerEntries).where(eq(ledgerEntries.labId, lab))).length,
+  ];
+
+  it.for(never)('refuses %s with 400 on the background field, storing and charging nothing', async ([, spec, path]) => {
+    const lab = await createLab(h, `Never Lab ${path} ${Math.random().toString(36).slice(2, 8)}`, [{ userId: authorId, role: 'author' }]);
+    const res = await as(h.http.post('/api/runs'), author).send({ labId: lab, title: 'Never stops', spec });
+    expect(res.status).toBe(400);
+    expect(res.body.issues).toHaveLength(1);
+    expect(res.body.issues[0].path).toBe(path);
+    expect(res.body.issues[0].message).toMatch(/on every site, and \d+ is one below .* the avalanche never stops, so the run could never finish; use a background with heights of at most \d+ on some sites$/);
+    expect(res.body.error).toContain(path);
+    const estimate = await as(h.http.post('/api/estimates'), author).send({ spec });
+    expect(estimate.status).toBe(400);
+    expect(estimate.body.issues.map((i: { path: string }) => i.path)).toEqual([path]);
+    const { chips: _n, ...rest } = spec as { chips: number };
+    const series = await as(h.http.post('/api/series'), author).send({ labId: lab, title: 'Never stops either', spec: rest, chips: [10, 100] });
+    expect(series.status).toBe(400);
+    expect(series.body.issues.map((i: { path: string }) => i.path)).toEqual([path]);
+    expect(await stored(lab)).toEqual([0, 0]);
+  });
+
+  it('names the numbers of the lattice: constant 3 on the square lattice is one below its threshold 4', async () => {
+    const res = await create(author, 'All threes', { lattice: { preset: 'square' }, chips: 1, background: { kind: 'constant', height: 3 } });
+    expect(res.status).toBe(400);
+    expect(res.body.issues[0].message).toMatch(/^this constant background puts at least 3 grains on every site, and 3 is one below the toppling threshold 4 of every site of this lattice: .* heights of at most 2 on some sites$/);
+  });
+
+  it('accepts backgrounds that might stabilize, with the estimator\'s warning above 2d − 2', async () => {
+    // constant 2d − 2 = 2 on Z^2 stays compact (Fey, Levine & Peres, arXiv:0901.3805): no warning
+    const two = { lattice: { preset: 'square' }, chips: 100, background: { kind: 'constant', height: 2 } };
+    expect((await as(h.http.post('/api/estimates'), author).send({ spec: two }).expect(200)).body.estimate.warnings).toEqual([]);
+    await create(author, 'All twos', two).expect(201);
+    // mean above 2 but a site class below 3: it may stabilize, so only the warning
+    const maybe = [
+      { lattice: { preset: 'square' }, chips: 100, background: { kind: 'checkerboard', a: 3, b: 2 } },
+      { lattice: { preset: 'square' }, chips: 100, background: { kind: 'random', seed: 3, weights: [0, 0, 1, 1] } },
+      { lattice: { preset: 'triangular' }, chips: 100, background: { kind: 'motif', cells: [[5, 4]] } },
+    ];
+    for (const spec of maybe) {
+      const e = await as(h.http.post('/api/estimates'), author).send({ spec }).expect(200);
+      expect(e.body.estimate.warnings).toHaveLength(1);
+      expect(e.body.estimate.warnings[0]).toMatch(/may grow much faster than expected or never stabilize$/);
+      await create(author, 'Maybe', spec).expect(201);
+    }
+  });
+});

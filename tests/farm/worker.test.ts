@@ -57,9 +57,11 @@ describe('the renderer worker', () => {
   });
 
   it('fails a run whose background can never stabilize at once, with the reason', async () => {
-    const run = await settled((await submit('All threes', { lattice: { preset: 'square' }, chips: 1, background: { kind: 'constant', height: 3 } })).id);
+    // rows of 3 between rows of 0: the API accepts it (not every site is at 3; all-3 is refused at
+    // submission), but the source sits on an infinite line of maximal sites, so one grain explodes
+    // (arXiv:1109.2908, Sadhu & Dhar; ../shared/facts.md §5)
+    const run = await settled((await submit('Rows of threes', { lattice: { preset: 'square' }, chips: 1, background: { kind: 'motif', cells: [[3], [0]] } })).id);
     expect(run.status).toBe('failed');
-    // all-3 on Z^2 explodes for one grain (arXiv:1109.2908, Sadhu & Dhar; ../shared/facts.md §5)
     expect(run.error).toMatch(/never stops/);
     expect(run.error).toMatch(/arXiv:1109\.2908/);
   });

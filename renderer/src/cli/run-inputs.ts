@@ -1,6 +1,7 @@
 import { NEW_RUN_MIN_CHIPS_MESSAGE, newRunSpecSchema, type RunSpec } from '../../../shared/run-spec.js';
 import type { CliOptions } from './args.js';
 import { resolveBackgroundArg } from './background-arg.js';
+import { ExplosionError } from '../engine/errors.js';
 import { CliInputError } from './errors.js';
 import { latticeDimension, resolveLatticeArg } from './lattice-arg.js';
 import { parseSourceArg } from './source-arg.js';
@@ -30,6 +31,8 @@ export async function resolveRunInputs(options: CliOptions): Promise<RunInputs> 
   const parsed = newRunSpecSchema.safeParse({ lattice, chips: options.chips, sources, background });
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
+    // a background that can never stabilize is the engine's kind of refusal (exit 3), found earlier
+    if (issue?.code === 'custom' && issue.params?.neverStabilizes) throw new ExplosionError(issue.message);
     const noGrains = issue?.path.join('.') === 'chips' && issue.message === NEW_RUN_MIN_CHIPS_MESSAGE;
     const hint = noGrains ? ' (a run needs at least one grain in all: --chips 0 only with a --source that adds grains)' : '';
     throw new CliInputError(`invalid run specification: ${firstIssue(parsed.error)}${hint}`);
