@@ -51,3 +51,19 @@ export function formatCountText(n: number | bigint): string {
   const power = `10${superscriptDigits(p.exponent)}`;
   return `${groupThousands(n)} (${p.mantissa === '1' ? power : `${p.mantissa} × ${power}`})`;
 }
+
+const compact = new Intl.NumberFormat('en-US', { notation: 'compact', maximumSignificantDigits: 3 });
+
+/**
+ * The shortest honest form of a count where room is scarce (legend ticks): exact powers of ten as
+ * "10⁴", other counts from 1000 up as "94K" or "1.07M" (three significant digits), smaller ones as
+ * they are. A leading sign is kept ("+1.5K"). `powers: false` writes "10K" instead of "10⁴", for
+ * fonts without the superscripts 4–9 (the print's Latin Work Sans).
+ */
+export function compactCount(n: number, signed = false, powers = true): string {
+  const sign = n < 0 ? '−' : signed && n > 0 ? '+' : '';
+  const a = Math.abs(n);
+  if (!Number.isInteger(a) || a < 1000) return `${sign}${a}`;
+  const p = powerOfTen(a);
+  return `${sign}${powers && p && p.mantissa === '1' ? `10${superscriptDigits(p.exponent)}` : compact.format(a)}`;
+}

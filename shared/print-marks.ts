@@ -1,4 +1,6 @@
 import { colourTable, hexToRgba, legendFor, paletteById, type Layer, type LayerStats, type Legend, type Palette, type Rgba, type UntoppledStyle } from './palettes.js';
+import { compactCount } from './counts.js';
+import { legendTicks } from './legend-ticks.js';
 import { legendRowPx, POINTS_PER_INCH, type FigureLayout, type PanelSpec } from './print.js';
 
 /**
@@ -158,20 +160,10 @@ function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title:
     marks.push({ kind: 'fill', x: x + (i * barW) / steps, y: y1, width: barW / steps + 0.05, height: sw, colour: opaque(table[1 + Math.round(t * (table.length - 2))]) });
   }
   marks.push({ kind: 'stroke', x, y: y1, width: barW, height: sw, colour: INK, lineWidthPt: 0.2 });
-  // labels that would overlap are dropped, but never the two ends of the scale
-  const placed = stops.map((s) => {
-    const lw = labelWidth(s.label);
-    const lx = Math.min(x + barW - lw, Math.max(x, x + s.position * barW - lw / 2));
-    return { label: s.label, lx, end: lx + lw };
-  });
-  const last = placed[placed.length - 1];
-  let lastEnd = -Infinity;
-  for (const [i, l] of placed.entries()) {
-    const isEnd = i === 0 || i === placed.length - 1;
-    if (!isEnd && (l.lx < lastEnd + textPt * 0.4 || l.end + textPt * 0.4 > last.lx)) continue;
-    text('regular', l.lx, y1 + line, l.label);
-    lastEnd = l.end;
-  }
+  // the same choice of ticks as the screen's legend: short forms when crowded, never the two ends
+  // dropped; "10K" rather than "10⁴", as the Latin Work Sans has no superscripts beyond ³
+  const short = (v: number, signed: boolean) => compactCount(v, signed, false);
+  for (const t of legendTicks(stops, barW, labelWidth, textPt * 0.4, short)) text('regular', x + t.left, y1 + line, t.label);
   if (legend.kind === 'continuous' && legend.masked) {
     // laid out as a swatch of the discrete rows: centred over its label
     const lw = labelWidth(legend.masked.label);

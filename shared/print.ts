@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { layerSchema, paletteIdSchema, untoppledStyleSchema, DEFAULT_PALETTE_ID } from './palettes.js';
+import { naturalScale, printScaleSymbol } from './natural-scale.js';
 
 /**
  * The print-figure contract shared by the web form (proof preview), the API (orders) and the render
@@ -121,7 +122,7 @@ export const figureSpecSchema = z
         gapMm: mm.default(4),
         /**
          * none: every panel fills its place; lattice: one lattice unit is the same length in every
-         * panel; rescaled: one unit of x/√n is the same length in every panel (piles of different n
+         * panel; rescaled: one unit of x/n^(1/d) is the same length in every panel (piles of different n
          * side by side). Applies to panels whose magnification is 'fit'.
          */
         sharedScale: z.enum(['none', 'lattice', 'rescaled']).default('none'),
@@ -182,7 +183,7 @@ export interface RunGeometry {
   /** array shape, x last: (W), (H, W) or (D, H, W) */
   shape: readonly number[];
   origin: readonly number[];
-  /** n, the number of grains added (for rescaled units x/√n) */
+  /** n, the number of grains added (for rescaled units x/n^(1/d), d = the rank of `shape`) */
   chips: number;
 }
 
@@ -206,7 +207,7 @@ export interface LayoutWarning {
 
 export interface ScaleBarLayout {
   unit: 'lattice' | 'rescaled';
-  /** length in its unit (cells, or x/√n) */
+  /** length in its unit (cells, or x/n^(1/d)) */
   length: number;
   /** the same length in lattice cells */
   cells: number;
@@ -367,11 +368,14 @@ export function legendRowPx(textPt: number, dpi: number): number {
 
 const fmt = (v: number) => v.toLocaleString('en-US', { maximumFractionDigits: 6 });
 
-export function scaleBarText(unit: 'lattice' | 'rescaled', length: number, cells: number): string {
+export function scaleBarText(unit: 'lattice' | 'rescaled', length: number, cells: number, dimension = 2): string {
   if (unit === 'lattice') return `${fmt(length)} lattice ${length === 1 ? 'unit' : 'units'}`;
-  // Work Sans's Latin set has no radical sign, so n^½ is spelt out; the cell count says the same plainly
-  return `${fmt(length)} · n½ = ${fmt(Math.round(cells))} cells`;
+  // the unit is n^(1/d) in the print font's glyphs (n½, n¹⁄³); the cell count says the same plainly
+  return `${fmt(length)} · ${printScaleSymbol(dimension)} = ${fmt(Math.round(cells))} cells`;
 }
+
+/** n^(1/d) of a run: the length of one rescaled unit in lattice cells. */
+const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.max(1, run.chips), run.shape.length));
 
 function blockWord(layer: PanelSpec['layer']): string {
   return layer === 'heights' || layer === 'toppled' ? 'height' : 'value';
@@ -484,8 +488,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     const s = Math.min(...fitIdx.map((i) => fill[i]));
     for (const i of fitIdx) target[i] = s;
   } else if (shared === 'rescaled' && fitIdx.length > 0) {
-    // pixels per unit of x/√n, the same for all: cell size ∝ 1/√n
-    const root = (i: number) => Math.sqrt(Math.max(1, cells[i]!.run.chips));
+    // pixels per unit of x/n^(1/d), the same for all: cell size ∝ 1/n^(1/d)
+    const root = (i: number) => unitCells(cells[i]!.run);
     const p = Math.min(...fitIdx.map((i) => fill[i] * root(i)));
     for (const i of fitIdx) target[i] = p / root(i);
   }
@@ -533,16 +537,16 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     let scaleBar: ScaleBarLayout | null = null;
     if (spec.scaleBar) {
       const unit = spec.scaleBar.unit;
-      const cellsPerUnit = unit === 'lattice' ? 1 : Math.sqrt(Math.max(1, c.run.chips));
+      const cellsPerUnit = unit === 'lattice' ? 1 : unitCells(c.run);
       const length = spec.scaleBar.length ?? niceLength((c.w * 0.25) / cellsPerUnit);
       const lenCells = length * cellsPerUnit;
       const barW = Math.max(1, Math.round(lenCells * pixelsPerCell));
       if (barW > slotW) {
-        warnings.push({ code: 'no-room', panel: i, blocking: false, message: `panel ${i + 1}: the scale bar (${scaleBarText(unit, length, lenCells)}) is wider than the panel and is shortened to fit` });
+        warnings.push({ code: 'no-room', panel: i, blocking: false, message: `panel ${i + 1}: the scale bar (${scaleBarText(unit, length, lenCells, c.run.shape.length)}) is wider than the panel and is shortened to fit` });
       }
       const top = image.y + ih + pt2px(spec.textPt * 0.5);
       const bar = { x: image.x, y: top, width: Math.min(barW, slot.x + slotW - image.x), height: barThick };
-      scaleBar = { unit, length, cells: lenCells, bar, text: scaleBarText(unit, length, lenCells), textAt: { x: image.x, y: top + barThick + pt2px(spec.textPt * 0.3) } };
+      scaleBar = { unit, length, cells: lenCells, bar, text: scaleBarText(unit, length, lenCells, c.run.shape.length), textAt: { x: image.x, y: top + barThick + pt2px(spec.textPt * 0.3) } };
     }
     panels.push({
       index: i,
@@ -600,7 +604,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   const content: PxRect = { x: m.left, y: m.top, width: contentW, height: heightPx - m.top - m.bottom };
 
   if (shared === 'rescaled' && fitIdx.length > 1) {
-    const per = panels.filter((q) => fitIdx.includes(q.index)).map((q) => q.pixelsPerCell * Math.sqrt(Math.max(1, cells[q.index]!.run.chips)));
+    const per = panels.filter((q) => fitIdx.includes(q.index)).map((q) => q.pixelsPerCell * unitCells(cells[q.index]!.run));
     const spread = per.length > 1 ? Math.max(...per) / Math.min(...per) - 1 : 0;
     if (spread > 0.01) {
       warnings.push({

@@ -5,11 +5,12 @@ import { api } from '../api/client.js';
 import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
-import { isStatus } from '../api/ApiError.js';
 import { backgroundOfSpec, drawingOfSpec, latticeOfSpec } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
-import { Button, Count, EmptyState, ErrorPanel, FactList, FormError, LinkButton, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
+import { scaleSymbol } from '../../../shared/natural-scale.js';
+import { isRunMissing, RunNotFound } from './RunNotFound.js';
+import { Button, Count, ErrorPanel, FactList, FormError, LinkButton, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
 
 const ACTIVE: readonly RunStatus[] = ['queued', 'computing', 'rendering'];
 
@@ -23,13 +24,7 @@ export function RunPage() {
   useEffect(() => setWorking(!status || ACTIVE.includes(status)), [status]);
   if (run.isPending) return <SkeletonBlock lines={8} />;
   if (run.isError) {
-    if (isStatus(run.error, 404) || isStatus(run.error, 400)) {
-      return (
-        <EmptyState title="No run at this address" action={<Link to="/runs">Back to runs</Link>}>
-          It may belong to another lab, or the link is mistyped.
-        </EmptyState>
-      );
-    }
+    if (isRunMissing(run.error)) return <RunNotFound />;
     return <ErrorPanel error={run.error} />;
   }
   return <RunDetail run={run.data.run} />;
@@ -151,9 +146,9 @@ function RunDetail({ run }: { run: Run }) {
           <Section title="Toppled sites by final height" description="Only sites that toppled at least once are counted.">
             <HeightBarsPlot heightCounts={run.stats.heightCounts} />
           </Section>
-          <Section title="Radial profile" description="Mean final height of toppled sites against the rescaled distance |x|/√n from the origin.">
+          <Section title="Radial profile" description={`Mean final height of toppled sites against the rescaled distance |x|/${scaleSymbol(run.stats.shape.length)} from the origin.`}>
             {runJson.data?.radialProfile ? (
-              <RadialProfilePlot profile={runJson.data.radialProfile} />
+              <RadialProfilePlot profile={runJson.data.radialProfile} grains={Number(run.stats.grainsIn)} dimension={run.stats.shape.length} />
             ) : runJson.isError ? (
               <p className="text-sm text-ink-faint">{(runJson.error as Error).message}</p>
             ) : expired ? (

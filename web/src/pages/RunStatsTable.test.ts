@@ -5,10 +5,10 @@ import { runStatsSchema } from '../../../shared/run-stats.js';
 import { RunStatsTable } from './RunStatsTable.js';
 
 /** A small finished run's statistics as the worker stores them (the numbers only need to parse). */
-const stats = (seconds: number) =>
+const stats = (seconds: number, shape = [21, 21]) =>
   runStatsSchema.parse({
-    lattice: 'square', chips: '1000', shape: [21, 21], origin: [10, 10], grainsIn: '1000', grainsOut: '1000', toppledSites: 300,
-    totalTopplings: '12000', originOdometer: '300', bbox: [[-9, 9], [-9, 9]], radiusEuclidean: 9.5, radiusLinf: 9, radiusOverSqrtN: 0.3,
+    lattice: 'square', chips: '1000', shape, origin: shape.map(() => 10), grainsIn: '1000', grainsOut: '1000', toppledSites: 300,
+    totalTopplings: '12000', originOdometer: '300', bbox: shape.map(() => [-9, 9]), radiusEuclidean: 9.5, radiusLinf: 9, radiusOverSqrtN: 0.3,
     heightCounts: [10, 90, 100, 100], meanHeightToppled: 2, symmetric: true, seconds,
   });
 
@@ -29,5 +29,12 @@ describe('the run page statistics', () => {
     const html = renderToStaticMarkup(createElement(RunStatsTable, { stats: stats(3.46), wallSeconds: 200 }));
     expect(rowValue(html, 'Engine time')).toBe('3.5 s');
     expect(rowValue(html, 'Wall-clock time')).toBe('3 min 20 s');
+  });
+
+  test('the radius is divided by the pile\'s natural length n^(1/d): n on the line, √n on the plane, ∛n in space', () => {
+    const row = (shape: number[], label: string) => rowValue(renderToStaticMarkup(createElement(RunStatsTable, { stats: stats(1, shape), wallSeconds: 1 })), label);
+    expect(row([21], 'Radius ÷ n')).toBe((9.5 / 1000).toFixed(4));
+    expect(row([21, 21], 'Radius ÷ √n')).toBe((9.5 / Math.sqrt(1000)).toFixed(4));
+    expect(row([21, 21, 21], 'Radius ÷ ∛n')).toBe((9.5 / 10).toFixed(4));
   });
 });

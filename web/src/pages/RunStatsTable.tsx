@@ -3,6 +3,7 @@ import { runStatsFromJSON, type RunStats } from '../../../shared/run-stats.js';
 import { formatElapsed, groupThousands } from '../format.js';
 import { statRows } from '../runStats.js';
 import { Count } from '../ui/index.js';
+import { naturalScale, scaleSymbol } from '../../../shared/natural-scale.js';
 
 /** Axis names in array order: (W), (H, W) or (D, H, W). */
 function axisNames(dims: number): string[] {
@@ -44,7 +45,8 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
       { label: 'Topplings at the origin', value: <Count n={s.originOdometer} unit="topplings" showPower={false} /> },
       { label: 'Radius (Euclidean)', value: <>{s.radiusEuclidean.toFixed(2)}<Unit>lattice spacings</Unit></> },
       { label: 'Radius (largest coordinate)', value: <>{groupThousands(s.radiusLinf)}<Unit>lattice spacings</Unit></> },
-      { label: 'Radius ÷ √n', value: s.radiusOverSqrtN === null ? '—' : s.radiusOverSqrtN.toFixed(4) },
+      // the natural length is n^(1/d): n on the line, √n on the plane, ∛n on the cubic lattice
+      { label: `Radius ÷ ${scaleSymbol(s.shape.length)}`, value: s.grainsIn > 0n ? (s.radiusEuclidean / naturalScale(Number(s.grainsIn), s.shape.length)).toFixed(4) : '—' },
       {
         label: 'Toppled region',
         value: s.bbox ? (

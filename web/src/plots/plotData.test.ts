@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { decadeTicks, heightBars, logLogSlope, radialPoints, sqrtFit } from './plotData.js';
+import { decadeTicks, heightBars, logLogSlope, niceTicks, radialPoints, sqrtFit } from './plotData.js';
 
 describe('series plot', () => {
   test('points on r = c·√n give back c and a log-log slope of exactly 1/2', () => {
@@ -33,6 +33,34 @@ describe('run plots', () => {
       { r: 0.05, meanHeight: 2, sites: 4 },
       { r: 0.25, meanHeight: 3, sites: 1 },
     ]);
+  });
+
+  test('on the line and the cubic lattice the distance is rescaled by n and ∛n, not √n', () => {
+    // the worker bins by |x|/√n: bin 2 of width 0.1 holds |x| ≈ 0.25·√n
+    const p = { binWidth: 0.1, meanHeight: [null, null, 1], sites: [0, 0, 4] };
+    const n = 1_000_000;
+    expect(radialPoints(p, n, 2)[0]!.r).toBeCloseTo(0.25, 12);
+    expect(radialPoints(p, n, 1)[0]!.r).toBeCloseTo((0.25 * 1000) / n, 12);
+    expect(radialPoints(p, n, 3)[0]!.r).toBeCloseTo((0.25 * 1000) / 100, 12);
+  });
+
+  test('axis ticks are evenly spaced round numbers written with one number of decimals', () => {
+    // the line run's axis (|x|/√n up to about 15.8) read 8.20, 9.10, 10.20, 11.30 with steps of 0.1 thinned by the chart
+    for (const end of [0.063, 0.52, 0.75, 1.3, 15.8, 430]) {
+      const { ticks, decimals } = niceTicks(end);
+      const step = ticks[1]! - ticks[0]!;
+      expect(ticks[0]).toBe(0);
+      expect(ticks.at(-1)!).toBeGreaterThanOrEqual(end - 1e-12);
+      expect(ticks.length).toBeGreaterThanOrEqual(4);
+      expect(ticks.length).toBeLessThanOrEqual(12);
+      ticks.forEach((t, i) => expect(t).toBeCloseTo(i * step, 9));
+      // the step's leading digit is 1, 2, 2.5 or 5
+      expect([1, 2, 2.5, 5]).toContain(Number((step / 10 ** Math.floor(Math.log10(step))).toFixed(6)));
+      // every label is distinct and exact at its decimals
+      const labels = ticks.map((t) => t.toFixed(decimals));
+      expect(new Set(labels).size).toBe(labels.length);
+      labels.forEach((l, i) => expect(Number(l)).toBeCloseTo(ticks[i]!, 12));
+    }
   });
 
   test('bars per height', () => expect(heightBars([1, 0, 5])).toEqual([{ height: '0', sites: 1 }, { height: '1', sites: 0 }, { height: '2', sites: 5 }]));

@@ -2,6 +2,7 @@
  * Numbers behind the run and series plots, kept apart from the chart components so they can be
  * checked without a browser. Pure functions.
  */
+import { naturalScale } from '../../../shared/natural-scale.js';
 
 export interface RadialProfileLike {
   binWidth: number;
@@ -9,13 +10,34 @@ export interface RadialProfileLike {
   sites: number[];
 }
 
-/** One point per non-empty bin, at the bin's centre in units of |x|/√n. */
-export function radialPoints(p: RadialProfileLike): { r: number; meanHeight: number; sites: number }[] {
+/**
+ * One point per non-empty bin, at the bin's centre in units of |x|/n^(1/d). The worker bins by
+ * |x|/√n (renderer/src/analysis/radial-profile.ts); on the line and the cubic lattice the centres
+ * are carried over to the pile's own length n^(1/d).
+ */
+export function radialPoints(p: RadialProfileLike, grains = 0, dimension = 2): { r: number; meanHeight: number; sites: number }[] {
+  const factor = grains > 0 ? Math.sqrt(grains) / naturalScale(grains, dimension) : 1;
   const out: { r: number; meanHeight: number; sites: number }[] = [];
   p.meanHeight.forEach((h, i) => {
-    if (h !== null && (p.sites[i] ?? 0) > 0) out.push({ r: (i + 0.5) * p.binWidth, meanHeight: h, sites: p.sites[i]! });
+    if (h !== null && (p.sites[i] ?? 0) > 0) out.push({ r: (i + 0.5) * p.binWidth * factor, meanHeight: h, sites: p.sites[i]! });
   });
   return out;
+}
+
+/**
+ * Evenly spaced round ticks from 0 to at least `end`: steps of 1, 2, 2.5 or 5 times a power of ten,
+ * about `count` of them, with the decimals the step needs (no "8.20, 9.10" from rounding drift).
+ */
+export function niceTicks(end: number, count = 6): { ticks: number[]; decimals: number } {
+  if (!(end > 0)) return { ticks: [0, 1], decimals: 0 };
+  const raw = end / count;
+  const power = 10 ** Math.floor(Math.log10(raw));
+  const step = ([1, 2, 2.5, 5, 10].find((m) => m * power >= raw) ?? 10) * power;
+  const steps = Math.ceil(end / step - 1e-9);
+  // decimals of the step itself: 0.25 needs two, 0.5 one, 20 none
+  const decimals = Math.max(0, -Math.floor(Math.log10(step) + 1e-9) + (Math.abs(step / power - 2.5) < 1e-9 ? 1 : 0));
+  const ticks = Array.from({ length: steps + 1 }, (_, i) => Number((i * step).toFixed(decimals)));
+  return { ticks, decimals };
 }
 
 /** Toppled sites per final height, as bars. */

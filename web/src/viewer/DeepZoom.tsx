@@ -62,6 +62,8 @@ export function DeepZoom({ infoUrl, label, onReady, onView, onHover, className =
       gestureSettingsMouse: { clickToZoom: false, dblClickToZoom: true, scrollToZoom: true },
     });
     let handle: DeepZoomHandle | null = null;
+    // a viewer being taken down must not report its last frames as the place being looked at
+    let closed = false;
     viewer.addHandler('open', () => {
       const item = viewer.world.getItemAt(0);
       const size = item.getContentSize();
@@ -98,7 +100,7 @@ export function DeepZoom({ infoUrl, label, onReady, onView, onHover, className =
     });
     viewer.addHandler('open-failed', () => setFailure('The deep-zoom tiles of this view could not be opened.'));
     viewer.addHandler('viewport-change', () => {
-      if (handle) callbacks.current.onView?.(handle);
+      if (handle && !closed) callbacks.current.onView?.(handle);
     });
     const move = (e: MouseEvent) => {
       if (!handle) return;
@@ -109,6 +111,7 @@ export function DeepZoom({ infoUrl, label, onReady, onView, onHover, className =
     element.addEventListener('mousemove', move);
     element.addEventListener('mouseleave', leave);
     return () => {
+      closed = true;
       element.removeEventListener('mousemove', move);
       element.removeEventListener('mouseleave', leave);
       viewer.destroy();

@@ -3,6 +3,7 @@ import { useRunJson } from '../api/queries.js';
 import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type PaneSpec } from './PileViewer.js';
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
+import { useViewInAddress } from './useViewInAddress.js';
 
 /**
  * The reader's deep zoom on a published figure's page: the same viewer as the lab's, served by the
@@ -18,6 +19,8 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
   const [wantedBeside, setBeside] = useState<DrawnLayer | ''>('');
   const layer = pickLayer(drawn, wantedLayer);
   const palette = pickPalette(drawn, wantedPalette);
+  // the place is kept in the address (`?at=`), so a reader's link opens where they were looking
+  const { opened, onViewChange } = useViewInAddress();
   const beside = wantedBeside && wantedBeside !== layer && drawn.layers.includes(wantedBeside) ? wantedBeside : '';
   // until run.json says what was drawn, open nothing (rather than a default view the run may not have)
   const panes: PaneSpec[] = runJson.data || runJson.isError ? [{ base, layer, palette: paletteSegmentOf(drawn, layer, palette), label: title }] : [];
@@ -26,6 +29,8 @@ export function FigureZoom({ slug, title }: { slug: string; title: string }) {
     <PileViewer
       panes={panes}
       lock="cells"
+      initialView={opened}
+      onViewChange={onViewChange}
       height="h-[72vh]"
       toolbar={
         <>

@@ -1,7 +1,23 @@
 import type { Legend } from '../../../shared/palettes.js';
+import { legendTicks } from '../../../shared/legend-ticks.js';
+
+/** Width of the ramp in CSS pixels: the card's fixed width less its padding. */
+export const RAMP_PX = 232;
+/** Least room between two tick labels, CSS pixels. */
+const TICK_GAP_PX = 6;
+const TICK_FONT = '11px "Work Sans", sans-serif';
+
+let measurer: CanvasRenderingContext2D | null | undefined;
+/** A label's width in the card's type; without a canvas (server rendering, tests) about 0.6 em per character. */
+export function tickWidth(label: string): number {
+  if (measurer === undefined) measurer = typeof document === 'undefined' ? null : document.createElement('canvas').getContext('2d');
+  if (!measurer) return label.length * 6.6;
+  measurer.font = TICK_FONT;
+  return measurer.measureText(label).width;
+}
 
 /** A layer's legend on the dark ground: one swatch per height, or a labelled ramp for continuous layers. */
-export function LegendCard({ legend }: { legend: Legend }) {
+export function LegendCard({ legend, widthOf = tickWidth }: { legend: Legend; widthOf?: (label: string) => number }) {
   return (
     <figure className="rounded-md bg-black/55 px-3 py-2 text-[11px] text-white/85 backdrop-blur" aria-label="legend">
       <figcaption className="mb-1.5 font-medium text-white">{legend.title}</figcaption>
@@ -15,15 +31,16 @@ export function LegendCard({ legend }: { legend: Legend }) {
           ))}
         </ul>
       ) : (
-        <div className="w-64 px-3">
+        <div className="px-3" style={{ width: RAMP_PX + 24 }}>
           <div
             className="h-3 rounded-sm"
             style={{ background: `linear-gradient(to right, ${legend.stops.map((s) => `${s.colour} ${(s.position * 100).toFixed(2)}%`).join(', ')})` }}
           />
-          <div className="relative mt-1 h-4">
-            {legend.stops.map((s) => (
-              <span key={s.label} className="tnum absolute -translate-x-1/2 whitespace-nowrap" style={{ left: `${s.position * 100}%` }}>
-                {s.label}
+          {/* ticks that fit the ramp: crowded ones give way, long counts take their short form (shared with the print) */}
+          <div className="relative mt-1 h-4" data-testid="legend-ticks">
+            {legendTicks(legend.stops, RAMP_PX, widthOf, TICK_GAP_PX).map((t) => (
+              <span key={t.label} className="absolute whitespace-nowrap" style={{ left: `${t.left.toFixed(1)}px` }}>
+                {t.label}
               </span>
             ))}
           </div>

@@ -3,7 +3,8 @@ import { PALETTES, paletteById } from '../../../shared/palettes.js';
 import { DRAWN_LAYERS, LAYER_LABELS, type DrawnLayer } from '../labels.js';
 import { useRunJson, useViewDrawn, useViewLegend } from '../api/queries.js';
 import { groupThousands } from '../format.js';
-import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type RunGeometry } from './cells.js';
+import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type LatticeView, type RunGeometry } from './cells.js';
+import { scaleSymbol } from '../../../shared/natural-scale.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
 import { LegendCard } from './LegendCard.js';
 import { arrayUrl, infoJsonUrl, type ArtifactBase, type RunJson } from './runArtifacts.js';
@@ -36,18 +37,39 @@ function geometryOf(run: RunJson): RunGeometry {
 
 /**
  * One or two deep-zoom panes on a dark ground. With two panes, zoom and pan are locked together in
- * lattice units (the same cell under the same screen point) or rescaled by √n (the same x/√n), so a
- * run can be compared with another layer of itself or with another run.
+ * lattice units (the same cell under the same screen point) or rescaled by n^(1/d) (the same x/√n on
+ * the plane), so a run can be compared with another layer of itself or with another run. The place
+ * shown (centre and cells across, in lattice units of the first pane's run) outlives the panes: a pane
+ * opened for another layer, palette or comparison opens where the last one was.
  */
-export function PileViewer({ panes, lock, toolbar, height = 'h-screen' }: { panes: PaneSpec[]; lock: Lock; toolbar?: ReactNode; height?: string }) {
+export function PileViewer({
+  panes,
+  lock,
+  toolbar,
+  height = 'h-screen',
+  initialView = null,
+  onViewChange,
+}: {
+  panes: PaneSpec[];
+  lock: Lock;
+  toolbar?: ReactNode;
+  height?: string;
+  /** where the first pane opens (lattice units of its run); the whole pile when null */
+  initialView?: LatticeView | null;
+  /** every new place of the first pane, in the same units */
+  onViewChange?: (v: LatticeView) => void;
+}) {
   const states = useRef<(PaneState | null)[]>([]);
   const leader = useRef(0);
   const syncing = useRef(false);
+  const place = useRef<LatticeView | null>(initialView);
+  const reportView = useRef(onViewChange);
+  reportView.current = onViewChange;
 
-  const follow = useCallback(
+  const syncFrom = useCallback(
     (from: number) => {
       const a = states.current[from];
-      if (!a || syncing.current || from !== leader.current) return;
+      if (!a || syncing.current) return;
       const v = a.handle.view();
       const lv = toLatticeView(v.centre, v.visibleWidth, pixelsPerCell(a.handle.imageWidth, a.geometry), a.geometry, lock === 'rescaled');
       syncing.current = true;
@@ -63,6 +85,35 @@ export function PileViewer({ panes, lock, toolbar, height = 'h-screen' }: { pane
     },
     [lock],
   );
+  const follow = useCallback((from: number) => {
+    if (from === leader.current) syncFrom(from);
+  }, [syncFrom]);
+
+  /** Remember the first pane's place, so the next pane (or the address) shows the same. */
+  const remember = () => {
+    const a = states.current[0];
+    if (!a) return;
+    const v = a.handle.view();
+    place.current = toLatticeView(v.centre, v.visibleWidth, pixelsPerCell(a.handle.imageWidth, a.geometry), a.geometry, false);
+    reportView.current?.(place.current);
+  };
+
+  const opened = (i: number, s: PaneState | null) => {
+    states.current[i] = s;
+    if (!s) return;
+    if (i === 0) {
+      if (place.current) {
+        const t = fromLatticeView(place.current, pixelsPerCell(s.handle.imageWidth, s.geometry), s.geometry, false);
+        s.handle.show(t.centrePx, t.imageWidthVisible);
+      }
+      syncFrom(0);
+      remember();
+    } else {
+      // a pane that opens late takes the first pane's view (or the leader's while the first is opening)
+      const from = states.current[0] ? 0 : leader.current;
+      if (from !== i) syncFrom(from);
+    }
+  };
 
   const closeUp = () => {
     for (const s of states.current) {
@@ -124,15 +175,12 @@ export function PileViewer({ panes, lock, toolbar, height = 'h-screen' }: { pane
           <Pane
             key={`${i}:${JSON.stringify(p.base)}:${p.layer}:${p.palette}`}
             spec={p}
-            onState={(s) => {
-              states.current[i] = s;
-              if (s && i !== leader.current) {
-                // a pane that opens late takes the leader's view
-                follow(leader.current);
-              }
-            }}
+            onState={(s) => opened(i, s)}
             onLead={() => (leader.current = i)}
-            onView={() => follow(i)}
+            onView={() => {
+              follow(i);
+              if (i === 0) remember();
+            }}
           />
         ))}
       </div>
@@ -226,7 +274,7 @@ function Readout({ cell, values, error }: { cell: CellAt | null; values: ReturnT
       <dd className="font-mono" data-testid="readout-lattice">
         ({cell.lattice.map(fmt).join(', ')})
       </dd>
-      <dt className="text-white/60">({names.map((n) => `${n}/√n`).join(', ')})</dt>
+      <dt className="text-white/60">({names.map((n) => `${n}/${scaleSymbol(cell.lattice.length)}`).join(', ')})</dt>
       <dd className="font-mono">{cell.rescaled.length ? `(${cell.rescaled.map(fmt4).join(', ')})` : '—'}</dd>
       <dt className="text-white/60">height</dt>
       <dd className="font-mono" data-testid="readout-height">

@@ -5,11 +5,14 @@ import { CitationBlock, Count } from '../ui/index.js';
 import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer, type Lock, type PaneSpec } from './PileViewer.js';
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
+import { useViewInAddress } from './useViewInAddress.js';
+import { isRunMissing, RunNotFound } from '../pages/RunNotFound.js';
+import { scaleSymbol } from '../../../shared/natural-scale.js';
 
 /**
  * /runs/:id/view — the lab's deep-zoom reader of one run, full-bleed on the dark ground. The address
- * holds the whole view state (layer, palette, the compared layer or run, the lock), so a view can be
- * shared inside the lab by copying the link.
+ * holds the whole view state (layer, palette, the compared layer or run, the lock, and the place:
+ * `at=x,y,cells across`), so a view can be shared inside the lab by copying the link.
  */
 export function ViewerPage() {
   const { id = '' } = useParams();
@@ -34,8 +37,16 @@ export function ViewerPage() {
       if (v === null || v === '') next.delete(k);
       else next.set(k, v);
     }
-    setParams(next, { replace: true });
+    // a new choice is a step Back can undo; panning only replaces the entry (useViewInAddress)
+    setParams(next, { preventScrollReset: true });
   };
+  const { opened, onViewChange } = useViewInAddress();
+
+  // each run is rescaled by its own n^(1/d); the label names the unit when both share a dimension
+  const dimOf = (shape: readonly number[] | undefined) => shape?.length ?? 2;
+  const mine = dimOf(run.data?.run.stats?.shape);
+  const theirs = otherRunId ? dimOf(otherRun.data?.run.stats?.shape) : mine;
+  const rescaledUnit = mine === theirs ? scaleSymbol(mine) : 'n^(1/d)';
 
   const title = run.data?.run.title ?? 'Run';
   // until the spec says what was drawn, open nothing (rather than a default view the run may not have)
@@ -85,7 +96,7 @@ export function ViewerPage() {
       {panes.length > 1 ? (
         <DarkSelect label="Lock" value={lock} onChange={(e) => set({ lock: e.target.value })}>
           <option value="cells">same lattice cells</option>
-          <option value="rescaled">same x/√n</option>
+          <option value="rescaled">same x/{rescaledUnit}</option>
         </DarkSelect>
       ) : null}
     </>
@@ -96,10 +107,22 @@ export function ViewerPage() {
   // the lab's figures tell whether a published figure gives this run a public link
   const labFigures = useLabFigures(r?.labId);
   const link = r && !labFigures.isPending ? runLink(r.id, labFigures.data?.figures ?? [], window.location.origin) : null;
+  // the API hides other labs' runs behind a 404: say so as /runs/:id does, not that a view is missing
+  if (run.isError && isRunMissing(run.error)) {
+    return (
+      <div className="min-h-screen bg-paper px-8 py-16">
+        <title>No run at this address · Toppleworks</title>
+        <div className="mx-auto max-w-3xl">
+          <RunNotFound />
+        </div>
+      </div>
+    );
+  }
+
   return (
     <div className="min-h-screen bg-night text-white">
       <title>{`${title} · deep zoom · Toppleworks`}</title>
-      <PileViewer panes={panes} lock={lock} toolbar={toolbar} />
+      <PileViewer panes={panes} lock={lock} toolbar={toolbar} initialView={opened} onViewChange={onViewChange} />
       <section className="mx-auto grid max-w-6xl grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)] gap-10 px-8 py-10 text-sm">
         <div>
           <h2 className="mb-3 text-base font-semibold">Downloads</h2>

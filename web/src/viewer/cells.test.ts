@@ -22,6 +22,14 @@ describe('image pixels and lattice cells', () => {
     expect(c.rescaled).toEqual([-0.3, -0.2]);
   });
 
+  test('the line is rescaled by n and the cubic lattice by ∛n, each pile by its own length n^(1/d)', () => {
+    const line: RunGeometry = { shape: [9], origin: [4], grains: 8 };
+    expect(cellAt(0, 0, 1, line)!.rescaled).toEqual([-0.5]);
+    const cube: RunGeometry = { shape: [5, 5, 5], origin: [2, 2, 2], grains: 8 };
+    expect(cellAt(0, 4, 1, cube)!.rescaled).toEqual([-1, 1, 0]);
+    expect(toLatticeView({ x: 0.5, y: 4.5 }, 4, 1, cube, true)).toEqual({ cx: -1, cy: 1, across: 2 });
+  });
+
   test('outside the plane there is no cell', () => {
     expect(cellAt(-0.1, 3, k, g)).toBeNull();
     expect(cellAt(28, 3, k, g)).toBeNull();

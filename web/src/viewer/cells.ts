@@ -4,13 +4,14 @@
  * 1-D run is one row and a 3-D run is cut at the origin's depth (renderer/src/render/plane.ts).
  * Pure functions, shared by the readout, the locked side-by-side views and the tests.
  */
+import { naturalScale } from '../../../shared/natural-scale.js';
 
 export interface RunGeometry {
   /** array shape in array axis order: (W), (H, W) or (D, H, W) */
   shape: readonly number[];
   /** array index of the lattice origin, array axis order */
   origin: readonly number[];
-  /** grains added, for the rescaled coordinates x/√n */
+  /** grains added, for the rescaled coordinates x/n^(1/d) (d = the rank of `shape`) */
   grains: number;
 }
 
@@ -22,9 +23,12 @@ export interface CellAt {
   index: number;
   /** lattice coordinates relative to the origin, in array axis order reversed: [x], [x, y] or [x, y, z] */
   lattice: number[];
-  /** lattice coordinates divided by √n (empty when n = 0) */
+  /** lattice coordinates divided by n^(1/d), the pile's natural length (empty when n = 0) */
   rescaled: number[];
 }
+
+/** n^(1/d): the unit of the rescaled coordinates of this run. */
+export const scaleOf = (g: RunGeometry): number => naturalScale(g.grains, g.shape.length);
 
 export function planeSize(g: RunGeometry): { width: number; height: number } {
   const s = g.shape;
@@ -47,7 +51,7 @@ export function cellAt(px: number, py: number, k: number, g: RunGeometry): CellA
   const index = (z * height + row) * width + column;
   const ox = g.origin[d - 1]!;
   const lattice = d === 1 ? [column - ox] : d === 2 ? [column - ox, row - g.origin[0]!] : [column - ox, row - g.origin[1]!, 0];
-  const root = Math.sqrt(g.grains);
+  const root = scaleOf(g);
   return { column, row, index, lattice, rescaled: root > 0 ? lattice.map((c) => c / root) : [] };
 }
 
@@ -62,7 +66,7 @@ export function pixelOfLattice(x: number, y: number, k: number, g: RunGeometry):
 /**
  * A view described in lattice units, so two viewers of different runs (or pyramids of different
  * pixel density) can show the same place: the centre in lattice coordinates and the cells across.
- * With `rescaled`, both are divided by √n, which lines up piles of different n (scale invariance).
+ * With `rescaled`, both are divided by n^(1/d), which lines up piles of different n (scale invariance).
  */
 export interface LatticeView {
   cx: number;
@@ -75,12 +79,12 @@ export function toLatticeView(centrePx: { x: number; y: number }, imageWidthVisi
   const d = g.shape.length;
   const ox = g.origin[d - 1]!;
   const oy = d === 1 ? 0 : d === 2 ? g.origin[0]! : g.origin[1]!;
-  const s = rescaled && g.grains > 0 ? Math.sqrt(g.grains) : 1;
+  const s = rescaled && g.grains > 0 ? scaleOf(g) : 1;
   return { cx: (centrePx.x / k - ox - 0.5) / s, cy: (centrePx.y / k - oy - 0.5) / s, across: imageWidthVisible / k / s };
 }
 
 export function fromLatticeView(v: LatticeView, k: number, g: RunGeometry, rescaled: boolean): { centrePx: { x: number; y: number }; imageWidthVisible: number } {
-  const s = rescaled && g.grains > 0 ? Math.sqrt(g.grains) : 1;
+  const s = rescaled && g.grains > 0 ? scaleOf(g) : 1;
   const { px, py } = pixelOfLattice(v.cx * s, v.cy * s, k, g);
   return { centrePx: { x: px, y: py }, imageWidthVisible: v.across * s * k };
 }
