@@ -192,8 +192,9 @@ export const figureVersionStatus = pgEnum('figure_version_status', ['queued', 'p
 export type FigureFileRecord = { format: 'png' | 'tiff' | 'pdf'; key: string; name: string; bytes: number; sha256: string; widthPx: number; heightPx: number };
 
 /**
- * Print orders of a figure: each order is a new numbered version with the spec it printed, so a
- * re-rendered figure keeps its history and the permanent link shows the newest ready one.
+ * Print orders of a figure: each order is a new numbered version with the title, caption and spec
+ * it printed, so a re-rendered figure keeps its history. Publishing marks one ready version; the
+ * permanent link shows the newest published one, frozen, while the figure row holds the lab's draft.
  */
 export const figureVersions = pgTable('figure_versions', {
   id: id(),
@@ -201,6 +202,12 @@ export const figureVersions = pgTable('figure_versions', {
   number: integer('number').notNull(),
   /** the validated FigureSpec (shared/print.ts), defaults filled in */
   spec: jsonb('spec').$type<FigureSpec>().notNull(),
+  /** the figure's title when ordered; null only for rows written without one (the figure's title stands in) */
+  title: text('title'),
+  /** the figure's caption when ordered (printed under the panels); null: the spec's printed caption */
+  caption: text('caption'),
+  /** when this version became what readers see; null: never published */
+  publishedAt: at('published_at'),
   formats: jsonb('formats').$type<('png' | 'tiff' | 'pdf')[]>().notNull(),
   status: figureVersionStatus('status').notNull().default('queued'),
   stage: text('stage'),

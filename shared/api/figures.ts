@@ -49,6 +49,8 @@ export const labFigureSchema = figureSchema.extend({
   latestVersion: z.number().int().min(1).nullable(),
   /** status of the newest version of any status, null before the first order */
   newestStatus: figureVersionStatusSchema.nullable(),
+  /** number of the version readers see at the permanent link (the newest published one), null before publishing */
+  publishedVersion: z.number().int().min(1).nullable(),
 });
 export type LabFigure = z.infer<typeof labFigureSchema>;
 
@@ -71,6 +73,11 @@ export const figureVersionSchema = z.object({
   /** what the worker is doing now ("writing the PDF") */
   stage: z.string().nullable(),
   spec: figureSpecSchema,
+  /** the figure's title and caption when this version was ordered: a published version shows these, whatever is edited later */
+  title: z.string(),
+  caption: z.string(),
+  /** when this version was published (readers see the newest published one), null if never */
+  publishedAt: isoDateSchema.nullable(),
   formats: z.array(figureFormatSchema),
   files: z.array(figureFileSchema),
   error: z.string().nullable(),
@@ -92,14 +99,23 @@ export const figureRunSchema = z.object({
 });
 export type FigureRun = z.infer<typeof figureRunSchema>;
 
+/**
+ * One figure. Members of its lab get the draft (title, caption and spec as last saved: what the next
+ * order prints) and every version; everyone else gets the published version's title, caption and
+ * spec and the published versions only, so a cited figure never changes under its readers.
+ */
 export const figureDetailSchema = labFigureSchema.extend({
-  /** the composition the next order prints (defaults filled in) */
+  /** the composition the next order prints (defaults filled in); for readers, the published one */
   spec: figureSpecSchema,
-  /** newest first; readers see ready versions only */
+  /** newest first; readers see published versions only */
   versions: z.array(figureVersionSchema),
   runs: z.array(figureRunSchema),
   /** whether the caller may edit, order and publish */
   canEdit: z.boolean(),
+  /** published, and the draft's title, caption or composition differ from what readers see */
+  unpublishedChanges: z.boolean(),
+  /** the newest version (not failed) printed from the draft as it is, null when the draft has changes no order has printed */
+  draftVersion: z.number().int().min(1).nullable(),
 });
 export type FigureDetail = z.infer<typeof figureDetailSchema>;
 

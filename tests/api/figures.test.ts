@@ -99,6 +99,17 @@ describe('composing a figure', () => {
     expect(anonymous.status).toBe(401);
   });
 
+  it('refuses the difference layer of a run whose background is 0 everywhere, naming the panel, and stores nothing', async () => {
+    const title = `No difference ${h.tag}`;
+    const two = { ...spec(runSquare), grid: { rows: 1, cols: 2 }, panels: [{ runId: runChecker, layer: 'difference' }, { runId: runSquare, layer: 'difference' }] };
+    const res = await as(h.http.post('/api/figures'), author).send({ labId, title, spec: two });
+    expect(res.status).toBe(400);
+    expect(res.body.error).toMatch(/spec\.panels\.1\.layer: run "square pile .*" has a background of 0 everywhere, so it has no difference layer/);
+    expect(await h.deps.db.select().from(figures).where(eq(figures.title, title))).toEqual([]);
+    // the checkerboard 0 / 1 run has one: that panel alone is accepted
+    await as(h.http.post('/api/figures'), author).send({ labId, title, spec: { ...two, grid: { rows: 1, cols: 1 }, panels: [two.panels[0]] } }).expect(201);
+  });
+
   it('edits title, caption and composition; strangers cannot see a draft', async () => {
     const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Two panels ${h.tag}`, spec: spec(runSquare) }).expect(201)).body);
     const two = {
@@ -350,10 +361,100 @@ describe('ordering, publishing and withdrawing', () => {
     expect(detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body).slug).toBe(slug);
   });
 
-  it('re-rendering makes the newest ready version the one the link shows, with the history kept', async () => {
+  it('a new ready print reaches readers only once it is published, with the history kept', async () => {
     await markReady(h, figureId, 2);
+    const before = detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
+    expect([before.publishedVersion, before.versions.map((v) => v.number)]).toEqual([1, [1]]);
+    expect((await h.http.get(`/api/figures/${slug}/versions/2/files/png`)).status).toBe(404);
+    await as(h.http.post(`/api/figures/${slug}/publish`), author).expect(200);
     const reader = detail((await h.http.get(`/api/figures/${slug}`).expect(200)).body);
     expect(reader.latestVersion).toBe(2);
+    expect(reader.publishedVersion).toBe(2);
     expect(reader.versions.map((v) => v.number)).toEqual([2, 1]);
+  });
+});
+
+describe('a published figure does not change under its readers', () => {
+  const readerView = async (slug: string, session?: Session) => detail((await (session ? as(h.http.get(`/api/figures/${slug}`), session) : h.http.get(`/api/figures/${slug}`)).expect(200)).body);
+
+  it('keeps edits as the lab\'s draft until they are printed and published as a new version', async () => {
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Frozen ${h.tag}`, caption: 'As printed first.', spec: spec(runSquare) }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    const v1 = await markReady(h, f.id, 1);
+    const first = detail((await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200)).body);
+    expect([first.publishedVersion, first.unpublishedChanges, first.draftVersion]).toEqual([1, false, 1]);
+
+    // the lab edits title, caption and composition after publishing
+    await as(h.http.put(`/api/figures/${f.slug}`), author).send({ title: `Frozen, edited ${h.tag}`, caption: 'Edited later.', spec: spec(runSquare, { dpi: 150 }) }).expect(200);
+
+    // readers, signed out or of another lab, still get exactly what was published
+    for (const reader of [await readerView(f.slug), await readerView(f.slug, outsider)]) {
+      expect(reader.canEdit).toBe(false);
+      expect([reader.title, reader.caption, reader.spec.dpi, reader.spec.caption?.text]).toEqual([`Frozen ${h.tag}`, 'As printed first.', 300, 'As printed first.']);
+      expect(reader.versions.map((v) => [v.number, v.title, v.caption])).toEqual([[1, `Frozen ${h.tag}`, 'As printed first.']]);
+      expect(reader.versions[0]!.files[0]!.sha256).toBe(v1.sha256);
+      expect(reader.unpublishedChanges).toBe(false);
+    }
+    const indexed = listFiguresResponseSchema.parse((await h.http.get('/api/figures').expect(200)).body).figures.find((x) => x.slug === f.slug);
+    expect([indexed?.title, indexed?.caption]).toEqual([`Frozen ${h.tag}`, 'As printed first.']);
+
+    // the lab sees its draft, marked as not yet published and not yet printed
+    const lab = await readerView(f.slug, author);
+    expect([lab.title, lab.caption, lab.spec.dpi]).toEqual([`Frozen, edited ${h.tag}`, 'Edited later.', 150]);
+    expect([lab.publishedVersion, lab.unpublishedChanges, lab.draftVersion]).toEqual([1, true, null]);
+    expect((await as(h.http.post(`/api/figures/${f.slug}/publish`), author)).body.error).toMatch(/version 1 is already published; to publish changes, print again/);
+
+    // printed: the new version carries the edited words, and readers still do not see it
+    const ordered = figureVersionResponseSchema.parse((await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202)).body).version;
+    expect([ordered.number, ordered.title, ordered.caption, ordered.publishedAt]).toEqual([2, `Frozen, edited ${h.tag}`, 'Edited later.', null]);
+    expect((await readerView(f.slug, author)).draftVersion).toBe(2);
+    await markReady(h, f.id, 2);
+    expect((await readerView(f.slug)).versions.map((v) => v.number)).toEqual([1]);
+    expect((await h.http.get(`/api/figures/${f.slug}/versions/2/files/png`)).status).toBe(404);
+    expect((await as(h.http.get(`/api/figures/${f.slug}/versions/2/files/png`), author)).status).toBe(302);
+
+    // published again: readers get version 2, version 1 stays downloadable, the first publication date stays
+    const again = detail((await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200)).body);
+    expect([again.publishedVersion, again.unpublishedChanges, again.publishedAt]).toEqual([2, false, first.publishedAt]);
+    const reader = await readerView(f.slug);
+    expect([reader.title, reader.caption, reader.spec.dpi]).toEqual([`Frozen, edited ${h.tag}`, 'Edited later.', 150]);
+    expect(reader.versions.map((v) => [v.number, v.title, Boolean(v.publishedAt)])).toEqual([
+      [2, `Frozen, edited ${h.tag}`, true],
+      [1, `Frozen ${h.tag}`, true],
+    ]);
+    expect((await h.http.get(`/api/figures/${f.slug}/versions/1/files/png`)).status).toBe(302);
+
+    // a withdrawn figure's link names the title readers knew, not a later draft's
+    await as(h.http.put(`/api/figures/${f.slug}`), author).send({ title: `Draft title ${h.tag}` }).expect(200);
+    await as(h.http.post(`/api/figures/${f.slug}/unpublish`), author).expect(200);
+    expect(figureResponseSchema.parse((await h.http.get(`/api/figures/${f.slug}`).expect(200)).body)).toMatchObject({ withdrawn: true, title: `Frozen, edited ${h.tag}` });
+  });
+
+  it('keeps the first panel\'s run of a figure that was ever published, and leaves the figure as it was', async () => {
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Lead run ${h.tag}`, spec: spec(runSquare) }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    await markReady(h, f.id, 1);
+    await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200);
+    await as(h.http.post(`/api/figures/${f.slug}/unpublish`), author).expect(200);
+    const res = await as(h.http.put(`/api/figures/${f.slug}`), author).send({ title: 'other run', spec: spec(runChecker) });
+    expect(res.status).toBe(409);
+    expect(res.body.error).toMatch(/keeps its first panel's run/);
+    const lab = await readerView(f.slug, author);
+    expect([lab.title, lab.runId]).toEqual([`Lead run ${h.tag}`, runSquare]);
+  });
+
+  it('hands another lab\'s member the published figure only, never the editable draft', async () => {
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Not theirs ${h.tag}`, caption: 'Published words.', spec: spec(runSquare) }).expect(201)).body);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    await markReady(h, f.id, 1);
+    await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200);
+    await as(h.http.put(`/api/figures/${f.slug}`), author).send({ caption: 'Private draft words.' }).expect(200);
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    const seen = await readerView(f.slug, outsider);
+    expect([seen.canEdit, seen.caption, seen.draftVersion, seen.versions.map((v) => v.number)]).toEqual([false, 'Published words.', null, [1]]);
+    expect(JSON.stringify(seen)).not.toContain('Private draft words.');
+    const save = await as(h.http.put(`/api/figures/${f.slug}`), outsider).send({ caption: 'mine now' });
+    expect(save.status).toBe(403);
+    expect(save.body.error).toMatch(/only members of the figure's lab/);
   });
 });

@@ -94,11 +94,12 @@ async function spareLab(opts: { suspended?: boolean; expiringRun?: boolean } = {
 async function figureWithPrint(published: boolean): Promise<string> {
   const slug = `printed-${fresh()}`;
   const [f] = await h.deps.db.insert(figures).values({ slug, title: 'Printed', runId: runPrintable, createdById: people.author.id, publishedAt: published ? new Date() : null }).returning();
-  await readyVersion(f!.id);
+  await readyVersion(f!.id, published);
   return slug;
 }
 
-async function readyVersion(figureId: string): Promise<void> {
+/** Version 1 printed; published with its figure, as POST /api/figures/:slug/publish leaves it. */
+async function readyVersion(figureId: string, published: boolean): Promise<void> {
   const key = `figures/${figureId}/v1/fixture.png`;
   await h.deps.blobs.put(key, Buffer.from('png fixture'), 'image/png');
   await h.deps.db.insert(figureVersions).values({
@@ -107,6 +108,7 @@ async function readyVersion(figureId: string): Promise<void> {
     spec: figureSpecSchema.parse({ panels: [{ runId: runPrintable }], size: { kind: 'column', column: 'single' } }),
     formats: ['png'],
     status: 'ready',
+    publishedAt: published ? new Date() : null,
     files: [{ format: 'png', key, name: 'fixture.png', bytes: 11, sha256: '0'.repeat(64), widthPx: 1063, heightPx: 800 }],
   });
 }
@@ -539,7 +541,7 @@ beforeAll(async () => {
   });
   for (const slug of [`published-${h.tag}`, `draft-${h.tag}`]) {
     const [f] = await h.deps.db.select().from(figures).where(eq(figures.slug, slug));
-    await readyVersion(f!.id);
+    await readyVersion(f!.id, slug.startsWith('published-'));
   }
 });
 afterAll(async () => {

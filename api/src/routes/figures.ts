@@ -38,6 +38,7 @@ import {
   isPublic,
   labFigureView,
   loadFigure,
+  readerFigureView,
   selectFigures,
   slugFrom,
   specOf,
@@ -54,7 +55,7 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
   const r = Router();
 
   const publicView = (row: FigureRow): Figure => {
-    const { labId: _l, withdrawnAt: _w, latestVersion: _v, newestStatus: _s, ...entry } = labFigureView(row);
+    const { labId: _l, withdrawnAt: _w, latestVersion: _v, newestStatus: _s, publishedVersion: _p, ...entry } = readerFigureView(row);
     return entry;
   };
 
@@ -109,12 +110,12 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
       const user = res.locals.auth?.user;
       const access = user ? await checkLabAccess(db, user, row.run.labId, 'read').catch(() => null) : null;
       if (!access) {
-        return respond(res, 200, figureResponseSchema, { withdrawn: true, slug: figure.slug, title: figure.title, withdrawnAt: figure.withdrawnAt.toISOString() });
+        return respond(res, 200, figureResponseSchema, { withdrawn: true, slug: figure.slug, title: readerFigureView(row).title, withdrawnAt: figure.withdrawnAt.toISOString() });
       }
-      return respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, access.role !== null) });
+      return respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, access.role !== null, true) });
     }
-    const { canEdit } = await figureAccess(db, res, row, 'read');
-    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, canEdit) });
+    const { canEdit, insider } = await figureAccess(db, res, row, 'read');
+    respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, row, canEdit, insider) });
   });
 
   r.post('/figures', requireUser, requireVerified, async (req, res) => {
@@ -146,9 +147,10 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
     const user = authOf(res).user;
     if (body.spec) {
       await compositionRuns(db, row.run.labId, body.spec);
-      // the lead run decides the lab and the reader's deep zoom; it may change, the lab may not
-      if (body.spec.panels[0]!.runId !== row.figure.runId && row.figure.publishedAt && !row.figure.withdrawnAt) {
-        throw conflict('a published figure keeps its first panel\'s run; unpublish it first to change that run');
+      // the lead run decides the lab and the reader's deep zoom; it may change, the lab may not. Once
+      // published, every version's link zooms into it, so it stays.
+      if (body.spec.panels[0]!.runId !== row.figure.runId && row.figure.publishedAt) {
+        throw conflict('a figure that has been published keeps its first panel\'s run, which its permanent link zooms into; compose a new figure for another run');
       }
     }
     const caption = captionAfter(body.caption, body.spec, row.figure.caption);
@@ -188,7 +190,11 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
           .select({ next: sql<number>`coalesce(max(${figureVersions.number}), 0) + 1` })
           .from(figureVersions)
           .where(eq(figureVersions.figureId, row.figure.id))) as [{ next: number }];
-        const [v] = await tx.insert(figureVersions).values({ figureId: row.figure.id, number: Number(next), spec, formats, orderedById: user.id }).returning();
+        // the title and caption go with the print, so publishing it later shows readers exactly what it printed
+        const [v] = await tx
+          .insert(figureVersions)
+          .values({ figureId: row.figure.id, number: Number(next), spec, title: row.figure.title, caption: row.figure.caption, formats, orderedById: user.id })
+          .returning();
         await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.order', subjectType: 'figure', subjectId: row.figure.id, detail: { version: v!.number, formats } });
         // the print job is recorded with the version (queue/outbox.ts), so Redis being away loses no order
         await recordJobs(tx, queue, [{ name: JOB_NAMES.printFigure, data: { versionId: v!.id } }]);
@@ -196,22 +202,36 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
       });
     // sent after the commit, so the worker always finds the row; while Redis is away the outbox keeps it
     await dispatchNow({ db, queue, log }, [jobIdFor({ name: JOB_NAMES.printFigure, data: { versionId: version.id } })]);
-    respond(res, 202, figureVersionResponseSchema, { version: versionView(slug, { ...version, orderedBy: user.name }) });
+    respond(res, 202, figureVersionResponseSchema, { version: versionView(slug, { ...version, orderedBy: user.name }, row.figure.title) });
   });
 
+  /**
+   * Publish the newest ready version: readers then see exactly its title, caption and print. Edits
+   * made since stay a draft of the lab until they are printed and published as a newer version.
+   */
   r.post('/figures/:slug/publish', requireUser, requireVerified, async (req, res) => {
     const { slug } = validate.params(req, figureParamsSchema);
     const row = await editable(slug, res);
-    if (isPublic(row.figure)) throw conflict('the figure is already published');
-    if (row.latestVersion === null) throw conflict('order a print and wait until it is ready before publishing: readers download the printed files');
     const user = authOf(res).user;
     await db.transaction(async (tx) => {
+      // the figure row is the lock: two publishes (or a publish and an unpublish) take turns
+      const [figure] = await tx.select().from(figures).where(eq(figures.id, row.figure.id)).for('update');
+      const [newest] = await tx
+        .select()
+        .from(figureVersions)
+        .where(and(eq(figureVersions.figureId, row.figure.id), eq(figureVersions.status, 'ready')))
+        .orderBy(desc(figureVersions.number))
+        .limit(1);
+      if (!newest) throw conflict('order a print and wait until it is ready before publishing: readers download the printed files');
+      if (isPublic(figure!) && newest.publishedAt) {
+        throw conflict(`version ${newest.number} is already published; to publish changes, print again and publish the new version once it is ready`);
+      }
       await lockRunsForPublication(tx, row.figure.id);
-      await tx
-        .update(figures)
-        .set({ publishedAt: row.figure.publishedAt ?? new Date(), withdrawnAt: null, updatedAt: new Date() })
-        .where(eq(figures.id, row.figure.id));
-      await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.publish', subjectType: 'figure', subjectId: row.figure.id });
+      const now = new Date();
+      if (!newest.publishedAt) await tx.update(figureVersions).set({ publishedAt: now }).where(eq(figureVersions.id, newest.id));
+      // the first publication date stays: citations give its year
+      await tx.update(figures).set({ publishedAt: figure!.publishedAt ?? now, withdrawnAt: null, updatedAt: now }).where(eq(figures.id, row.figure.id));
+      await audit(tx, { actorId: user.id, labId: row.run.labId, action: 'figure.publish', subjectType: 'figure', subjectId: row.figure.id, detail: { version: newest.number } });
     });
     respond(res, 200, figureResponseSchema, { withdrawn: false, figure: await figureDetail(db, (await loadFigure(db, slug))!, true) });
   });
@@ -234,9 +254,11 @@ export function figuresRouter({ db, queue, blobs, log }: AppDeps): Router {
     const { slug, number, format } = validate.params(req, figureFileParamsSchema);
     const row = await loadFigure(db, slug);
     if (!row) throw figureMissing();
-    await figureAccess(db, res, row, 'read');
+    const { insider } = await figureAccess(db, res, row, 'read');
     const [v] = await db.select().from(figureVersions).where(and(eq(figureVersions.figureId, row.figure.id), eq(figureVersions.number, number)));
-    const file = v?.status === 'ready' ? v.files.find((f) => f.format === format) : undefined;
+    // readers download published versions only; the lab (and site admins) also prints not yet published
+    const visible = v?.status === 'ready' && (insider || v.publishedAt !== null);
+    const file = visible ? v.files.find((f) => f.format === format) : undefined;
     if (!file) throw notFound(`version ${number} has no ${format.toUpperCase()} file`);
     res.set('Cache-Control', 'no-store');
     // an hour is plenty for a click; the mail carries week-long links

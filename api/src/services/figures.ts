@@ -1,4 +1,5 @@
-import { and, desc, eq, inArray, sql } from 'drizzle-orm';
+import { isDeepStrictEqual } from 'node:util';
+import { and, desc, eq, inArray, isNotNull, sql } from 'drizzle-orm';
 import type { Response } from 'express';
 import { figures, figureVersions, labs, runs, users, type FigureFileRecord } from '../../../drizzle/schema.js';
 import type { FigureDetail, FigureFile, FigureRun, FigureVersion, LabFigure } from '../../../shared/api/figures.js';
@@ -7,6 +8,7 @@ import { checkLabAccess } from '../auth/middleware.js';
 import type { Db } from '../db/client.js';
 import { badRequest, forbidden, notFound, unauthorized, type HttpError } from '../http/http-error.js';
 import type { AuthUser } from '../http/locals.js';
+import { isZeroBackground } from '../../../shared/run-spec.js';
 import { latticeLabel } from './views.js';
 
 /**
@@ -22,11 +24,16 @@ export const figureMissing = (): HttpError => notFound('figure not found');
 const creator = sql<string>`(select ${users.name} from ${users} where ${users.id} = ${figures.createdById})`;
 const latestVersion = sql<number | null>`(select max(${figureVersions.number}) from ${figureVersions} where ${figureVersions.figureId} = ${figures.id} and ${figureVersions.status} = 'ready')`;
 const newestStatus = sql<FigureVersion['status'] | null>`(select ${figureVersions.status} from ${figureVersions} where ${figureVersions.figureId} = ${figures.id} order by ${figureVersions.number} desc limit 1)`;
+const publishedVersion = sql<number | null>`(select max(${figureVersions.number}) from ${figureVersions} where ${figureVersions.figureId} = ${figures.id} and ${figureVersions.publishedAt} is not null)`;
+// what the public index shows: the newest published version's words (null: rows written without them)
+const newestPublished = sql`${figureVersions.figureId} = ${figures.id} and ${figureVersions.publishedAt} is not null order by ${figureVersions.number} desc limit 1`;
+const publishedTitle = sql<string | null>`(select ${figureVersions.title} from ${figureVersions} where ${newestPublished})`;
+const publishedCaption = sql<string | null>`(select coalesce(${figureVersions.caption}, ${figureVersions.spec}->'caption'->>'text', '') from ${figureVersions} where ${newestPublished})`;
 
 /** Figures with their lead run, lab, the run's author and the figure's composer. */
 export function selectFigures(db: Db) {
   return db
-    .select({ figure: figures, run: runs, labName: labs.name, author: users.name, creator, latestVersion, newestStatus })
+    .select({ figure: figures, run: runs, labName: labs.name, author: users.name, creator, latestVersion, newestStatus, publishedVersion, publishedTitle, publishedCaption })
     .from(figures)
     .innerJoin(runs, eq(runs.id, figures.runId))
     .innerJoin(labs, eq(labs.id, runs.labId))
@@ -34,7 +41,7 @@ export function selectFigures(db: Db) {
 }
 export type FigureRow = Awaited<ReturnType<ReturnType<typeof selectFigures>['execute']>>[number];
 
-export function labFigureView({ figure, run, labName, author, creator, latestVersion, newestStatus }: FigureRow): LabFigure {
+export function labFigureView({ figure, run, labName, author, creator, latestVersion, newestStatus, publishedVersion }: FigureRow): LabFigure {
   return {
     id: figure.id,
     slug: figure.slug,
@@ -50,10 +57,19 @@ export function labFigureView({ figure, run, labName, author, creator, latestVer
     withdrawnAt: iso(figure.withdrawnAt),
     latestVersion: latestVersion === null ? null : Number(latestVersion),
     newestStatus,
+    publishedVersion: publishedVersion === null ? null : Number(publishedVersion),
     // the run's author first, then whoever composed the figure if that is someone else
     authors: [...new Set([author, creator])],
     labName,
   };
+}
+
+/**
+ * The entry a reader sees: the published version's title and caption, not the lab's later edits
+ * (a figure published before versions kept their words shows its own).
+ */
+export function readerFigureView(row: FigureRow): LabFigure {
+  return { ...labFigureView(row), title: row.publishedTitle ?? row.figure.title, caption: row.publishedCaption ?? row.figure.caption };
 }
 
 /** Published and not withdrawn: anyone may read it. */
@@ -83,12 +99,21 @@ export function fileView(slug: string, number: number, f: FigureFileRecord): Fig
   return { format: f.format, name: f.name, bytes: f.bytes, sha256: f.sha256, widthPx: f.widthPx, heightPx: f.heightPx, href: fileHref(slug, number, f.format) };
 }
 
-export function versionView(slug: string, v: typeof figureVersions.$inferSelect & { orderedBy: string | null }): FigureVersion {
+type VersionRow = typeof figureVersions.$inferSelect;
+
+/** A version's own words; rows written without them fall back to the figure's title and the printed caption. */
+export const versionTitle = (v: VersionRow, figureTitle: string): string => v.title ?? figureTitle;
+export const versionCaption = (v: VersionRow): string => v.caption ?? v.spec.caption?.text ?? '';
+
+export function versionView(slug: string, v: VersionRow & { orderedBy: string | null }, figureTitle: string): FigureVersion {
   return {
     number: v.number,
     status: v.status,
     stage: v.stage,
     spec: v.spec,
+    title: versionTitle(v, figureTitle),
+    caption: versionCaption(v),
+    publishedAt: iso(v.publishedAt),
     formats: v.formats,
     files: v.files.map((f) => fileView(slug, v.number, f)),
     error: v.error,
@@ -106,13 +131,14 @@ export async function loadFigure(db: Db, slug: string): Promise<FigureRow | null
 /**
  * The caller's standing on a figure: public figures are readable by anyone; drafts and withdrawn
  * ones only by their lab (and site admins), everyone else gets the same 404.
- * @returns whether the caller may change it (a member of its lab)
+ * @returns whether the caller may change it (a member of its lab), and whether they see the lab's
+ * side of it (members and site admins: the draft and every version) rather than what was published
  */
-export async function figureAccess(db: Db, res: Response, row: FigureRow, mode: 'read' | 'member'): Promise<{ canEdit: boolean }> {
+export async function figureAccess(db: Db, res: Response, row: FigureRow, mode: 'read' | 'member'): Promise<{ canEdit: boolean; insider: boolean }> {
   const user = res.locals.auth?.user;
   const shown = isPublic(row.figure);
   if (!user) {
-    if (mode === 'read' && shown) return { canEdit: false };
+    if (mode === 'read' && shown) return { canEdit: false, insider: false };
     throw mode === 'member' ? unauthorized() : figureMissing();
   }
   // a published figure is no secret: strangers may read it, and are told plainly they cannot change it
@@ -120,13 +146,13 @@ export async function figureAccess(db: Db, res: Response, row: FigureRow, mode: 
   if (mode === 'read') {
     if (shown) {
       const access = await checkLabAccess(db, user, row.run.labId, 'read', missing).catch(() => null);
-      return { canEdit: access?.role != null };
+      return { canEdit: access?.role != null, insider: access !== null };
     }
     const access = await checkLabAccess(db, user, row.run.labId, 'read', missing);
-    return { canEdit: access.role !== null };
+    return { canEdit: access.role !== null, insider: true };
   }
   await checkLabAccess(db, user, row.run.labId, 'member', missing);
-  return { canEdit: true };
+  return { canEdit: true, insider: true };
 }
 
 /** The finished runs a composition uses, each checked to belong to `labId`. */
@@ -136,6 +162,13 @@ export async function compositionRuns(db: Db, labId: string, spec: FigureSpec): 
   if (bad) throw badRequest(`spec.panels: "${bad}" is not a run id`);
   const rows = await db.select().from(runs).where(inArray(runs.id, ids));
   const byId = new Map(rows.map((r) => [r.id, r]));
+  spec.panels.forEach((p, i) => {
+    const r = byId.get(p.runId);
+    // on a background of 0 everywhere the difference is the heights again: no such view to print
+    if (r && r.labId === labId && p.layer === 'difference' && isZeroBackground(r.spec.background)) {
+      throw badRequest(`spec.panels.${i}.layer: run "${r.title}" has a background of 0 everywhere, so it has no difference layer (it would repeat the final heights); choose final heights or another layer`);
+    }
+  });
   return ids.map((id) => {
     const r = byId.get(id);
     if (!r || r.labId !== labId) throw badRequest(`spec.panels: run ${id} is not a run of this lab`);
@@ -173,15 +206,31 @@ export async function freeSlug(db: Pick<Db, 'select'>, wanted: string): Promise<
   for (let i = 2; ; i++) if (!taken.has(`${wanted}-${i}`)) return `${wanted}-${i}`;
 }
 
-/** The full figure for its page; readers of a public figure see only its ready versions. */
-export async function figureDetail(db: Db, row: FigureRow, canEdit: boolean): Promise<FigureDetail> {
-  const spec = specOf(row.figure);
+/** JSON as stored: jsonb drops undefined keys and orders keys its own way, so compare values only. */
+const plain = (x: unknown): unknown => JSON.parse(JSON.stringify(x ?? null));
+
+/** Whether a version holds the draft's title, caption and composition as they are now. */
+export function versionIsDraft(v: VersionRow, f: typeof figures.$inferSelect): boolean {
+  return versionTitle(v, f.title) === f.title && versionCaption(v) === f.caption && isDeepStrictEqual(plain(v.spec), plain(specOf(f)));
+}
+
+/**
+ * The full figure for its page. Its lab (`insider`: members, who may edit, and site admins) gets
+ * the draft and every version; everyone else gets what was published: the newest published
+ * version's title, caption and composition, and the published versions only.
+ */
+export async function figureDetail(db: Db, row: FigureRow, canEdit: boolean, insider = canEdit): Promise<FigureDetail> {
   const versions = await db
     .select({ v: figureVersions, orderedBy: users.name })
     .from(figureVersions)
     .leftJoin(users, eq(users.id, figureVersions.orderedById))
-    .where(and(eq(figureVersions.figureId, row.figure.id), canEdit ? undefined : eq(figureVersions.status, 'ready')))
+    .where(and(eq(figureVersions.figureId, row.figure.id), insider ? undefined : isNotNull(figureVersions.publishedAt)))
     .orderBy(desc(figureVersions.number));
+  const shown = versions.find((x) => x.v.publishedAt !== null)?.v ?? null;
+  // a figure published before versions were frozen has no published version: its own row is all there is
+  const spec = !insider && shown ? shown.spec : specOf(row.figure);
+  const words = !insider && shown ? { title: versionTitle(shown, row.figure.title), caption: versionCaption(shown) } : {};
+  const draft = insider ? versions.find((x) => x.v.status !== 'failed' && versionIsDraft(x.v, row.figure)) : undefined;
   const runIds = [...new Set([row.run.id, ...spec.panels.map((p) => p.runId), ...versions.flatMap((x) => x.v.spec.panels.map((p) => p.runId))])];
   const runRows = await db.select().from(runs).where(inArray(runs.id, runIds));
   const figureRuns: FigureRun[] = runRows.map((r) => ({
@@ -195,10 +244,13 @@ export async function figureDetail(db: Db, row: FigureRow, canEdit: boolean): Pr
   }));
   return {
     ...labFigureView(row),
+    ...words,
     spec,
-    versions: versions.map((x) => versionView(row.figure.slug, { ...x.v, orderedBy: x.orderedBy })),
+    versions: versions.map((x) => versionView(row.figure.slug, { ...x.v, orderedBy: x.orderedBy }, row.figure.title)),
     runs: figureRuns,
     canEdit,
+    unpublishedChanges: insider && shown !== null && !versionIsDraft(shown, row.figure),
+    draftVersion: draft ? draft.v.number : null,
   };
 }
 

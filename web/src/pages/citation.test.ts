@@ -82,6 +82,7 @@ describe('the link a run is cited by', () => {
     withdrawnAt: null,
     latestVersion: 1,
     newestStatus: 'ready',
+    publishedVersion: patch.publishedAt === null ? null : 1,
     ...patch,
   });
 
