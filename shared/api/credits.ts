@@ -6,7 +6,7 @@ import { idSchema, isoDateSchema } from './errors.js';
  * adjustments. Prices and the allowance are constants here so the web app shows what the API charges.
  */
 
-/** Free credits every lab gets each calendar month (UTC); runs draw on them before paid credits. */
+/** Free credits a lab gets each calendar month (UTC) unless a site admin set its own; runs draw on them before paid credits. */
 export const FREE_MONTHLY_ALLOWANCE = 100;
 
 export const CREDIT_PACKS = [
@@ -38,6 +38,8 @@ export const creditBalanceSchema = z.object({
   reserved: z.number().int().min(0),
   month: monthSchema,
   freeAllowance: z.number().int().min(0),
+  /** false when a site admin set this lab's allowance (it may then differ from FREE_MONTHLY_ALLOWANCE) */
+  allowanceIsDefault: z.boolean(),
   /** what is left of this month's free allowance */
   freeLeft: z.number().int().min(0),
 });

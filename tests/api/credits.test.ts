@@ -349,8 +349,10 @@ describe('gating submissions', () => {
     const refused = await submit(sessions.author, spec, lab);
     expect(refused.status).toBe(402);
     expect(refused.body.error).toBe(check.message);
-    expect(refused.body.error).toContain('20 credits are missing');
-    expect(refused.body.error).toContain(`/lab/credits?labId=${lab}`);
+    expect(refused.body.error).toContain('20 credits are missing; a lab manager can buy more on the lab\'s credits page');
+    // the address is the check's buyPath (the form links it in words), not part of the sentence
+    expect(refused.body.error).not.toContain('/lab/credits');
+    expect(check.buyPath).toBe(`/lab/credits?labId=${lab}`);
     expect(refused.body.issues).toEqual([{ path: 'credits', message: `20 credits missing; buy at /lab/credits?labId=${lab}` }]);
     // nothing of the refused run remains
     expect((await summary(lab)).balance.reserved).toBe(90);
@@ -387,12 +389,28 @@ describe('gating submissions', () => {
     expect((await submit(sessions.author2, specCosting(30), lab)).status).toBe(201);
     const over = await submit(sessions.author2, specCosting(30), lab);
     expect(over.status).toBe(402);
-    expect(over.body.error).toContain('only 10 of your monthly quota of 40 are left (20 over)');
+    expect(over.body.error).toContain('only 10 credits of your monthly quota of 40 are left (20 over)');
     expect(over.body.issues).toEqual([{ path: 'quota', message: '20 credits over your monthly quota' }]);
     // the other author has no personal limit
     expect((await submit(sessions.author, specCosting(30), lab)).status).toBe(201);
     const me = (await summary(lab, sessions.author2)).me;
     expect(me).toEqual({ monthlyQuota: 40, usedThisMonth: 30 });
+  });
+
+  it('says one credit in the singular, where it is missing and where it is what the quota has left', async () => {
+    // 100 free + 19 paid: after three runs of 30, a fourth needs 10 free and 20 paid, one more than the lab has
+    const lab = await freshLab('Singular Lab', 19);
+    for (let k = 0; k < 3; k++) expect((await submit(sessions.author, specCosting(30), lab)).status).toBe(201);
+    const short = await submit(sessions.author, specCosting(30), lab);
+    expect(short.status).toBe(402);
+    expect(short.body.error).toBe("this job needs 30 credits: 10 from this month's free allowance and 20 paid, but the lab has 19 available, so 1 credit is missing; a lab manager can buy more on the lab's credits page");
+    // a quota with one credit left
+    const quotaLab = await freshLab('Singular Quota Lab', 1000);
+    await as(h.http.put(`/api/labs/${quotaLab}/members/${people.author2.id}/quota`), sessions.manager).send({ monthlyQuota: 31 }).expect(200);
+    expect((await submit(sessions.author2, specCosting(30), quotaLab)).status).toBe(201);
+    const over = await submit(sessions.author2, specCosting(30), quotaLab);
+    expect(over.status).toBe(402);
+    expect(over.body.error).toBe('this job needs 30 credits but only 1 credit of your monthly quota of 31 is left (29 over); ask a lab manager to raise it');
   });
 
   it('gates a series as a whole', async () => {

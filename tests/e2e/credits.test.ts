@@ -76,6 +76,19 @@ describe('buying compute credits in the browser', () => {
     expect(mail.text).toContain('1,000 compute credits');
   });
 
+  test('the balance names this lab\'s free allowance: the standard one, or the one a site admin set for the other lab', async () => {
+    const month = new Date().toISOString().slice(0, 7);
+    const page = await newPage(browser, stack.url);
+    await signIn(page, manager.email, manager.password, '/lab/credits');
+    await expect.poll(() => page.getByTestId('credits-allowance').textContent()).toBe(`Free allowance for ${month}: 100 credits a month for this lab, the standard allowance of every lab.`);
+    const other = DEMO_SIGN_INS.find((d) => d.role === 'other lab')!;
+    const otherPage = await newPage(browser, stack.url);
+    await signIn(otherPage, other.email, other.password, '/lab/credits');
+    // the demo's admin cut the other lab's allowance to 2 for a pilot (api/src/seed/demo.ts)
+    await expect.poll(() => otherPage.getByTestId('credits-allowance').textContent()).toBe(`Free allowance for ${month}: 2 credits a month for this lab, set by a site admin (the standard allowance is 100 credits).`);
+    await screenshot(otherPage, 'credits-other-lab-allowance');
+  });
+
   test('the run form says before submitting how a run would be paid, and usage shows up in the chart and table', async () => {
     const page = await newPage(browser, stack.url);
     await signIn(page, manager.email, manager.password, '/runs/new');

@@ -1,10 +1,24 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
+import { and, eq } from 'drizzle-orm';
+import { memberships, users } from '../../drizzle/schema.js';
 import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
+import { estimateRun } from '../../shared/estimate.js';
+import { newRunSpecSchema } from '../../shared/run-spec.js';
+import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
 import { startStack, type Stack } from './stack.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
+const otherLab = DEMO_SIGN_INS.find((d) => d.role === 'other lab')!;
+
+/** Click "Start run", wait for the API's answer with `status` and for the form to show it. */
+async function submitAndSettle(page: Page, status: number): Promise<void> {
+  const answered = page.waitForResponse((r) => r.request().method() === 'POST' && new URL(r.url()).pathname === '/api/runs');
+  await page.getByRole('button', { name: 'Start run' }).click();
+  expect((await answered).status()).toBe(status);
+  // the button leaves its busy state in the render that shows the refusal
+  await page.getByRole('button', { name: 'Start run' }).waitFor();
+}
 
 /** Every API answer of 400 and up the page received, as "METHOD path status". */
 function refusals(page: Page): string[] {
@@ -62,11 +76,10 @@ describe('the new-run form with grain counts out of range', () => {
     expect(await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth)).toBeLessThanOrEqual(0);
     await screenshot(page, 'run-form-huge-n');
 
-    await page.getByRole('button', { name: 'Start run' }).click();
-    // the submit's refusal sits by the button, outside the estimate box, in the same words
-    const alert = page.locator('form[aria-label="new run"] aside > [role="alert"]');
-    await alert.waitFor();
-    expect(await alert.textContent()).toBe(await why.textContent());
+    await submitAndSettle(page, 400);
+    // the estimate box already says why, in the words the submit's refusal has: said once, not twice
+    expect(await page.getByRole('alert').filter({ hasText: 'of working memory' }).count()).toBe(1);
+    expect(await page.locator('form[aria-label="new run"] aside > [role="alert"]').count()).toBe(0);
     expect(new URL(page.url()).pathname).toBe('/runs/new');
     await screenshot(page, 'run-form-huge-n-refused');
     // the estimate's refusal and the submit's; no side request (a credit check) failed on the way
@@ -102,5 +115,80 @@ describe('the new-run form with grain counts out of range', () => {
     await screenshot(page, 'run-form-zero-n');
     expect(posted).toEqual([]);
     expect(new URL(page.url()).pathname).toBe('/runs');
+  });
+
+  test('background heights: errors on the field as typed, and a background that can never stabilize refused there, nothing sent', async () => {
+    const page = await newPage(browser, stack.url);
+    const posted: string[] = [];
+    page.on('request', (r) => {
+      if (r.method() === 'POST' && new URL(r.url()).pathname === '/api/runs') posted.push(r.url());
+    });
+    await signIn(page, author.email, author.password);
+    await page.goto('/runs/new');
+    await page.getByLabel('Title').fill('Background tests');
+    await page.getByLabel('Grains at the origin (n)').fill('1000');
+    const height = page.getByLabel('Height everywhere');
+    const fieldError = async () => page.locator(`[id="${await height.getAttribute('aria-describedby')}"]`).textContent();
+    for (const [typed, message, shot] of [['-1', 'must be at least 0', 'neg1'], ['2.5', 'enter a whole number', '2_5'], ['', 'enter a whole number', 'empty']] as const) {
+      await height.fill(typed);
+      await expect.poll(() => height.getAttribute('aria-invalid')).toBe('true');
+      expect(await fieldError()).toBe(message);
+      await page.getByTestId('estimate').getByText('Complete the form to see the size, time and cost.').waitFor();
+      await screenshot(page, `run-form-bg-${shot}`);
+    }
+
+    // constant 3 on Z^2: every site one below its threshold 4, so the first grain never stops toppling
+    await height.fill('3');
+    await expect.poll(fieldError).toMatch(/^this constant background puts at least 3 grains on every site, and 3 is one below the toppling threshold 4 of every site of this lattice: .*never stops/);
+    await page.getByTestId('estimate').getByText('Complete the form to see the size, time and cost.').waitFor();
+    expect(await page.getByText('never stabilize').count()).toBe(0);
+    await page.getByRole('button', { name: 'Start run' }).click();
+    await screenshot(page, 'run-form-bg-3');
+    expect(posted).toEqual([]);
+    expect(new URL(page.url()).pathname).toBe('/runs/new');
+
+    // a checkerboard of 3 and 2 might stabilize: accepted, with the estimator's soft warning
+    await page.getByLabel('Background', { exact: true }).selectOption('checkerboard');
+    await page.getByLabel('Height where x + y is even').fill('3');
+    await page.getByLabel('Height where x + y is odd').fill('2');
+    await page.getByTestId('estimate').getByText(/the mean background height 2\.5 is above 2; the pile may grow much faster than expected or never stabilize/).waitFor();
+    expect(await page.getByLabel('Height where x + y is even').getAttribute('aria-invalid')).toBeNull();
+    await screenshot(page, 'run-form-bg-checkerboard-3-2');
+  });
+
+  test('over the quota and short of credits: each refusal said once, in whole sentences, with the credits page as a link', async () => {
+    const page = await newPage(browser, stack.url);
+    await signIn(page, author.email, author.password);
+    await page.goto('/runs/new');
+    // a quota with one credit left this month, and a run that costs more
+    const spec = newRunSpecSchema.parse({ lattice: { preset: 'square' }, chips: 1_000_000 });
+    expect(estimateRun(spec).credits).toBeGreaterThanOrEqual(2);
+    const me = await apiCall<{ activeLabId: string; user: { id: string } }>(page, 'GET', '/api/me');
+    const summary = await apiCall<{ me: { usedThisMonth: number } }>(page, 'GET', `/api/labs/${me.body.activeLabId}/credits`);
+    const [row] = await stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
+    await stack.deps.db.update(memberships).set({ monthlyQuota: summary.body.me.usedThisMonth + 1 }).where(and(eq(memberships.labId, me.body.activeLabId), eq(memberships.userId, row!.id)));
+
+    await page.getByLabel('Title').fill('Over the quota');
+    await page.getByLabel('Grains at the origin (n)').fill('10^6');
+    const gate = page.getByTestId('credit-check');
+    await expect.poll(() => gate.textContent()).toMatch(/^Not accepted now: this job needs \d+ credits but only 1 credit of your monthly quota of [\d,]+ is left \(\d+ over\); ask a lab manager to raise it\. $/);
+    await submitAndSettle(page, 402);
+    expect(await page.getByText(/only 1 credit of your monthly quota/).count()).toBe(1);
+    await screenshot(page, 'run-form-over-quota-submit');
+
+    // the other lab has spent its small allowance and its paid credits
+    const other = await newPage(browser, stack.url);
+    await signIn(other, otherLab.email, otherLab.password);
+    await other.goto('/runs/new');
+    await other.getByLabel('Title').fill('Other lab try');
+    await other.getByLabel('Grains at the origin (n)').fill('1000');
+    const otherGate = other.getByTestId('credit-check');
+    await expect.poll(() => otherGate.textContent()).toMatch(/credits? (is|are) missing; a lab manager can buy more on the lab's credits page\. Buy credits$/);
+    expect(await otherGate.textContent()).not.toContain('/lab/credits');
+    const otherMe = await apiCall<{ activeLabId: string }>(other, 'GET', '/api/me');
+    expect(await otherGate.getByRole('link', { name: 'Buy credits' }).getAttribute('href')).toBe(`/lab/credits?labId=${otherMe.body.activeLabId}`);
+    await submitAndSettle(other, 402);
+    expect(await other.getByText(/missing; a lab manager can buy more/).count()).toBe(1);
+    await screenshot(other, 'run-form-other-lab-no-credits');
   });
 });

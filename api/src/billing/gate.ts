@@ -32,21 +32,27 @@ export async function checkCredits(ex: Executor, labId: string, memberId: string
   const overQuota = quotaLeft === null ? 0 : Math.max(0, credits - quotaLeft);
   const buyPath = creditsPagePath(labId);
   const n = (x: number) => x.toLocaleString('en-US');
+  // "1 credit", "2 credits": the message is read by people on the form as well as by scripts
+  const cr = (x: number) => `${n(x)} ${x === 1 ? 'credit' : 'credits'}`;
   const parts: string[] = [];
   if (missingCredits > 0) {
+    // the address of the credits page is `buyPath` (the form links it as "Buy credits"), not part of the sentence
     parts.push(
-      `this job needs ${n(credits)} credits: ${n(fromAllowance)} from this month's free allowance and ${n(fromBalance)} paid, ` +
-        `but the lab has ${n(balance.available)} available, so ${n(missingCredits)} credits are missing; a lab manager can buy more at ${buyPath}`,
+      `this job needs ${cr(credits)}: ${n(fromAllowance)} from this month's free allowance and ${n(fromBalance)} paid, ` +
+        `but the lab has ${n(balance.available)} available, so ${cr(missingCredits)} ${missingCredits === 1 ? 'is' : 'are'} missing; a lab manager can buy more on the lab's credits page`,
     );
   }
   if (overQuota > 0) {
-    parts.push(`this job needs ${n(credits)} credits but only ${n(quotaLeft!)} of your monthly quota of ${n(standing.monthlyQuota!)} are left (${n(overQuota)} over); ask a lab manager to raise it`);
+    parts.push(
+      `this job needs ${cr(credits)} but only ${cr(quotaLeft!)} of your monthly quota of ${n(standing.monthlyQuota!)} ${quotaLeft === 1 ? 'is' : 'are'} left ` +
+        `(${n(overQuota)} over); ask a lab manager to raise it`,
+    );
   }
   const allowed = parts.length === 0;
   const message = allowed
     ? fromBalance === 0
-      ? `covered by this month's free allowance (${n(balance.freeLeft)} credits left)`
-      : `${n(fromAllowance)} credits from the free allowance and ${n(fromBalance)} from the lab's ${n(balance.available)} available`
+      ? `covered by this month's free allowance (${cr(balance.freeLeft)} left)`
+      : `${cr(fromAllowance)} from the free allowance and ${n(fromBalance)} from the lab's ${n(balance.available)} available`
     : parts.join('; ');
   return { allowed, credits, fromAllowance, fromBalance, missingCredits, quotaLeft, overQuota, message, buyPath };
 }

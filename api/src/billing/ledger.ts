@@ -90,10 +90,10 @@ export async function labBalance(ex: Executor, labId: string, now = new Date()):
   const names = [accounts.available(labId), accounts.reserved(labId), accounts.free(labId, month)];
   const b = await balancesOf(ex, names);
   const [issued] = await ex.select({ id: ledgerEntries.id }).from(ledgerEntries).where(eq(ledgerEntries.idempotencyKey, allowanceKey(labId, month)));
-  const { freeAllowance } = await allowanceOf(ex, labId);
+  const { freeAllowance, isDefault } = await allowanceOf(ex, labId);
   // an admin's mid-month change books its own allowance entries, so once anything is on the account, it is the truth
   const freeLeft = issued || b.get(names[2]!)! !== 0 ? b.get(names[2]!)! : freeAllowance;
-  return { available: b.get(names[0]!)!, reserved: b.get(names[1]!)!, month, freeAllowance, freeLeft: Math.max(0, freeLeft) };
+  return { available: b.get(names[0]!)!, reserved: b.get(names[1]!)!, month, freeAllowance, allowanceIsDefault: isDefault, freeLeft: Math.max(0, freeLeft) };
 }
 
 /** Entries of a lab with their lines, newest first; `kinds` narrows them. */

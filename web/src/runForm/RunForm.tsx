@@ -2,13 +2,14 @@ import { useEffect, useMemo, useState, type FormEvent } from 'react';
 import { useNavigate } from 'react-router';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
-import { useEstimate } from '../api/queries.js';
+import { useCreditCheck, useEstimate } from '../api/queries.js';
+import { isStatus, messageForPeople } from '../api/ApiError.js';
 import {
   createRunRequestSchema, createSeriesRequestSchema, newRunSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
 } from '../api/contract.js';
 import { backgroundKindName, latticeName } from '../labels.js';
 import { formatDuration, groupThousands } from '../format.js';
-import { Button, Count, FormError, SelectField, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
+import { Button, Count, FormError, SelectField, TextField, friendlyMessage, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 import { BackgroundUpload } from './BackgroundUpload.js';
 import { RenderChoices } from './RenderChoices.js';
 import { UnitCellEditor } from './UnitCellEditor.js';
@@ -51,11 +52,15 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
     return r.success ? (r.data as RunSpecInput) : null;
   }, [f]);
   const specForEstimateDebounced = useDebounced(specForEstimate, 400);
-  // what the shared schema says about the drawing choices, shown as the author ticks them
-  const liveRenderIssues = useMemo(() => {
-    const r = newRunSpecSchema.safeParse(specOfForm(f));
-    const at = (k: string) => (r.success ? undefined : r.error.issues.find((i) => i.path.join('.') === `render.${k}`)?.message);
-    return { layers: at('layers'), palettes: at('palettes') };
+  // what the shared schema says about the drawing choices and the background, shown as the author
+  // types (a background that can never stabilize is refused here too, by the field that sets it)
+  const liveIssues = useMemo(() => {
+    const r = newRunSpecSchema.safeParse(specOfForm(f), { error: friendlyMessage });
+    const issues = r.success ? [] : r.error.issues;
+    const render = (k: string) => issues.find((i) => i.path.join('.') === `render.${k}`)?.message;
+    // a background field's own issue, or one of its entries' (motif cells, weights)
+    const background = (k: string) => issues.find((i) => i.path[0] === 'background' && i.path[1] === k)?.message;
+    return { layers: render('layers'), palettes: render('palettes'), background };
   }, [f]);
   const estimate = useEstimate(specForEstimateDebounced);
 
@@ -69,7 +74,11 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
       void navigate(to);
     },
     // the series form has one field for all its counts, so the server's chips.<i> land there
-    onError: (e) => setErrors(Object.fromEntries(Object.entries(serverFieldErrors(e)).map(([k, v]) => [f.mode === 'series' && /^chips(\.|$)/.test(k) ? 'seriesChips' : k, v]))),
+    onError: (e) => {
+      // a refusal for credits: the estimate box's credit check should show the lab as it is now
+      if (isStatus(e, 402)) void qc.invalidateQueries({ queryKey: ['credits', labId, 'check'] });
+      setErrors(Object.fromEntries(Object.entries(serverFieldErrors(e)).map(([k, v]) => [f.mode === 'series' && /^chips(\.|$)/.test(k) ? 'seriesChips' : k, v])));
+    },
   });
 
   function submit(e: FormEvent) {
@@ -92,8 +101,18 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
   }
 
   const grains = parseGrains(f.chips);
-  const bgErr = (k: string) => errors[`spec.background.${k}`] ?? (f.backgroundKind === 'array' ? undefined : errors['spec.background']);
+  // the shared schema read live says all the server would about these fields, and never goes stale
+  const bgErr = (k: string) => (f.backgroundKind === 'array' ? undefined : (liveIssues.background(k) ?? errors['spec.background']));
   const est = estimate.data?.estimate;
+  // the credit check the estimate box shows (CreditGate asks the same query), so a refused submit
+  // that only repeats it, or the estimate's own refusal, is not said a second time by the button
+  const gated = est && specForEstimate && f.mode !== 'series' ? est.credits : null;
+  const creditCheck = useCreditCheck(labId, gated);
+  const shownAbove = [
+    specForEstimate && estimate.isError ? messageForPeople(estimate.error) : null,
+    gated !== null && creditCheck.data && !creditCheck.data.allowed ? creditCheck.data.message : null,
+  ];
+  const submitRefusal = create.isError && !shownAbove.includes(messageForPeople(create.error)) ? create.error : null;
   // which n the numbers shown are for (the previous answer stays up while the next one is fetched)
   const shownKey = estimate.data ? (estimate.isPlaceholderData ? null : specForEstimateDebounced) : null;
   const estimatedFor = shownKey ? Number(shownKey.chips) + (shownKey.sources ?? []).reduce((a, s) => a + s.chips, 0) : null;
@@ -209,8 +228,8 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           palettes={f.palettes}
           untoppled={f.untoppled}
           onChange={set}
-          layersError={errors['spec.render.layers'] ?? liveRenderIssues.layers}
-          palettesError={errors['spec.render.palettes'] ?? liveRenderIssues.palettes}
+          layersError={errors['spec.render.layers'] ?? liveIssues.layers}
+          palettesError={errors['spec.render.palettes'] ?? liveIssues.palettes}
         />
       </div>
 
@@ -257,8 +276,8 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           )) : null}
           {est && specForEstimate && f.mode !== 'series' ? <CreditGate labId={labId} credits={est.credits} /> : null}
         </div>
-        {/* every refusal of the submit shows here, also those naming no field of the form (say, a run too large for the machines) */}
-        {create.isError ? <FormError error={create.error} /> : errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
+        {/* every refusal of the submit shows here, also those naming no field of the form, unless the estimate box above already says it */}
+        {submitRefusal ? <FormError error={submitRefusal} /> : errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
         <div className="flex justify-end gap-3">
           {onClose ? (
             <Button tone="quiet" onClick={onClose}>

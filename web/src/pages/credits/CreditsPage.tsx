@@ -1,12 +1,12 @@
 import { useSearchParams } from 'react-router';
 import { useCheckout, useCredits, useCreditUsage, useLab } from '../../api/queries.js';
-import type { CreditPack, CreditsSummaryResponse, Purchase, UsageRow } from '../../api/contract.js';
+import { FREE_MONTHLY_ALLOWANCE, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
 import { useSignedIn } from '../../auth/useSignedIn.js';
 import { formatDate } from '../../format.js';
 import {
   Button, Count, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SkeletonTable, SortableTable, type Column,
 } from '../../ui/index.js';
-import { formatMoney, recentlyPaid } from './money.js';
+import { allowanceText, formatMoney, recentlyPaid } from './money.js';
 import { AdjustmentForm } from './AdjustmentForm.js';
 import { UsageChart } from './UsageChart.js';
 
@@ -70,7 +70,7 @@ function Figure({ label, value, unit, note, testId }: { label: string; value: nu
 function BalanceSection({ data }: { data: CreditsSummaryResponse }) {
   const b = data.balance;
   return (
-    <Section title="Balance" description={`Free allowance for ${b.month}: ${b.freeAllowance} credits a month for every lab.`}>
+    <Section title="Balance" description={<span data-testid="credits-allowance">{allowanceText(b, FREE_MONTHLY_ALLOWANCE)}</span>}>
       <div className="grid grid-cols-4 gap-8">
         <Figure label="Available" value={b.available} unit="paid credits" testId="credits-available" />
         <Figure label="Reserved" value={b.reserved} unit="credits held by running jobs" testId="credits-reserved" />
