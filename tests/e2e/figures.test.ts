@@ -21,6 +21,9 @@ describe('figures in the browser', () => {
   let browser: Browser;
   let worker: Awaited<ReturnType<typeof startFarmWorker>>;
   const email = 'ada.printer@figures.e2e.toppleworks.local';
+  const otherEmail = 'cato.neighbour@figures.e2e.toppleworks.local';
+  let authorId = '';
+  let labId = '';
 
   beforeAll(async () => {
     stack = await startStack();
@@ -31,6 +34,13 @@ describe('figures in the browser', () => {
     const [lab] = await stack.deps.db.insert(labs).values({ name: 'Sandpile Press Lab' }).returning();
     await stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
     await stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
+    authorId = u!.id;
+    labId = lab!.id;
+    // a member of another invented lab, who may read the published figure but not change it
+    const [o] = await stack.deps.db.insert(users).values({ email: otherEmail, name: 'Cato Neighbour', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
+    const [otherLab] = await stack.deps.db.insert(labs).values({ name: 'Neighbouring Lattice Lab' }).returning();
+    await stack.deps.db.insert(memberships).values({ labId: otherLab!.id, userId: o!.id, role: 'manager' });
+    await stack.deps.db.update(users).set({ activeLabId: otherLab!.id }).where(eq(users.id, o!.id));
   }, 60_000);
   afterAll(async () => {
     await browser?.close();
@@ -50,6 +60,24 @@ describe('figures in the browser', () => {
 
     // compose: the proof follows the settings, the engine's warnings are shown in words
     await page.goto('/figures/new');
+    // the run's background is 0 everywhere: its difference layer is not offered
+    const difference = page.getByTestId('panel-0').getByLabel('Layer').locator('option[value="difference"]');
+    expect(await difference.isDisabled()).toBe(true);
+    expect(await difference.textContent()).toMatch(/not for a 0 background/);
+    // a palette the run did not draw: the proof says so inside the panel, wrapped, not across the page
+    const palettes = await page.getByTestId('panel-0').getByLabel('Palette').locator('option').evaluateAll((os) => os.map((o) => (o as HTMLOptionElement).value));
+    await page.getByTestId('panel-0').getByLabel('Palette').selectOption(palettes.find((p) => p !== 'tidewater')!);
+    const words = page.getByTestId('proof-placeholder-0').locator('foreignObject div');
+    await expect.poll(() => words.textContent()).toMatch(/no proof image for this palette; the print draws it from the arrays/);
+    const inside = await page.getByTestId('proof-placeholder-0').evaluate((g) => {
+      const box = g.querySelector('rect')!.getBoundingClientRect();
+      const div = g.querySelector('foreignObject div') as HTMLElement;
+      const text = div.getBoundingClientRect();
+      return div.scrollWidth <= div.clientWidth && div.scrollHeight <= div.clientHeight && text.left >= box.left - 1 && text.right <= box.right + 1;
+    });
+    expect(inside).toBe(true);
+    await screenshot(page, 'figures-compose-placeholder');
+    await page.getByTestId('panel-0').getByLabel('Palette').selectOption('tidewater');
     await page.getByLabel('Title').fill('A thousand grains on Z²');
     await page.getByLabel(/^Caption/).fill('Final stable heights after 1000 grains are added at the origin of the square lattice.');
     await page.getByTestId('proof').waitFor();
@@ -139,8 +167,12 @@ describe('figures in the browser', () => {
     await expect.poll(() => page.getByTestId('run-bibtex').textContent()).toContain('the link opens only for members of the lab');
     await page.goto('/lab/figures/a-thousand-grains-on-z2');
 
-    await page.getByRole('button', { name: 'Publish' }).click();
+    await page.getByRole('button', { name: 'Publish version 1' }).click();
     await page.getByText('Anyone with the link can read').waitFor();
+    // the whole permanent address, with Copy beside it
+    expect(await page.getByTestId('figure-permalink').textContent()).toBe(`${stack.url}/f/a-thousand-grains-on-z2`);
+    await page.getByTestId('figure-permalink').locator('..').getByRole('button', { name: 'Copy' }).waitFor();
+    await screenshot(page, 'figures-published');
 
     // the viewer's toolbar keeps one row at common laptop widths, even with a second pane and its lock,
     // and the panes with their legends stay on the screen
@@ -185,7 +217,8 @@ describe('figures in the browser', () => {
     await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
     // the background with its value (the run's spec: constant height 0), not only its kind
     await reader.getByText('constant 0', { exact: true }).waitFor();
-    await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2,/);
+    // the citation names the version, whose link never changes
+    await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2-v1,[\s\S]*\\url\{[^}]*\/f\/a-thousand-grains-on-z2\/v\/1\}/);
     expect(await reader.getByTestId('bibtex').evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
     // the run's citation opens for this reader without an account
     await reader.goto(cited!);
@@ -197,9 +230,67 @@ describe('figures in the browser', () => {
     await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByText('constant 0', { exact: true }).waitFor();
 
-    // the author withdraws it; the link keeps answering, saying so
+    // a member of another lab cannot open the composer on it: no form, no error thrown on the page
+    const other = await newPage(browser, stack.url);
+    const otherErrors: Error[] = [];
+    other.on('pageerror', (err) => otherErrors.push(err));
+    await signIn(other, otherEmail, PASSWORD);
+    await other.goto('/lab/figures/a-thousand-grains-on-z2/edit');
+    await other.getByTestId('compose-no-access').getByText('Only its lab can change this figure').waitFor();
+    expect(await other.getByLabel('Title').count()).toBe(0);
+    await screenshot(other, 'figures-other-lab-edit');
+    await other.goto('/lab/figures/no-such-figure-here/edit');
+    await other.getByText('No figure to edit here').waitFor();
+    expect(otherErrors).toEqual([]);
+
+    // edited after publishing: readers keep the published words until a new version is printed and published
+    const authorErrors: Error[] = [];
+    page.on('pageerror', (err) => authorErrors.push(err));
+    await page.goto('/lab/figures/a-thousand-grains-on-z2/edit');
+    await page.getByTestId('compose-published-note').getByText('Published: readers see version 1').waitFor();
+    await page.getByLabel(/^Caption/).fill('Edited after publishing: heights of 1000 grains.');
+    // a refused save (here: the author left the lab meanwhile) is shown by the button, never thrown
+    const [membership] = await stack.deps.db.delete(memberships).where(eq(memberships.userId, authorId)).returning();
+    await page.getByRole('button', { name: 'Save the composition' }).click();
+    await page.getByRole('alert').getByText(/only members of the figure's lab can do this/).waitFor();
+    await stack.deps.db.insert(memberships).values(membership!);
+    await page.getByRole('button', { name: 'Save the composition' }).click();
+    await page.waitForURL(/\/lab\/figures\/a-thousand-grains-on-z2$/);
+    await page.getByTestId('unpublished-changes').getByText('Changes not yet published').waitFor();
+    await screenshot(page, 'figures-unpublished-changes');
+    await reader.goto('/f/a-thousand-grains-on-z2');
+    await expect.poll(() => reader.getByTestId('figure-caption').textContent()).toBe('Final stable heights after 1000 grains are added at the origin of the square lattice.');
+
+    // printed and published again: version 2 for readers, version 1 kept at its own link
+    await page.getByRole('button', { name: 'Print again' }).click();
+    await expect.poll(() => page.getByTestId('version-2-status').textContent(), { timeout: 90_000 }).toBe('ready');
+    await page.getByRole('button', { name: 'Publish version 2' }).click();
+    await page.getByTestId('version-2-shown').waitFor();
+    expect(await page.getByTestId('unpublished-changes').count()).toBe(0);
+    await reader.goto('/f/a-thousand-grains-on-z2');
+    await expect.poll(() => reader.getByTestId('figure-caption').textContent()).toBe('Edited after publishing: heights of 1000 grains.');
+    await reader.getByTestId('figure-files').first().getByText('a-thousand-grains-on-z2-v2.pdf').waitFor();
+    await reader.getByTestId('figure-history').getByRole('link', { name: 'Version 1' }).click();
+    // a client-side navigation: no load event to wait for
+    await expect.poll(() => new URL(reader.url()).pathname).toBe('/f/a-thousand-grains-on-z2/v/1');
+    await reader.getByTestId('older-version').waitFor();
+    await expect.poll(() => reader.getByTestId('figure-caption').textContent()).toBe('Final stable heights after 1000 grains are added at the origin of the square lattice.');
+    await screenshot(reader, 'figures-reader-version-1');
+    expect(authorErrors).toEqual([]);
+
+    // the author withdraws it, after saying yes to a question that tells what readers will see
+    page.once('dialog', (d) => void d.dismiss());
+    await page.getByRole('button', { name: 'Unpublish' }).click();
+    await page.getByText('Anyone with the link can read').waitFor();
+    expect(await page.getByText(/^Withdrawn on/).count()).toBe(0);
+    let question = '';
+    page.once('dialog', (d) => {
+      question = d.message();
+      void d.accept();
+    });
     await page.getByRole('button', { name: 'Unpublish' }).click();
     await page.getByText(/^Withdrawn on/).waitFor();
+    expect(question).toMatch(/will see only that it was withdrawn/);
     await reader.goto('/f/a-thousand-grains-on-z2');
     await reader.getByTestId('figure-withdrawn').getByText('“A thousand grains on Z²” was withdrawn').waitFor();
     await screenshot(reader, 'figures-withdrawn');

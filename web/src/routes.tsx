@@ -48,6 +48,7 @@ export function createRouter() {
             { path: '/invitations/:token', element: <InvitationPage /> },
             { path: '/figures', element: <FiguresIndex /> },
             { path: '/f/:slug', element: <FigureReader /> },
+            { path: '/f/:slug/v/:version', element: <FigureReader /> },
             { path: '/dev/outbox', ...lazyPage(() => import('./pages/DevOutbox.js'), (m) => m.DevOutbox) },
             {
               element: <RequireSignIn />,

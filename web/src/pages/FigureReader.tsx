@@ -7,17 +7,20 @@ import { formatDate } from '../format.js';
 import { CitationBlock, Count, EmptyState, ErrorPanel, FactList, LinkButton, Notice, Section, SkeletonBlock } from '../ui/index.js';
 import { figureBibtex } from './citation.js';
 import { FileList } from './figures/FileList.js';
+import { figureUrl, PermanentLink } from './figures/PermanentLink.js';
 
 // OpenSeadragon comes with the viewer chunk, only when the figure has tiles to show
 const FigureZoom = lazy(() => import('../viewer/FigureZoom.js').then((m) => ({ default: m.FigureZoom })));
 
 /**
- * /f/:slug — the permanent link. Published: the latest ready version's files, the deep zoom of the
- * figure's run, the caption and a citation, with the earlier versions listed. Withdrawn: the link
+ * /f/:slug — the permanent link, and /f/:slug/v/:version — one published version, which never
+ * changes. Published: that version's title, caption and files exactly as published, the deep zoom of
+ * the figure's run and a citation of the version, with the other published versions listed. The
+ * lab's later edits appear only once printed and published as a new version. Withdrawn: the link
  * still answers, saying so.
  */
 export function FigureReader() {
-  const { slug = '' } = useParams();
+  const { slug = '', version: versionParam } = useParams();
   const figure = useFigure(slug);
   const base = { kind: 'figure', slug } as const;
   const drawn = useViewDrawn(base, 'heights', 'tidewater', figure.isSuccess && !figure.data.withdrawn);
@@ -45,16 +48,33 @@ export function FigureReader() {
     );
   }
   const f = figure.data.figure;
-  const permalink = `${window.location.origin}/f/${f.slug}`;
-  const ready = f.versions.filter((v) => v.status === 'ready');
-  const latest = ready[0] ?? null;
+  const published = f.versions.filter((v) => v.publishedAt !== null && v.status === 'ready');
+  const asked = versionParam === undefined ? null : Number(versionParam);
+  // the version this page shows: the one in the address, else the newest published; before
+  // publishing, the lab previews its newest print with the draft's words
+  const shown = asked === null ? (published[0] ?? null) : (published.find((v) => v.number === asked) ?? null);
+  if (asked !== null && !shown) {
+    return (
+      <EmptyState title={`No published version ${versionParam} of this figure`} action={<Link to={`/f/${f.slug}`}>See the figure as published now</Link>}>
+        The permanent link of “{f.title}” answers, but no version with that number was published.
+      </EmptyState>
+    );
+  }
+  const preview = shown ? null : (f.versions.find((v) => v.status === 'ready') ?? null);
+  const latest = shown ?? preview;
+  const title = shown ? shown.title : f.title;
+  const caption = shown ? shown.caption : f.caption;
+  const newest = published[0] ?? null;
+  // a citation names one version, whose link shows exactly what was cited for good
+  const permalink = shown ? figureUrl(f.slug, shown.number) : figureUrl(f.slug);
+  const others = published.filter((v) => v !== shown);
   return (
     <article>
-      <title>{`${f.title} · Toppleworks`}</title>
+      <title>{`${title} · Toppleworks`}</title>
       <p className="text-xs font-semibold uppercase tracking-[0.14em] text-ink-faint">Figure · {f.labName}</p>
       <div className="mt-2 flex items-start justify-between gap-6">
         <div>
-          <h1 className="text-3xl font-semibold tracking-tight">{f.title}</h1>
+          <h1 className="text-3xl font-semibold tracking-tight">{title}</h1>
           <p className="mt-2 text-base text-ink-soft">{f.authors.join(', ')}</p>
         </div>
         {f.canEdit ? (
@@ -75,18 +95,32 @@ export function FigureReader() {
             Only members of {f.labName} can see this page until it is published.
           </Notice>
         </div>
+      ) : shown && newest && shown !== newest ? (
+        <div className="mt-6" data-testid="older-version">
+          <Notice tone="info" title={`Version ${shown.number}, as published on ${formatDate(shown.publishedAt)}`}>
+            A newer version was published: <Link to={`/f/${f.slug}`}>version {newest.number}</Link>.
+          </Notice>
+        </div>
+      ) : f.canEdit && f.unpublishedChanges ? (
+        <div className="mt-6">
+          <Notice tone="info" title="Changes not yet published">
+            Readers see version {shown?.number} as published; the lab's later edits appear here once printed and published as a new version.
+          </Notice>
+        </div>
       ) : null}
       {drawn.data ? (
         // full-bleed: the dark ground runs from edge to edge of the window
         <div className="relative left-1/2 mt-8 w-screen -translate-x-1/2" data-testid="figure-zoom">
           <Suspense fallback={<div className="h-[72vh] bg-night" />}>
-            <FigureZoom slug={f.slug} title={f.title} />
+            <FigureZoom slug={f.slug} title={title} />
           </Suspense>
         </div>
       ) : null}
       <div className="mt-8 grid grid-cols-[1.4fr_1fr] gap-8">
         <Section title="Caption">
-          <p className="whitespace-pre-line text-[15px] leading-relaxed text-ink">{f.caption}</p>
+          <p className="whitespace-pre-line text-[15px] leading-relaxed text-ink" data-testid="figure-caption">
+            {caption}
+          </p>
         </Section>
         <Section title="The run">
           <FactList
@@ -94,7 +128,7 @@ export function FigureReader() {
               { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
               { term: 'Lattice', value: latticeName(f.lattice) },
               { term: 'Background', value: backgroundOfSpec(f.backgroundSpec) },
-              { term: 'Published', value: formatDate(f.publishedAt) },
+              { term: shown ? `Version ${shown.number} published` : 'Published', value: formatDate(shown?.publishedAt ?? f.publishedAt) },
             ]}
           />
         </Section>
@@ -105,14 +139,14 @@ export function FigureReader() {
         description={latest ? `Printed ${formatDate(latest.finishedAt)} at ${latest.spec.dpi} DPI. Check a download against its SHA-256.` : undefined}
       >
         {latest ? <FileList files={latest.files} /> : <p className="text-sm text-ink-soft">No print of this figure is ready yet.</p>}
-        {ready.length > 1 ? (
+        {others.length > 0 ? (
           <div className="mt-6">
-            <h3 className="text-sm font-semibold text-ink">Earlier versions</h3>
+            <h3 className="text-sm font-semibold text-ink">Other published versions</h3>
             <ul className="mt-2 flex flex-col gap-4" data-testid="figure-history">
-              {ready.slice(1).map((v) => (
+              {others.map((v) => (
                 <li key={v.number}>
                   <p className="text-sm text-ink-soft">
-                    Version {v.number}, printed {formatDate(v.finishedAt)} at {v.spec.dpi} DPI
+                    <Link to={`/f/${f.slug}/v/${v.number}`}>Version {v.number}</Link>, “{v.title}”, published {formatDate(v.publishedAt)}, printed at {v.spec.dpi} DPI
                   </p>
                   <FileList files={v.files} />
                 </li>
@@ -121,13 +155,23 @@ export function FigureReader() {
           </div>
         ) : null}
       </Section>
-      <Section title="Cite this figure" className="mt-8" description="Permanent link and a BibTeX entry.">
-        <p className="mb-3 text-sm">
-          <a href={permalink} className="font-mono">
-            {permalink}
-          </a>
-        </p>
-        <CitationBlock testId="bibtex" text={figureBibtex(f, permalink, runJson.data ? { engineVersion: runJson.data.engineVersion, heightsSha256: runJson.data.heights.sha256 } : undefined)} />
+      <Section
+        title={shown ? `Cite version ${shown.number}` : 'Cite this figure'}
+        className="mt-8"
+        description={shown ? 'This version\'s link shows exactly what is cited, for good; the figure\'s own link always shows its newest published version.' : 'Permanent link and a BibTeX entry.'}
+      >
+        <div className="mb-3 flex flex-col gap-2">
+          <PermanentLink url={permalink} testId="figure-cite-link" />
+          {shown ? (
+            <p className="text-sm text-ink-soft">
+              Newest version: <a href={figureUrl(f.slug)} className="font-mono">{figureUrl(f.slug)}</a>
+            </p>
+          ) : null}
+        </div>
+        <CitationBlock
+          testId="bibtex"
+          text={figureBibtex({ ...f, title, publishedAt: shown?.publishedAt ?? f.publishedAt }, permalink, runJson.data ? { engineVersion: runJson.data.engineVersion, heightsSha256: runJson.data.heights.sha256 } : undefined, shown?.number)}
+        />
       </Section>
     </article>
   );

@@ -36,6 +36,15 @@ describe('BibTeX entry of a figure', () => {
     expect(entry!.entryTags.title).toBe('Fifty thousand grains on the honeycomb \\{lattice\\} \\& 100\\% of its sites');
   });
 
+  test('one version is keyed and labelled as that version, so two versions cited together never share a key', () => {
+    const [v2] = bibtexParse.toJSON(figureBibtex(figure, 'https://example.org/f/honeycomb-fifty-thousand/v/2', undefined, 2));
+    expect(v2!.citationKey).toBe('honeycomb-fifty-thousand-v2');
+    expect(v2!.entryTags.version).toBe('2');
+    expect(v2!.entryTags.howpublished).toBe('\\url{https://example.org/f/honeycomb-fifty-thousand/v/2}');
+    const [v1] = bibtexParse.toJSON(figureBibtex(figure, 'https://example.org/f/honeycomb-fifty-thousand/v/1', undefined, 1));
+    expect(v1!.citationKey).not.toBe(v2!.citationKey);
+  });
+
   test('an unpublished figure has no year rather than a wrong one', () => {
     const [entry] = bibtexParse.toJSON(figureBibtex({ ...figure, publishedAt: null }, 'https://example.org/f/x'));
     expect(entry!.entryTags.year).toBeUndefined();

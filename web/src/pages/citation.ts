@@ -5,14 +5,19 @@ function bibEscape(s: string): string {
   return s.replace(/\\/g, '\\textbackslash{}').replace(/([{}%&#_$])/g, '\\$1');
 }
 
-/** A BibTeX @misc entry for a published figure, keyed by its slug. */
-export function figureBibtex(f: Figure, permalink: string, artifact?: { engineVersion: string; heightsSha256: string }): string {
+/**
+ * A BibTeX @misc entry for a published figure, keyed by its slug, or for one published version of
+ * it (keyed `<slug>-v<n>`, with a `version` field biblatex prints and plain BibTeX ignores), so two
+ * versions cited in one paper never share a key.
+ */
+export function figureBibtex(f: Figure, permalink: string, artifact?: { engineVersion: string; heightsSha256: string }, version?: number): string {
   const year = f.publishedAt ? new Date(f.publishedAt).getUTCFullYear() : undefined;
   const lines = [
-    `@misc{${f.slug},`,
+    `@misc{${f.slug}${version ? `-v${version}` : ''},`,
     `  title        = {${bibEscape(f.title)}},`,
     `  author       = {${f.authors.map(bibEscape).join(' and ')}},`,
     year ? `  year         = {${year}},` : null,
+    version ? `  version      = {${version}},` : null,
     `  howpublished = {\\url{${permalink}}},`,
     artifact
       ? `  note         = {${bibEscape(f.labName)}; figure published with Toppleworks, engine ${bibEscape(artifact.engineVersion)}, heights sha256 ${artifact.heightsSha256}},`

@@ -1,5 +1,5 @@
 import { useMemo, useState } from 'react';
-import { useNavigate, useParams, useSearchParams } from 'react-router';
+import { Link, useNavigate, useParams, useSearchParams } from 'react-router';
 import { LAYERS, PALETTES } from '../../../../shared/palettes.js';
 import {
   COLUMN_NAMES,
@@ -14,9 +14,12 @@ import {
   type FigureSpecInput,
   type PanelSpec,
 } from '../../../../shared/print.js';
-import type { FigureDetail, Run } from '../../api/contract.js';
+import type { FigureDetail, FigureResponse, Run } from '../../api/contract.js';
+import { isStatus } from '../../api/ApiError.js';
 import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';
+import { isZeroBackground } from '../../../../shared/run-spec.js';
 import { latticeOfSpec } from '../../labels.js';
+import { drawnOf } from '../../viewer/drawnViews.js';
 import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
@@ -40,7 +43,24 @@ export function ComposePage() {
   const existing = useFigure(slug ?? '');
   if (me.isPending || runs.isPending || (slug && existing.isPending)) return <SkeletonBlock lines={10} />;
   if (runs.isError) return <ErrorPanel error={runs.error} />;
-  if (slug && existing.isError) return <ErrorPanel error={existing.error} />;
+  if (slug && existing.isError && !isStatus(existing.error, 404)) return <ErrorPanel error={existing.error} />;
+  // only members of a figure's lab may change it: anyone else (the API answers 404 for a draft,
+  // the published version alone for a public figure) gets no form to fill in
+  if (slug && (existing.isError || !existing.data || existing.data.withdrawn || !existing.data.figure.canEdit)) {
+    const readable = existing.data && !existing.data.withdrawn ? existing.data.figure : null;
+    return (
+      <div data-testid="compose-no-access">
+        <EmptyState
+          title={readable ? 'Only its lab can change this figure' : 'No figure to edit here'}
+          action={readable ? <Link to={`/f/${readable.slug}`}>Open the published figure</Link> : <Link to="/lab/figures">Your lab's figures</Link>}
+        >
+          {readable
+            ? `“${readable.title}” belongs to ${readable.labName}; only its members can edit its composition.`
+            : 'There is no figure at this address, or it belongs to a lab you are not a member of.'}
+        </EmptyState>
+      </div>
+    );
+  }
   if (!labId) return <EmptyState title="No lab yet">Join or create a lab to compose figures from its runs.</EmptyState>;
   const finished = runs.data.runs.filter((r) => r.stats);
   if (finished.length === 0) {
@@ -70,15 +90,21 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   );
   const layout = parsed.success ? layoutFigure(parsed.data, geometry) : null;
   const issues = parsed.success ? [] : parsed.error.issues.map((i) => `${i.path.join('.') || 'figure'}: ${i.message}`);
+  // the same refusal the API makes: kept here so Save waits for another layer instead of failing
+  const layerUnavailable = spec.panels.some((p) => {
+    const run = runs.find((r) => r.id === p.runId);
+    return p.layer === 'difference' && run !== undefined && isZeroBackground(run.spec.background);
+  });
 
-  async function submit(e: React.FormEvent) {
+  // refusals (a lost lab membership, a run that expired meanwhile) show under the button through save.error
+  function submit(e: React.FormEvent) {
     e.preventDefault();
     if (!parsed.success) return;
-    const res = figure
-      ? await update.mutateAsync({ title: draft.title, caption: draft.caption, spec: parsed.data })
-      : await create.mutateAsync({ labId, title: draft.title, caption: draft.caption, spec: parsed.data });
-    if (!res.withdrawn) navigate(`/lab/figures/${res.figure.slug}`);
+    const done = { onSuccess: (res: FigureResponse) => void (res.withdrawn || navigate(`/lab/figures/${res.figure.slug}`)) };
+    if (figure) update.mutate({ title: draft.title, caption: draft.caption, spec: parsed.data }, done);
+    else create.mutate({ labId, title: draft.title, caption: draft.caption, spec: parsed.data }, done);
   }
+  const live = figure && figure.publishedVersion !== null && figure.withdrawnAt === null;
 
   const size = spec.size;
   return (
@@ -88,6 +114,13 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
         title={figure ? `Compose “${figure.title}”` : 'Compose a figure'}
         lede="Choose runs, the region in lattice coordinates, the layer and palette, and the paper size and resolution. The proof on the right follows every change and warns in plain words when the print would lose detail or cannot be made."
       />
+      {live ? (
+        <div className="mb-6" data-testid="compose-published-note">
+          <Notice tone="info" title={`Published: readers see version ${figure.publishedVersion}`}>
+            Saving keeps your changes for the lab as a draft; the permanent link keeps showing version {figure.publishedVersion} as published. To show the changes, print again and publish the new version.
+          </Notice>
+        </div>
+      ) : null}
       <div className="grid grid-cols-[minmax(0,1.05fr)_minmax(0,1fr)] items-start gap-8">
         <div className="flex flex-col gap-6">
           <Section title="Title and caption">
@@ -279,7 +312,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
           </Section>
           <FormError error={save.error} />
           <div className="flex justify-end gap-3">
-            <Button type="submit" busy={save.isPending} busyLabel="Saving…" disabled={!parsed.success || !draft.title.trim()}>
+            <Button type="submit" busy={save.isPending} busyLabel="Saving…" disabled={!parsed.success || !draft.title.trim() || layerUnavailable}>
               {figure ? 'Save the composition' : 'Create the figure'}
             </Button>
           </div>
@@ -294,6 +327,16 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
   const whole = run?.stats ? wholeRegion(run.stats.shape, run.stats.origin) : null;
   const region = panel.region ?? null;
   const [drawing, setDrawing] = useState(false);
+  const layer = panel.layer ?? 'heights';
+  // a background of 0 everywhere has no difference layer (it would repeat the heights): not offered
+  const noDifference = run ? isZeroBackground(run.spec.background) : false;
+  const drawn = run ? (drawnOf(run.spec).layers as readonly string[]) : [];
+  const layerHint =
+    layer === 'difference' && noDifference
+      ? 'Not available for this run: its background is 0 everywhere, so there is no difference to show. Choose another layer.'
+      : run && !drawn.includes(layer)
+        ? `This run drew no ${LAYER_NAMES[layer]} view, so the proof cannot show it; the print draws it from the arrays.`
+        : undefined;
   return (
     <fieldset className="rounded-lg border border-rule-soft px-4 pb-4 pt-2" data-testid={`panel-${index}`}>
       <legend className="px-1 text-sm font-semibold text-ink">Panel {index + 1}</legend>
@@ -319,10 +362,16 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
             </option>
           ))}
         </SelectField>
-        <SelectField label="Layer" value={panel.layer ?? 'heights'} onChange={(e) => onChange({ layer: e.target.value as PanelSpec['layer'] })}>
+        <SelectField
+          label="Layer"
+          value={layer}
+          onChange={(e) => onChange({ layer: e.target.value as PanelSpec['layer'] })}
+          error={layer === 'difference' && noDifference ? layerHint : undefined}
+          hint={layer === 'difference' && noDifference ? undefined : layerHint}
+        >
           {LAYERS.map((l) => (
-            <option key={l} value={l}>
-              {LAYER_NAMES[l]}
+            <option key={l} value={l} disabled={l === 'difference' && noDifference}>
+              {l === 'difference' && noDifference ? `${LAYER_NAMES[l]} (not for a 0 background)` : LAYER_NAMES[l]}
             </option>
           ))}
         </SelectField>

@@ -1,9 +1,10 @@
-import { Link, useParams } from 'react-router';
+import { useParams } from 'react-router';
 import type { FigureVersion } from '../../api/contract.js';
 import { useFigureLive, useOrderPrint, usePublishFigure } from '../../api/queries.js';
 import { formatDateTime } from '../../format.js';
 import { Button, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SkeletonBlock } from '../../ui/index.js';
 import { FileList } from './FileList.js';
+import { figureUrl, PermanentLink } from './PermanentLink.js';
 
 const STATUS_WORDS: Record<FigureVersion['status'], string> = { queued: 'waiting for the farm', printing: 'printing', ready: 'ready', failed: 'failed' };
 
@@ -26,6 +27,13 @@ export function FigurePage() {
   const shown = f.publishedAt !== null && f.withdrawnAt === null;
   const busy = f.versions.some((v) => v.status === 'queued' || v.status === 'printing');
   const ready = f.versions.find((v) => v.status === 'ready');
+  // publishing takes the newest ready print; offered while it is not what readers see already
+  const publishable = ready && !(shown && ready.publishedAt) ? ready : null;
+  const draft = f.versions.find((v) => v.number === f.draftVersion);
+  function unpublish() {
+    const ask = `Withdraw “${f.title}”? Readers following its permanent link, or a citation of it, will see only that it was withdrawn, with no image, files or caption; it also leaves the public index. The lab keeps every version, and publishing again brings the link back.`;
+    if (confirm(ask)) publish.mutate(false);
+  }
   return (
     <div>
       <PageHeading
@@ -47,7 +55,7 @@ export function FigurePage() {
       />
       <FormError error={order.error ?? publish.error} />
       <div className="grid grid-cols-[minmax(0,1.6fr)_minmax(0,1fr)] items-start gap-8">
-        <Section title="Versions" description="Each order prints the composition as it is then; the permanent link shows the newest ready version.">
+        <Section title="Versions" description="Each order prints the title, caption and composition as they are then; the permanent link shows the newest published version, and earlier published versions keep links of their own.">
           {f.versions.length === 0 ? (
             <p className="text-sm text-ink-soft">Nothing ordered yet. Order the print to make the PNG, TIFF and PDF files.</p>
           ) : (
@@ -67,7 +75,13 @@ export function FigurePage() {
                     {v.orderedBy ? ` by ${v.orderedBy}` : ''}
                     {v.finishedAt ? ` · done ${formatDateTime(v.finishedAt)}` : ''}
                     {v.stage ? ` · ${v.stage}` : ''}
+                    {v.publishedAt ? ` · published ${formatDateTime(v.publishedAt)}` : ''}
                   </p>
+                  {v.number === f.publishedVersion && f.withdrawnAt === null ? (
+                    <p className="mt-1 text-xs font-medium text-leaf" data-testid={`version-${v.number}-shown`}>
+                      readers see this version
+                    </p>
+                  ) : null}
                   {v.error ? <p className="mt-2 text-sm text-stamp">{v.error}</p> : null}
                   {v.files.length ? (
                     <div className="mt-3">
@@ -81,8 +95,9 @@ export function FigurePage() {
         </Section>
         <Section title="Publishing">
           {shown ? (
-            <Notice tone="success" title="Published">
-              Anyone with the link can read, zoom into, download and cite it: <Link to={`/f/${f.slug}`} className="font-mono">/f/{f.slug}</Link>
+            <Notice tone="success" title={`Published · readers see version ${f.publishedVersion ?? '?'}`}>
+              <p className="mb-2">Anyone with the link can read, zoom into, download and cite it:</p>
+              <PermanentLink url={figureUrl(f.slug)} testId="figure-permalink" />
             </Notice>
           ) : f.withdrawnAt ? (
             <Notice tone="warning" title={`Withdrawn on ${formatDateTime(f.withdrawnAt)}`}>
@@ -93,17 +108,32 @@ export function FigurePage() {
               Only members of {f.labName} see it. {ready ? 'Publish it to give readers the permanent link.' : 'Publishing needs a ready print.'}
             </Notice>
           )}
+          {f.canEdit && f.unpublishedChanges ? (
+            <div className="mt-3" data-testid="unpublished-changes">
+              <Notice tone="warning" title="Changes not yet published">
+                The title, caption or composition changed after version {f.publishedVersion} was published; readers still see version {f.publishedVersion} as it was.{' '}
+                {draft
+                  ? draft.status === 'ready'
+                    ? `Version ${draft.number} has the changes: publish it to show them.`
+                    : `Version ${draft.number} has the changes and is ${STATUS_WORDS[draft.status]}; publish it once it is ready.`
+                  : 'Print again, then publish the new version to show them.'}
+              </Notice>
+            </div>
+          ) : null}
           {f.canEdit ? (
-            <div className="mt-4 flex gap-3">
+            <div className="mt-4 flex flex-wrap gap-3">
+              {publishable ? (
+                <Button onClick={() => publish.mutate(true)} busy={publish.isPending && publish.variables === true}>
+                  {`Publish version ${publishable.number}`}
+                </Button>
+              ) : !shown ? (
+                <Button disabled>Publish</Button>
+              ) : null}
               {shown ? (
-                <Button tone="danger" onClick={() => publish.mutate(false)} busy={publish.isPending}>
+                <Button tone="danger" onClick={unpublish} busy={publish.isPending && publish.variables === false}>
                   Unpublish
                 </Button>
-              ) : (
-                <Button onClick={() => publish.mutate(true)} busy={publish.isPending} disabled={!ready}>
-                  Publish
-                </Button>
-              )}
+              ) : null}
               <LinkButton tone="quiet" to={`/f/${f.slug}`}>
                 Open the reader page
               </LinkButton>

@@ -53,7 +53,7 @@ export function LabFigures() {
                   <Count n={f.chips} />
                 </td>
                 <td className="px-4 py-2.5 text-ink-soft">{f.latestVersion ? `version ${f.latestVersion} ready` : f.newestStatus ? f.newestStatus : 'not ordered'}</td>
-                <td className="px-4 py-2.5 text-ink-soft">{f.withdrawnAt ? `withdrawn ${formatDate(f.withdrawnAt)}` : f.publishedAt ? `published ${formatDate(f.publishedAt)}` : 'private'}</td>
+                <td className="px-4 py-2.5 text-ink-soft">{f.withdrawnAt ? `withdrawn ${formatDate(f.withdrawnAt)}` : f.publishedAt ? `published ${formatDate(f.publishedAt)}${f.publishedVersion ? `, readers see version ${f.publishedVersion}` : ''}` : 'private'}</td>
               </tr>
             ))}
           </tbody>

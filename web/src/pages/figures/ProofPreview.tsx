@@ -5,6 +5,7 @@ import { figureTextMarks, WORK_SANS_ASCENT_EM, type Mark, type TextWidth } from 
 import type { FigureLayout, FigureSpec } from '../../../../shared/print.js';
 import type { Run } from '../../api/contract.js';
 import { keys } from '../../api/queries.js';
+import { isZeroBackground } from '../../../../shared/run-spec.js';
 import { drawnOf, paletteSegmentOf } from '../../viewer/drawnViews.js';
 import { fetchViewLegend, type ArtifactBase } from '../../viewer/runArtifacts.js';
 import { proofLegends } from './proofLegend.js';
@@ -114,11 +115,11 @@ export function ProofPreview({ spec, layout, runs }: { spec: FigureSpec; layout:
                 <image href={`${views[pl.index]}/full/${size.width},${size.height}/0/default.png`} width={size.width} height={size.height} style={{ imageRendering: 'pixelated' }} />
               </svg>
             ) : (
-              <g>
+              <g data-testid={`proof-placeholder-${pl.index}`}>
                 <rect x={pl.image.x} y={pl.image.y} width={pl.image.width} height={pl.image.height} fill="#ece8de" />
-                <text x={pl.image.x + pl.image.width / 2} y={pl.image.y + pl.image.height / 2} textAnchor="middle" fontSize={layout.textPt * s} fill="#777">
-                  {infos[pl.index]?.isPending ? 'loading…' : 'no proof image for this layer and palette'}
-                </text>
+                <BoxText box={pl.image} fontSize={layout.textPt * s} centred>
+                  {infos[pl.index]?.isPending ? 'loading…' : placeholderText(spec.panels[pl.index]!, byId.get(pl.runId))}
+                </BoxText>
               </g>
             )}
             {pl.scaleBar ? <rect x={pl.scaleBar.bar.x} y={pl.scaleBar.bar.y} width={pl.scaleBar.bar.width} height={pl.scaleBar.bar.height} fill="#000" /> : null}
@@ -128,14 +129,53 @@ export function ProofPreview({ spec, layout, runs }: { spec: FigureSpec; layout:
       {legendBox && found && 'missing' in found ? (
         <g data-testid="proof-legend-missing">
           <rect x={legendBox.x} y={legendBox.y} width={legendBox.width} height={legendBox.height} fill="#f3f0e8" />
-          <text x={legendBox.x + 4 * s} y={legendBox.y + layout.textPt * 1.2 * s} fontSize={layout.textPt * s} fill="#777">
+          <BoxText box={legendBox} fontSize={layout.textPt * s}>
             {found.missing}
-          </text>
+          </BoxText>
         </g>
       ) : null}
       <g data-testid="proof-legend">{marks.filter(inLegend).map((m, i) => markElement(m, i, s))}</g>
       <g data-testid="proof-text">{marks.filter((m) => !inLegend(m)).map((m, i) => markElement(m, i, s))}</g>
     </svg>
+  );
+}
+
+/** Why a panel has no proof image, in words: a layer the run cannot have, one it did not draw, or a palette. */
+function placeholderText(panel: FigureSpec['panels'][number], run: Run | undefined): string {
+  if (!run) return 'no proof image for this run';
+  if (panel.layer === 'difference' && isZeroBackground(run.spec.background)) return 'not available for this run: its background is 0 everywhere, so it has no difference layer';
+  if (!(drawnOf(run.spec).layers as readonly string[]).includes(panel.layer)) return `this run drew no ${panel.layer} view, so the proof has no image of it; the print draws it from the arrays`;
+  return 'no proof image for this palette; the print draws it from the arrays';
+}
+
+/**
+ * Words inside a box of the page: SVG text does not wrap, so long messages are laid out as HTML in a
+ * foreignObject, wrapped and clipped to the box instead of running across the page.
+ */
+function BoxText({ box, fontSize, centred = false, children }: { box: { x: number; y: number; width: number; height: number }; fontSize: number; centred?: boolean; children: string }) {
+  return (
+    <foreignObject x={box.x} y={box.y} width={box.width} height={box.height}>
+      <div
+        style={{
+          boxSizing: 'border-box',
+          width: '100%',
+          height: '100%',
+          overflow: 'hidden',
+          padding: fontSize * 0.5,
+          display: 'flex',
+          alignItems: centred ? 'center' : 'flex-start',
+          justifyContent: centred ? 'center' : 'flex-start',
+          textAlign: centred ? 'center' : 'left',
+          fontFamily: '"Work Sans"',
+          fontSize,
+          lineHeight: 1.25,
+          color: '#777',
+          overflowWrap: 'anywhere',
+        }}
+      >
+        {children}
+      </div>
+    </foreignObject>
   );
 }
 
