@@ -111,13 +111,13 @@ export function mayNotStabilizeWarning(mean: number, degree: number): string | u
   return mean > degree - 2 ? `the mean background height ${round3(mean)} is above ${degree - 2}; the pile may grow much faster than expected or never stabilize` : undefined;
 }
 
-const BACKGROUND_WORDS: Record<Background['kind'], string> = {
-  constant: 'this constant background',
-  checkerboard: 'this checkerboard',
-  motif: 'this motif',
-  random: 'these weights',
-  annuli: 'these annuli',
-  array: 'this upload',
+const BACKGROUND_PUTS: Record<Background['kind'], string> = {
+  constant: 'this constant background puts',
+  checkerboard: 'this checkerboard puts',
+  motif: 'this motif puts',
+  random: 'these weights put',
+  annuli: 'these annuli put',
+  array: 'this upload puts',
 };
 
 /**
@@ -146,7 +146,7 @@ export function neverStabilizesReason(lattice: LatticeChoice, bg: Background): s
   if (edge < 1) return `every site of this lattice has at most one neighbour, so a grain is passed on for ever and no run on it can finish`;
   const threshold = shape.degree === shape.maxDegree ? `the toppling threshold ${shape.maxDegree} of every site of this lattice` : `${shape.maxDegree}, the largest toppling threshold of this lattice's sites`;
   return (
-    `${BACKGROUND_WORDS[bg.kind]} puts at least ${floor} grains on every site, and ${edge} is one below ${threshold}: ` +
+    `${BACKGROUND_PUTS[bg.kind]} at least ${floor} grains on every site, and ${edge} is one below ${threshold}: ` +
     `the first grain makes every site topple in turn and the avalanche never stops, so the run could never finish; ` +
     `use a background with heights of at most ${edge - 1} on some sites`
   );

@@ -71,6 +71,14 @@ describe('the admin console in the browser', () => {
     const balanceChart = detail.getByTestId('chart-balance');
     await balanceChart.locator('.recharts-line-dot').first().waitFor();
     const dotsBefore = await balanceChart.locator('.recharts-line-dot').count();
+    // whole credits on the axes, each label once (a 0–2 balance once read 2, 2, 1, 1, 0)
+    const axisLabels = (chart: typeof balanceChart) => chart.locator('.recharts-yAxis-tick-labels .recharts-cartesian-axis-tick-value').allTextContents();
+    for (const chart of [balanceChart, detail.getByTestId('chart-credits')]) {
+      const labels = await axisLabels(chart);
+      expect(labels.length).toBeGreaterThanOrEqual(2);
+      expect(labels.every((l) => /^-?\d{1,3}(,\d{3})*$/.test(l))).toBe(true);
+      expect(new Set(labels).size).toBe(labels.length);
+    }
     await screenshot(page, 'admin-over-quota');
 
     // the reason is required: the form says so beside the field and books nothing
@@ -87,6 +95,9 @@ describe('the admin console in the browser', () => {
     await row.getByText('within quota').waitFor();
     await expect.poll(() => balanceChart.locator('.recharts-line-dot').count()).toBe(dotsBefore + 1);
     expect(await balanceChart.textContent()).toContain('now 1,500 credits');
+    const after = await axisLabels(balanceChart);
+    expect(new Set(after).size).toBe(after.length);
+    expect(after.at(-1)).toBe('1,500');
     // the month's "granted" bar appears in the credits chart and in the month table
     await detail.getByTestId('chart-credits').locator('.recharts-bar-rectangle path').first().waitFor();
     const month = new Date().toISOString().slice(0, 7);

@@ -2,12 +2,14 @@ import { Bar, BarChart, CartesianGrid, Legend, Line, LineChart, ResponsiveContai
 import type { LabUsage } from '../../api/contract.js';
 import { formatDateTime, groupThousands } from '../../format.js';
 import { INK } from '../../plots/RunPlots.js';
+import { creditTicks } from './adminFormat.js';
 
 const tick = { fontSize: 11, fill: INK.soft };
 const AMBER = '#b7791f';
 
 /** Credits used, granted and bought per month: the trend an admin scans for a lab drifting past its allowance. */
 export function CreditsByMonthChart({ lab }: { lab: LabUsage }) {
+  const y = creditTicks(lab.months.flatMap((m) => [m.credits, m.granted, m.purchased]));
   return (
     <figure aria-label={`credits per month for ${lab.name}`} data-testid="chart-credits">
       <figcaption className="mb-2 text-sm font-medium text-ink">Credits per month</figcaption>
@@ -16,7 +18,7 @@ export function CreditsByMonthChart({ lab }: { lab: LabUsage }) {
           <BarChart data={lab.months} margin={{ top: 8, right: 12, bottom: 4, left: 12 }}>
             <CartesianGrid stroke={INK.rule} vertical={false} />
             <XAxis dataKey="month" tick={tick} />
-            <YAxis tick={tick} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'credits', angle: -90, position: 'insideLeft', fontSize: 11 }} />
+            <YAxis tick={tick} ticks={y.ticks} domain={y.domain} allowDecimals={false} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'credits', angle: -90, position: 'insideLeft', fontSize: 11 }} />
             <Tooltip formatter={(v, name) => [`${groupThousands(Number(v))} credits`, String(name)]} />
             <Legend wrapperStyle={{ fontSize: 12 }} />
             <Bar dataKey="credits" name="used" fill={INK.press} isAnimationActive={false} />
@@ -32,6 +34,7 @@ export function CreditsByMonthChart({ lab }: { lab: LabUsage }) {
 /** The paid balance after each entry that moved it; a grant shows as a step up. */
 export function BalanceChart({ lab }: { lab: LabUsage }) {
   const points = lab.balanceHistory.map((p, i) => ({ ...p, step: i + 1, label: formatDateTime(p.at) }));
+  const y = creditTicks(points.map((p) => p.available));
   return (
     <figure aria-label={`paid balance of ${lab.name}`} data-testid="chart-balance">
       <figcaption className="mb-2 text-sm font-medium text-ink">
@@ -42,7 +45,7 @@ export function BalanceChart({ lab }: { lab: LabUsage }) {
           <LineChart data={points} margin={{ top: 8, right: 12, bottom: 4, left: 12 }}>
             <CartesianGrid stroke={INK.rule} />
             <XAxis dataKey="step" tick={tick} label={{ value: 'ledger entry', position: 'insideBottom', offset: -2, fontSize: 11 }} />
-            <YAxis tick={tick} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'credits', angle: -90, position: 'insideLeft', fontSize: 11 }} />
+            <YAxis tick={tick} ticks={y.ticks} domain={y.domain} allowDecimals={false} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'credits', angle: -90, position: 'insideLeft', fontSize: 11 }} />
             <Tooltip formatter={(v) => [`${groupThousands(Number(v))} credits`, 'available']} labelFormatter={(_s, p) => (p[0] ? `${p[0].payload.kind}, ${p[0].payload.label}` : '')} />
             <Line type="stepAfter" dataKey="available" stroke={INK.press} strokeWidth={2} dot={{ r: 3 }} isAnimationActive={false} />
           </LineChart>
@@ -78,6 +81,7 @@ export function ComputeByMonthChart({ lab }: { lab: LabUsage }) {
 /** Every lab's use this month against its allowance, over-quota labs in the stamp colour. */
 export function AllowanceChart({ labs }: { labs: LabUsage[] }) {
   const data = labs.map((l) => ({ name: l.name, used: l.usedThisMonth, allowance: l.freeAllowance }));
+  const x = creditTicks(data.flatMap((d) => [d.used, d.allowance]));
   return (
     <figure aria-label="use this month against the free allowance" data-testid="chart-allowance">
       <figcaption className="mb-2 text-sm font-medium text-ink">This month: credits used against each lab's free allowance</figcaption>
@@ -85,7 +89,7 @@ export function AllowanceChart({ labs }: { labs: LabUsage[] }) {
         <ResponsiveContainer width="100%" height="100%">
           <BarChart data={data} layout="vertical" margin={{ top: 4, right: 16, bottom: 4, left: 12 }}>
             <CartesianGrid stroke={INK.rule} horizontal={false} />
-            <XAxis type="number" tick={tick} tickFormatter={(v: number) => groupThousands(v)} />
+            <XAxis type="number" tick={tick} ticks={x.ticks} domain={x.domain} allowDecimals={false} tickFormatter={(v: number) => groupThousands(v)} />
             <YAxis type="category" dataKey="name" tick={tick} width={210} />
             <Tooltip formatter={(v, name) => [`${groupThousands(Number(v))} credits`, String(name)]} />
             <Legend wrapperStyle={{ fontSize: 12 }} />

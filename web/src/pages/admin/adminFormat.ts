@@ -11,3 +11,23 @@ const STANDING_CLASS: Record<Standing, string> = {
   ok: 'border-rule bg-paper text-ink-soft',
 };
 export const standingClass = (s: Standing) => `inline-block rounded-full border px-2 py-0.5 text-xs font-medium ${STANDING_CLASS[s]}`;
+
+/**
+ * Axis ticks for whole credits: steps of 1, 2 or 5 × 10^k, never below 1, from 0 (or the lowest
+ * value) to the first tick at or above the highest value. Recharts' own ticks for a 0–2 range are
+ * 0, 0.5, 1, 1.5, 2, which whole-number labels turn into 0, 1, 1, 2, 2; with decimals off it
+ * stretches the axis to 4 instead.
+ */
+export function creditTicks(values: readonly number[], maxTicks = 5): { ticks: number[]; domain: [number, number] } {
+  const lo = Math.min(0, ...values.filter(Number.isFinite));
+  const hi = Math.max(0, ...values.filter(Number.isFinite));
+  const span = Math.max(hi - lo, 1);
+  const raw = span / (maxTicks - 1);
+  const power = 10 ** Math.floor(Math.log10(raw));
+  const step = Math.max(1, [1, 2, 5, 10].map((m) => m * power).find((s) => s >= raw)!);
+  const first = Math.floor(lo / step) * step;
+  const last = Math.max(first + step, Math.ceil(hi / step) * step);
+  const ticks: number[] = [];
+  for (let t = first; t <= last; t += step) ticks.push(t);
+  return { ticks, domain: [first, last] };
+}

@@ -1,0 +1,29 @@
+import { describe, expect, it } from 'vitest';
+import { creditTicks } from './adminFormat.js';
+
+describe('creditTicks', () => {
+  it('gives whole, distinct ticks for small ranges (a paid balance of 0 to 2 once read 2, 2, 1, 1, 0)', () => {
+    expect(creditTicks([2, 0, 2])).toEqual({ ticks: [0, 1, 2], domain: [0, 2] });
+    expect(creditTicks([1])).toEqual({ ticks: [0, 1], domain: [0, 1] });
+    expect(creditTicks([0, 0])).toEqual({ ticks: [0, 1], domain: [0, 1] });
+    expect(creditTicks([3])).toEqual({ ticks: [0, 1, 2, 3], domain: [0, 3] });
+  });
+
+  it('steps by 1, 2 or 5 times a power of ten and reaches the highest value', () => {
+    expect(creditTicks([7]).ticks).toEqual([0, 2, 4, 6, 8]);
+    expect(creditTicks([10]).ticks).toEqual([0, 5, 10]);
+    expect(creditTicks([37]).ticks).toEqual([0, 10, 20, 30, 40]);
+    expect(creditTicks([6000]).ticks).toEqual([0, 2000, 4000, 6000]);
+    for (const max of [1, 2, 3, 9, 11, 99, 101, 12345]) {
+      const { ticks, domain } = creditTicks([max]);
+      expect(ticks.every(Number.isInteger)).toBe(true);
+      expect(new Set(ticks).size).toBe(ticks.length);
+      expect(ticks.length).toBeLessThanOrEqual(5);
+      expect(domain[1]).toBeGreaterThanOrEqual(max);
+    }
+  });
+
+  it('reaches below 0 when a value does', () => {
+    expect(creditTicks([-3, 4]).ticks).toEqual([-4, -2, 0, 2, 4]);
+  });
+});
