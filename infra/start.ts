@@ -78,7 +78,8 @@ async function main(): Promise<void> {
   const lines = [
     '',
     `Toppleworks is running at ${e.PUBLIC_URL}  (ready in ${((Date.now() - t0) / 1000).toFixed(1)} s)`,
-    `  mail outbox: ${e.MAIL_OUTBOX_URL}/messages  ·  payments fake: ${e.STRIPE_API_BASE}/_fake/events`,
+    // the app's own page reads the mail fake's listing (the JSON address, for scripts)
+    `  mail outbox: ${e.PUBLIC_URL}/dev/outbox  (as JSON: ${e.MAIL_OUTBOX_URL}/messages)  ·  payments fake: ${e.STRIPE_API_BASE}/_fake/events`,
     `  data: ${profile.dir}  ·  logs: ${stack.dirs.logs}`,
   ];
   if (seed && seed.signIns.length) {

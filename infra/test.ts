@@ -62,13 +62,14 @@ async function main(): Promise<number> {
   await stack.clearLeftovers(true);
   await stack.up({ includeApiPort: false });
   log.info(`PostgreSQL, Redis and the fakes up in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
-  // the browser tests need dist/; building it while migrations run saves a few seconds
+  // the browser tests need the web app; building it (into .local/test/dist/, never the dist/ that
+  // a running npm start serves) while migrations run saves a few seconds
   await stack.parallel(stack.migrate(), stack.buildWeb());
   if (stopping) return 130;
 
   const chromium = chromiumPath();
   if (!chromium) log.warn('chromium not found on PATH; browser tests will fail (infra/prepare.sh installs it)');
-  const env = { ...stack.childEnv, ...(chromium ? { CHROMIUM_PATH: chromium } : {}) };
+  const env = { ...stack.childEnv, TW_WEB_DIST: stack.profile.webDist, ...(chromium ? { CHROMIUM_PATH: chromium } : {}) };
   log.info(`services ready in ${((Date.now() - t0) / 1000).toFixed(1)} s (logs in ${stack.dirs.logs}); running vitest`);
   return runVitest(process.argv.slice(2), env);
 }

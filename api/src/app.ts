@@ -94,7 +94,8 @@ export function createApp(deps: AppDeps, options: AppOptions = {}): Express {
   if (existsSync(path.join(distDir, 'index.html'))) {
     app.use(express.static(distDir, { index: false, maxAge: '1h' }));
     // Express 5 / path-to-regexp 8 syntax; every non-API path is a web route.
-    app.get('/{*splat}', (_req, res) => res.sendFile(path.join(distDir, 'index.html')));
+    // relative to `root`: send refuses a whole path with a dot folder in it (npm test's .local/test/dist)
+    app.get('/{*splat}', (_req, res) => res.sendFile('index.html', { root: distDir }));
   }
 
   app.use(errorMiddleware(deps.log, dependencyPorts(env)));

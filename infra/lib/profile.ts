@@ -17,6 +17,11 @@ export interface Profile {
   name: ProfileName;
   /** .local/<name>: all state of this profile; test wipes it at each run */
   dir: string;
+  /**
+   * Where `vite build` writes the web app: dist/ for dev (the API serves it), a folder inside
+   * .local/test/ for test, so a test run never empties the files a running `npm start` serves.
+   */
+  webDist: string;
   ports: {
     postgres: number;
     redis: number;
@@ -61,6 +66,7 @@ export function profileFor(name: ProfileName, root = ROOT, offset = portOffset()
   return {
     name,
     dir: path.join(root, '.local', name),
+    webDist: name === 'dev' ? path.join(root, 'dist') : path.join(root, '.local', name, 'dist'),
     ports,
     database: name === 'dev' ? 'toppleworks' : 'toppleworks_test',
     persistRedis: name === 'dev',

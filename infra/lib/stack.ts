@@ -137,14 +137,15 @@ export class Stack {
     }
   }
 
-  /** vite build into dist/ (skipped with a warning while the web entry does not exist). */
+  /** vite build into the profile's own folder (skipped with a warning while the web entry does not exist). */
   async buildWeb(): Promise<boolean> {
     if (!exists(PRODUCT.webEntry)) {
       this.log.warn(`${PRODUCT.webEntry} does not exist yet; web app not built`);
       return false;
     }
     const started = Date.now();
-    const r = await runOnce(path.join(ROOT, 'node_modules', '.bin', 'vite'), ['build', '--logLevel', 'warn'], {
+    const outDir = this.profile.webDist;
+    const r = await runOnce(path.join(ROOT, 'node_modules', '.bin', 'vite'), ['build', '--logLevel', 'warn', '--outDir', outDir, '--emptyOutDir'], {
       env: { ...this.childEnv, NODE_ENV: 'production' },
       cwd: ROOT,
       logFile: path.join(this.dirs.logs, 'build.log'),
@@ -152,7 +153,7 @@ export class Stack {
     });
     this.check();
     if (r.code !== 0) throw new InfraError(`vite build failed:\n${tail(r.output, 12)}`);
-    this.log.info(`web app built into dist/ in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+    this.log.info(`web app built into ${path.relative(ROOT, outDir)}/ in ${((Date.now() - started) / 1000).toFixed(1)} s`);
     return true;
   }
 

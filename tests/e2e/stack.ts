@@ -16,7 +16,8 @@ import { createJobQueue } from '../../api/src/queue/job-queue.js';
 import { createS3BlobStore, ensureBucket } from '../../api/src/storage/s3-blob-store.js';
 import { ROOT } from './browser.js';
 
-export const DIST_DIR = path.join(ROOT, 'dist');
+/** The web app the browser tests serve: npm test builds it into a folder of its own (TW_WEB_DIST); dist/ is npm start's. */
+export const DIST_DIR = process.env.TW_WEB_DIST ?? path.join(ROOT, 'dist');
 
 export interface Stack {
   /** http://127.0.0.1:<port>, the API serving the built web app */
@@ -56,7 +57,7 @@ async function createScratchDatabase(baseUrl: string): Promise<{ url: string; dr
  */
 export async function startStack(): Promise<Stack> {
   if (!existsSync(path.join(DIST_DIR, 'index.html'))) {
-    throw new Error('dist/index.html is missing: build the web app first (npx vite build)');
+    throw new Error(`${path.join(DIST_DIR, 'index.html')} is missing: run the tests through npm test, or build the web app first (npx vite build)`);
   }
   const base = loadEnv({ ...process.env, NODE_ENV: 'test', LOG_LEVEL: process.env.LOG_LEVEL ?? 'warn' });
   if (!base.MAIL_OUTBOX_URL) throw new Error('MAIL_OUTBOX_URL is not set: the e2e tests read mails from the SMTP fake');

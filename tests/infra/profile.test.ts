@@ -28,6 +28,9 @@ describe('profiles', () => {
     expect(new Set(all).size).toBe(all.length);
     expect(profileDirs(dev).pg).not.toBe(profileDirs(test).pg);
     expect(dev.database).not.toBe(test.database);
+    // the web build: npm start serves dist/, npm test builds and serves its own inside .local/test/
+    expect(dev.webDist).toBe('/repo/dist');
+    expect(test.webDist).toBe('/repo/.local/test/dist');
   });
 
   it('export an environment the API and worker accept (shared/env.ts), pointing at the profile', () => {

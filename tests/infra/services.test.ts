@@ -2,6 +2,8 @@ import { HeadBucketCommand, S3Client } from '@aws-sdk/client-s3';
 import { Redis } from 'ioredis';
 import pg from 'pg';
 import { describe, expect, it } from 'vitest';
+import { existsSync } from 'node:fs';
+import path from 'node:path';
 import { portOffset } from '../../infra/lib/profile.js';
 
 /**
@@ -51,5 +53,15 @@ describe.runIf(underNpmTest)('services started by npm test', () => {
     expect(((await (await fetch(`${env.PAYMENTS_FAKE_URL}/_fake/health`)).json()) as { ok: boolean }).ok).toBe(true);
     expect(Array.isArray(((await (await fetch(`${env.MAIL_OUTBOX_URL}/messages`)).json()) as { messages: unknown[] }).messages)).toBe(true);
     expect(env.CHROMIUM_PATH).toMatch(/chromium$/);
+  });
+
+  it('the web app was built into the test profile\'s own folder, and the browser tests serve that one', async () => {
+    const { profileFor } = await import('../../infra/lib/profile.js');
+    const { DIST_DIR } = await import('../e2e/stack.js');
+    const own = profileFor('test').webDist;
+    expect(env.TW_WEB_DIST).toBe(own);
+    expect(DIST_DIR).toBe(own);
+    expect(own).not.toBe(profileFor('dev').webDist);
+    expect(existsSync(path.join(own, 'index.html'))).toBe(true);
   });
 });
