@@ -1,15 +1,14 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
 import sharp from 'sharp';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { DEMO_SIGN_INS } from '../../api/src/seed/demo.js';
 import { readNpy } from '../../renderer/src/npy/read.js';
 import { writeNpy } from '../../renderer/src/npy/write.js';
 import type { FigureResponse } from '../../shared/api/figures.js';
 import { heightColour, hexToRgba, paletteById } from '../../shared/palettes.js';
 import { startingComposition } from '../../shared/print.js';
-import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { apiCall, newPage, screenshot, signIn } from './browser.js';
+import { useFarmInBrowser } from './farm-in-browser.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
 
@@ -55,26 +54,13 @@ async function fetchBytes(page: Page, path: string): Promise<Buffer> {
  * in the deep-zoom viewer, checked against the stored arrays.
  */
 describe('render farm in the browser', () => {
-  let stack: Stack;
-  let browser: Browser;
-  let worker: Awaited<ReturnType<typeof startFarmWorker>>;
+  const farm = useFarmInBrowser({ demo: true });
   /** the run the first test computes, printed and published as a figure by the second */
   let finishedRunId = '';
 
-  beforeAll(async () => {
-    stack = await startStack();
-    await seedDemo(stack.env);
-    worker = await startFarmWorker(stack.env, { prefix: stack.queuePrefix, threads: 2 });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await worker?.close();
-    await stack?.close();
-  });
 
   test('an author runs 10^6 grains on the square lattice, watches the progress bar, and zooms to single cells that match the arrays', { timeout: 240_000 }, async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, author.email, author.password);
 
     // the form: the estimate appears before anything is submitted
@@ -193,7 +179,7 @@ describe('render farm in the browser', () => {
     expect(finishedRunId).not.toBe('');
     // through the routes the figure pages use: compose, order the print, wait until the farm has printed it, publish
     const slug = 'farm-check-square-1e6';
-    const desk = await newPage(browser, stack.url);
+    const desk = await newPage(farm.browser, farm.stack.url);
     await signIn(desk, author.email, author.password);
     const me = await apiCall<{ activeLabId: string }>(desk, 'GET', '/api/me');
     const composed = await apiCall<FigureResponse>(desk, 'POST', '/api/figures', {
@@ -214,7 +200,7 @@ describe('render farm in the browser', () => {
     expect(published.status, published.body.error).toBe(200);
     await desk.context().close();
 
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await page.goto(`/f/${slug}`);
     const zoom = page.getByTestId('figure-zoom');
     const pane = zoom.getByTestId('viewer-pane').first();
@@ -229,7 +215,7 @@ describe('render farm in the browser', () => {
   });
 
   test('a series on a drawn unit cell over an uploaded background: the form checks the cell, previews the upload, and the series page lines the piles up by √n', { timeout: 120_000 }, async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, author.email, author.password);
     await page.goto('/runs/new');
     await page.getByLabel('Title').fill('Series check');

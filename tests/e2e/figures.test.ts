@@ -1,13 +1,11 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser } from 'playwright-core';
+import { beforeAll, describe, expect, test } from 'vitest';
 import sharp from 'sharp';
 import { eq } from 'drizzle-orm';
 import { hashPassword } from '../../api/src/auth/passwords.js';
 import { labs, memberships, users } from '../../drizzle/schema.js';
 import { pixelsFor } from '../../shared/print.js';
-import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { apiCall, newPage, screenshot, signIn } from './browser.js';
+import { useFarmInBrowser } from './farm-in-browser.js';
 
 const PASSWORD = 'figure-press-passphrase';
 
@@ -17,39 +15,29 @@ const PASSWORD = 'figure-press-passphrase';
  * link signed out; the author unpublishes; the reader sees that it was withdrawn.
  */
 describe('figures in the browser', () => {
-  let stack: Stack;
-  let browser: Browser;
-  let worker: Awaited<ReturnType<typeof startFarmWorker>>;
+  const farm = useFarmInBrowser({ demo: false });
   const email = 'ada.printer@figures.e2e.toppleworks.local';
   const otherEmail = 'cato.neighbour@figures.e2e.toppleworks.local';
   let authorId = '';
   let labId = '';
 
   beforeAll(async () => {
-    stack = await startStack();
-    worker = await startFarmWorker(stack.env, { prefix: stack.queuePrefix, threads: 2 });
-    browser = await launchBrowser();
     // an invented author in an invented lab
-    const [u] = await stack.deps.db.insert(users).values({ email, name: 'Ada Printer', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
-    const [lab] = await stack.deps.db.insert(labs).values({ name: 'Sandpile Press Lab' }).returning();
-    await stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
-    await stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
+    const [u] = await farm.stack.deps.db.insert(users).values({ email, name: 'Ada Printer', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
+    const [lab] = await farm.stack.deps.db.insert(labs).values({ name: 'Sandpile Press Lab' }).returning();
+    await farm.stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
+    await farm.stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
     authorId = u!.id;
     labId = lab!.id;
     // a member of another invented lab, who may read the published figure but not change it
-    const [o] = await stack.deps.db.insert(users).values({ email: otherEmail, name: 'Cato Neighbour', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
-    const [otherLab] = await stack.deps.db.insert(labs).values({ name: 'Neighbouring Lattice Lab' }).returning();
-    await stack.deps.db.insert(memberships).values({ labId: otherLab!.id, userId: o!.id, role: 'manager' });
-    await stack.deps.db.update(users).set({ activeLabId: otherLab!.id }).where(eq(users.id, o!.id));
+    const [o] = await farm.stack.deps.db.insert(users).values({ email: otherEmail, name: 'Cato Neighbour', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
+    const [otherLab] = await farm.stack.deps.db.insert(labs).values({ name: 'Neighbouring Lattice Lab' }).returning();
+    await farm.stack.deps.db.insert(memberships).values({ labId: otherLab!.id, userId: o!.id, role: 'manager' });
+    await farm.stack.deps.db.update(users).set({ activeLabId: otherLab!.id }).where(eq(users.id, o!.id));
   }, 60_000);
-  afterAll(async () => {
-    await browser?.close();
-    await worker?.close();
-    await stack?.close();
-  });
 
   test('compose, order, see it ready, publish, read signed out, unpublish, see "withdrawn"', { timeout: 180_000 }, async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, email, PASSWORD);
     const me = await apiCall<{ activeLabId: string }>(page, 'GET', '/api/me');
     const submitted = await apiCall<{ run: { id: string } }>(page, 'POST', '/api/runs', { labId: me.body.activeLabId, title: 'A thousand grains for print', spec: { lattice: { preset: 'square' }, chips: 1000 } });
@@ -155,7 +143,7 @@ describe('figures in the browser', () => {
     // the PNG behind the listed link is the ordered size: 90 mm wide at 300 DPI = 1063 px (../shared/facts.md §7)
     const href = await files.getByRole('link', { name: 'a-thousand-grains-on-z2-v1.png' }).getAttribute('href');
     // with the signed-in page's cookies (the figure is still private), following the redirect to the object store
-    const download = await page.request.get(new URL(href!, stack.url).toString());
+    const download = await page.request.get(new URL(href!, farm.stack.url).toString());
     expect(download.status()).toBe(200);
     const png = await download.body();
     expect((await sharp(png).metadata()).width).toBe(pixelsFor(90, 300));
@@ -170,7 +158,7 @@ describe('figures in the browser', () => {
     await page.getByRole('button', { name: 'Publish version 1' }).click();
     await page.getByText('Anyone with the link can read').waitFor();
     // the whole permanent address, with Copy beside it
-    expect(await page.getByTestId('figure-permalink').textContent()).toBe(`${stack.url}/f/a-thousand-grains-on-z2`);
+    expect(await page.getByTestId('figure-permalink').textContent()).toBe(`${farm.stack.url}/f/a-thousand-grains-on-z2`);
     await page.getByTestId('figure-permalink').locator('..').getByRole('button', { name: 'Copy' }).waitFor();
     await screenshot(page, 'figures-published');
 
@@ -205,13 +193,13 @@ describe('figures in the browser', () => {
     expect(await grains.textContent()).toContain('n = 1,000 (103) grains');
     const runBib = page.getByTestId('run-bibtex');
     const cited = /\\url\{([^}]+)\}/.exec((await runBib.textContent()) ?? '')?.[1];
-    expect(cited).toBe(`${stack.url}/f/a-thousand-grains-on-z2`);
+    expect(cited).toBe(`${farm.stack.url}/f/a-thousand-grains-on-z2`);
     expect(await runBib.evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
     await screenshot(page, 'figures-run-citation');
     await page.goto('/lab/figures/a-thousand-grains-on-z2');
 
     // a reader without an account follows the permanent link
-    const reader = await newPage(browser, stack.url);
+    const reader = await newPage(farm.browser, farm.stack.url);
     await reader.goto('/f/a-thousand-grains-on-z2');
     await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
@@ -231,7 +219,7 @@ describe('figures in the browser', () => {
     await reader.getByText('constant 0', { exact: true }).waitFor();
 
     // a member of another lab cannot open the composer on it: no form, no error thrown on the page
-    const other = await newPage(browser, stack.url);
+    const other = await newPage(farm.browser, farm.stack.url);
     const otherErrors: Error[] = [];
     other.on('pageerror', (err) => otherErrors.push(err));
     await signIn(other, otherEmail, PASSWORD);
@@ -250,10 +238,10 @@ describe('figures in the browser', () => {
     await page.getByTestId('compose-published-note').getByText('Published: readers see version 1').waitFor();
     await page.getByLabel(/^Caption/).fill('Edited after publishing: heights of 1000 grains.');
     // a refused save (here: the author left the lab meanwhile) is shown by the button, never thrown
-    const [membership] = await stack.deps.db.delete(memberships).where(eq(memberships.userId, authorId)).returning();
+    const [membership] = await farm.stack.deps.db.delete(memberships).where(eq(memberships.userId, authorId)).returning();
     await page.getByRole('button', { name: 'Save the composition' }).click();
     await page.getByRole('alert').getByText(/only members of the figure's lab can do this/).waitFor();
-    await stack.deps.db.insert(memberships).values(membership!);
+    await farm.stack.deps.db.insert(memberships).values(membership!);
     await page.getByRole('button', { name: 'Save the composition' }).click();
     await page.waitForURL(/\/lab\/figures\/a-thousand-grains-on-z2$/);
     await page.getByTestId('unpublished-changes').getByText('Changes not yet published').waitFor();

@@ -1,13 +1,12 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
 import sharp from 'sharp';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
+import { DEMO_SIGN_INS } from '../../api/src/seed/demo.js';
 import { readNpy } from '../../renderer/src/npy/read.js';
 import { DIFFERENCE_NEEDS_BACKGROUND } from '../../shared/run-spec.js';
 import { hexToRgba, paletteById } from '../../shared/palettes.js';
-import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { newPage, screenshot, signIn } from './browser.js';
+import { useFarmInBrowser } from './farm-in-browser.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
 
@@ -32,24 +31,11 @@ async function fetchJson(page: Page, path: string): Promise<{ status: number; bo
  * that were drawn, each with the legend the renderer wrote.
  */
 describe('layers and palettes in the browser', () => {
-  let stack: Stack;
-  let browser: Browser;
-  let worker: Awaited<ReturnType<typeof startFarmWorker>>;
+  const farm = useFarmInBrowser({ demo: true });
 
-  beforeAll(async () => {
-    stack = await startStack();
-    await seedDemo(stack.env);
-    worker = await startFarmWorker(stack.env, { prefix: stack.queuePrefix, threads: 2 });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await worker?.close();
-    await stack?.close();
-  });
 
   test('an author draws the difference from a checkerboard in kiln and reads it with its legend', { timeout: 120_000 }, async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, author.email, author.password);
     await page.goto('/runs/new');
     await page.getByLabel('Title').fill('Layers check: difference from a checkerboard');

@@ -1,9 +1,8 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
+import { DEMO_SIGN_INS } from '../../api/src/seed/demo.js';
+import { apiCall, newPage, screenshot, signIn } from './browser.js';
+import { useFarmInBrowser } from './farm-in-browser.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
 const otherLab = DEMO_SIGN_INS.find((d) => d.role === 'other lab')!;
@@ -42,24 +41,11 @@ async function cellAtCentre(page: Page): Promise<string> {
  * switching layers and travels in the link, and the same "no run here" as the run page.
  */
 describe('the deep-zoom viewer', () => {
-  let stack: Stack;
-  let browser: Browser;
-  let worker: Awaited<ReturnType<typeof startFarmWorker>>;
+  const farm = useFarmInBrowser({ demo: true });
 
-  beforeAll(async () => {
-    stack = await startStack();
-    await seedDemo(stack.env);
-    worker = await startFarmWorker(stack.env, { prefix: stack.queuePrefix, threads: 2 });
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await worker?.close();
-    await stack?.close();
-  });
 
   test('odometer ticks stay apart, the place is kept across layers and in the link, other labs see no run', { timeout: 180_000 }, async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, author.email, author.password);
     // on the line the origin topples T(500) = 125,250 times for n = 1000 (triangular numbers, OEIS A000217):
     // the last power of ten and the maximum sit 2 % of the ramp apart
@@ -115,7 +101,7 @@ describe('the deep-zoom viewer', () => {
 
     // a copied link opens at the same place
     const link = page.url();
-    const reader = await newPage(browser, stack.url);
+    const reader = await newPage(farm.browser, farm.stack.url);
     await signIn(reader, author.email, author.password);
     await reader.goto(link);
     await reader.getByTestId('viewer-pane').first().locator('canvas').first().waitFor();
@@ -132,7 +118,7 @@ describe('the deep-zoom viewer', () => {
     expect(await cellAtCentre(page)).toBe('(0, 0)');
 
     // 3. another lab's reader gets the run page's "no run at this address", not a missing view
-    const other = await newPage(browser, stack.url);
+    const other = await newPage(farm.browser, farm.stack.url);
     await signIn(other, otherLab.email, otherLab.password);
     await other.goto(`/runs/${square}/view`);
     await other.getByText('No run at this address').waitFor();
