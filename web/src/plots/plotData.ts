@@ -24,15 +24,20 @@ export function radialPoints(p: RadialProfileLike, grains = 0, dimension = 2): {
   return out;
 }
 
+/** The smallest m × 10^k at least `raw`, m one of `multipliers` (ascending, below 10) or 10. */
+export function niceStep(raw: number, multipliers: readonly number[]): number {
+  const power = 10 ** Math.floor(Math.log10(raw));
+  return ([...multipliers, 10].find((m) => m * power >= raw) ?? 10) * power;
+}
+
 /**
  * Evenly spaced round ticks from 0 to at least `end`: steps of 1, 2, 2.5 or 5 times a power of ten,
  * about `count` of them, with the decimals the step needs (no "8.20, 9.10" from rounding drift).
  */
 export function niceTicks(end: number, count = 6): { ticks: number[]; decimals: number } {
   if (!(end > 0)) return { ticks: [0, 1], decimals: 0 };
-  const raw = end / count;
-  const power = 10 ** Math.floor(Math.log10(raw));
-  const step = ([1, 2, 2.5, 5, 10].find((m) => m * power >= raw) ?? 10) * power;
+  const step = niceStep(end / count, [1, 2, 2.5, 5]);
+  const power = 10 ** Math.floor(Math.log10(step));
   const steps = Math.ceil(end / step - 1e-9);
   // decimals of the step itself: 0.25 needs two, 0.5 one, 20 none
   const decimals = Math.max(0, -Math.floor(Math.log10(step) + 1e-9) + (Math.abs(step / power - 2.5) < 1e-9 ? 1 : 0));

@@ -1,5 +1,6 @@
 import type { Standing } from '../../api/contract.js';
 import { groupThousands } from '../../format.js';
+import { niceStep } from '../../plots/plotData.js';
 
 /** Bytes shown exactly, grouped, with the unit named. */
 export const formatBytes = (n: number) => `${groupThousands(n)} bytes`;
@@ -22,9 +23,7 @@ export function creditTicks(values: readonly number[], maxTicks = 5): { ticks: n
   const lo = Math.min(0, ...values.filter(Number.isFinite));
   const hi = Math.max(0, ...values.filter(Number.isFinite));
   const span = Math.max(hi - lo, 1);
-  const raw = span / (maxTicks - 1);
-  const power = 10 ** Math.floor(Math.log10(raw));
-  const step = Math.max(1, [1, 2, 5, 10].map((m) => m * power).find((s) => s >= raw)!);
+  const step = Math.max(1, niceStep(span / (maxTicks - 1), [1, 2, 5]));
   const first = Math.floor(lo / step) * step;
   const last = Math.max(first + step, Math.ceil(hi / step) * step);
   const ticks: number[] = [];
