@@ -159,14 +159,15 @@ describe('the new-run form with grain counts out of range', () => {
   test('over the quota and short of credits: each refusal said once, in whole sentences, with the credits page as a link', async () => {
     const page = await newPage(browser, stack.url);
     await signIn(page, author.email, author.password);
-    await page.goto('/runs/new');
-    // a quota with one credit left this month, and a run that costs more
+    // a quota with one credit left this month, and a run that costs more; set before the form opens,
+    // whose default of 10^6 grains would otherwise fetch (and cache) the credit check under the old quota
     const spec = newRunSpecSchema.parse({ lattice: { preset: 'square' }, chips: 1_000_000 });
     expect(estimateRun(spec).credits).toBeGreaterThanOrEqual(2);
     const me = await apiCall<{ activeLabId: string; user: { id: string } }>(page, 'GET', '/api/me');
     const summary = await apiCall<{ me: { usedThisMonth: number } }>(page, 'GET', `/api/labs/${me.body.activeLabId}/credits`);
     const [row] = await stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
     await stack.deps.db.update(memberships).set({ monthlyQuota: summary.body.me.usedThisMonth + 1 }).where(and(eq(memberships.labId, me.body.activeLabId), eq(memberships.userId, row!.id)));
+    await page.goto('/runs/new');
 
     await page.getByLabel('Title').fill('Over the quota');
     await page.getByLabel('Grains at the origin (n)').fill('10^6');
