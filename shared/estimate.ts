@@ -1,5 +1,6 @@
 import { renderViews, type LatticeChoice, type LatticePreset, type RunSpec } from './run-spec.js';
 import { backgroundMean, latticeShape, mayNotStabilizeWarning, type ArrayBackgroundInfo } from './stability.js';
+import { drawnPlaneSize } from './drawn-plane.js';
 
 // the lattice and background facts live in stability.ts (the run-spec schema needs them too); re-exported for existing callers
 export { backgroundMean, EstimateError, latticeShape, type ArrayBackgroundInfo, type LatticeShape } from './stability.js';
@@ -247,10 +248,9 @@ export function drawnPixelsPerCell(cellsWide: number, cellsHigh: number): number
   return k;
 }
 
-/** Predicted seconds to draw one pyramid of a run whose array has this shape (the drawn plane: one row, the array, or one slice). */
+/** Predicted seconds to draw one pyramid of a run whose array has this shape (the drawn plane: a line's band, the array, or one slice). */
 export function pyramidSeconds(shape: readonly number[]): number {
-  const w = shape[shape.length - 1] ?? 1;
-  const h = shape.length >= 2 ? shape[shape.length - 2]! : 1;
+  const { width: w, height: h } = drawnPlaneSize(shape);
   const k = drawnPixelsPerCell(w, h);
   return RENDER_OVERHEAD_SECONDS + (w * h * k * k) / RENDER_PIXELS_PER_SECOND;
 }

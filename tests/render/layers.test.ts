@@ -73,7 +73,7 @@ describe('layer indices', () => {
     expect([h[1], h[2], h[3], h[4]]).toEqual([2, 4, 2, 4]);
   });
 
-  it('a 3-D run is cut at the source depth; a 1-D run is one row', () => {
+  it('a 3-D run is cut at the source depth; a 1-D run is a band of one row of cells (tests/render/line-band.test.ts)', () => {
     const d3: RenderInput = {
       shape: [3, 2, 2],
       origin: [1, 1, 1],
@@ -85,7 +85,7 @@ describe('layer indices', () => {
     expect([p3.width, p3.height, p3.offset]).toEqual([2, 2, 4]);
     expect(computeStats(p3).heightCounts).toEqual([0, 0, 1, 1, 1, 1]);
     const d1: RenderInput = { shape: [5], origin: [2], heights: Int32Array.from([1, 1, 1, 1, 1]), odometer: new Float64Array(5), toppled: new Uint8Array(5) };
-    expect([planeOf(d1).width, planeOf(d1).height]).toEqual([5, 1]);
+    expect([planeOf(d1).width, planeOf(d1).height, planeOf(d1).cellRows]).toEqual([5, 1, 1]);
   });
 
   it('bad input gets a clear error', () => {

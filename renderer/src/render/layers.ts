@@ -37,7 +37,7 @@ export function backgroundWindow(plane: Plane, w: CellWindow, out: Int32Array): 
     return out;
   }
   for (let r = 0; r < w.height; r++) {
-    const src = plane.offset + (w.y + r) * plane.width + w.x;
+    const src = plane.offset + (w.y + r) * plane.rowStride + w.x;
     out.set(bg.subarray(src, src + w.width), r * w.width);
   }
   return out;
@@ -58,7 +58,7 @@ export function layerIndices(plane: Plane, scale: LayerScale, w: CellWindow, out
   const bg = scale.layer === 'difference' ? backgroundWindow(plane, w, new Int32Array(n)) : null;
   const logMax = scale.maxOdometer > 0 ? Math.log1p(scale.maxOdometer) : 1;
   for (let r = 0; r < w.height; r++) {
-    const src = plane.offset + (w.y + r) * plane.width + w.x;
+    const src = plane.offset + (w.y + r) * plane.rowStride + w.x;
     const dst = r * w.width;
     switch (scale.layer) {
       case 'heights':
@@ -88,13 +88,14 @@ export { odometerIndex };
 /** Rows per band when a whole plane is scanned: bounded scratch memory on any run size. */
 const BAND_CELLS = 1 << 20;
 
-/** Visit the plane in horizontal bands of whole rows. */
-export function forEachBand(plane: Plane, visit: (w: CellWindow) => void): void {
+/** Visit the plane in horizontal bands of whole rows; `cellsOnly` visits each distinct row of cells once (a 1-D run's band is one). */
+export function forEachBand(plane: Plane, visit: (w: CellWindow) => void, cellsOnly = false): void {
   const rows = Math.max(1, Math.floor(BAND_CELLS / plane.width));
-  for (let y = 0; y < plane.height; y += rows) visit({ x: 0, y, width: plane.width, height: Math.min(rows, plane.height - y) });
+  const height = cellsOnly ? plane.cellRows : plane.height;
+  for (let y = 0; y < height; y += rows) visit({ x: 0, y, width: plane.width, height: Math.min(rows, height - y) });
 }
 
-/** How many cells of the plane get each palette index (drives the tie rule of the reduction). */
+/** How many cells of the plane get each palette index (drives the tie rule of the reduction; a band's cells once each, the same order). */
 export function indexHistogram(plane: Plane, scale: LayerScale): Float64Array {
   const counts = new Float64Array(256);
   let buf = new Uint8Array(0);
@@ -103,6 +104,6 @@ export function indexHistogram(plane: Plane, scale: LayerScale): Float64Array {
     if (buf.length < n) buf = new Uint8Array(n);
     const idx = layerIndices(plane, scale, w, buf.subarray(0, n));
     for (let i = 0; i < n; i++) counts[idx[i]]++;
-  });
+  }, true);
   return counts;
 }

@@ -1,4 +1,5 @@
 import type { OdometerArray } from '../engine/outcome.js';
+import { drawnPlaneSize } from '../../../shared/drawn-plane.js';
 import { RenderInputError } from './errors.js';
 
 /**
@@ -29,10 +30,18 @@ export interface CellWindow {
 export type BackgroundReader = (window: CellWindow, out: Int32Array) => void;
 export type BackgroundSource = Int32Array | BackgroundReader;
 
-/** A 2-D plane of the run: a 1-D run is one row, a 3-D run is cut at depth z. */
+/**
+ * A 2-D plane of the run (shared/drawn-plane.ts): a 3-D run is cut at depth z, a 1-D run is drawn as a
+ * band of `height` rows that all show its one row of cells.
+ */
 export interface Plane {
   width: number;
+  /** rows drawn */
   height: number;
+  /** distinct rows of cells: `height`, or 1 for a 1-D run's band */
+  cellRows: number;
+  /** entries between the cells of drawn row y and row y + 1 in the input arrays: `width`, or 0 for a band */
+  rowStride: number;
   /** flat index of cell (0, 0) of the plane in the input arrays */
   offset: number;
   input: RenderInput;
@@ -56,8 +65,8 @@ export function planeOf(input: RenderInput, options: PlaneOptions = {}): Plane {
       throw new RenderInputError(`${name} has ${input[name].length} entries but shape [${shape.join(', ')}] has ${cells} cells`);
     }
   }
-  const width = shape[shape.length - 1];
-  const height = shape.length >= 2 ? shape[shape.length - 2] : 1;
+  const { width, height } = drawnPlaneSize(shape);
+  const band = shape.length === 1;
   let offset = 0;
   if (shape.length === 3) {
     const z = options.z ?? input.origin[0] ?? 0;
@@ -70,7 +79,7 @@ export function planeOf(input: RenderInput, options: PlaneOptions = {}): Plane {
   if (bg instanceof Int32Array && bg.length !== cells) {
     throw new RenderInputError(`background has ${bg.length} entries but the run has ${cells} cells`);
   }
-  return { width, height, offset, input, background: bg };
+  return { width, height, cellRows: band ? 1 : height, rowStride: band ? 0 : width, offset, input, background: bg };
 }
 
 /**
@@ -85,7 +94,8 @@ export function backgroundFromLattice(heightAt: (x: number, y: number, z: number
   const Z = d === 3 ? (z ?? input.origin[0]) - input.origin[0] : 0;
   return (w, out) => {
     for (let r = 0; r < w.height; r++) {
-      const Y = w.y + r - oy;
+      // every row of a 1-D run's band is the line itself, y = 0
+      const Y = d === 1 ? 0 : w.y + r - oy;
       for (let c = 0; c < w.width; c++) out[r * w.width + c] = heightAt(w.x + c - ox, Y, Z);
     }
   };

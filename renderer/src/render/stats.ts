@@ -4,7 +4,7 @@ import { backgroundWindow, forEachBand } from './layers.js';
 import type { Plane } from './plane.js';
 
 /**
- * One pass over the plane for the numbers that fix every colour scale and legend.
+ * One pass over the plane's cells (a 1-D run's band counts its row once) for the numbers that fix every colour scale and legend.
  * @throws RenderInputError on negative heights or heights a palette PNG cannot hold
  */
 export function computeStats(plane: Plane): LayerStats {
@@ -23,7 +23,7 @@ export function computeStats(plane: Plane): LayerStats {
       if (bg.length < n) bg = new Int32Array(n);
       backgroundWindow(plane, w, bg.subarray(0, n));
     }
-    const start = plane.offset + w.y * plane.width;
+    const start = plane.offset + w.y * plane.rowStride;
     for (let i = 0; i < n; i++) {
       const h = heights[start + i];
       if (h < minH) minH = h;
@@ -38,12 +38,12 @@ export function computeStats(plane: Plane): LayerStats {
         if (d > maxD) maxD = d;
       }
     }
-  });
+  }, true);
   if (minH < 0) throw new RenderInputError(`heights must be non-negative, found ${minH}`);
   if (maxH > MAX_RENDERED_HEIGHT) throw new RenderInputError(`heights above ${MAX_RENDERED_HEIGHT} cannot be drawn, found ${maxH}`);
   const heightCounts = Array.from({ length: maxH + 1 }, (_, h) => counts[h] ?? 0);
   return {
-    cells: plane.width * plane.height,
+    cells: plane.width * plane.cellRows,
     minHeight: minH,
     maxHeight: maxH,
     heightCounts,

@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type RunGeometry } from './cells.js';
+import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, planeSize, toLatticeView, type RunGeometry } from './cells.js';
 
 // A 2-D run 7 cells wide, 5 high, origin at array index (row 2, column 3), n = 100 grains, drawn 4 px per cell.
 const g: RunGeometry = { shape: [5, 7], origin: [2, 3], grains: 100 };
@@ -28,6 +28,19 @@ describe('image pixels and lattice cells', () => {
     const cube: RunGeometry = { shape: [5, 5, 5], origin: [2, 2, 2], grains: 8 };
     expect(cellAt(0, 4, 1, cube)!.rescaled).toEqual([-1, 1, 0]);
     expect(toLatticeView({ x: 0.5, y: 4.5 }, 4, 1, cube, true)).toEqual({ cx: -1, cy: 1, across: 2 });
+  });
+
+  test('a line is drawn as a band: every row of a column is the same cell at y = 0, one column per cell', () => {
+    // 9 cells: a band of ceil(9/8) = 2 rows (shared/drawn-plane.ts)
+    const line: RunGeometry = { shape: [9], origin: [4], grains: 8 };
+    expect(planeSize(line)).toEqual({ width: 9, height: 2 });
+    for (const py of [0, 0.5, 1.5]) expect(cellAt(6.5, py, 1, line)).toMatchObject({ column: 6, index: 6, lattice: [2] });
+    expect(cellAt(6.5, 2.5, 1, line)).toBeNull();
+    // the origin of the line sits in the middle of its band, and a view there comes back to it
+    expect(pixelOfLattice(0, 0, 4, line)).toEqual({ px: 18, py: 4 });
+    const v = toLatticeView({ x: 18, y: 4 }, 36, 4, line, false);
+    expect(v).toEqual({ cx: 0, cy: 0, across: 9 });
+    expect(fromLatticeView(v, 4, line, false).centrePx).toEqual({ x: 18, y: 4 });
   });
 
   test('outside the plane there is no cell', () => {

@@ -1,9 +1,11 @@
 /**
  * From a point of the deep-zoom image to a cell of the run and back. The pyramid draws every cell as a
  * k×k block of pixels (k a power of two, renderer/src/render/plan.ts), with array row 0 at the top; a
- * 1-D run is one row and a 3-D run is cut at the origin's depth (renderer/src/render/plane.ts).
+ * 1-D run is a band whose every row is the line, and a 3-D run is cut at the origin's depth
+ * (shared/drawn-plane.ts).
  * Pure functions, shared by the readout, the locked side-by-side views and the tests.
  */
+import { drawnPlaneSize } from '../../../shared/drawn-plane.js';
 import { naturalScale } from '../../../shared/natural-scale.js';
 
 export interface RunGeometry {
@@ -30,9 +32,9 @@ export interface CellAt {
 /** n^(1/d): the unit of the rescaled coordinates of this run. */
 export const scaleOf = (g: RunGeometry): number => naturalScale(g.grains, g.shape.length);
 
+/** Columns and rows of the drawn plane (a line's rows are its band). */
 export function planeSize(g: RunGeometry): { width: number; height: number } {
-  const s = g.shape;
-  return { width: s[s.length - 1]!, height: s.length >= 2 ? s[s.length - 2]! : 1 };
+  return drawnPlaneSize(g.shape);
 }
 
 /** Pixels per cell of a pyramid of `imageWidth` pixels drawn from this run (exact: k·W = image width). */
@@ -48,18 +50,22 @@ export function cellAt(px: number, py: number, k: number, g: RunGeometry): CellA
   if (!(column >= 0 && column < width && row >= 0 && row < height)) return null;
   const d = g.shape.length;
   const z = d === 3 ? g.origin[0]! : 0;
-  const index = (z * height + row) * width + column;
+  // every row of a line's band is the line itself
+  const index = d === 1 ? column : (z * height + row) * width + column;
   const ox = g.origin[d - 1]!;
   const lattice = d === 1 ? [column - ox] : d === 2 ? [column - ox, row - g.origin[0]!] : [column - ox, row - g.origin[1]!, 0];
   const root = scaleOf(g);
   return { column, row, index, lattice, rescaled: root > 0 ? lattice.map((c) => c / root) : [] };
 }
 
+/** Band row of a line's y = 0: the middle of its band, so a place on the line is centred in the band. */
+const lineRow = (g: RunGeometry): number => (planeSize(g).height - 1) / 2;
+
 /** Image pixel at the centre of the cell with lattice coordinates (x, y) relative to the origin. */
 export function pixelOfLattice(x: number, y: number, k: number, g: RunGeometry): { px: number; py: number } {
   const d = g.shape.length;
   const ox = g.origin[d - 1]!;
-  const oy = d === 1 ? 0 : d === 2 ? g.origin[0]! : g.origin[1]!;
+  const oy = d === 1 ? lineRow(g) : d === 2 ? g.origin[0]! : g.origin[1]!;
   return { px: (x + ox + 0.5) * k, py: (y + oy + 0.5) * k };
 }
 
@@ -78,7 +84,7 @@ export interface LatticeView {
 export function toLatticeView(centrePx: { x: number; y: number }, imageWidthVisible: number, k: number, g: RunGeometry, rescaled: boolean): LatticeView {
   const d = g.shape.length;
   const ox = g.origin[d - 1]!;
-  const oy = d === 1 ? 0 : d === 2 ? g.origin[0]! : g.origin[1]!;
+  const oy = d === 1 ? lineRow(g) : d === 2 ? g.origin[0]! : g.origin[1]!;
   const s = rescaled && g.grains > 0 ? scaleOf(g) : 1;
   return { cx: (centrePx.x / k - ox - 0.5) / s, cy: (centrePx.y / k - oy - 0.5) / s, across: imageWidthVisible / k / s };
 }

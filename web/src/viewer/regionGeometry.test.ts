@@ -32,8 +32,11 @@ describe('a drawn rectangle and a region of cells', () => {
     expect(regionOfImagePoints({ x: rect.x, y: rect.y }, { x: rect.x + rect.width - 0.01, y: rect.y + rect.height - 0.01 }, k, g)).toEqual(r);
   });
 
-  test('a line (1-D run) is one row at y = 0', () => {
-    const line: RunGeometry = { shape: [9], origin: [4], grains: 9 };
-    expect(regionOfImagePoints({ x: 0, y: 0 }, { x: 8.5, y: 0.5 }, 1, line)).toEqual({ xMin: -4, xMax: 4, yMin: 0, yMax: 0 });
+  test('a line (1-D run) is one row at y = 0, drawn as a band of rows', () => {
+    const line: RunGeometry = { shape: [20], origin: [10], grains: 20 };
+    // anywhere in the band (ceil(20/8) = 3 rows) is the line
+    expect(regionOfImagePoints({ x: 0, y: 0 }, { x: 8.5, y: 2.5 }, 1, line)).toEqual({ xMin: -10, xMax: -2, yMin: 0, yMax: 0 });
+    expect(wholeRegionOf(line)).toEqual({ xMin: -10, xMax: 9, yMin: 0, yMax: 0 });
+    expect(imageRectOfRegion({ xMin: -2, xMax: 1, yMin: 0, yMax: 0 }, 2, line)).toEqual({ x: 16, y: 0, width: 8, height: 6 });
   });
 });

@@ -1,3 +1,4 @@
+import { drawnPlaneSize } from '../../../../shared/drawn-plane.js';
 import { useEffect, useMemo, useState } from 'react';
 import { useQueries } from '@tanstack/react-query';
 import { rgbaToHex, type LayerStats } from '../../../../shared/palettes.js';
@@ -96,8 +97,8 @@ export function ProofPreview({ spec, layout, runs }: { spec: FigureSpec; layout:
       {layout.panels.map((pl) => {
         const info = infos[pl.index]?.data ?? null;
         const shape = byId.get(pl.runId)?.stats?.shape;
-        const arrayW = shape ? shape[shape.length - 1]! : 1;
-        const arrayH = shape && shape.length >= 2 ? shape[shape.length - 2]! : 1;
+        // the pyramid's plane: a line is drawn as its band (shared/drawn-plane.ts)
+        const { width: arrayW, height: arrayH } = shape ? drawnPlaneSize(shape) : { width: 1, height: 1 };
         const size = info?.sizes?.length ? info.sizes[info.sizes.length - 1]! : null;
         const sx = size ? size.width / arrayW : 1;
         const sy = size ? size.height / arrayH : 1;
