@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { layerSchema, paletteIdSchema, untoppledStyleSchema, DEFAULT_PALETTE_ID } from './palettes.js';
 import { naturalScale, printScaleSymbol } from './natural-scale.js';
+import { lineBandRows, sliceText } from './drawn-plane.js';
 
 /**
  * The print-figure contract shared by the web form (proof preview), the API (orders) and the render
@@ -227,7 +228,7 @@ export interface PanelLayout {
   slot: PxRect;
   /** where the raster goes, page pixels */
   image: PxRect;
-  /** the cells drawn, as a window of the run's array plane (array indices) */
+  /** the cells drawn, as a window of the run's drawn plane (array indices; a line's rows are its band, shared/drawn-plane.ts) */
   window: { x: number; y: number; width: number; height: number };
   /** the same in lattice coordinates relative to the origin */
   region: Region;
@@ -374,6 +375,23 @@ export function scaleBarText(unit: 'lattice' | 'rescaled', length: number, cells
   return `${fmt(length)} · ${printScaleSymbol(dimension)} = ${fmt(Math.round(cells))} cells`;
 }
 
+/**
+ * The caption sentence naming the slice each panel of a 3-D run shows ("Slice z = 0 of a 3-D pile.",
+ * or "(a), (b): slice z = 0 of a 3-D pile; (c): slice z = 2 of a 3-D pile."); null when no panel is a
+ * slice. `z` is the lattice coordinate of the panel's slice, null for a panel of another dimension.
+ */
+export function sliceNote(panels: readonly { name: string; z: number | null }[]): string | null {
+  const groups = new Map<number, string[]>();
+  for (const p of panels) if (p.z !== null) groups.set(p.z, [...(groups.get(p.z) ?? []), p.name]);
+  if (groups.size === 0) return null;
+  const only = [...groups.keys()][0]!;
+  if (groups.size === 1 && panels.every((p) => p.z !== null)) {
+    const text = sliceText(only);
+    return `${text.charAt(0).toUpperCase()}${text.slice(1)}.`;
+  }
+  return `${[...groups].map(([z, names]) => `${names.join(', ')}: ${sliceText(z)}`).join('; ')}.`;
+}
+
 /** n^(1/d) of a run: the length of one rescaled unit in lattice cells. */
 const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.max(1, run.chips), run.shape.length));
 
@@ -409,9 +427,6 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   const legendRows = legendRowsOf(spec.panels);
   // the last row needs no gap after it: the caption keeps its own
   const legendBand = spec.legend ? pt2px(spec.textPt * 0.8) + legendRows.rows * legendRowPx(spec.textPt, dpi) - legendRowGapPx(spec.textPt, dpi) : 0;
-  const captionFont = spec.caption?.fontPt ?? DEFAULT_CAPTION_PT;
-  const captionLines = spec.caption ? estimateCaptionLines(spec.caption.text, captionFont, Math.max(1, contentW), dpi) : 0;
-  const captionBand = spec.caption ? pt2px(captionFont * 0.8) + captionLines * linePx(captionFont, dpi) : 0;
 
   // Each panel's cells, checked against its run.
   const byId = new Map(runs.map((r) => [r.runId, r]));
@@ -426,7 +441,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     const H = d >= 2 ? run.shape[d - 2] : 1;
     const ox = run.origin[d - 1] ?? 0;
     const oy = d >= 2 ? run.origin[d - 2] : 0;
-    const whole: Region = { xMin: -ox, xMax: W - 1 - ox, yMin: -oy, yMax: H - 1 - oy };
+    // a line's only row is y = 0 (written so, not as −0)
+    const whole: Region = { xMin: -ox, xMax: W - 1 - ox, yMin: d >= 2 ? -oy : 0, yMax: H - 1 - oy };
     const r = p.region ?? whole;
     if (r.xMin < whole.xMin || r.xMax > whole.xMax || r.yMin < whole.yMin || r.yMax > whole.yMax) {
       warnings.push({
@@ -445,8 +461,18 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
         return null;
       }
     }
-    return { run, region: r, w: r.xMax - r.xMin + 1, h: r.yMax - r.yMin + 1, window: { x: r.xMin + ox, y: r.yMin + oy, width: r.xMax - r.xMin + 1, height: r.yMax - r.yMin + 1 }, zIndex };
+    const w = r.xMax - r.xMin + 1;
+    // a line is printed as a band of identical rows, one column per cell (shared/drawn-plane.ts)
+    const h = d === 1 ? lineBandRows(w) : r.yMax - r.yMin + 1;
+    return { run, region: r, w, h, window: { x: r.xMin + ox, y: d === 1 ? 0 : r.yMin + oy, width: w, height: h }, zIndex };
   });
+
+  // The caption: the author's text, then which slice each 3-D panel shows (a print of a slice must say so)
+  const slices = sliceNote(spec.panels.map((p, i) => ({ name: labels[i] ?? `panel ${i + 1}`, z: cells[i] && cells[i].run.shape.length === 3 ? cells[i].zIndex - cells[i].run.origin[0] : null })));
+  const captionText = [spec.caption?.text, slices].filter((t): t is string => !!t).join('\n');
+  const captionFont = spec.caption?.fontPt ?? DEFAULT_CAPTION_PT;
+  const captionLines = captionText ? estimateCaptionLines(captionText, captionFont, Math.max(1, contentW), dpi) : 0;
+  const captionBand = captionText ? pt2px(captionFont * 0.8) + captionLines * linePx(captionFont, dpi) : 0;
 
   // Page height: fixed, or (journal column without a height) at most what the panels need at the
   // slot width; the rows are packed to what they use once the panels are sized (below).
@@ -616,8 +642,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   }
 
   const legend: PxRect | null = spec.legend ? { x: m.left, y: gridBottom + pt2px(spec.textPt * 0.8), width: contentW, height: legendBand - pt2px(spec.textPt * 0.8) } : null;
-  const caption = spec.caption
-    ? { x: m.left, y: gridBottom + legendBand + pt2px(captionFont * 0.8), width: contentW, height: captionBand - pt2px(captionFont * 0.8), text: spec.caption.text, fontPt: captionFont }
+  const caption = captionText
+    ? { x: m.left, y: gridBottom + legendBand + pt2px(captionFont * 0.8), width: contentW, height: captionBand - pt2px(captionFont * 0.8), text: captionText, fontPt: captionFont }
     : null;
   return {
     dpi,

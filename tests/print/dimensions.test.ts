@@ -5,6 +5,8 @@ import { resolveProblem, stabilizeReference } from '../../renderer/src/engine/in
 import { renderPrint } from '../../renderer/src/print/index.js';
 import { computeStats, planeOf } from '../../renderer/src/render/index.js';
 import { colourTable, paletteById } from '../../shared/palettes.js';
+import { lineBandRows } from '../../shared/drawn-plane.js';
+import { figureSpecSchema, layoutFigure } from '../../shared/print.js';
 import { decodeRgb, tempDir } from './helpers.js';
 
 let dir: string;
@@ -32,13 +34,30 @@ describe('runs of other dimensions', () => {
     const img = await decodeRgb(path);
     const table = colourTable(paletteById('newsprint'), 'heights', computeStats(planeOf(run)), 'neutral');
     const ox = run.origin[0];
+    // a band, not a one-cell line: every cell is a column of lineBandRows(W) blocks, each of its colour
+    const rowsOfBand = lineBandRows(run.shape[0]);
+    expect(p.window.height).toBe(rowsOfBand);
+    expect(p.image.height).toBe(rowsOfBand * p.cellPx);
+    expect(p.image.height).toBeGreaterThan(1);
     for (let x = -10; x <= 10; x++) {
-      const px = p.image.x + (x + ox) * p.cellPx + (p.cellPx >> 1);
-      const py = p.image.y + (p.cellPx >> 1);
-      const o = 3 * (py * img.width + px);
-      expect([img.data[o], img.data[o + 1], img.data[o + 2]]).toEqual(table[1 + 1].slice(0, 3));
+      for (let row = 0; row < rowsOfBand; row++) {
+        const px = p.image.x + (x + ox) * p.cellPx + (p.cellPx >> 1);
+        const py = p.image.y + row * p.cellPx + (p.cellPx >> 1);
+        const o = 3 * (py * img.width + px);
+        expect([img.data[o], img.data[o + 1], img.data[o + 2]]).toEqual(table[1 + 1].slice(0, 3));
+      }
     }
-    expect(p.window.height).toBe(1);
+  });
+
+  it('lays a line out as a band as tall as 1/8 of its length, and a region of it keeps y = 0', () => {
+    const geometry = [{ runId: 'l', shape: [801], origin: [400], chips: 800 }];
+    const layout = layoutFigure(figureSpecSchema.parse({ size: { kind: 'column', column: 'single' }, dpi: 300, labels: 'none', legend: false, panels: [{ runId: 'l' }] }), geometry);
+    const p = layout.panels[0];
+    expect(p.region).toEqual({ xMin: -400, xMax: 400, yMin: 0, yMax: 0 });
+    expect(p.window).toEqual({ x: 0, y: 0, width: 801, height: lineBandRows(801) });
+    expect(p.image.height * 8).toBeGreaterThanOrEqual(p.image.width - 8);
+    const part = layoutFigure(figureSpecSchema.parse({ size: { kind: 'column', column: 'single' }, dpi: 300, labels: 'none', legend: false, panels: [{ runId: 'l', region: { xMin: -80, xMax: 79, yMin: 0, yMax: 0 } }] }), geometry);
+    expect(part.panels[0].window).toEqual({ x: 320, y: 0, width: 160, height: lineBandRows(160) });
   });
 
   it('prints the asked slice of a cubic run', async () => {
@@ -68,5 +87,17 @@ describe('runs of other dimensions', () => {
         }
     }
     expect(D).toBeGreaterThan(2);
+    // the page says which slice each panel shows
+    expect(res.layout.caption?.text).toBe('panel 1: slice z = 0 of a 3-D pile; panel 2: slice z = 1 of a 3-D pile.');
+  });
+
+  it('names the slice of a 3-D panel in the caption, after the author\'s text', () => {
+    const cube = { runId: 'c', shape: [9, 9, 9], origin: [4, 4, 4], chips: 300 };
+    const square = { runId: 's', shape: [9, 9], origin: [4, 4], chips: 100 };
+    const spec = (panels: object[], caption?: string) => figureSpecSchema.parse({ size: { kind: 'column', column: 'full' }, dpi: 150, legend: false, grid: { rows: 1, cols: panels.length }, panels, ...(caption ? { caption: { text: caption } } : {}) });
+    expect(layoutFigure(spec([{ runId: 'c' }]), [cube]).caption?.text).toBe('Slice z = 0 of a 3-D pile.');
+    expect(layoutFigure(spec([{ runId: 'c', z: -2 }, { runId: 's' }, { runId: 'c', z: 3 }], 'Three piles.'), [cube, square]).caption?.text).toBe('Three piles.\n(a): slice z = −2 of a 3-D pile; (c): slice z = 3 of a 3-D pile.');
+    // planar panels alone: the caption is the author's, or none
+    expect(layoutFigure(spec([{ runId: 's' }]), [square]).caption).toBeNull();
   });
 });
