@@ -118,7 +118,8 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
       heights: heightsRecord,
       odometer: record('odometer.npy', odometer),
       stats,
-      radialProfile: radialProfile(outcome, data.spec.chips),
+      // every grain added, the extra sources' too: the n whose n^(1/d) the run page rescales by
+      radialProfile: radialProfile(outcome, Number(outcome.stats.grainsIn)),
       createdAt: new Date().toISOString(),
     };
     await deps.store.put(keys.heights, Buffer.from(writeNpy(outcome.shape, heights)), 'application/octet-stream');

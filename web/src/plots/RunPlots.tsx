@@ -1,7 +1,7 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { groupThousands } from '../format.js';
-import { heightBars, niceTicks, radialPoints, type RadialProfileLike } from './plotData.js';
-import { naturalScale, scaleSymbol } from '../../../shared/natural-scale.js';
+import { heightBars, niceTicks, radialBinWidth, radialPoints, type RadialProfileLike } from './plotData.js';
+import { scaleSymbol } from '../../../shared/natural-scale.js';
 
 /** Chart ink from the paper-and-ink palette of web/src/styles.css. */
 export const INK = { press: '#1e4a6e', stamp: '#a3361f', rule: '#ebe5d8', soft: '#5f594f' } as const;
@@ -31,7 +31,7 @@ export function RadialProfilePlot({ profile, grains, dimension }: { profile: Rad
   const points = radialPoints(profile, grains, dimension);
   const unit = `|x|/${scaleSymbol(dimension)}`;
   // evenly spaced round ticks up to the end of the pile (the last bin's outer edge)
-  const halfBin = grains > 0 ? (profile.binWidth * Math.sqrt(grains)) / naturalScale(grains, dimension) / 2 : profile.binWidth / 2;
+  const halfBin = radialBinWidth(profile, grains, dimension) / 2;
   const end = points.length ? points[points.length - 1]!.r + halfBin : 1;
   const { ticks, decimals } = niceTicks(end);
   return (

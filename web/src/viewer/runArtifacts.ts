@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { runSpecSchema } from '../../../shared/run-spec.js';
 import { runStatsSchema } from '../../../shared/run-stats.js';
+import { radialProfileSchema } from '../../../shared/radial-profile.js';
 import { legendResponseSchema, type LegendResponse } from '../../../shared/api/artifacts.js';
 
 /**
@@ -15,13 +16,6 @@ const arrayRecord = z.object({
   origin: z.array(z.number().int()),
   sha256: z.string(),
 });
-
-export const radialProfileSchema = z.object({
-  binWidth: z.number().positive(),
-  meanHeight: z.array(z.number().nullable()),
-  sites: z.array(z.number().int().min(0)),
-});
-export type RadialProfileJson = z.infer<typeof radialProfileSchema>;
 
 export const runJsonSchema = z.object({
   engineVersion: z.string(),
