@@ -4,6 +4,7 @@ import { useFigure, useRunJson, useViewDrawn } from '../api/queries.js';
 import { isStatus } from '../api/ApiError.js';
 import { backgroundOfSpec, latticeName } from '../labels.js';
 import { formatDate } from '../format.js';
+import { sliceText, slicesText } from '../../../shared/drawn-plane.js';
 import { CitationBlock, Count, EmptyState, ErrorPanel, FactList, LinkButton, Notice, Section, SkeletonBlock } from '../ui/index.js';
 import { figureBibtex } from './citation.js';
 import { FileList } from './figures/FileList.js';
@@ -65,6 +66,7 @@ export function FigureReader() {
   const title = shown ? shown.title : f.title;
   const caption = shown ? shown.caption : f.caption;
   const newest = published[0] ?? null;
+  const dimension = runJson.data?.heights.shape.length ?? (f.lattice === 'cubic' ? 3 : f.lattice === 'line' ? 1 : 2);
   // a citation names one version, whose link shows exactly what was cited for good
   const permalink = shown ? figureUrl(f.slug, shown.number) : figureUrl(f.slug);
   const others = published.filter((v) => v !== shown);
@@ -127,6 +129,13 @@ export function FigureReader() {
             items={[
               { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
               { term: 'Lattice', value: latticeName(f.lattice) },
+              // a cubic pile is shown in 2-D slices: say which, in the print and in the deep zoom (the source's slice)
+              ...(dimension === 3
+                ? [
+                    { term: 'Printed', value: <span data-testid="figure-slices">{slicesText(latest ? latest.spec.panels.map((p) => p.z ?? 0) : [0])}</span> },
+                    ...(drawn.data ? [{ term: 'Deep zoom', value: sliceText(0) }] : []),
+                  ]
+                : []),
               { term: 'Background', value: backgroundOfSpec(f.backgroundSpec) },
               { term: shown ? `Version ${shown.number} published` : 'Published', value: formatDate(shown?.publishedAt ?? f.publishedAt) },
             ]}

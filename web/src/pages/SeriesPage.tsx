@@ -4,14 +4,17 @@ import { useSeries } from '../api/queries.js';
 import { isStatus } from '../api/ApiError.js';
 import type { Run } from '../api/contract.js';
 import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
-import { logLogSlope, type RadiusPoint } from '../plots/plotData.js';
+import { logLogSlope, seriesDimension, type RadiusPoint } from '../plots/plotData.js';
+import { naturalScale, scaleSymbol } from '../../../shared/natural-scale.js';
+import { latticeShape } from '../../../shared/stability.js';
+import { sliceText } from '../../../shared/drawn-plane.js';
 import { SeriesRadiusPlot } from '../plots/SeriesRadiusPlot.js';
 import { infoJsonUrl } from '../viewer/runArtifacts.js';
 import { drawnOf, paletteSegmentOf } from '../viewer/drawnViews.js';
 
 import { Count, EmptyState, ErrorPanel, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
 
-/** Displayed width of the widest pile, in CSS pixels; every other pile is drawn at the same scale in units of √n. */
+/** Displayed width of the widest pile, in CSS pixels; every other pile is drawn at the same scale in units of n^(1/d). */
 const STRIP_WIDTH = 220;
 
 /** The view a series strip shows of a run: its first drawn layer in its first palette (heights in tidewater by default). */
@@ -20,16 +23,27 @@ function stripView(r: Run): { layer: string; palette: string } {
   return { layer: d.layers[0]!, palette: paletteSegmentOf(d, d.layers[0]!, d.palettes[0]!) };
 }
 
+/** The lattice dimension of a run: its array's rank once computed, else its lattice's (an unknown preset counts as planar). */
+function dimensionOf(r: Run): number {
+  if (r.stats) return r.stats.shape.length;
+  try {
+    return latticeShape(r.spec.lattice).dimension;
+  } catch {
+    return 2;
+  }
+}
+
 interface InfoSizes {
   width: number;
   sizes?: { width: number; height: number }[];
 }
 
 /**
- * /series/:id — one specification at several n, side by side. Each pile is drawn at D/√n screen
- * pixels per lattice spacing for one constant D, so piles of every n appear at the same size and
- * their likeness (the scale invariance of the single-source pile) shows; below, the radius against
- * n on log-log axes with a √n reference line.
+ * /series/:id — one specification at several n, side by side. Each pile is drawn at D/n^(1/d) screen
+ * pixels per lattice spacing for one constant D (d the lattice's dimension: the pile's radius grows
+ * like n^(1/d), shared/natural-scale.ts), so piles of every n appear at the same size and their
+ * likeness (the scale invariance of the single-source pile) shows; below, the radius against n on
+ * log-log axes with an n^(1/d) reference line, none when the runs' dimensions differ.
  */
 export function SeriesPage() {
   const { id = '' } = useParams();
@@ -55,11 +69,15 @@ export function SeriesPage() {
   }
   const s = series.data.series;
   const first = s.runs[0];
-  // widest pile in units of √n fixes D
-  const widthOverRoot = (r: Run) => (r.stats ? r.stats.shape[r.stats.shape.length - 1]! / Math.sqrt(Math.max(1, Number(r.stats.grainsIn))) : 0);
+  // widest pile in units of its own n^(1/d) fixes D
+  const widthOverRoot = (r: Run) => (r.stats ? r.stats.shape[r.stats.shape.length - 1]! / naturalScale(Math.max(1, Number(r.stats.grainsIn)), r.stats.shape.length) : 0);
   const maxRel = Math.max(0, ...s.runs.map(widthOverRoot));
-  const points: RadiusPoint[] = s.runs.filter((r) => r.stats && r.stats.radiusEuclidean > 0).map((r) => ({ n: Number(r.stats!.grainsIn), radius: r.stats!.radiusEuclidean }));
-  const slope = logLogSlope(points);
+  const measured = s.runs.filter((r) => r.stats && r.stats.radiusEuclidean > 0);
+  const points: RadiusPoint[] = measured.map((r) => ({ n: Number(r.stats!.grainsIn), radius: r.stats!.radiusEuclidean }));
+  const dim = seriesDimension(s.runs.map(dimensionOf));
+  const slope = dim?.kind === 'one' ? logLogSlope(points) : null;
+  const unit = dim?.kind === 'one' ? scaleSymbol(dim.dimension) : 'n^(1/d)';
+  const law = dim?.kind === 'one' ? `the dashed line grows like ${unit}` : `the runs mix ${dim?.dimensions.map((d) => `${d}-D`).join(' and ')} lattices, each growing like its own n^(1/d), so no line is fitted`;
 
   return (
     <div className="space-y-8">
@@ -68,7 +86,10 @@ export function SeriesPage() {
         title={s.title}
         lede={first ? `${latticeOfSpec(first.spec.lattice)} · ${backgroundOfSpec(first.spec.background)} · ${s.runs.length} grain counts, by ${s.author.name}` : undefined}
       />
-      <Section title="Side by side, rescaled by √n" description="Every pile is drawn at the same number of screen pixels per √n lattice spacings, so a larger n shows as a finer picture of the same shape.">
+      <Section
+        title={`Side by side, rescaled by ${unit}`}
+        description={`Every pile is drawn at the same number of screen pixels per ${unit} lattice spacings${dim?.kind === 'mixed' ? ' (d each run’s own dimension)' : ''}, so a larger n shows as a finer picture of the same shape.${s.runs.some((r) => dimensionOf(r) === 3) ? ` Each 3-D run is drawn as its ${sliceText(0)}.` : ''}`}
+      >
         <div className="flex flex-wrap items-end gap-6 rounded-lg bg-night p-6" data-testid="series-strip">
           {s.runs.map((r, i) => {
             const info = infos[i]?.data;
@@ -102,9 +123,9 @@ export function SeriesPage() {
       </Section>
       <Section
         title="Radius against n"
-        description={slope === null ? 'Log-log axes; the dashed line grows like √n.' : `Log-log axes; the dashed line grows like √n. Fitted slope of the runs: ${slope.toFixed(3)} (½ for growth like √n).`}
+        description={slope === null || dim?.kind !== 'one' ? `Log-log axes; ${law}.` : `Log-log axes; ${law}. Fitted slope of the runs: ${slope.toFixed(3)} (1/${dim.dimension} for growth like ${unit}).`}
       >
-        <SeriesRadiusPlot points={points} />
+        <SeriesRadiusPlot points={points} dimensions={s.runs.map(dimensionOf)} />
       </Section>
     </div>
   );

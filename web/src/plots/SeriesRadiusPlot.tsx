@@ -1,7 +1,8 @@
 import { CartesianGrid, Legend, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis } from 'recharts';
 import { formatCountText, superscriptDigits } from '../format.js';
 import { INK } from './RunPlots.js';
-import { decadeTicks, sqrtFit, type RadiusPoint } from './plotData.js';
+import { naturalScale, scaleSymbol } from '../../../shared/natural-scale.js';
+import { decadeTicks, naturalFit, seriesDimension, type RadiusPoint } from './plotData.js';
 
 const tick = { fontSize: 11, fill: INK.soft };
 /** 1000 → "10³": SVG tick text cannot hold <sup>, so the exponent is written in superscript digits. */
@@ -10,17 +11,27 @@ export const powerLabel = (v: number) => {
   return Math.abs(10 ** e - v) < 1e-9 * v ? `10${superscriptDigits(e)}` : v.toLocaleString('en-US');
 };
 
-/** Radius of the toppled region against n on log-log axes, with the reference line c·√n fitted through the points. */
-export function SeriesRadiusPlot({ points }: { points: RadiusPoint[] }) {
-  const c = sqrtFit(points);
-  if (!c || points.length === 0) return <p className="text-sm text-ink-faint">The plot appears once runs of the series have finished.</p>;
+/**
+ * Radius of the toppled region against n on log-log axes, with the reference line c·n^(1/d) fitted
+ * through the points, d the runs' lattice dimension. Runs of different dimensions follow different
+ * laws, so they are plotted without a line and the plot says why.
+ */
+export function SeriesRadiusPlot({ points, dimensions }: { points: RadiusPoint[]; dimensions: readonly number[] }) {
+  const dim = seriesDimension(dimensions);
+  const c = dim?.kind === 'one' ? naturalFit(points, dim.dimension) : null;
+  if (points.length === 0 || !dim || (dim.kind === 'one' && !c)) return <p className="text-sm text-ink-faint">The plot appears once runs of the series have finished.</p>;
   const ns = points.map((p) => p.n);
   const lo = Math.min(...ns) / 2;
   const hi = Math.max(...ns) * 2;
-  const reference = Array.from({ length: 25 }, (_, i) => lo * (hi / lo) ** (i / 24)).map((n) => ({ n, radius: c * Math.sqrt(n) }));
+  const reference = c && dim.kind === 'one' ? Array.from({ length: 25 }, (_, i) => lo * (hi / lo) ** (i / 24)).map((n) => ({ n, radius: c * naturalScale(n, dim.dimension) })) : [];
   const rs = [...points.map((p) => p.radius), ...reference.map((p) => p.radius)];
   return (
     <figure aria-label="radius against n" data-testid="plot-series-radius">
+      {dim.kind === 'mixed' ? (
+        <figcaption className="mb-2 text-sm text-ink-soft" data-testid="series-mixed-dimensions">
+          The runs are of {dim.dimensions.map((d) => `${d}-D`).join(' and ')} lattices, whose radii grow like {dim.dimensions.map((d) => scaleSymbol(d)).join(' and ')}: no single law is fitted.
+        </figcaption>
+      ) : null}
       <div className="h-72">
         <ResponsiveContainer width="100%" height="100%">
           <ScatterChart margin={{ top: 8, right: 16, bottom: 22, left: 12 }}>
@@ -29,7 +40,9 @@ export function SeriesRadiusPlot({ points }: { points: RadiusPoint[] }) {
             <YAxis dataKey="radius" type="number" scale="log" domain={[Math.min(...rs) / 1.5, Math.max(...rs) * 1.5]} tickFormatter={(v: number) => Number(v.toPrecision(2)).toLocaleString('en-US')} tick={tick} width={52} label={{ value: 'radius (lattice spacings)', angle: -90, position: 'insideLeft', fontSize: 11, dy: 60 }} allowDataOverflow />
             <Tooltip formatter={(v, name) => [name === 'n' ? formatCountText(Number(v)) : Number(v).toFixed(2), name === 'n' ? 'n' : 'radius']} />
             <Legend verticalAlign="top" height={24} wrapperStyle={{ fontSize: 11 }} />
-            <Scatter name={`${c.toFixed(3)} · √n`} data={reference} line={{ stroke: INK.soft, strokeDasharray: '4 3' }} shape={() => <g />} isAnimationActive={false} legendType="line" />
+            {c && dim.kind === 'one' ? (
+              <Scatter name={`${c.toFixed(3)} · ${scaleSymbol(dim.dimension)}`} data={reference} line={{ stroke: INK.soft, strokeDasharray: '4 3' }} shape={() => <g />} isAnimationActive={false} legendType="line" />
+            ) : null}
             <Scatter name="runs (Euclidean radius)" data={points} fill={INK.stamp} isAnimationActive={false} />
           </ScatterChart>
         </ResponsiveContainer>

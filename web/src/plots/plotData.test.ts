@@ -1,10 +1,10 @@
 import { describe, expect, test } from 'vitest';
-import { decadeTicks, heightBars, logLogSlope, niceTicks, radialPoints, sqrtFit } from './plotData.js';
+import { decadeTicks, heightBars, logLogSlope, naturalFit, niceTicks, radialPoints, seriesDimension } from './plotData.js';
 
 describe('series plot', () => {
   test('points on r = c·√n give back c and a log-log slope of exactly 1/2', () => {
     const pts = [1e3, 1e4, 1e5, 1e6].map((n) => ({ n, radius: 0.38 * Math.sqrt(n) }));
-    expect(sqrtFit(pts)).toBeCloseTo(0.38, 12);
+    expect(naturalFit(pts, 2)).toBeCloseTo(0.38, 12);
     expect(logLogSlope(pts)).toBeCloseTo(0.5, 12);
   });
 
@@ -13,15 +13,33 @@ describe('series plot', () => {
     const lower = Math.sqrt(1 / (3 * Math.PI));
     const upper = Math.sqrt(1 / (2 * Math.PI));
     const pts = [1e4, 1e5].map((n, i) => ({ n, radius: (i ? upper : lower) * Math.sqrt(n) }));
-    const c = sqrtFit(pts)!;
+    const c = naturalFit(pts, 2)!;
     expect(c).toBeGreaterThan(lower);
     expect(c).toBeLessThan(upper);
     expect(c).toBeCloseTo(Math.sqrt(lower * upper), 12);
   });
 
   test('no points, no line', () => {
-    expect(sqrtFit([])).toBeNull();
+    expect(naturalFit([], 2)).toBeNull();
     expect(logLogSlope([{ n: 10, radius: 1 }])).toBeNull();
+  });
+
+  test('the fitted law follows the dimension: r = c·n on the line, c·∛n on the cubic lattice', () => {
+    // the radius grows like n^(1/d): n grains fill about n sites at a bounded mean height (mass conservation, common practice)
+    const cube = [1e3, 1e4, 1e5, 1e6].map((n) => ({ n, radius: 0.62 * Math.cbrt(n) }));
+    expect(naturalFit(cube, 3)).toBeCloseTo(0.62, 12);
+    expect(logLogSlope(cube)).toBeCloseTo(1 / 3, 12);
+    // on the line 2m + 1 grains cover exactly −m..m (Anderson et al., Amer. Math. Monthly 96 (1989)): r = (n − 1)/2, c → ½
+    const line = [1001, 10001, 100001].map((n) => ({ n, radius: (n - 1) / 2 }));
+    expect(naturalFit(line, 1)).toBeCloseTo(0.5, 3);
+    // a √n law through the same points misses the largest pile by more than a factor 3
+    expect(50000 / (naturalFit(line, 2)! * Math.sqrt(100001))).toBeGreaterThan(3);
+  });
+
+  test('runs of mixed dimensions are named, not fitted together', () => {
+    expect(seriesDimension([2, 2, 2])).toEqual({ kind: 'one', dimension: 2 });
+    expect(seriesDimension([3, 2, 3])).toEqual({ kind: 'mixed', dimensions: [2, 3] });
+    expect(seriesDimension([])).toBeNull();
   });
 
   test('decade ticks span the range', () => expect(decadeTicks(500, 2e5)).toEqual([100, 1000, 1e4, 1e5, 1e6]));

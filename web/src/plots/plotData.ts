@@ -5,23 +5,36 @@
 import { naturalScale } from '../../../shared/natural-scale.js';
 
 export interface RadialProfileLike {
+  /** 'natural': binned by n^(1/d) (the worker since it stored the unit); 'sqrt-n' or absent: by √n */
+  unit?: 'natural' | 'sqrt-n';
   binWidth: number;
   meanHeight: (number | null)[];
   sites: number[];
 }
 
+/** From the profile's own unit to n^(1/d): 1 for profiles binned by n^(1/d), √n/n^(1/d) for older ones binned by √n. */
+function toNaturalUnit(p: RadialProfileLike, grains: number, dimension: number): number {
+  if (p.unit === 'natural' || !(grains > 0)) return 1;
+  return Math.sqrt(grains) / naturalScale(grains, dimension);
+}
+
 /**
  * One point per non-empty bin, at the bin's centre in units of |x|/n^(1/d). The worker bins by
- * |x|/√n (renderer/src/analysis/radial-profile.ts); on the line and the cubic lattice the centres
- * are carried over to the pile's own length n^(1/d).
+ * |x|/n^(1/d) (renderer/src/analysis/radial-profile.ts); profiles it stored earlier were binned by
+ * |x|/√n and are carried over to the pile's own length here.
  */
 export function radialPoints(p: RadialProfileLike, grains = 0, dimension = 2): { r: number; meanHeight: number; sites: number }[] {
-  const factor = grains > 0 ? Math.sqrt(grains) / naturalScale(grains, dimension) : 1;
+  const factor = toNaturalUnit(p, grains, dimension);
   const out: { r: number; meanHeight: number; sites: number }[] = [];
   p.meanHeight.forEach((h, i) => {
     if (h !== null && (p.sites[i] ?? 0) > 0) out.push({ r: (i + 0.5) * p.binWidth * factor, meanHeight: h, sites: p.sites[i]! });
   });
   return out;
+}
+
+/** Width of one bin in units of |x|/n^(1/d). */
+export function radialBinWidth(p: RadialProfileLike, grains = 0, dimension = 2): number {
+  return p.binWidth * toNaturalUnit(p, grains, dimension);
 }
 
 /** The smallest m × 10^k at least `raw`, m one of `multipliers` (ascending, below 10) or 10. */
@@ -56,17 +69,26 @@ export interface RadiusPoint {
 }
 
 /**
- * The constant c of the reference line r = c·√n that best fits the points on log-log axes (least
- * squares with the slope fixed at 1/2): log c is the mean of log r − ½ log n. Null without points.
+ * The constant c of the reference line r = c·n^(1/d) that best fits the points on log-log axes (least
+ * squares with the slope fixed at 1/d): log c is the mean of log r − (1/d) log n. Null without points.
+ * The law holds for single-source piles of one dimension d (shared/natural-scale.ts), so points of
+ * mixed dimensions must not be fitted together: see seriesDimension.
  */
-export function sqrtFit(points: readonly RadiusPoint[]): number | null {
+export function naturalFit(points: readonly RadiusPoint[], dimension: number): number | null {
   const ok = points.filter((p) => p.n > 0 && p.radius > 0);
   if (!ok.length) return null;
-  const mean = ok.reduce((s, p) => s + Math.log(p.radius) - 0.5 * Math.log(p.n), 0) / ok.length;
+  const mean = ok.reduce((s, p) => s + Math.log(p.radius) - Math.log(naturalScale(p.n, dimension)), 0) / ok.length;
   return Math.exp(mean);
 }
 
-/** Least-squares slope of log r against log n: close to 1/2 when the radius grows like √n. */
+/** The one lattice dimension of a set of runs, or the sorted distinct dimensions when they differ (none: null). */
+export function seriesDimension(dimensions: readonly number[]): { kind: 'one'; dimension: number } | { kind: 'mixed'; dimensions: number[] } | null {
+  const distinct = [...new Set(dimensions)].sort((a, b) => a - b);
+  if (distinct.length === 0) return null;
+  return distinct.length === 1 ? { kind: 'one', dimension: distinct[0]! } : { kind: 'mixed', dimensions: distinct };
+}
+
+/** Least-squares slope of log r against log n: close to 1/d when the radius grows like n^(1/d). */
 export function logLogSlope(points: readonly RadiusPoint[]): number | null {
   const ok = points.filter((p) => p.n > 0 && p.radius > 0);
   if (ok.length < 2) return null;

@@ -5,6 +5,7 @@ import { useRunJson, useViewDrawn, useViewLegend } from '../api/queries.js';
 import { groupThousands } from '../format.js';
 import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type LatticeView, type RunGeometry } from './cells.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
+import { sliceText } from '../../../shared/drawn-plane.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
 import { LegendCard } from './LegendCard.js';
 import { arrayUrl, infoJsonUrl, type ArtifactBase, type RunJson } from './runArtifacts.js';
@@ -237,6 +238,8 @@ function Pane({ spec, onState, onLead, onView }: { spec: PaneSpec; onState: (s: 
       {body}
       <p className="pointer-events-none absolute left-3 top-2 rounded bg-black/50 px-2 py-0.5 text-[11px] text-white/80">
         {spec.label} · {LAYER_LABELS[spec.layer]} · {paletteName}
+        {/* the pyramid of a 3-D run is the source's slice (shared/drawn-plane.ts): never let it pass for the whole pile */}
+        {geometry?.shape.length === 3 ? <span data-testid="viewer-slice"> · {sliceText(0)}</span> : null}
       </p>
       <div className="pointer-events-none absolute bottom-3 left-3">
         {legend.data ? <LegendCard legend={legend.data.legend} /> : legend.isError ? <p className="rounded bg-black/55 px-2 py-1 text-[11px] text-white/70">legend: {(legend.error as Error).message}</p> : null}

@@ -23,6 +23,7 @@ import { drawnOf } from '../../viewer/drawnViews.js';
 import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
+import { rescaledUnitName } from './rescaledUnit.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
 const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled: 'toppled sites only', difference: 'difference from the background', odometer: 'odometer (log scale)' };
@@ -107,6 +108,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   const live = figure && figure.publishedVersion !== null && figure.withdrawnAt === null;
 
   const size = spec.size;
+  const rescaled = rescaledUnitName(spec.panels.flatMap((p) => runs.find((r) => r.id === p.runId)?.stats?.shape.length ?? []));
   return (
     <form onSubmit={submit}>
       <PageHeading
@@ -164,7 +166,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 <SelectField label="Shared scale" value={spec.grid?.sharedScale ?? 'none'} onChange={(e) => setSpec({ grid: { ...spec.grid, sharedScale: e.target.value as 'none' } })}>
                   <option value="none">none: each panel fills its place</option>
                   <option value="lattice">the same lattice unit</option>
-                  <option value="rescaled">the same rescaled unit x/√n</option>
+                  <option value="rescaled">the same rescaled unit {rescaled}</option>
                 </SelectField>
               </div>
             </div>
@@ -275,7 +277,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
               >
                 <option value="none">none</option>
                 <option value="lattice">in lattice units</option>
-                <option value="rescaled">in rescaled units x/√n</option>
+                <option value="rescaled">in rescaled units {rescaled}</option>
               </SelectField>
               <label className="flex items-center gap-2 pb-2 text-sm text-ink">
                 <input type="checkbox" checked={spec.legend ?? true} onChange={(e) => setSpec({ legend: e.target.checked })} /> colour legend
