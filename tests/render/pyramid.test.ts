@@ -92,6 +92,7 @@ describe('the A349990 diamond (n = 25 on the square lattice), from the real engi
       'iiif/256,0,64,256/64,256/0/default.png',
       'iiif/256,256,64,64/64,64/0/default.png',
       'iiif/full/160,160/0/default.png',
+      'iiif/full/320,320/0/default.png',
       'iiif/full/max/0/default.png',
       'iiif/info.json',
       'legend.json',
@@ -100,6 +101,9 @@ describe('the A349990 diamond (n = 25 on the square lattice), from the real engi
     const info = JSON.parse(await readFile(join(dir, res.infoKey), 'utf8'));
     expect(info.id).toBe('/tiles/runs/a349990-25/heights/tidewater/iiif');
     expect(info.sizes).toEqual([{ width: 160, height: 160 }, { width: 320, height: 320 }]);
+    // a level-0 image service must answer every size it advertises as full/w,h (IIIF Image API 3.0, §5.3
+    // "sizes": the w,h of each listed size can be requested); the whole image is also under its canonical full/max
+    for (const z of info.sizes) expect(files).toContain(`iiif/full/${z.width},${z.height}/0/default.png`);
     const legend = JSON.parse(await readFile(join(dir, res.legendKey), 'utf8'));
     expect(legend.legend.entries.map((e: { label: string }) => e.label)).toEqual(['0', '1', '2', '3']);
   });
@@ -111,7 +115,7 @@ describe('the A349990 diamond (n = 25 on the square lattice), from the real engi
     await renderPyramid(outcome, recording, { runId: 'order', style: { palette: 'kiln' } });
     expect(order.at(-1)).toBe('runs/order/heights/kiln/iiif/info.json');
     expect(order.filter((k) => k.endsWith('info.json'))).toHaveLength(1);
-    expect(order).toHaveLength(5 + 1 + 1 + 1 + 1);
+    expect(order).toHaveLength(5 + 1 + 1 + 1 + 1 + 1);
   });
 
   it('the toppled layer colours only the five sites that toppled, the rest transparent on request', async () => {

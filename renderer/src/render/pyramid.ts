@@ -158,7 +158,12 @@ export async function renderPyramid(input: RenderInput, sink: TileSink, opts: Py
     const l = plan.levels[level];
     const png = await encodeIndexedPng(canvas, l.width, l.height, p.lut);
     if (level === p.previewLevel) previewPng = png;
-    if (l.columns * l.rows > 1) await put(`${iiif}/${fullImagePath(plan, level)}`, png, 'image/png');
+    if (l.columns * l.rows > 1) {
+      await put(`${iiif}/${fullImagePath(plan, level)}`, png, 'image/png');
+      // the full size is advertised in `sizes` too (a small pile's whole image is its own preview), and
+      // a size is requested as w,h: store it under that path as well as the canonical `max`
+      if (level === 0) await put(`${iiif}/full/${l.width},${l.height}/0/default.png`, png, 'image/png');
+    }
   }
   const previewKey = previewKeyOf(prefix);
   await put(previewKey, previewPng!, 'image/png');
