@@ -3,7 +3,7 @@ import { checkBackgroundCanStabilize, checkRenderAgainstBackground, chipsSchema,
 import { idSchema, isoDateSchema } from './errors.js';
 import { runSchema, runTitleSchema } from './runs.js';
 
-/** A series: one specification at several grain counts, shown side by side rescaled by √n. */
+/** A series: one specification at several grain counts, shown side by side rescaled by n^(1/d), d its lattice's dimension. */
 export const SERIES_MAX_RUNS = 12;
 
 export const createSeriesRequestSchema = z.strictObject({

@@ -88,7 +88,7 @@ export function SeriesPage() {
       />
       <Section
         title={`Side by side, rescaled by ${unit}`}
-        description={`Every pile is drawn at the same number of screen pixels per ${unit} lattice spacings${dim?.kind === 'mixed' ? ' (d each run’s own dimension)' : ''}, so a larger n shows as a finer picture of the same shape.${s.runs.some((r) => dimensionOf(r) === 3) ? ` Each 3-D run is drawn as its ${sliceText(0)}.` : ''}`}
+        description={`Every pile is drawn at the same number of screen pixels per ${unit} lattice spacings${dim?.kind === 'mixed' ? ' (d each run’s own dimension)' : ''}, so a larger n shows as a finer picture of the same shape.${s.runs.some((r) => dimensionOf(r) === 3) ? ` Each strip shows the ${sliceText(0)}.` : ''}`}
       >
         <div className="flex flex-wrap items-end gap-6 rounded-lg bg-night p-6" data-testid="series-strip">
           {s.runs.map((r, i) => {
