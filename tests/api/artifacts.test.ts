@@ -5,7 +5,7 @@ import type supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { figures } from '../../drizzle/schema.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import type { Run } from '../../shared/api/runs.js';
 import { sendRunOutcomeMail } from '../../api/src/services/run-outcome-mail.js';
 import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 import { waitForMail } from './support/outbox.js';

@@ -19,7 +19,6 @@ describe('figures in the browser', () => {
   const email = 'ada.printer@figures.e2e.toppleworks.local';
   const otherEmail = 'cato.neighbour@figures.e2e.toppleworks.local';
   let authorId = '';
-  let labId = '';
 
   beforeAll(async () => {
     // an invented author in an invented lab
@@ -28,7 +27,6 @@ describe('figures in the browser', () => {
     await farm.stack.deps.db.insert(memberships).values({ labId: lab!.id, userId: u!.id, role: 'author' });
     await farm.stack.deps.db.update(users).set({ activeLabId: lab!.id }).where(eq(users.id, u!.id));
     authorId = u!.id;
-    labId = lab!.id;
     // a member of another invented lab, who may read the published figure but not change it
     const [o] = await farm.stack.deps.db.insert(users).values({ email: otherEmail, name: 'Cato Neighbour', passwordHash: await hashPassword(PASSWORD), emailVerifiedAt: new Date() }).returning();
     const [otherLab] = await farm.stack.deps.db.insert(labs).values({ name: 'Neighbouring Lattice Lab' }).returning();

@@ -11,7 +11,7 @@ import { JOB_NAMES, LARGE_RUN_SECONDS, QUEUE_NAMES, computeLaneOf, jobIdFor } fr
 import { runSpecSchema } from '../../shared/run-spec.js';
 import { checkpointKey } from '../../renderer/src/farm/artifacts.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { as, authorOfNewLab, runSettled, startHarness, submitRun, type Harness, type Session } from '../api/support/harness.js';
 
 let h: Harness;
 let author: Session;
@@ -21,9 +21,7 @@ let farm: Awaited<ReturnType<typeof startFarmWorker>> | null = null;
 
 beforeAll(async () => {
   h = await startHarness('lanes');
-  const a = await createUser(h, 'Lane Author');
-  labId = await createLab(h, 'Lane Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(h, a.email, TEST_PASSWORD);
+  ({ labId, session: author } = await authorOfNewLab(h, 'Lane'));
   redis = new Redis(h.env.REDIS_URL, { maxRetriesPerRequest: null });
 });
 afterAll(async () => {
@@ -32,11 +30,7 @@ afterAll(async () => {
   await h?.close();
 });
 
-async function submit(title: string, spec: unknown): Promise<Run> {
-  const res = await as(h.http.post('/api/runs'), author).send({ labId, title, spec });
-  expect(res.status, JSON.stringify(res.body)).toBe(201);
-  return runResponseSchema.parse(res.body).run;
-}
+const submit = (title: string, spec: unknown): Promise<Run> => submitRun(h, author, labId, title, spec);
 
 /** A run the estimator sends to the large lane; it computes for minutes, far longer than the tests wait. */
 const BIG = 100_000_000;

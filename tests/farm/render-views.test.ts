@@ -1,12 +1,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { legendResponseSchema } from '../../shared/api/artifacts.js';
-import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import type { Run } from '../../shared/api/runs.js';
 import { DIFFERENCE_NEEDS_BACKGROUND } from '../../shared/run-spec.js';
 import { hexToRgba, paletteById, rgbaToHex } from '../../shared/palettes.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { as, authorOfNewLab, runSettled, startHarness, submitRun, type Harness, type Session } from '../api/support/harness.js';
 
 /**
  * The drawing a run's spec asks for, end to end: the API validates it with the shared schema, the
@@ -22,9 +22,7 @@ let chosen: Run;
 
 beforeAll(async () => {
   h = await startHarness('layers');
-  const a = await createUser(h, 'Layers Author');
-  labId = await createLab(h, 'Layers Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(h, a.email, TEST_PASSWORD);
+  ({ labId, session: author } = await authorOfNewLab(h, 'Layers'));
   farm = await startFarmWorker(h.env, { prefix: h.queuePrefix, threads: 1 });
 });
 afterAll(async () => {
@@ -32,11 +30,7 @@ afterAll(async () => {
   await h?.close();
 });
 
-async function submit(title: string, spec: unknown): Promise<Run> {
-  const res = await as(h.http.post('/api/runs'), author).send({ labId, title, spec });
-  expect(res.status, JSON.stringify(res.body)).toBe(201);
-  return runResponseSchema.parse(res.body).run;
-}
+const submit = (title: string, spec: unknown): Promise<Run> => submitRun(h, author, labId, title, spec);
 
 /** The view folders a run has in the store: `<layer>/<palette segment>` for each drawn pyramid. */
 async function drawnViews(runId: string): Promise<string[]> {

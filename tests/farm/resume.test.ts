@@ -11,13 +11,13 @@ import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { ledgerEntries, runs } from '../../drizzle/schema.js';
-import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import type { Run } from '../../shared/api/runs.js';
 import { JOB_NAMES, jobIdFor, queueOf, type JobItem } from '../../shared/jobs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys, checkpointKey } from '../../renderer/src/farm/artifacts.js';
 import { decodeSnapshot, resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
 import { arrayHash, heightsForExport, odometerForExport } from '../../renderer/src/cli/export-arrays.js';
-import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { authorOfNewLab, runSettled, startHarness, submitRun, type Harness, type Session } from '../api/support/harness.js';
 import { startWorkerProcess, type WorkerProcess } from './worker-process.js';
 
 let h: Harness;
@@ -31,9 +31,7 @@ const workerEnv = () => ({ BULLMQ_PREFIX: h.queuePrefix, WORKER_CHECKPOINT_SECON
 
 beforeAll(async () => {
   h = await startHarness('resume');
-  const a = await createUser(h, 'Resume Author');
-  labId = await createLab(h, 'Resume Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(h, a.email, TEST_PASSWORD);
+  ({ labId, session: author } = await authorOfNewLab(h, 'Resume'));
   redis = new Redis(h.env.REDIS_URL, { maxRetriesPerRequest: null });
 });
 afterAll(async () => {
@@ -42,11 +40,7 @@ afterAll(async () => {
   await h?.close();
 });
 
-async function submit(title: string, spec: unknown): Promise<Run> {
-  const res = await as(h.http.post('/api/runs'), author).send({ labId, title, spec });
-  expect(res.status, JSON.stringify(res.body)).toBe(201);
-  return runResponseSchema.parse(res.body).run;
-}
+const submit = (title: string, spec: unknown): Promise<Run> => submitRun(h, author, labId, title, spec);
 
 /** the checkpoint in the store, read with the engine's own reader; null while there is none */
 async function storedCheckpoint(runId: string) {

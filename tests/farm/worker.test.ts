@@ -4,11 +4,11 @@ import { Redis } from 'ioredis';
 import { eq } from 'drizzle-orm';
 import { runs } from '../../drizzle/schema.js';
 import { JOB_NAMES, QUEUE_NAMES, jobIdFor } from '../../shared/jobs.js';
-import { runResponseSchema, type Run } from '../../shared/api/runs.js';
+import type { Run } from '../../shared/api/runs.js';
 import { readNpy } from '../../renderer/src/npy/index.js';
 import { arrayKeys } from '../../renderer/src/farm/artifacts.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
-import { as, createLab, createUser, runSettled, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from '../api/support/harness.js';
+import { authorOfNewLab, runSettled, startHarness, submitRun, type Harness, type Session } from '../api/support/harness.js';
 
 let h: Harness;
 let author: Session;
@@ -17,9 +17,7 @@ let farm: Awaited<ReturnType<typeof startFarmWorker>>;
 
 beforeAll(async () => {
   h = await startHarness('farm');
-  const a = await createUser(h, 'Farm Author');
-  labId = await createLab(h, 'Farm Lab', [{ userId: a.id, role: 'author' }]);
-  author = await signIn(h, a.email, TEST_PASSWORD);
+  ({ labId, session: author } = await authorOfNewLab(h, 'Farm'));
   farm = await startFarmWorker(h.env, { prefix: h.queuePrefix, threads: 1 });
 });
 afterAll(async () => {
@@ -27,11 +25,7 @@ afterAll(async () => {
   await h?.close();
 });
 
-async function submit(title: string, spec: unknown): Promise<Run> {
-  const res = await as(h.http.post('/api/runs'), author).send({ labId, title, spec });
-  expect(res.status, JSON.stringify(res.body)).toBe(201);
-  return runResponseSchema.parse(res.body).run;
-}
+const submit = (title: string, spec: unknown): Promise<Run> => submitRun(h, author, labId, title, spec);
 
 const settled = (id: string, timeoutMs = 60_000) => runSettled(h, author, id, timeoutMs);
 

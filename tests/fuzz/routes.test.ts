@@ -143,8 +143,6 @@ function inputsFor(route: ApiRoute, seed: number): Sent[] {
   return out;
 }
 
-const sameSnapshot = (a: Snapshot, b: Snapshot) => JSON.stringify(a) === JSON.stringify(b);
-
 describe('generated invalid input on every catalogued route', () => {
   it('gets a 4xx with a message, stores nothing, enqueues nothing, and the server keeps answering', { timeout: 180_000 }, async () => {
     const failures: string[] = [];

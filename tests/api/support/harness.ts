@@ -138,6 +138,20 @@ export async function userByEmail(h: Harness, email: string) {
   return u ?? null;
 }
 
+/** A new user who is the only author of a new lab, signed in: where most tests of runs start. */
+export async function authorOfNewLab(h: Harness, name: string): Promise<{ user: { id: string; email: string }; labId: string; session: Session }> {
+  const user = await createUser(h, `${name} Author`);
+  const labId = await createLab(h, `${name} Lab`, [{ userId: user.id, role: 'author' }]);
+  return { user, labId, session: await signIn(h, user.email, TEST_PASSWORD) };
+}
+
+/** Submits a run through the API; anything but 201 fails the test with the API's answer. */
+export async function submitRun(h: Harness, who: Session, labId: string, title: string, spec: unknown): Promise<Run> {
+  const res = await as(h.http.post('/api/runs'), who).send({ labId, title, spec });
+  if (res.status !== 201) throw new Error(`submitting '${title}' answered ${res.status}: ${JSON.stringify(res.body)}`);
+  return runResponseSchema.parse(res.body).run;
+}
+
 /** Poll a run through the API until it has finished, failed or been cancelled. */
 export async function runSettled(h: Harness, who: Session, id: string, timeoutMs = 60_000): Promise<Run> {
   const until = Date.now() + timeoutMs;
