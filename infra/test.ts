@@ -1,9 +1,9 @@
 /**
  * `npm test`: the whole suite against services of its own. After infra/prepare.sh, wipe
  * .local/test/, start PostgreSQL, Redis and the fakes on the test ports (none shared with
- * `npm start`), apply migrations, build the web app for the browser tests, run `vitest run` with
- * the services' environment (extra arguments go to vitest), stop everything and exit with
- * vitest's status.
+ * `npm start`), apply migrations, build the web app for the browser tests (and, for the whole
+ * suite, check the types), run `vitest run` with the services' environment (extra arguments go to
+ * vitest), stop everything and exit with vitest's status.
  */
 import { execFileSync, spawn } from 'node:child_process';
 import path from 'node:path';
@@ -64,7 +64,9 @@ async function main(): Promise<number> {
   log.info(`PostgreSQL, Redis and the fakes up in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
   // the browser tests need the web app; building it (into .local/test/dist/, never the dist/ that
   // a running npm start serves) while migrations run saves a few seconds
-  await stack.parallel(stack.migrate(), stack.buildWeb());
+  // the whole suite (no file or filter given, as CI runs it) also checks the types, beside them
+  const whole = process.argv.length <= 2;
+  await stack.parallel(stack.migrate(), stack.buildWeb(), whole ? stack.typecheck() : Promise.resolve());
   if (stopping) return 130;
 
   const chromium = chromiumPath();

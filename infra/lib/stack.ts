@@ -157,6 +157,23 @@ export class Stack {
     return true;
   }
 
+  /**
+   * The compiler over every folder (tsconfig.json): vitest and Vite strip types without checking
+   * them, so without this step a type error would pass the suite.
+   */
+  async typecheck(): Promise<void> {
+    const started = Date.now();
+    const r = await runOnce(path.join(ROOT, 'node_modules', '.bin', 'tsc'), ['-p', '.', '--noEmit'], {
+      env: this.childEnv,
+      cwd: ROOT,
+      logFile: path.join(this.dirs.logs, 'typecheck.log'),
+      signal: this.abort.signal,
+    });
+    this.check();
+    if (r.code !== 0) throw new InfraError(`the type check failed (tsc -p . --noEmit):\n${tail(r.output, 20)}`);
+    this.log.info(`types checked in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+  }
+
   private async task(name: 'migrate' | 'seed' | 'finish-demo') {
     const r = await runOnce(TSX, ['infra/lib/product-task.ts', name], {
       env: this.childEnv,
