@@ -13,7 +13,9 @@ export const VIEW_PARAM = 'at';
 export function formatView(v: LatticeView): string {
   const decimals = Math.min(6, Math.max(0, Math.ceil(-Math.log10(v.across / 1000))));
   const num = (x: number) => {
-    const s = x.toFixed(decimals).replace(/\.?0+$/, '');
+    // trailing zeros go only after a decimal point: "100" stays 100, not 1, and 0 stays "0"
+    const fixed = x.toFixed(decimals);
+    const s = fixed.includes('.') ? fixed.replace(/\.?0+$/, '') : fixed;
     return s === '-0' ? '0' : s;
   };
   return `${num(v.cx)},${num(v.cy)},${Number(v.across.toPrecision(4))}`;
