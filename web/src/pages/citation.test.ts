@@ -36,6 +36,13 @@ describe('BibTeX entry of a figure', () => {
     expect(entry!.entryTags.title).toBe('Fifty thousand grains on the honeycomb \\{lattice\\} \\& 100\\% of its sites');
   });
 
+  test('a title with an exponent, a tilde or a backslash becomes LaTeX text commands, so the citing paper still compiles', () => {
+    const [entry] = bibtexParse.toJSON(figureBibtex({ ...figure, title: 'Square lattice, n = 3·10^5 ~ a\\b' }, 'https://example.org/f/x'));
+    expect(entry!.entryTags.title).toBe('Square lattice, n = 3·10\\textasciicircum{}5 \\textasciitilde{} a\\textbackslash{}b');
+    // outside math mode a bare ^ or ~ is a LaTeX error or a non-breaking space: none may be left unescaped
+    expect(entry!.entryTags.title.replace(/\\text\w+\{\}/g, '')).not.toMatch(/[\^~\\]/);
+  });
+
   test('one version is keyed and labelled as that version, so two versions cited together never share a key', () => {
     const [v2] = bibtexParse.toJSON(figureBibtex(figure, 'https://example.org/f/honeycomb-fifty-thousand/v/2', undefined, 2));
     expect(v2!.citationKey).toBe('honeycomb-fifty-thousand-v2');

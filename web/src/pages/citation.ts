@@ -1,8 +1,25 @@
 import type { Figure, LabFigure } from '../api/contract.js';
 
-/** Braces and backslashes would break a BibTeX field; escape the few characters that matter. */
+/** What each LaTeX special character becomes in a BibTeX field. */
+const BIB_ESCAPES: Record<string, string> = {
+  '\\': '\\textbackslash{}',
+  '^': '\\textasciicircum{}',
+  '~': '\\textasciitilde{}',
+  '{': '\\{',
+  '}': '\\}',
+  '%': '\\%',
+  '&': '\\&',
+  '#': '\\#',
+  _: '\\_',
+  $: '\\$',
+};
+
+/**
+ * Braces and backslashes would break a BibTeX field, and LaTeX's special characters the document
+ * citing it (a title "n = 10^6"). One pass, so the braces of an inserted command stay unescaped.
+ */
 function bibEscape(s: string): string {
-  return s.replace(/\\/g, '\\textbackslash{}').replace(/([{}%&#_$])/g, '\\$1');
+  return s.replace(/[\\^~{}%&#_$]/g, (c) => BIB_ESCAPES[c]!);
 }
 
 /**
