@@ -15,7 +15,7 @@ import { RenderChoices } from './RenderChoices.js';
 import { UnitCellEditor } from './UnitCellEditor.js';
 import { CreditGate } from '../pages/credits/CreditGate.js';
 import {
-  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, parseGrainList, parseGrains, seriesChipsOfForm, specOfForm, type RunFormState,
+  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, parseGrainList, parseGrains, seriesChipsOfForm, seriesScaleHint, specOfForm, type RunFormState,
 } from './formState.js';
 
 function useDebounced<T>(value: T, ms: number): T {
@@ -139,9 +139,9 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           ))}
           <option value="@cell">unit cell: draw or upload…</option>
         </SelectField>
-        <SelectField label="How many runs" value={f.mode} onChange={(e) => set({ mode: e.target.value as RunFormState['mode'] })}>
+        <SelectField label="How many runs" value={f.mode} onChange={(e) => set({ mode: e.target.value as RunFormState['mode'] })} hint={f.mode === 'series' ? seriesScaleHint(f) : undefined}>
           <option value="single">one run</option>
-          <option value="series">a series over n (side by side by √n)</option>
+          <option value="series">a series over n</option>
         </SelectField>
         {f.mode === 'single' ? (
           <TextField

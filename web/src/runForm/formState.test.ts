@@ -4,7 +4,7 @@ import { createRunRequestSchema, runSpecSchema } from '../api/contract.js';
 import { validate } from '../ui/formErrors.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkCell } from './UnitCellEditor.js';
-import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
+import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, seriesScaleHint, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
 
 describe('grain counts as people type them', () => {
   test('grouped, powers of ten and exponent notation', () => {
@@ -97,5 +97,17 @@ describe('unit cell editor', () => {
     const c = checkCell(g);
     expect(c.ok).toBe(false);
     if (!c.ok) expect(c.message).toMatch(/no outgoing edges/);
+  });
+});
+
+describe('what a series is rescaled by, as the form says it', () => {
+  test('names the unit the series page divides by: n on the line, √n on the plane, ∛n on the cubic lattice', () => {
+    const hint = (preset: string, latticeMode: 'preset' | 'cell' = 'preset') => seriesScaleHint({ ...emptyForm(), preset, latticeMode });
+    expect(hint('line')).toMatch(/rescaled by n$/);
+    expect(hint('square')).toMatch(/rescaled by √n$/);
+    expect(hint('triangular')).toMatch(/rescaled by √n$/);
+    expect(hint('manhattan')).toMatch(/rescaled by √n$/);
+    expect(hint('cubic')).toMatch(/rescaled by ∛n$/);
+    expect(hint('square', 'cell')).toMatch(/rescaled by √n$/);
   });
 });

@@ -1,7 +1,10 @@
 import type { Background, PeriodicGraph, RunSpec } from '../api/contract.js';
+import type { LatticeChoice } from '../../../shared/run-spec.js';
 import { DEFAULT_RENDER, type RenderSpec } from '../../../shared/run-spec.js';
 import { LAYERS, PALETTE_IDS, type Layer, type PaletteId, type UntoppledStyle } from '../../../shared/palettes.js';
 import { PERIODIC_PRESETS } from '../../../renderer/src/engine/lattice.js';
+import { scaleSymbol } from '../../../shared/natural-scale.js';
+import { latticeShape } from '../../../shared/stability.js';
 
 /**
  * The run form's state as the author types it (strings where people type numbers), and the two
@@ -117,6 +120,20 @@ export function latticeOfForm(f: RunFormState): unknown {
     return periodic ? { periodic: { period: periodic.period, neighbours: periodic.neighbours }, name: f.preset } : { preset: f.preset };
   }
   return f.cellName.trim() ? { periodic: f.cell, name: f.cellName.trim() } : { periodic: f.cell };
+}
+
+/**
+ * What a series of the form's lattice looks like on the series page, which rescales each pile by its
+ * own n^(1/d): "n" on the line, "√n" on the plane, "∛n" on the cubic lattice (unit cells are planar).
+ */
+export function seriesScaleHint(f: Pick<RunFormState, 'latticeMode' | 'preset'>): string {
+  let dimension = 2;
+  try {
+    if (f.latticeMode === 'preset') dimension = latticeShape({ preset: f.preset } as LatticeChoice).dimension;
+  } catch {
+    // an unknown preset is refused by the form's own check; the hint stays planar meanwhile
+  }
+  return `one run per n, side by side, each rescaled by ${scaleSymbol(dimension)}`;
 }
 
 /** Coordinates typed as "3, -2" or "(3, -2)". */
