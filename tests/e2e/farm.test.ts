@@ -157,7 +157,7 @@ describe('render farm in the browser', () => {
     const box = (await pane.boundingBox())!;
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
     await expect.poll(() => page.getByTestId('readout-lattice').first().textContent()).toBe('(0, 0)');
-    await expect.poll(() => page.getByTestId('readout-height').first().textContent()).toBe(`${originHeight} grains`);
+    await expect.poll(() => page.getByTestId('readout-height').first().textContent()).toBe(`${originHeight} grain${originHeight === 1 ? '' : 's'}`);
     await expect.poll(() => page.getByTestId('readout-odometer').first().textContent()).toBe(`${BigInt(sidecar.stats.originOdometer).toLocaleString('en-US')} topplings`);
     await screenshot(page, 'farm-viewer-cells');
 
@@ -209,7 +209,7 @@ describe('render farm in the browser', () => {
     const box = (await pane.boundingBox())!;
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
     await expect.poll(() => pane.getByTestId('readout-lattice').textContent()).toBe('(0, 0)');
-    await expect.poll(() => pane.getByTestId('readout-height').textContent()).toMatch(/^\d+ grains$/);
+    await expect.poll(() => pane.getByTestId('readout-height').textContent()).toMatch(/^(1 grain|\d+ grains)$/);
     await expect.poll(() => page.getByText(/heights sha256 [0-9a-f]{64}/).count()).toBe(1);
     await screenshot(page, 'farm-figure-reader');
   });

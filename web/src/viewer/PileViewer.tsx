@@ -2,14 +2,13 @@ import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } fro
 import { PALETTES, paletteById } from '../../../shared/palettes.js';
 import { DRAWN_LAYERS, LAYER_LABELS, type DrawnLayer } from '../labels.js';
 import { useRunJson, useViewDrawn, useViewLegend } from '../api/queries.js';
-import { groupThousands } from '../format.js';
 import { cellAt, fromLatticeView, pixelOfLattice, pixelsPerCell, toLatticeView, type CellAt, type LatticeView, type RunGeometry } from './cells.js';
-import { scaleSymbol } from '../../../shared/natural-scale.js';
 import { sliceText } from '../../../shared/drawn-plane.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
 import { LegendCard } from './LegendCard.js';
 import { arrayUrl, infoJsonUrl, type ArtifactBase, type RunJson } from './runArtifacts.js';
 import { useCellReadout } from './useCellReadout.js';
+import { heightText, odometerText, readoutCoordinates } from './readoutText.js';
 import { paletteOfSegment } from './drawnViews.js';
 
 
@@ -259,33 +258,30 @@ function CellOutline({ cell, handle, geometry }: { cell: CellAt; handle: DeepZoo
   return <div aria-hidden="true" className="pointer-events-none absolute outline outline-1 outline-white/80 ring-1 ring-black/60" style={{ left: a.x, top: a.y, width: b.x - a.x, height: b.y - a.y }} />;
 }
 
-const fmt = (v: number) => (v < 0 ? `−${Math.abs(v)}` : String(v));
-const fmt4 = (v: number) => (v < 0 ? `−${Math.abs(v).toFixed(4)}` : v.toFixed(4));
-
 /** Coordinates and values of the cell under the cursor; monospace so columns of digits stay put. */
 function Readout({ cell, values, error }: { cell: CellAt | null; values: ReturnType<typeof useCellReadout>['values']; error: string | null }) {
   if (!cell) return null;
   const v = values && values.cell.index === cell.index ? values : null;
-  const names = ['x', 'y', 'z'].slice(0, cell.lattice.length);
+  const text = readoutCoordinates(cell.lattice, cell.rescaled);
   return (
     <dl
       aria-label="cell readout"
       data-testid="cell-readout"
       className="pointer-events-none absolute bottom-3 right-3 grid grid-cols-[auto_auto] gap-x-3 gap-y-0.5 rounded-md bg-black/60 px-3 py-2 text-[11px] text-white/90 backdrop-blur"
     >
-      <dt className="text-white/60">({names.join(', ')})</dt>
+      <dt className="text-white/60">{text.coordinatesLabel}</dt>
       <dd className="font-mono" data-testid="readout-lattice">
-        ({cell.lattice.map(fmt).join(', ')})
+        {text.coordinates}
       </dd>
-      <dt className="text-white/60">({names.map((n) => `${n}/${scaleSymbol(cell.lattice.length)}`).join(', ')})</dt>
-      <dd className="font-mono">{cell.rescaled.length ? `(${cell.rescaled.map(fmt4).join(', ')})` : '—'}</dd>
+      <dt className="text-white/60">{text.rescaledLabel}</dt>
+      <dd className="font-mono">{text.rescaled}</dd>
       <dt className="text-white/60">height</dt>
       <dd className="font-mono" data-testid="readout-height">
-        {v ? `${String(v.height)} grains` : error ? '?' : '…'}
+        {v && v.height !== null ? heightText(v.height) : error ? '?' : '…'}
       </dd>
       <dt className="text-white/60">odometer</dt>
       <dd className="font-mono" data-testid="readout-odometer">
-        {v && v.odometer !== null ? `${groupThousands(typeof v.odometer === 'bigint' ? v.odometer : Math.round(v.odometer))} topplings` : error ? '?' : '…'}
+        {v && v.odometer !== null ? odometerText(v.odometer) : error ? '?' : '…'}
       </dd>
       {error ? <dd className="col-span-2 text-amber-200">{error}</dd> : null}
     </dl>
