@@ -1,3 +1,5 @@
+import type { RunStatus } from './api/contract.js';
+
 /**
  * The run statistics arrive as opaque JSON (the contract keeps them open while the worker's schema
  * grows). These helpers pick known figures by name and describe the rest with a named unit.
@@ -89,4 +91,15 @@ export function statRows(stats: unknown): StatRow[] {
     }
   }
   return rows;
+}
+
+/**
+ * The line under the Statistics heading of a run page. The statistics arrive when the engine is
+ * done, before the views are drawn, so "filled in when the run finishes" would sit over a full table.
+ */
+export function statsNote(status: RunStatus, hasStats: boolean): string | undefined {
+  if (status === 'finished') return undefined;
+  if (hasStats) return status === 'rendering' ? 'Computed and certified; the wall-clock time follows once the views are drawn.' : undefined;
+  if (status === 'failed' || status === 'cancelled') return `None: the run was ${status === 'failed' ? 'stopped by an error' : 'cancelled'} before its final state was known.`;
+  return 'Filled in when the engine has computed the final state.';
 }

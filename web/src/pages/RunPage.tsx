@@ -8,6 +8,7 @@ import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { backgroundOfSpec, drawingOfSpec, latticeOfSpec } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
+import { statsNote } from '../runStats.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
 import { isRunMissing, RunNotFound } from './RunNotFound.js';
 import { Button, Count, ErrorPanel, FactList, FormError, LinkButton, Notice, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
@@ -137,7 +138,7 @@ function RunDetail({ run }: { run: Run }) {
             ]}
           />
         </Section>
-        <Section title="Statistics" description={run.status === 'finished' ? undefined : 'Filled in when the run finishes.'}>
+        <Section title="Statistics" description={statsNote(run.status, Boolean(run.stats))}>
           <RunStatsTable stats={run.stats} wallSeconds={wall} />
         </Section>
       </div>
