@@ -64,7 +64,11 @@ describe('figures in the browser', () => {
     expect(inside).toBe(true);
     await screenshot(page, 'figures-compose-placeholder');
     await page.getByTestId('panel-0').getByLabel('Palette').selectOption('tidewater');
+    // without a title the save button is greyed out and says why, beside it
+    await expect.poll(() => page.getByTestId('save-blocked').textContent()).toBe('Give the figure a title first.');
+    expect(await page.getByRole('button', { name: 'Create the figure' }).isDisabled()).toBe(true);
     await page.getByLabel('Title').fill('A thousand grains on Z²');
+    await expect.poll(() => page.getByTestId('save-blocked').count()).toBe(0);
     await page.getByLabel(/^Caption/).fill('Final stable heights after 1000 grains are added at the origin of the square lattice.');
     await page.getByTestId('proof').waitFor();
     await page.getByLabel('Magnification').selectOption('fixed');

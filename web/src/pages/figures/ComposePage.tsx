@@ -24,6 +24,7 @@ import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, 
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 import { rescaledUnitName } from './rescaledUnit.js';
+import { saveBlockedReason } from './saveBlocked.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
 const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled: 'toppled sites only', difference: 'difference from the background', odometer: 'odometer (log scale)' };
@@ -96,6 +97,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
     const run = runs.find((r) => r.id === p.runId);
     return p.layer === 'difference' && run !== undefined && isZeroBackground(run.spec.background);
   });
+
+  const blocked = saveBlockedReason({ settingsValid: parsed.success, title: draft.title, layerUnavailable });
 
   // refusals (a lost lab membership, a run that expired meanwhile) show under the button through save.error
   function submit(e: React.FormEvent) {
@@ -313,8 +316,13 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
             ) : null}
           </Section>
           <FormError error={save.error} />
-          <div className="flex justify-end gap-3">
-            <Button type="submit" busy={save.isPending} busyLabel="Saving…" disabled={!parsed.success || !draft.title.trim() || layerUnavailable}>
+          <div className="flex items-center justify-end gap-3">
+            {blocked ? (
+              <p className="text-sm text-ink-soft" data-testid="save-blocked">
+                {blocked}
+              </p>
+            ) : null}
+            <Button type="submit" busy={save.isPending} busyLabel="Saving…" disabled={blocked !== null}>
               {figure ? 'Save the composition' : 'Create the figure'}
             </Button>
           </div>
