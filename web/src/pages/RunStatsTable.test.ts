@@ -37,4 +37,13 @@ describe('the run page statistics', () => {
     expect(row([21, 21], 'Radius ÷ √n')).toBe((9.5 / Math.sqrt(1000)).toFixed(4));
     expect(row([21, 21, 21], 'Radius ÷ ∛n')).toBe((9.5 / 10).toFixed(4));
   });
+
+  test('the toppled region names x first and separates the axes, whatever the array order', () => {
+    const region = (shape: number[], bbox: [number, number][]) =>
+      rowValue(renderToStaticMarkup(createElement(RunStatsTable, { stats: { ...stats(1, shape), bbox }, wallSeconds: 1 })), 'Toppled region');
+    // bounds arrive in array order: (y, x) on the plane, (z, y, x) in space
+    expect(region([21, 21], [[-3, 4], [-9, 9]])).toBe('x ∈ [−9, 9], y ∈ [−3, 4]');
+    expect(region([21, 21, 21], [[-1, 1], [-3, 4], [-9, 9]])).toBe('x ∈ [−9, 9], y ∈ [−3, 4], z ∈ [−1, 1]');
+    expect(region([21], [[-9, 9]])).toBe('x ∈ [−9, 9]');
+  });
 });

@@ -51,7 +51,11 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
         label: 'Toppled region',
         value: s.bbox ? (
           <span className="font-mono text-[13px]">
-            {s.bbox.map(([lo, hi], i) => `${axisNames(s!.bbox!.length)[i]} ∈ [${signed(lo)}, ${signed(hi)}]`).join('  ')}
+            {/* x first, as the readout and the composer write coordinates; the bounds come in array order (z, y, x) */}
+            {s.bbox
+              .map(([lo, hi], i) => `${axisNames(s!.bbox!.length)[i]} ∈ [${signed(lo)}, ${signed(hi)}]`)
+              .reverse()
+              .join(', ')}
           </span>
         ) : (
           'nothing toppled'
