@@ -49,7 +49,7 @@ export const DEMO_FIGURE_SLUG = 'square-lattice-one-hundred-thousand';
 type DemoRun = { lab: 'main' | 'other'; by: DemoSignIn['role']; title: string; spec: RunSpecInput };
 
 /** Sizes a 2-core laptop finishes in seconds to a minute or so. */
-const DEMO_RUNS: DemoRun[] = [
+export const DEMO_RUNS: readonly DemoRun[] = [
   { lab: 'main', by: 'author', title: 'One hundred thousand grains on the square lattice', spec: { lattice: { preset: 'square' }, chips: 100_000 } },
   { lab: 'main', by: 'author', title: 'Triangular lattice over a constant background of 2', spec: { lattice: { preset: 'triangular' }, chips: 50_000, background: { kind: 'constant', height: 2 } } },
   { lab: 'main', by: 'manager', title: 'Honeycomb on a 1/0 checkerboard', spec: { lattice: { preset: 'honeycomb' }, chips: 30_000, background: { kind: 'checkerboard', a: 1, b: 0 } } },
