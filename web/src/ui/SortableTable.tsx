@@ -117,27 +117,37 @@ function SortMark({ state }: { state?: SortOrder }) {
   );
 }
 
-/** Previous / next with "41–60 of 213 runs". */
+/**
+ * The count beside the pager: "41–60 of 213 runs" across pages, and plainly "4 runs" or "1 figure"
+ * when everything is on one page (a range "1–1 of 1" says nothing more).
+ */
+export function pagerSummary(page: number, pageSize: number, total: number, unit: string): string {
+  const noun = total === 1 ? unit.replace(/s$/, '') : unit;
+  if (total <= pageSize && page === 1) return `${total.toLocaleString('en-US')} ${noun}`;
+  const from = (page - 1) * pageSize + 1;
+  const to = Math.min(total, page * pageSize);
+  return `${from.toLocaleString('en-US')}–${to.toLocaleString('en-US')} of ${total.toLocaleString('en-US')} ${noun}`;
+}
+
+/** Previous / next with "41–60 of 213 runs"; on a single page only the count. */
 export function Pager({ page, pageSize, total, unit, onPage }: { page: number; pageSize: number; total: number; unit: string; onPage: (p: number) => void }) {
   const pages = Math.max(1, Math.ceil(total / pageSize));
-  const from = total === 0 ? 0 : (page - 1) * pageSize + 1;
-  const to = Math.min(total, page * pageSize);
   return (
     <nav aria-label="pages" className="mt-3 flex items-center justify-between text-sm text-ink-soft">
-      <span className="tnum">
-        {from.toLocaleString("en-US")}–{to.toLocaleString("en-US")} of {total.toLocaleString("en-US")} {total === 1 ? unit.replace(/s$/, "") : unit}
-      </span>
-      <span className="flex items-center gap-2">
-        <button type="button" className="rounded border border-rule bg-sheet px-3 py-1 disabled:opacity-40" disabled={page <= 1} onClick={() => onPage(page - 1)}>
-          Previous
-        </button>
-        <span className="tnum px-1">
-          page {page} of {pages}
+      <span className="tnum">{pagerSummary(page, pageSize, total, unit)}</span>
+      {pages === 1 && page === 1 ? null : (
+        <span className="flex items-center gap-2">
+          <button type="button" className="rounded border border-rule bg-sheet px-3 py-1 disabled:opacity-40" disabled={page <= 1} onClick={() => onPage(page - 1)}>
+            Previous
+          </button>
+          <span className="tnum px-1">
+            page {page} of {pages}
+          </span>
+          <button type="button" className="rounded border border-rule bg-sheet px-3 py-1 disabled:opacity-40" disabled={page >= pages} onClick={() => onPage(page + 1)}>
+            Next
+          </button>
         </span>
-        <button type="button" className="rounded border border-rule bg-sheet px-3 py-1 disabled:opacity-40" disabled={page >= pages} onClick={() => onPage(page + 1)}>
-          Next
-        </button>
-      </span>
+      )}
     </nav>
   );
 }
