@@ -121,6 +121,22 @@ describe('demo roles in the browser', () => {
     await screenshot(page, 'author-admin-not-allowed');
   });
 
+  test('a signed-in page opened by its address keeps the masthead while it loads, and the console stays free of router warnings', async () => {
+    const page = await newPage(browser, stack.url);
+    const warnings: string[] = [];
+    page.on('console', (m) => {
+      if (m.type() === 'warning' || m.type() === 'error') warnings.push(m.text());
+    });
+    await signIn(page, demo('author').email, demo('author').password);
+    for (const path of ['/runs', '/lab', '/lab/credits', '/account']) {
+      await page.goto(path);
+      // the masthead is drawn before the lazily loaded page, not after it
+      await page.getByRole('link', { name: 'Runs', exact: true }).waitFor();
+      await page.getByRole('heading', { level: 1 }).waitFor();
+    }
+    expect(warnings.filter((w) => /HydrateFallback/.test(w))).toEqual([]);
+  });
+
   test('an author starts a run from the form: bad input is caught beside the field, a good one is queued', async () => {
     const page = await newPage(browser, stack.url);
     await signIn(page, demo('author').email, demo('author').password);

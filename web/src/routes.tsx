@@ -22,6 +22,15 @@ const lazyPage = <M,>(load: () => Promise<M>, pick: (m: M) => ComponentType) => 
   lazy: async () => ({ Component: pick(await load()) }),
 });
 
+/**
+ * What shows while a lazy page loads on a first visit. React Router only uses a fallback that is an
+ * element (null counts as none: it warns in the console and drops the page frame), so these are
+ * empty elements: the viewer's dark ground, and inside the paper frame an empty main area, so the
+ * header is there at once.
+ */
+const viewerLoading = <div aria-busy="true" className="min-h-screen bg-night" />;
+const pageLoading = <div aria-busy="true" className="min-h-[50vh]" />;
+
 /** The route table of the contract; everything behind RequireSignIn needs a session. */
 export function createRouter() {
   return createBrowserRouter([
@@ -29,15 +38,15 @@ export function createRouter() {
     {
       errorElement: <RouteError />,
       element: <RequireSignIn />,
-      hydrateFallbackElement: null,
+      hydrateFallbackElement: viewerLoading,
       children: [{ path: '/runs/:id/view', ...lazyPage(() => import('./viewer/ViewerPage.js'), (m) => m.ViewerPage) }],
     },
     {
       element: <PageFrame />,
-      hydrateFallbackElement: null,
       children: [
         {
           errorElement: <RouteError />,
+          hydrateFallbackElement: pageLoading,
           children: [
             { path: '/', element: <Landing /> },
             { path: '/sign-in', element: <SignIn /> },
