@@ -1,6 +1,6 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { groupThousands } from '../format.js';
-import { heightBars, niceTicks, radialBinWidth, radialPoints, type RadialProfileLike } from './plotData.js';
+import { heightBars, meanHeightTicks, niceTicks, radialBinWidth, radialPoints, type RadialProfileLike } from './plotData.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
 
 /** Chart ink from the paper-and-ink palette of web/src/styles.css. */
@@ -34,6 +34,7 @@ export function RadialProfilePlot({ profile, grains, dimension }: { profile: Rad
   const halfBin = radialBinWidth(profile, grains, dimension) / 2;
   const end = points.length ? points[points.length - 1]!.r + halfBin : 1;
   const { ticks, decimals } = niceTicks(end);
+  const heights = meanHeightTicks(points);
   return (
     <figure aria-label="radial profile" data-testid="plot-radial">
       <div className="h-56">
@@ -41,7 +42,7 @@ export function RadialProfilePlot({ profile, grains, dimension }: { profile: Rad
           <LineChart data={points} margin={{ top: 8, right: 12, bottom: 18, left: 12 }}>
             <CartesianGrid stroke={INK.rule} />
             <XAxis dataKey="r" type="number" domain={[0, ticks[ticks.length - 1]!]} ticks={ticks} tick={tick} tickFormatter={(v: number) => v.toFixed(decimals)} label={{ value: unit, position: 'insideBottom', offset: -10, fontSize: 11 }} />
-            <YAxis tick={tick} width={48} domain={[0, 'auto']} label={{ value: 'mean height', angle: -90, position: 'insideLeft', fontSize: 11 }} />
+            <YAxis tick={tick} width={48} domain={[0, heights.ticks[heights.ticks.length - 1]!]} ticks={heights.ticks} tickFormatter={(v: number) => v.toFixed(heights.decimals)} label={{ value: 'mean height', angle: -90, position: 'insideLeft', fontSize: 11 }} />
             <Tooltip formatter={(v) => [Number(v).toFixed(3), 'mean height']} labelFormatter={(r) => `${unit} ≈ ${Number(r).toPrecision(3)}`} />
             <Line dataKey="meanHeight" stroke={INK.stamp} dot={false} strokeWidth={1.5} isAnimationActive={false} />
           </LineChart>

@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { decadeTicks, heightBars, logLogSlope, naturalFit, niceTicks, radialPoints, seriesDimension } from './plotData.js';
+import { decadeTicks, heightBars, logLogSlope, meanHeightTicks, naturalFit, niceTicks, radialPoints, seriesDimension } from './plotData.js';
 
 describe('series plot', () => {
   test('points on r = c·√n give back c and a log-log slope of exactly 1/2', () => {
@@ -82,4 +82,14 @@ describe('run plots', () => {
   });
 
   test('bars per height', () => expect(heightBars([1, 0, 5])).toEqual([{ height: '0', sites: 1 }, { height: '1', sites: 0 }, { height: '2', sites: 5 }]));
+});
+
+describe('the mean-height axis of a radial profile', () => {
+  test('round ticks from 0 past the highest point, never fractions of the top like 0.95, 1.9, 2.85', () => {
+    const at = (...hs: number[]) => meanHeightTicks(hs.map((meanHeight) => ({ meanHeight })));
+    expect(at(1.9, 3.7, 3.1).ticks).toEqual([0, 1, 2, 3, 4]);
+    expect(at(2.1, 2.4).ticks).toEqual([0, 1, 2, 3]);
+    expect(at(1, 0.98)).toEqual({ ticks: [0, 0.25, 0.5, 0.75, 1], decimals: 2 });
+    expect(at().ticks).toEqual([0, 1]);
+  });
 });

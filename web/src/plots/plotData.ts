@@ -58,6 +58,14 @@ export function niceTicks(end: number, count = 6): { ticks: number[]; decimals: 
   return { ticks, decimals };
 }
 
+/**
+ * Round ticks for the mean-height axis of a radial profile, from 0 to at least its highest point:
+ * left to the chart library, a top of 3.7 gave 0.95, 1.9, 2.85.
+ */
+export function meanHeightTicks(points: readonly { meanHeight: number }[]): { ticks: number[]; decimals: number } {
+  return niceTicks(Math.max(0, ...points.map((p) => p.meanHeight)), 4);
+}
+
 /** Toppled sites per final height, as bars. */
 export function heightBars(heightCounts: readonly number[]): { height: string; sites: number }[] {
   return heightCounts.map((sites, h) => ({ height: String(h), sites }));
