@@ -120,6 +120,11 @@ describe('backgrounds that can never stabilize (shared/stability.ts)', () => {
   it('refuses exactly when every site is at least its threshold − 1', () => {
     const sq = { preset: 'square' };
     expect(neverStabilizesReason(sq, { kind: 'constant', height: 3 })).toBeDefined();
+    // at the threshold or above the words say so, instead of "at least 4 …, and 3 is one below 4"
+    expect(neverStabilizesReason(sq, { kind: 'constant', height: 3 })).toMatch(/^this constant background puts at least 3 grains on every site, and 3 is one below the toppling threshold 4 /);
+    expect(neverStabilizesReason(sq, { kind: 'constant', height: 4 })).toMatch(
+      /^this constant background puts at least 4 grains on every site, at or above the toppling threshold 4 of every site of this lattice: every site topples from the start .* heights of at most 2 on some sites$/,
+    );
     expect(neverStabilizesReason(sq, { kind: 'constant', height: 2 })).toBeUndefined();
     expect(neverStabilizesReason(sq, { kind: 'checkerboard', a: 3, b: 9 })).toBeDefined();
     expect(neverStabilizesReason(sq, { kind: 'checkerboard', a: 3, b: 2 })).toBeUndefined();
