@@ -175,6 +175,8 @@ describe('the new-run form with grain counts out of range', () => {
     await expect.poll(() => gate.textContent()).toMatch(/^Not accepted now: this job needs \d+ credits but only 1 credit of your monthly quota of [\d,]+ is left \(\d+ over\); ask a lab manager to raise it\. $/);
     await submitAndSettle(page, 402);
     expect(await page.getByText(/only 1 credit of your monthly quota/).count()).toBe(1);
+    // the click is answered beside the button, pointing at the reason rather than repeating it
+    expect(await page.getByTestId('refused-as-above').textContent()).toBe('Not started: the check above says why.');
     await screenshot(page, 'run-form-over-quota-submit');
 
     // the other lab has spent its small allowance and its paid credits
@@ -190,6 +192,7 @@ describe('the new-run form with grain counts out of range', () => {
     expect(await otherGate.getByRole('link', { name: 'Buy credits' }).getAttribute('href')).toBe(`/lab/credits?labId=${otherMe.body.activeLabId}`);
     await submitAndSettle(other, 402);
     expect(await other.getByText(/missing; a lab manager can buy more/).count()).toBe(1);
+    await other.getByTestId('refused-as-above').waitFor();
     await screenshot(other, 'run-form-other-lab-no-credits');
   });
 });

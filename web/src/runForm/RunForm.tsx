@@ -277,7 +277,16 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           {est && specForEstimate && f.mode !== 'series' ? <CreditGate labId={labId} credits={est.credits} /> : null}
         </div>
         {/* every refusal of the submit shows here, also those naming no field of the form, unless the estimate box above already says it */}
-        {submitRefusal ? <FormError error={submitRefusal} /> : errors.labId || errors.body ? <FormError error={new Error(errors.labId ?? errors.body)} /> : null}
+        {submitRefusal ? (
+          <FormError error={submitRefusal} />
+        ) : errors.labId || errors.body ? (
+          <FormError error={new Error(errors.labId ?? errors.body)} />
+        ) : create.isError && shownAbove.includes(messageForPeople(create.error)) ? (
+          // the refusal repeats the box above: point at it, so the click does not seem to do nothing
+          <p role="alert" className="text-right text-sm font-medium text-stamp" data-testid="refused-as-above">
+            Not started: the check above says why.
+          </p>
+        ) : null}
         <div className="flex justify-end gap-3">
           {onClose ? (
             <Button tone="quiet" onClick={onClose}>
