@@ -80,6 +80,8 @@ describe('the new-run form with grain counts out of range', () => {
     // the estimate box already says why, in the words the submit's refusal has: said once, not twice
     expect(await page.getByRole('alert').filter({ hasText: 'of working memory' }).count()).toBe(1);
     expect(await page.locator('form[aria-label="new run"] aside > [role="alert"]').count()).toBe(0);
+    // the click itself is answered by a pointer to that reason, not a second copy of it
+    expect(await page.getByTestId('refused-as-above').textContent()).toBe('Not started: the check above says why.');
     expect(new URL(page.url()).pathname).toBe('/runs/new');
     await screenshot(page, 'run-form-huge-n-refused');
     // the estimate's refusal and the submit's; no side request (a credit check) failed on the way

@@ -283,7 +283,7 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           <FormError error={new Error(errors.labId ?? errors.body)} />
         ) : create.isError && shownAbove.includes(messageForPeople(create.error)) ? (
           // the refusal repeats the box above: point at it, so the click does not seem to do nothing
-          <p role="alert" className="text-right text-sm font-medium text-stamp" data-testid="refused-as-above">
+          <p role="status" className="text-right text-sm font-medium text-stamp" data-testid="refused-as-above">
             Not started: the check above says why.
           </p>
         ) : null}
