@@ -8,7 +8,9 @@ import { slugSchema } from './figures.js';
  *   /api/runs/:id/views/:layer/:palette/iiif/<IIIF path>      deep-zoom tiles (IIIF Image API 3.0, level 0)
  *   /api/runs/:id/arrays/:name                                 heights.npy, odometer.npy, run.json
  *   /api/runs/:id/legend/:layer/:palette                       the legend (and colour-scale numbers) a view was drawn with
+ *   /api/runs/:id/thumbnail                                    a small picture of the run's first drawn view
  *   /api/figures/:slug/views/..., /legend/... and /arrays/:name   the same for a published figure
+ *   /api/figures/:slug/thumbnail                               a small picture of the printed page (or its first panel)
  * Unpublished runs are visible to their lab only; a run with a published figure is public.
  */
 
@@ -39,6 +41,17 @@ export const legendResponseSchema = viewLegendSchema;
 export type LegendResponse = z.infer<typeof legendResponseSchema>;
 export const runArrayParamsSchema = z.strictObject({ id: idSchema, name: arrayNameSchema });
 export const figureArrayParamsSchema = z.strictObject({ slug: slugSchema, name: arrayNameSchema });
+
+/**
+ * GET /api/runs/:id/thumbnail: the smallest whole image of the run's first drawn view that its pyramid
+ * already stores (longer side at most THUMBNAIL_MAX_SIDE), PNG. GET /api/figures/:slug/thumbnail: the
+ * printed page the caller may see, JPEG, or (before a print with a PNG or TIFF is ready) its first panel's view.
+ */
+export const THUMBNAIL_MAX_SIDE = 256;
+export const runThumbnailParamsSchema = z.strictObject({ id: idSchema });
+export const figureThumbnailParamsSchema = z.strictObject({ slug: slugSchema });
+export const runThumbnailPath = (runId: string): string => `/api/runs/${runId}/thumbnail`;
+export const figureThumbnailPath = (slug: string): string => `/api/figures/${slug}/thumbnail`;
 
 /** The public base address of a view's IIIF service: info.json's `id`, tiles are `${id}/<region>/<size>/0/default.png`. */
 export function runViewBase(publicUrl: string, runId: string, layer: string, palette: string): string {

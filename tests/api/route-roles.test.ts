@@ -5,6 +5,7 @@ import { eq } from 'drizzle-orm';
 import sharp from 'sharp';
 import { labs, apiTokens, creditPurchases, figures, invitations, memberships, runs, series, figureVersions } from '../../drizzle/schema.js';
 import { writeNpy } from '../../renderer/src/npy/index.js';
+import { printThumbnailKey } from '../../renderer/src/farm/artifacts.js';
 import { figureSpecSchema } from '../../shared/print.js';
 import { legendFor, paletteById } from '../../shared/palettes.js';
 import { finishedRun } from './figures-fixtures.js';
@@ -313,6 +314,26 @@ const ROWS: Row[] = [
     send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/legend/heights/tidewater`), a.session),
   },
   {
+    route: 'GET /api/runs/:id/thumbnail',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/runs/${runDone}/thumbnail`), a.session),
+  },
+  {
+    route: 'GET /api/runs/:id/thumbnail (published)',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/runs/${runA}/thumbnail`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/thumbnail',
+    expect: all(200),
+    send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/thumbnail`), a.session),
+  },
+  {
+    route: 'GET /api/figures/:slug/thumbnail (draft)',
+    expect: { reader: 404, author: 200, manager: 200, admin: 200, other: 404 },
+    send: (a) => as(h.http.get(`/api/figures/draft-${h.tag}/thumbnail`), a.session),
+  },
+  {
     route: 'GET /api/figures/:slug/arrays/:name',
     expect: all(200),
     send: (a) => as(h.http.get(`/api/figures/published-${h.tag}/arrays/heights.npy`), a.session),
@@ -518,6 +539,9 @@ beforeAll(async () => {
     await h.deps.blobs.put(`runs/${id}/heights/tidewater/legend.json`, JSON.stringify(LEGEND_FIXTURE), 'application/json');
     await h.deps.blobs.put(`runs/${id}/arrays/heights.npy`, Buffer.from(writeNpy([1], Uint8Array.from([4]))), 'application/octet-stream');
     await h.deps.blobs.put(`runs/${id}/arrays/run.json`, '{}', 'application/json');
+    // the coarsest whole image a pyramid advertises, which the run's thumbnail serves
+    await h.deps.blobs.put(`runs/${id}/heights/tidewater/iiif/info.json`, JSON.stringify({ width: 4, height: 4, sizes: [{ width: 4, height: 4 }] }), 'application/json');
+    await h.deps.blobs.put(`runs/${id}/heights/tidewater/iiif/full/4,4/0/default.png`, png, 'image/png');
   }
   const [s] = await h.deps.db.insert(series).values({ labId: labA, authorId: people.author2.id, title: 'table fixture series' }).returning();
   seriesA = s!.id;
@@ -542,6 +566,7 @@ beforeAll(async () => {
   for (const slug of [`published-${h.tag}`, `draft-${h.tag}`]) {
     const [f] = await h.deps.db.select().from(figures).where(eq(figures.slug, slug));
     await readyVersion(f!.id, slug.startsWith('published-'));
+    await h.deps.blobs.put(printThumbnailKey(f!.id, 1), await sharp({ create: { width: 3, height: 4, channels: 3, background: '#ffffff' } }).jpeg().toBuffer(), 'image/jpeg');
   }
 });
 afterAll(async () => {
@@ -559,7 +584,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(73);
+    expect(mounted.length).toBe(75);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

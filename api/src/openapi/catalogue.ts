@@ -34,6 +34,8 @@ const tile: Media = {
   media: ['image/png', 'application/json'],
   description: 'a palette PNG (tile or whole-image size), or for info.json the IIIF Image API 3.0 level-0 description whose id is this view\'s public address',
 };
+const runPicture: Media = { media: 'image/png', description: 'the smallest whole image of the run\'s first drawn view its pyramid stores (longer side at most 256 px)' };
+const figurePicture: Media = { media: ['image/jpeg', 'image/png'], description: 'the printed page shrunk to at most 256 px (JPEG), or before such a print the first panel\'s view (PNG)' };
 const download: Media = { media: ['application/octet-stream', 'application/json'], description: 'the .npy array (NumPy format 1.0), or run.json' };
 const events: Media = { media: 'text/event-stream', description: '`run` events with { run } on every change, then one `end` event' };
 const tileNote = 'Path segments: IIIF region/size/rotation/quality.format, or info.json. Published runs are public and cached for a year; others are visible to their lab only.';
@@ -82,6 +84,11 @@ export const API_CATALOGUE: ApiRoute[] = [
     description: 'Palette is a palette id, with ~clear when untoppled cells were drawn transparent. 404 for a view the run did not ask for or that is not drawn yet.',
     params: api.runLegendParamsSchema, responses: { 200: api.legendResponseSchema },
   },
+  {
+    method: 'get', path: '/runs/:id/thumbnail', tag: 'artifacts', summary: 'A small picture of a run for lists', access: 'optional',
+    description: 'Same access as the run\'s tiles. 404 (not cached) until the view is drawn; 410 once the retention rule removed the run\'s artifacts.',
+    params: api.runThumbnailParamsSchema, responses: { 200: runPicture, 304: null },
+  },
   { method: 'get', path: '/runs/:id/arrays/:name', tag: 'artifacts', summary: 'Download a run\'s heights, odometer or run.json', access: 'optional', params: api.runArrayParamsSchema, responses: { 200: download, 304: null } },
 
   { method: 'post', path: '/series', tag: 'series', summary: 'One specification at several grain counts, as one run each', access: 'user', body: api.createSeriesRequestSchema, responses: { 201: api.seriesResponseSchema } },
@@ -115,6 +122,11 @@ export const API_CATALOGUE: ApiRoute[] = [
   {
     method: 'get', path: '/figures/:slug/legend/:layer/:palette', tag: 'artifacts', summary: 'The legend of a drawn view of a figure\'s run', access: 'optional',
     params: api.figureLegendParamsSchema, responses: { 200: api.legendResponseSchema },
+  },
+  {
+    method: 'get', path: '/figures/:slug/thumbnail', tag: 'artifacts', summary: 'A small picture of a figure\'s printed page for lists', access: 'optional',
+    description: 'A published figure shows everyone the page of its newest published version (cached publicly for an hour); a draft shows its lab the newest ready print. Without a PNG or TIFF print: the first panel\'s view.',
+    params: api.figureThumbnailParamsSchema, responses: { 200: figurePicture, 304: null },
   },
   { method: 'get', path: '/figures/:slug/arrays/:name', tag: 'artifacts', summary: 'Download the arrays of a figure\'s run', access: 'optional', params: api.figureArrayParamsSchema, responses: { 200: download, 304: null } },
 

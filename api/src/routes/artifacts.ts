@@ -1,6 +1,7 @@
 import { Router, type Request, type Response } from 'express';
 import {
   figureArrayParamsSchema,
+  figureThumbnailParamsSchema,
   figureLegendParamsSchema,
   figureViewBase,
   legendResponseSchema,
@@ -9,12 +10,15 @@ import {
   runLegendParamsSchema,
   runViewBase,
   runViewParamsSchema,
+  runThumbnailParamsSchema,
   type ArrayName,
 } from '../../../shared/api/artifacts.js';
 import type { AppDeps } from '../deps.js';
 import { notFound } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
+import { figureAccess, figureMissing, loadFigure } from '../services/figures.js';
+import { figureThumbnailKey, runThumbnailKey } from '../services/thumbnails.js';
 import { arrayKey, assertPlainUrl, CACHE, figureSubject, legendKey, runSubject, sendInfoJson, sendObject, shareIfPublic, viewKey, type ArtifactSubject } from '../services/artifacts.js';
 
 /**
@@ -82,6 +86,32 @@ export function artifactsRouter({ db, blobs, env }: AppDeps): Router {
     const p = validate.params(req, figureArrayParamsSchema);
     const subject = await figureSubject(db, res, p.slug);
     await array(req, res, subject, p.name, p.slug);
+  });
+
+  /** A small picture for lists: as private as the run or figure; a missing one is a 404 no cache keeps, so the list shows its placeholder. */
+  async function thumbnail(req: Request, res: Response, key: string | null, visibility: ArtifactSubject['visibility'], cacheControl: string, what: string) {
+    shareIfPublic(res, visibility);
+    if (!key) {
+      res.set('Cache-Control', 'no-store');
+      throw notFound(`${what} has no picture (yet): it is drawn once the farm has rendered it`);
+    }
+    await sendObject(req, res, blobs, key, { cacheControl });
+  }
+
+  r.get('/runs/:id/thumbnail', async (req, res) => {
+    const p = validate.params(req, runThumbnailParamsSchema);
+    const subject = await runSubject(db, res, p.id);
+    // a run's views never change once drawn
+    await thumbnail(req, res, await runThumbnailKey(db, blobs, p.id), subject.visibility, CACHE.tile[subject.visibility], 'this run');
+  });
+
+  r.get('/figures/:slug/thumbnail', async (req, res) => {
+    const p = validate.params(req, figureThumbnailParamsSchema);
+    const row = await loadFigure(db, p.slug);
+    if (!row) throw figureMissing();
+    await figureAccess(db, res, row, 'read');
+    const { key, visibility } = await figureThumbnailKey(db, blobs, row);
+    await thumbnail(req, res, key, visibility, CACHE.figureThumbnail[visibility], 'this figure');
   });
 
   return r;

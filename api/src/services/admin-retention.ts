@@ -1,6 +1,7 @@
 import { and, eq, inArray, isNotNull, isNull, lte, min, sql } from 'drizzle-orm';
 import { auditEvents, figureVersions, figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
 import { RETENTION_RULE } from '../../../shared/api/admin.js';
+import { printThumbnailKey } from '../../../renderer/src/farm/artifacts.js';
 import type { Env } from '../../../shared/env.js';
 import type { Executor } from '../billing/ledger.js';
 import type { Db } from '../db/client.js';
@@ -141,13 +142,14 @@ export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>,
   // in batches of ≤ 1,000 per request, failed keys retried; anything left throws, so artifacts_cleared_at stays unset
   const objects = await deps.blobs.deletePrefix(`runs/${runId}/`);
   const drafts = await deps.db
-    .select({ id: figureVersions.id, files: figureVersions.files, status: figureVersions.status })
+    .select({ id: figureVersions.id, figureId: figureVersions.figureId, number: figureVersions.number, files: figureVersions.files, status: figureVersions.status })
     .from(figureVersions)
     .innerJoin(figures, eq(figures.id, figureVersions.figureId))
     .where(and(isNull(figures.publishedAt), sql`${figureVersions.spec}->'panels' @> ${JSON.stringify([{ runId }])}::jsonb`));
   let prints = 0;
   for (const v of drafts) {
-    await deps.blobs.deleteMany(v.files.map((f) => f.key));
+    // the page's small picture goes with the files it was shrunk from
+    await deps.blobs.deleteMany([...v.files.map((f) => f.key), printThumbnailKey(v.figureId, v.number)]);
     prints += v.files.length;
     if (v.status === 'ready') {
       await deps.db

@@ -88,6 +88,7 @@ export const arrayKey = (runId: string, name: ArrayName): string => {
 /** Our own type for each stored file name: never trust a stored type to be safe to render. */
 export function contentTypeOf(key: string): string {
   if (key.endsWith('.png')) return 'image/png';
+  if (key.endsWith('.jpg')) return 'image/jpeg';
   if (key.endsWith('.json')) return 'application/json';
   return 'application/octet-stream';
 }
@@ -98,6 +99,8 @@ export const CACHE = {
   /** info.json carries our public address, which configuration may change */
   info: { public: 'public, max-age=3600', private: 'private, no-cache' },
   array: { public: 'public, max-age=86400', private: 'private, no-cache' },
+  /** a figure's picture follows its newest print, so it is revalidated (cheaply: entity tags) */
+  figureThumbnail: { public: 'public, max-age=3600', private: 'private, no-cache' },
 } as const;
 
 export type SendOptions = { cacheControl: string; attachmentName?: string };

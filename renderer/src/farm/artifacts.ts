@@ -9,6 +9,8 @@
  *                                      (engine/snapshot.ts bytes, kind in the header); replaced whole at each
  *                                      save, deleted once the arrays are stored
  *   uploads/<sha256>.npy               uploaded background arrays, addressed by content
+ *   figures/<figureId>/v<n>/<slug>-v<n>.<ext>   a figure version's printed files (print-run.ts)
+ *   figures/<figureId>/v<n>/thumbnail.jpg       a small picture of that version's page, for lists
  */
 export const arrayKeys = (runId: string) => ({
   heights: `runs/${runId}/arrays/heights.npy`,
@@ -20,3 +22,12 @@ export const arrayKeys = (runId: string) => ({
 export const checkpointKey = (runId: string) => `runs/${runId}/checkpoint/state.twckpt`;
 
 export const uploadKey = (sha256: string) => `uploads/${sha256}.npy`;
+
+/**
+ * A figure version's files: the version number makes each print immutable, so a re-rendered figure
+ * never overwrites a cited file.
+ */
+export const printKey = (figureId: string, number: number, name: string) => `figures/${figureId}/v${number}/${name}`;
+
+/** Never a printed file's name: those are `<slug>-v<n>.<ext>`. */
+export const printThumbnailKey = (figureId: string, number: number) => printKey(figureId, number, 'thumbnail.jpg');

@@ -10,8 +10,10 @@ import type { BlobStore } from '../../../api/src/storage/blob-store.js';
 import { figures, figureVersions, runs, type FigureFileRecord } from '../../../drizzle/schema.js';
 import { printFigureDataSchema } from '../../../shared/jobs.js';
 import { resolveProblem } from '../engine/index.js';
-import { isPrintInputError, PRINT_CONTENT_TYPES, renderPrint, type PrintFormat, type PrintRun } from '../print/index.js';
+import { THUMBNAIL_MAX_SIDE } from '../../../shared/api/artifacts.js';
+import { isPrintInputError, pageThumbnail, PRINT_CONTENT_TYPES, renderPrint, type PrintFormat, type PrintRun } from '../print/index.js';
 import { backgroundFromLattice, type RenderInput } from '../render/index.js';
+import { printKey, printThumbnailKey } from './artifacts.js';
 import { readStoredArrays, readStoredUpload } from './stored-arrays.js';
 
 export interface PrintDeps {
@@ -26,11 +28,6 @@ export interface PrintDeps {
   workDir?: string;
 }
 
-/**
- * Object keys of a version's files: figures/<figureId>/v<number>/<slug>-v<number>.<ext>. The
- * version number makes each print immutable, so a re-rendered figure never overwrites a cited file.
- */
-export const printKey = (figureId: string, number: number, name: string) => `figures/${figureId}/v${number}/${name}`;
 
 const EXTENSIONS: Record<PrintFormat, string> = { png: 'png', tiff: 'tif', pdf: 'pdf' };
 
@@ -89,6 +86,13 @@ export async function printRun(job: Job, deps: PrintDeps): Promise<'ready' | 'sk
         new PutObjectCommand({ Bucket: deps.bucket, Key: key, Body: createReadStream(file.path), ContentLength: file.bytes, ContentType: PRINT_CONTENT_TYPES[file.format], ContentDisposition: `attachment; filename="${name}"` }),
       );
       files.push({ format: file.format, key, name, bytes: file.bytes, sha256: file.sha256, widthPx: file.widthPx, heightPx: file.heightPx });
+    }
+    // lists show the page small; shrunk from a raster already written (a PDF-only order has none and
+    // its lists show the first panel's view instead), stored before the version is marked ready
+    const raster = result.files.find((f) => f.format === 'png') ?? result.files.find((f) => f.format === 'tiff');
+    if (raster) {
+      const thumb = await pageThumbnail(raster.path, THUMBNAIL_MAX_SIDE);
+      await deps.store.put(printThumbnailKey(figure.id, v.number), thumb.jpeg, 'image/jpeg');
     }
     const [done] = await deps.db
       .update(figureVersions)

@@ -18,6 +18,7 @@ export { writeFigurePng, writeFigureTiff, type RasterOptions } from './raster-ou
 export { renderFigurePdf, writeFigurePdf, type PdfOptions } from './pdf.js';
 export { writeAtomically, sha256Of, type WrittenFile } from './file-output.js';
 export { WORK_SANS_FILES, textWidthPt } from './fonts.js';
+export { pageThumbnail, type PageThumbnail } from './thumbnail.js';
 export { figureMarks, wrapText, type Mark, type TextMark, type FillMark, type StrokeMark } from './marks.js';
 export { MarkPainter, INK_LEVELS } from './mark-raster.js';
 
