@@ -3,7 +3,8 @@ import { useFigures, useMe } from '../api/queries.js';
 import { FIGURES_PAGE_SIZE, LATTICE_PRESETS, type Figure } from '../api/contract.js';
 import { backgroundKindName, backgroundOfSpec, latticeName } from '../labels.js';
 import { formatDate, superscriptDigits } from '../format.js';
-import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, SelectField, SkeletonTable } from '../ui/index.js';
+import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, SelectField, SkeletonTable, Thumbnail } from '../ui/index.js';
+import { figurePicture } from '../thumbnails.js';
 
 const BACKGROUND_KINDS = ['constant', 'checkerboard', 'motif', 'random', 'annuli', 'array'] as const;
 
@@ -85,7 +86,10 @@ export function FiguresIndex() {
 
 function FigureEntry({ figure: f }: { figure: Figure }) {
   return (
-    <li className="grid grid-cols-[1fr_auto] gap-8 px-6 py-5 hover:bg-paper/40">
+    <li className="grid grid-cols-[auto_1fr_auto] gap-6 px-6 py-5 hover:bg-paper/40">
+      <Link to={`/f/${f.slug}`} tabIndex={-1} className="block w-fit self-start">
+        <Thumbnail picture={figurePicture(f)} alt={`Page of ${f.title}`} size={128} ground="sheet" />
+      </Link>
       <div>
         <Link to={`/f/${f.slug}`} className="text-base font-semibold text-ink no-underline hover:text-press">
           {f.title}

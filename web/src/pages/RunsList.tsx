@@ -8,8 +8,9 @@ import { formatDate } from '../format.js';
 import { readStat, TOPPLED_SITES, TOPPLINGS } from '../runStats.js';
 import {
   Button, Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, ProgressBar, SelectField, SkeletonTable,
-  SortableTable, StatusBadge, statusLabel, type Column, type SortState,
+  SortableTable, StatusBadge, statusLabel, Thumbnail, type Column, type SortState,
 } from '../ui/index.js';
+import { runPicture } from '../thumbnails.js';
 import { NewRunForm } from './NewRunForm.js';
 
 const PAGE_SIZE = 25;
@@ -17,6 +18,18 @@ type SortKey = NonNullable<ListRunsQueryInput['sort']>;
 const SORT_KEYS: readonly SortKey[] = ['createdAt', 'finishedAt', 'title', 'status', 'chips'];
 
 const columns: Column<Run>[] = [
+  {
+    key: 'picture',
+    header: <span className="sr-only">Picture</span>,
+    // the picture and the cell's padding
+    width: '8rem',
+    cell: (r) => (
+      // the title beside it is the row's link for the keyboard; the picture is a larger target for the mouse
+      <Link to={`/runs/${r.id}`} tabIndex={-1} className="block w-fit">
+        <Thumbnail picture={runPicture(r)} alt={`Picture of ${r.title}`} />
+      </Link>
+    ),
+  },
   {
     key: 'title',
     header: 'Run',
@@ -158,7 +171,7 @@ export function RunsList() {
       </div>
 
       {runs.isPending ? (
-        <SkeletonTable rows={6} columns={8} />
+        <SkeletonTable rows={6} columns={9} />
       ) : runs.isError ? (
         <ErrorPanel error={runs.error} />
       ) : runs.data.runs.length === 0 ? (

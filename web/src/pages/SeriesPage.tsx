@@ -11,6 +11,7 @@ import { sliceText } from '../../../shared/drawn-plane.js';
 import { SeriesRadiusPlot } from '../plots/SeriesRadiusPlot.js';
 import { infoJsonUrl } from '../viewer/runArtifacts.js';
 import { drawnOf, paletteSegmentOf } from '../viewer/drawnViews.js';
+import { NO_PICTURE, runPicture } from '../thumbnails.js';
 
 import { Count, EmptyState, ErrorPanel, PageHeading, ProgressBar, Section, SkeletonBlock, StatusBadge } from '../ui/index.js';
 
@@ -52,7 +53,7 @@ export function SeriesPage() {
   const infos = useQueries({
     queries: runs.map((r) => ({
       queryKey: ['artifacts', { kind: 'run', id: r.id }, 'info', stripView(r).layer, stripView(r).palette],
-      enabled: r.status === 'finished',
+      enabled: r.status === 'finished' && !r.artifactsExpiredAt,
       staleTime: Infinity,
       queryFn: async (): Promise<InfoSizes> => {
         const res = await fetch(infoJsonUrl({ kind: 'run', id: r.id }, stripView(r).layer, stripView(r).palette), { credentials: 'same-origin' });
@@ -100,12 +101,14 @@ export function SeriesPage() {
                 <div className="flex items-center justify-center" style={{ width: STRIP_WIDTH, height: STRIP_WIDTH }}>
                   {r.status === 'finished' && size ? (
                     <img
+                      loading="lazy"
                       alt={`${stripView(r).layer}, n = ${r.spec.chips}`}
                       src={`${infoJsonUrl({ kind: 'run', id: r.id }, stripView(r).layer, stripView(r).palette).replace(/info\.json$/, '')}full/${size.width},${size.height}/0/default.png`}
                       style={{ width: displayed, imageRendering: 'pixelated' }}
                     />
                   ) : r.status === 'finished' ? (
-                    <span className="text-xs text-white/50">drawing…</span>
+                    // the words the run list's picture box says: removed, not stored, or still on its way
+                    <span className="text-xs text-white/50">{runPicture(r).src === null ? runPicture(r).note : infos[i]?.isError ? NO_PICTURE : 'drawing…'}</span>
                   ) : (
                     <div className="w-40">
                       <StatusBadge status={r.status} />

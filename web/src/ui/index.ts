@@ -14,3 +14,4 @@ export * from './Section.js';
 export * from './Skeleton.js';
 export * from './SortableTable.js';
 export * from './StatusBadge.js';
+export * from './Thumbnail.js';

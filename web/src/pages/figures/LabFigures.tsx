@@ -2,7 +2,8 @@ import { Link } from 'react-router';
 import { useLabFigures, useMe } from '../../api/queries.js';
 import { latticeName } from '../../labels.js';
 import { formatDate } from '../../format.js';
-import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, SkeletonTable } from '../../ui/index.js';
+import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, SkeletonTable, Thumbnail } from '../../ui/index.js';
+import { figurePicture } from '../../thumbnails.js';
 
 /** /lab/figures — the active lab's figures: drafts, printing, published and withdrawn. */
 export function LabFigures() {
@@ -21,7 +22,7 @@ export function LabFigures() {
       {!labId ? (
         <EmptyState title="No lab yet">Join or create a lab first.</EmptyState>
       ) : list.isPending ? (
-        <SkeletonTable rows={3} columns={5} />
+        <SkeletonTable rows={3} columns={6} />
       ) : list.isError ? (
         <ErrorPanel error={list.error} />
       ) : list.data.figures.length === 0 ? (
@@ -32,6 +33,9 @@ export function LabFigures() {
         <table className="w-full overflow-hidden rounded-lg border border-rule bg-sheet text-sm">
           <thead>
             <tr className="border-b border-rule text-left text-xs uppercase tracking-wider text-ink-faint">
+              <th className="w-32 px-4 py-2 font-medium">
+                <span className="sr-only">picture</span>
+              </th>
               <th className="px-4 py-2 font-medium">title</th>
               <th className="px-4 py-2 font-medium">run</th>
               <th className="px-4 py-2 text-right font-medium">n</th>
@@ -42,6 +46,11 @@ export function LabFigures() {
           <tbody>
             {list.data.figures.map((f) => (
               <tr key={f.id} className="border-b border-rule-soft last:border-b-0">
+                <td className="px-4 py-2.5">
+                  <Link to={`/lab/figures/${f.slug}`} tabIndex={-1} className="block w-fit">
+                    <Thumbnail picture={figurePicture(f)} alt={`Page of ${f.title}`} ground="sheet" />
+                  </Link>
+                </td>
                 <td className="px-4 py-2.5">
                   <Link to={`/lab/figures/${f.slug}`} className="font-medium">
                     {f.title}
