@@ -12,6 +12,7 @@ import { clearExpiredRun, removalDateOf, sweepRetention, type RetentionDeps } fr
 import { createFarmHealth } from '../../api/src/queue/farm-health.js';
 import { startRetentionSweep } from '../../renderer/src/farm/retention-sweep.js';
 import { finishedRun, markReady } from './figures-fixtures.js';
+import { printThumbnailKey } from '../../renderer/src/farm/artifacts.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 import { mailsTo, waitForMail } from './support/outbox.js';
 
@@ -92,6 +93,8 @@ describe('the retention sweep', () => {
     recent = await oldRun('recent', 10);
     draftFigure = await figureOf('draft', [gone], 'draft');
     draftPrintKey = (await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, draftFigure)))[0]!.files[0]!.key;
+    // the page thumbnail the print job stores beside the files
+    await h.deps.blobs.put(printThumbnailKey(draftFigure, 1), Buffer.from('page thumbnail'), 'image/jpeg');
 
     const now = new Date();
     const first = await sweep(now);
@@ -124,6 +127,7 @@ describe('the retention sweep', () => {
     expect(done.expired).toEqual([{ runId: gone, labId, bytes: expect.any(Number), objects: 4, prints: 1 }]);
     expect(await stored(gone)).toBe(0);
     expect(await h.deps.blobs.exists(draftPrintKey)).toBe(false);
+    expect(await h.deps.blobs.exists(printThumbnailKey(draftFigure, 1))).toBe(false);
     // published sources, a withdrawn figure's run and a recent run are untouched
     for (const id of [panel, withdrawn, recent]) expect(await stored(id)).toBe(4);
     const row = await rowOf(gone);
