@@ -94,7 +94,7 @@ describe('demo roles in the browser', () => {
     // runs of another lab never show up
     expect(await page.getByText('A thousand and one grains on the line').count()).toBe(0);
     // n shown exactly, grouped, with the power of ten as a real superscript
-    const cell = table.locator('tbody tr', { hasText: 'One hundred thousand grains' }).locator('td').nth(1);
+    const cell = table.locator('tbody tr', { hasText: 'One hundred thousand grains' }).locator('td').nth(2);
     expect((await cell.textContent())?.replace(/\s+/g, '')).toBe('100,000(105)');
     expect(await cell.locator('sup').textContent()).toBe('5');
     await page.getByTestId('signed-in-name').getByText('Maren Tollis').waitFor();

@@ -104,7 +104,9 @@ describe('pictures in the lists', () => {
       const b = (await box.boundingBox())!;
       expect([Math.round(b.width), Math.round(b.height)]).toEqual([96, 96]);
     }
-    expect(await page.getByRole('img', { name: 'Picture of Pile without views: no picture stored' }).count()).toBe(1);
+    expect(await page.locator('tbody tr', { hasText: 'Pile without views' }).locator('[data-thumbnail="placeholder"]').textContent()).toBe('no picture stored');
+    // one link per row for the keyboard and screen readers: the picture's link is the mouse's only
+    expect(await page.getByRole('link', { name: 'Square pile' }).count()).toBe(1);
     await screenshot(page, 'thumbs-runs');
 
     // the lab's figures: the printed page (JPEG) and the draft's first panel (PNG)

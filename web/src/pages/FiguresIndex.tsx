@@ -87,7 +87,8 @@ export function FiguresIndex() {
 function FigureEntry({ figure: f }: { figure: Figure }) {
   return (
     <li className="grid grid-cols-[auto_1fr_auto] gap-6 px-6 py-5 hover:bg-paper/40">
-      <Link to={`/f/${f.slug}`} tabIndex={-1} className="block w-fit self-start">
+      {/* for the mouse only: the title is the entry's one link for the keyboard and screen readers */}
+      <Link to={`/f/${f.slug}`} tabIndex={-1} aria-hidden="true" className="block w-fit self-start">
         <Thumbnail picture={figurePicture(f)} alt={`Page of ${f.title}`} size={128} ground="sheet" />
       </Link>
       <div>

@@ -24,8 +24,8 @@ const columns: Column<Run>[] = [
     // the picture and the cell's padding
     width: '8rem',
     cell: (r) => (
-      // the title beside it is the row's link for the keyboard; the picture is a larger target for the mouse
-      <Link to={`/runs/${r.id}`} tabIndex={-1} className="block w-fit">
+      // a larger target for the mouse; hidden from the keyboard and screen readers, whose one link per row is the title
+      <Link to={`/runs/${r.id}`} tabIndex={-1} aria-hidden="true" className="block w-fit">
         <Thumbnail picture={runPicture(r)} alt={`Picture of ${r.title}`} />
       </Link>
     ),

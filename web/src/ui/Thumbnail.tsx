@@ -13,9 +13,8 @@ export function Thumbnail({ picture, alt, size = 96, ground = 'night' }: { pictu
   const box = { width: size, height: size, minWidth: size, maxWidth: size };
   if (!picture.src || failed === picture.src) {
     return (
+      // plain words, no label of its own: the row already names what it stands for
       <div
-        role="img"
-        aria-label={`${alt}: ${picture.note}`}
         data-thumbnail="placeholder"
         style={box}
         className="flex shrink-0 items-center justify-center rounded border border-dashed border-rule bg-paper p-2 text-center text-[11px] leading-tight text-ink-faint"

@@ -47,7 +47,8 @@ export function LabFigures() {
             {list.data.figures.map((f) => (
               <tr key={f.id} className="border-b border-rule-soft last:border-b-0">
                 <td className="px-4 py-2.5">
-                  <Link to={`/lab/figures/${f.slug}`} tabIndex={-1} className="block w-fit">
+                  {/* for the mouse only: the title is the row's one link for the keyboard and screen readers */}
+                  <Link to={`/lab/figures/${f.slug}`} tabIndex={-1} aria-hidden="true" className="block w-fit">
                     <Thumbnail picture={figurePicture(f)} alt={`Page of ${f.title}`} ground="sheet" />
                   </Link>
                 </td>
