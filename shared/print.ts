@@ -2,6 +2,9 @@ import { z } from 'zod';
 import { layerSchema, paletteIdSchema, untoppledStyleSchema, DEFAULT_PALETTE_ID } from './palettes.js';
 import { naturalScale, printScaleSymbol } from './natural-scale.js';
 import { lineBandRows, sliceText } from './drawn-plane.js';
+import { MM_PER_INCH, pageTooLargeMessage, pixelsFor } from './print-size.js';
+
+export { MM_PER_INCH, MAX_PAGE_PIXELS, pixelsFor } from './print-size.js';
 
 /**
  * The print-figure contract shared by the web form (proof preview), the API (orders) and the render
@@ -14,7 +17,6 @@ import { lineBandRows, sliceText } from './drawn-plane.js';
  * axis (so y grows downwards on the page, as in the deep-zoom view).
  */
 
-export const MM_PER_INCH = 25.4;
 export const POINTS_PER_INCH = 72;
 export const MIN_DPI = 150;
 export const MAX_DPI = 1200;
@@ -158,6 +160,19 @@ export type FigureSpec = z.infer<typeof figureSpecSchema>;
 export type FigureSpecInput = z.input<typeof figureSpecSchema>;
 
 /**
+ * A composition that may be saved or printed now: a figure spec whose page, when its size is fixed,
+ * stays within MAX_PAGE_PIXELS. Stored and published specs are read with `figureSpecSchema`, since
+ * prints ordered before the limit existed must keep answering; a journal column whose height follows
+ * from its panels is checked by `layoutFigure` (blocking warning 'page-too-large').
+ */
+export const printableFigureSpecSchema = figureSpecSchema.superRefine((s, ctx) => {
+  const mm = pageSizeMm(s.size);
+  if (mm.height === null) return;
+  const message = pageTooLargeMessage(pageName(s.size, mm.width, mm.height), mm.width, mm.height, s.dpi, MIN_DPI);
+  if (message) ctx.addIssue({ code: 'custom', path: ['dpi'], message });
+});
+
+/**
  * What a new figure of one run starts as on the compose page: the whole run a single journal
  * column wide at 300 DPI, with a scale bar in lattice units. The demo's figure is composed the
  * same way, so it prints as a figure composed by hand would.
@@ -195,7 +210,7 @@ export interface PxRect {
   height: number;
 }
 
-export type LayoutWarningCode = 'cells-reduced' | 'size-not-met' | 'region-outside-run' | 'no-room' | 'unknown-run' | 'scale-approximate';
+export type LayoutWarningCode = 'cells-reduced' | 'size-not-met' | 'region-outside-run' | 'no-room' | 'unknown-run' | 'scale-approximate' | 'page-too-large';
 
 export interface LayoutWarning {
   code: LayoutWarningCode;
@@ -258,11 +273,6 @@ export interface FigureLayout {
   printable: boolean;
 }
 
-/** Page pixels for a length: round(inches × dpi), the rule every raster output follows. */
-export function pixelsFor(mmLength: number, dpi: number): number {
-  return Math.round((mmLength / MM_PER_INCH) * dpi);
-}
-
 export function pointsFor(mmLength: number): number {
   return (mmLength / MM_PER_INCH) * POINTS_PER_INCH;
 }
@@ -279,6 +289,19 @@ export function pageSizeMm(size: PageSize): { width: number; height: number | nu
       return { width: JOURNAL_WIDTHS_MM[size.column], height: size.heightMm ?? null };
     case 'custom':
       return size.unit === 'in' ? { width: size.width * MM_PER_INCH, height: size.height * MM_PER_INCH } : { width: size.width, height: size.height };
+  }
+}
+
+/** How a message names the page: "A0 portrait", "a single-column page of 90 × 400 mm", "this 120 × 90 mm page". */
+export function pageName(size: PageSize, widthMm: number, heightMm: number): string {
+  const mm = `${fmt(Math.round(widthMm * 10) / 10)} × ${fmt(Math.round(heightMm * 10) / 10)} mm`;
+  switch (size.kind) {
+    case 'paper':
+      return `${size.paper.length === 2 ? size.paper : size.paper[0]!.toUpperCase() + size.paper.slice(1)} ${size.orientation}`;
+    case 'column':
+      return `a ${size.column.replace(/-/g, ' ')} column page of ${mm}`;
+    case 'custom':
+      return `this ${mm} page`;
   }
 }
 
@@ -627,6 +650,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
       message: `the size asked for cannot be met: at this column width the panels would make the page ${fmt(Math.round(heightMm))} mm tall (at most ${fmt(MAX_PAGE_HEIGHT_MM)} mm); choose a page height, a wider region or a fixed magnification`,
     });
   }
+  const tooLarge = pageTooLargeMessage(pageName(spec.size, sizeMm.width, heightMm), sizeMm.width, heightMm, dpi, MIN_DPI);
+  if (tooLarge) warnings.push({ code: 'page-too-large', blocking: true, message: `the page is too large to print: ${tooLarge}` });
   const content: PxRect = { x: m.left, y: m.top, width: contentW, height: heightPx - m.top - m.bottom };
 
   if (shared === 'rescaled' && fitIdx.length > 1) {

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { CAPTION_MAX_CHARS, figureSpecSchema } from '../print.js';
+import { CAPTION_MAX_CHARS, figureSpecSchema, printableFigureSpecSchema } from '../print.js';
 import { backgroundSchema } from '../run-spec.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';
 
@@ -160,7 +160,7 @@ export const createFigureRequestSchema = z.strictObject({
   caption: z.string().max(CAPTION_MAX_CHARS).default(''),
   /** the permanent link's last part; derived from the title when omitted */
   slug: slugSchema.optional(),
-  spec: figureSpecSchema,
+  spec: printableFigureSpecSchema,
 });
 export type CreateFigureRequest = z.input<typeof createFigureRequestSchema>;
 
@@ -168,7 +168,7 @@ export const updateFigureRequestSchema = z
   .strictObject({
     title: z.string().trim().min(1, 'give the figure a title').max(200).optional(),
     caption: z.string().max(CAPTION_MAX_CHARS).optional(),
-    spec: figureSpecSchema.optional(),
+    spec: printableFigureSpecSchema.optional(),
   })
   .refine((b) => b.title !== undefined || b.caption !== undefined || b.spec !== undefined, { message: 'send a title, caption or spec to change' });
 export type UpdateFigureRequest = z.input<typeof updateFigureRequestSchema>;

@@ -1,9 +1,9 @@
 import { createHash } from 'node:crypto';
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { figures, figureVersions, runs } from '../../drizzle/schema.js';
+import { auditEvents, figures, figureVersions, runs } from '../../drizzle/schema.js';
 import {
   FIGURES_PAGE_SIZE,
   figureResponseSchema,
@@ -242,6 +242,35 @@ describe('ordering, publishing and withdrawing', () => {
     expect(res.status).toBe(400);
     expect(res.body.error).toMatch(/cannot be met at this resolution/);
     expect(await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id))).toEqual([]);
+  });
+
+  it('refuses a page with more pixels than a print may have, with its size, the limit and the largest DPI, and stores and orders nothing', async () => {
+    // A0 (ISO 216, 841 × 1189 mm) at 1200 DPI: round(841 / 25.4 × 1200) × round(1189 / 25.4 × 1200) px;
+    // 803 DPI is the most whose page stays within 10^9 px (tests/print/layout.test.ts has the arithmetic)
+    const a0 = { ...spec(runSquare), size: { kind: 'paper', paper: 'A0' }, dpi: 1200 };
+    const title = `Poster ${h.tag}`;
+    const res = await as(h.http.post('/api/figures'), author).send({ labId, title, spec: a0 });
+    expect(res.status).toBe(400);
+    expect(res.body.issues).toEqual([{ path: 'spec.dpi', message: expect.stringContaining('39,732 × 56,173 px (2.23 gigapixels)') }]);
+    expect(res.body.error).toContain('more than the 1,000,000,000 px (1 gigapixel) a print may have; at most 803 DPI fits A0 portrait');
+    expect(await h.deps.db.select().from(figures).where(eq(figures.title, title))).toEqual([]);
+
+    // an edit to the same size is refused too, and the stored composition stays as it was
+    const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title, spec: { ...a0, dpi: 600 } }).expect(201)).body);
+    const edit = await as(h.http.put(`/api/figures/${f.slug}`), author).send({ spec: a0 });
+    expect(edit.status).toBe(400);
+    expect(edit.body.error).toContain('at most 803 DPI fits A0 portrait');
+    expect(detail((await as(h.http.get(`/api/figures/${f.slug}`), author).expect(200)).body).spec.dpi).toBe(600);
+
+    // a composition saved before the limit existed still opens, and ordering it is refused with the same numbers
+    const [stored] = await h.deps.db.select({ spec: figures.spec }).from(figures).where(eq(figures.id, f.id));
+    await h.deps.db.update(figures).set({ spec: { ...stored!.spec!, dpi: 1200 } }).where(eq(figures.id, f.id));
+    expect(detail((await as(h.http.get(`/api/figures/${f.slug}`), author).expect(200)).body).spec.dpi).toBe(1200);
+    const order = await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({});
+    expect(order.status).toBe(400);
+    expect(order.body.error).toMatch(/^this figure cannot be printed as composed: the page is too large to print: at 1200 DPI A0 portrait would be 39,732 × 56,173 px/);
+    expect(await h.deps.db.select().from(figureVersions).where(eq(figureVersions.figureId, f.id))).toEqual([]);
+    expect(await h.deps.db.select().from(auditEvents).where(and(eq(auditEvents.subjectId, f.id), eq(auditEvents.action, 'figure.order')))).toEqual([]);
   });
 
   it('publishes only with a ready version; readers then see it, its ready versions and its files', async () => {

@@ -35,6 +35,15 @@ describe('bad orders', () => {
     expect(await listFiles(dir)).toEqual([]);
   });
 
+  it('reject a page with more pixels than a print may have, naming its size, and write nothing', async () => {
+    // A0 = 841 × 1189 mm (ISO 216); at 1200 DPI round(841 / 25.4 × 1200) × round(1189 / 25.4 × 1200) px
+    const err = await renderPrint({ size: { kind: 'paper', paper: 'A0' }, dpi: 1200, panels: [{ runId: 'p' }] }, runs(), paths()).catch((e) => e);
+    expect(isPrintInputError(err)).toBe(true);
+    expect(err.message).toContain('the page is too large to print: at 1200 DPI A0 portrait would be 39,732 × 56,173 px (2.23 gigapixels)');
+    expect(err.message).toContain('more than the 1,000,000,000 px (1 gigapixel) a print may have');
+    expect(await listFiles(dir)).toEqual([]);
+  });
+
   it('leave no half-written file when rendering fails midway', async () => {
     // a background reader that fails after the stats pass, i.e. while rows are being written
     let calls = 0;

@@ -6,9 +6,11 @@ import {
   pageSizeMm,
   panelLabelText,
   pixelsFor,
+  printableFigureSpecSchema,
   type FigureSpecInput,
   type RunGeometry,
 } from '../../shared/print.js';
+import { MAX_PAGE_PIXELS, estimatePrintBytes, largestDpiWithin, pagePixels } from '../../shared/print-size.js';
 
 const run = (runId: string, side: number, chips = 1000): RunGeometry => ({ runId, shape: [side, side], origin: [side >> 1, side >> 1], chips });
 const layout = (spec: FigureSpecInput, runs: RunGeometry[]) => layoutFigure(figureSpecSchema.parse(spec), runs);
@@ -205,5 +207,50 @@ describe('figure spec', () => {
     expect(r.success).toBe(false);
     expect(r.error!.issues[0].message).toBe('2 panels do not fit a 1 × 1 grid');
     expect(figureSpecSchema.safeParse({ size: { kind: 'paper', paper: 'A4' }, panels: [{ runId: 'r', magnification: 1.5 }] }).success).toBe(false);
+  });
+});
+
+describe('the largest page a print may have', () => {
+  const a0 = (dpi: number, orientation: 'portrait' | 'landscape' = 'portrait'): FigureSpecInput => ({ size: { kind: 'paper', paper: 'A0', orientation }, dpi, panels: [{ runId: 'r' }] });
+
+  it('refuses A0 at 1200 DPI in the spec, naming the page in pixels, the limit and the largest DPI that fits', () => {
+    const parsed = printableFigureSpecSchema.safeParse(a0(1200));
+    expect(parsed.success).toBe(false);
+    const issue = parsed.error!.issues[0]!;
+    expect(issue.path).toEqual(['dpi']);
+    // ISO 216 A0 841 × 1189 mm: 39,732 × 56,173 px at 1200 DPI; at 803 DPI 26,588 × 37,589 px = 999,416,332 ≤ 10^9,
+    // at 804 DPI 26,621 × 37,636 px = 1,001,907,956 > 10^9
+    expect(issue.message).toBe(
+      'at 1200 DPI A0 portrait would be 39,732 × 56,173 px (2.23 gigapixels), more than the 1,000,000,000 px (1 gigapixel) a print may have; ' +
+        'at most 803 DPI fits A0 portrait (26,588 × 37,589 px); choose that or less, or a smaller page',
+    );
+  });
+
+  it('puts the limit between two whole DPIs exactly, in the schema and in the layout', () => {
+    const most = largestDpiWithin(841, 1189);
+    expect(most).toBe(803);
+    expect(pagePixels(841, 1189, most).pixels).toBeLessThanOrEqual(MAX_PAGE_PIXELS);
+    expect(pagePixels(841, 1189, most + 1).pixels).toBeGreaterThan(MAX_PAGE_PIXELS);
+    expect(printableFigureSpecSchema.safeParse(a0(803)).success).toBe(true);
+    expect(printableFigureSpecSchema.safeParse(a0(804, 'landscape')).success).toBe(false);
+    // the layout (what the order and the print engine check) agrees, for stored specs read without the limit
+    expect(layout(a0(803), [run('r', 101)]).printable).toBe(true);
+    const over = layout(a0(804), [run('r', 101)]);
+    expect(over.printable).toBe(false);
+    expect(over.warnings).toEqual([expect.objectContaining({ code: 'page-too-large', blocking: true })]);
+    // A1 (594 × 841 mm) fits up to 1136 DPI, 1137 does not (1,001,007,140 px)
+    expect(largestDpiWithin(594, 841)).toBe(1136);
+  });
+
+  it('says when no resolution fits a custom page at all', () => {
+    const huge = printableFigureSpecSchema.safeParse({ size: { kind: 'custom', width: 6000, height: 6000 }, dpi: 150, panels: [{ runId: 'r' }] });
+    expect(huge.success).toBe(false);
+    expect(huge.error!.issues[0]!.message).toMatch(/this 6,000 × 6,000 mm page would be 35,433 × 35,433 px .*; even 150 DPI does not fit this 6,000 × 6,000 mm page; choose a smaller page$/);
+  });
+
+  it('estimates file sizes in proportion to the page pixels, a quarter as much at half the DPI', () => {
+    const at = (dpi: number) => estimatePrintBytes(pagePixels(210, 297, dpi).pixels);
+    expect(at(600).tiff / at(300).tiff).toBeCloseTo(4, 2);
+    expect(at(300).tiff).toBeGreaterThan(at(300).png);
   });
 });

@@ -7,8 +7,8 @@ import {
   MAX_DPI,
   MIN_DPI,
   PAPER_NAMES,
-  figureSpecSchema,
   layoutFigure,
+  printableFigureSpecSchema,
   startingComposition,
   type FigureSpec,
   type FigureSpecInput,
@@ -24,6 +24,8 @@ import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, 
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 import { rescaledUnitName } from './rescaledUnit.js';
+import { PrintSizeNote } from './PrintSizeNote.js';
+import { fixedPageMm } from './printSize.js';
 import { saveBlockedReason } from './saveBlocked.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
@@ -85,7 +87,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   const setPanel = (i: number, patch: Partial<PanelSpec>) =>
     setSpec({ panels: spec.panels.map((p, j) => (j === i ? { ...p, ...patch } : p)) });
 
-  const parsed = figureSpecSchema.safeParse(spec);
+  const parsed = printableFigureSpecSchema.safeParse(spec);
   const geometry = useMemo(
     () => runs.map((r) => ({ runId: r.id, shape: r.stats!.shape, origin: r.stats!.origin, chips: r.spec.chips })),
     [runs],
@@ -112,6 +114,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
 
   const size = spec.size;
   const rescaled = rescaledUnitName(spec.panels.flatMap((p) => runs.find((r) => r.id === p.runId)?.stats?.shape.length ?? []));
+  // a page past the pixel limit does not parse, yet its size and the DPI that would fit are still shown
+  const pageMm = layout ? { width: layout.page.widthMm, height: layout.page.heightMm } : fixedPageMm(size);
   return (
     <form onSubmit={submit}>
       <PageHeading
@@ -314,6 +318,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 Every cell prints as {layout.panels.map((p) => `${p.cellPx} × ${p.cellPx}`).join(', ')} printed pixels: nothing is reduced.
               </p>
             ) : null}
+            {pageMm && Number.isInteger(spec.dpi ?? 300) ? <PrintSizeNote widthMm={pageMm.width} heightMm={pageMm.height} dpi={spec.dpi ?? 300} /> : null}
           </Section>
           <FormError error={save.error} />
           <div className="flex items-center justify-end gap-3">
