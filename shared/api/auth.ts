@@ -47,13 +47,21 @@ export const LAB_ROLES = ['author', 'manager'] as const;
 export const labRoleSchema = z.enum(LAB_ROLES);
 export type LabRole = z.infer<typeof labRoleSchema>;
 
-/** GET /api/me and PUT /api/me/active-lab */
+/** GET /api/me for a signed-in caller, and PUT /api/me/active-lab */
 export const meResponseSchema = z.object({
+  signedIn: z.literal(true),
   user: userSchema,
   labs: z.array(z.object({ id: idSchema, name: z.string(), role: labRoleSchema })),
   activeLabId: idSchema.nullable(),
 });
 export type MeResponse = z.infer<typeof meResponseSchema>;
+
+/**
+ * GET /api/me: the caller, or that nobody is signed in. Every page asks it, public ones too, so "not
+ * signed in" is an answer (200) rather than an error; a bad bearer token is still a 401.
+ */
+export const meStateResponseSchema = z.discriminatedUnion('signedIn', [meResponseSchema, z.object({ signedIn: z.literal(false) })]);
+export type MeStateResponse = z.infer<typeof meStateResponseSchema>;
 
 export const activeLabRequestSchema = z.strictObject({ labId: idSchema });
 export type ActiveLabRequest = z.infer<typeof activeLabRequestSchema>;

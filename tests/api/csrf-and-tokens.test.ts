@@ -85,7 +85,8 @@ describe('personal API tokens', () => {
 
   it('treats a tampered session cookie as signed out', async () => {
     const tampered = session.cookie.replace(/tw_session=([^;]+)/, (_m, jwt: string) => `tw_session=${jwt.slice(0, -4)}AAAA`);
-    const res = await h.http.get('/api/me').set('Cookie', tampered);
+    await h.http.get('/api/me').set('Cookie', tampered).expect(200, { signedIn: false });
+    const res = await h.http.get('/api/me/tokens').set('Cookie', tampered);
     expect(res.status).toBe(401);
     expect(res.body.error).toBe('sign in first');
   });

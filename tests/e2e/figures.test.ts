@@ -202,6 +202,10 @@ describe('figures in the browser', () => {
 
     // a reader without an account follows the permanent link
     const reader = await newPage(farm.browser, farm.stack.url);
+    // a quiet console: public pages ask who is signed in, and "nobody" must not show as an error
+    const noise: string[] = [];
+    reader.on('console', (m) => void (m.type() === 'error' && noise.push(`console: ${m.text()}`)));
+    reader.on('response', (r) => void (r.status() >= 400 && noise.push(`${r.status()} ${r.request().method()} ${new URL(r.url()).pathname}`)));
     await reader.goto('/f/a-thousand-grains-on-z2');
     await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByTestId('figure-files').getByText('a-thousand-grains-on-z2-v1.tif').waitFor();
@@ -219,6 +223,7 @@ describe('figures in the browser', () => {
     await reader.goto('/figures');
     await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByText('constant 0', { exact: true }).waitFor();
+    expect(noise).toEqual([]);
 
     // a member of another lab cannot open the composer on it: no form, no error thrown on the page
     const other = await newPage(farm.browser, farm.stack.url);

@@ -184,7 +184,8 @@ describe('generated invalid input on every catalogued route', () => {
       if (health.status !== 200) failures.push(`after ${route.method} ${route.path}: health answered ${health.status}`);
       // still signed in: otherwise the inputs after this would only ever meet the 401 check
       const me = await send({ method: 'get', url: '/api/me', what: 'me' });
-      if (me.status !== 200) failures.push(`after ${route.method} ${route.path}: the session stopped working (${me.status})`);
+      // GET /api/me answers 200 either way; the body says whether the session still holds
+      if (me.status !== 200 || !me.text.includes('"signedIn":true')) failures.push(`after ${route.method} ${route.path}: the session stopped working (${me.status} ${me.text.slice(0, 80)})`);
     }
     const quiet = API_CATALOGUE.filter((r) => r.method === 'get' && !r.params && !r.query).map((r) => r.path);
     console.log(`fuzz: GET routes that take no input at all (nothing to make invalid): ${quiet.join(', ')}`);

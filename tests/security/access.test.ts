@@ -52,7 +52,8 @@ describe('sessions', () => {
     await as(h.http.get('/api/me'), s).expect(200);
     const jti = JSON.parse(Buffer.from(s.cookie.match(/tw_session=([^;.]+)\.([^;.]+)\./)![2]!, 'base64url').toString()).jti as string;
     await h.deps.db.update(sessions).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(sessions.id, jti));
-    const res = await as(h.http.get('/api/me'), s);
+    await as(h.http.get('/api/me'), s).expect(200, { signedIn: false });
+    const res = await as(h.http.get('/api/me/tokens'), s);
     expect(res.status).toBe(401);
     expect(res.body.error).toBe('sign in first');
   });
@@ -60,7 +61,8 @@ describe('sessions', () => {
   it('can be revoked: after sign-out the same cookie no longer works, and the row says when', async () => {
     const s = await signIn(h, userA.email, TEST_PASSWORD);
     await as(h.http.post('/api/auth/sign-out'), s).expect(204);
-    expect((await as(h.http.get('/api/me'), s)).status).toBe(401);
+    expect((await as(h.http.get('/api/me'), s)).body).toEqual({ signedIn: false });
+    expect((await as(h.http.get('/api/me/tokens'), s)).status).toBe(401);
     const jti = JSON.parse(Buffer.from(s.cookie.match(/tw_session=([^;.]+)\.([^;.]+)\./)![2]!, 'base64url').toString()).jti as string;
     const [row] = await h.deps.db.select().from(sessions).where(eq(sessions.id, jti));
     expect(row!.revokedAt).toBeInstanceOf(Date);

@@ -52,7 +52,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   { method: 'post', path: '/auth/password-reset', tag: 'auth', summary: 'Mail a password-reset link (always 202)', access: 'public', body: api.passwordResetRequestSchema, responses: { 202: ok } },
   { method: 'post', path: '/auth/password-reset/complete', tag: 'auth', summary: 'Set a new password with the mailed token', access: 'public', body: api.passwordResetCompleteRequestSchema, responses: { 200: api.userResponseSchema } },
 
-  { method: 'get', path: '/me', tag: 'me', summary: 'The caller, their labs and the active lab', access: 'user', responses: { 200: api.meResponseSchema } },
+  { method: 'get', path: '/me', tag: 'me', summary: 'The caller, their labs and the active lab, or { signedIn: false }', access: 'public', responses: { 200: api.meStateResponseSchema } },
   { method: 'put', path: '/me/active-lab', tag: 'me', summary: 'Choose the active lab', access: 'user', body: api.activeLabRequestSchema, responses: { 200: api.meResponseSchema } },
   { method: 'get', path: '/me/tokens', tag: 'me', summary: 'Personal API tokens', access: 'user', responses: { 200: api.tokensResponseSchema } },
   { method: 'post', path: '/me/tokens', tag: 'me', summary: 'Create a personal API token (the secret is shown once)', access: 'user', body: api.createTokenRequestSchema, responses: { 201: api.createTokenResponseSchema } },

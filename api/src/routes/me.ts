@@ -7,6 +7,7 @@ import {
   createTokenRequestSchema,
   createTokenResponseSchema,
   meResponseSchema,
+  meStateResponseSchema,
   tokensResponseSchema,
   type ApiToken,
 } from '../../../shared/api/auth.js';
@@ -29,11 +30,12 @@ function tokenView(t: typeof apiTokens.$inferSelect): ApiToken {
 
 export function meRouter({ db }: AppDeps): Router {
   const r = Router();
-  r.use('/me', requireUser);
-
+  // before the guard: anonymous readers of public pages ask too, and "nobody" is an answer, not a 401
   r.get('/me', async (_req, res) => {
-    respond(res, 200, meResponseSchema, await meView(db, authOf(res).user));
+    const user = res.locals.auth?.user;
+    respond(res, 200, meStateResponseSchema, user ? await meView(db, user) : { signedIn: false });
   });
+  r.use('/me', requireUser);
 
   r.put('/me/active-lab', async (req, res) => {
     const { labId } = validate.body(req, activeLabRequestSchema);

@@ -14,6 +14,7 @@ export async function meView(db: Db, user: AuthUser): Promise<MeResponse> {
     .orderBy(asc(labs.name));
   const active = rows.find((l) => l.id === user.activeLabId)?.id ?? rows[0]?.id ?? null;
   return {
+    signedIn: true,
     user: { id: user.id, email: user.email, name: user.name, emailVerified: user.emailVerified, isAdmin: user.isAdmin },
     labs: rows,
     activeLabId: active,

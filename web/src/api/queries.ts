@@ -2,10 +2,9 @@ import { useEffect, useState } from 'react';
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useNavigate } from 'react-router';
 import { api, apiUpload, withQuery } from './client.js';
-import { isStatus } from './ApiError.js';
 import type {
   AdminLabsResponse, AdminUsersResponse, FigureResponse, InvitationPreviewResponse, LabDetailResponse,
-  ListFiguresQueryInput, ListFiguresResponse, ListRunsQueryInput, ListRunsResponse, MeResponse, OutboxResponse,
+  ListFiguresQueryInput, ListFiguresResponse, ListRunsQueryInput, ListRunsResponse, MeResponse, MeStateResponse, OutboxResponse,
   RunResponse, TokensResponse, SeriesResponse, EstimateResponse, RunSpecInput, BackgroundUploadResponse,
 } from './contract.js';
 import type { CreateFigureRequest, FigureVersion, LabFiguresResponse, OrderPrintRequest, UpdateFigureRequest } from './contract.js';
@@ -40,17 +39,13 @@ export const keys = {
 };
 
 /** The signed-in person, or null for a reader; a 401 here is an answer, not an error. */
+/** The signed-in person, or null: the API answers "not signed in" with 200, so public pages log no error. */
 export function useMe() {
   return useQuery({
     queryKey: keys.me,
-    meta: { quiet401: true },
-    queryFn: async () => {
-      try {
-        return await api<MeResponse>('GET', '/api/me');
-      } catch (e) {
-        if (isStatus(e, 401)) return null;
-        throw e;
-      }
+    queryFn: async (): Promise<MeResponse | null> => {
+      const me = await api<MeStateResponse>('GET', '/api/me');
+      return me.signedIn ? me : null;
     },
     staleTime: 60_000,
   });
