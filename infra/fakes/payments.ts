@@ -2,6 +2,7 @@ import http from 'node:http';
 import path from 'node:path';
 import type { AddressInfo } from 'node:net';
 import { createPaymentsApp } from './payments/app.js';
+import { EXPIRY_SWEEP_MS, expireLapsedSessions } from './payments/expiry.js';
 import { nowSeconds } from './payments/ids.js';
 import { PaymentsStore } from './payments/store.js';
 import { DEFAULT_RETRY, WebhookDeliverer, type RetryPolicy } from './payments/webhooks.js';
@@ -58,11 +59,14 @@ export async function startPaymentsFake(opts: PaymentsFakeOptions = {}): Promise
   const port = (server.address() as AddressInfo).port;
   url = `http://${host}:${port}`;
   deliverer.resumePending();
+  const sweep = setInterval(() => expireLapsedSessions(store, deliverer), EXPIRY_SWEEP_MS);
+  sweep.unref();
   return {
     port,
     url,
     store,
     async close() {
+      clearInterval(sweep);
       await deliverer.close();
       server.closeAllConnections();
       await new Promise<void>((r) => server.close(() => r()));

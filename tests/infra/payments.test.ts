@@ -45,6 +45,9 @@ const eventsOf = (type: string, objectId?: string) =>
     .map((r) => ({ r, e: JSON.parse(r.body) as Stripe.Event }))
     .filter(({ e }) => e.type === type && (!objectId || (e.data.object as { id: string }).id === objectId));
 
+/** Events the fake emitted (whether or not an endpoint of this file subscribed to them). */
+const expiredEventsOf = (sessionId: string) => fake.store.state.events.filter((e) => e.type === 'checkout.session.expired' && (e.data.object as { id: string }).id === sessionId);
+
 function newSession(extra: Partial<Stripe.Checkout.SessionCreateParams> = {}) {
   return stripe.checkout.sessions.create({
     mode: 'payment',
@@ -392,6 +395,25 @@ describe('payments fake, bad input', () => {
     const after = await stripe.checkout.sessions.retrieve(session.id);
     expect(after.status).toBe('open');
     expect(after.payment_intent).toBeNull();
+  });
+
+  it('expires a session at its expires_at on its own, sending checkout.session.expired, and then refuses to take payment', async () => {
+    const session = await newSession({ expires_at: Math.floor(Date.now() / 1000) + 1 });
+    expect(session.status).toBe('open');
+    const e = await until('checkout.session.expired', () => expiredEventsOf(session.id)[0], 5000);
+    expect(e.data.object).toMatchObject({ id: session.id, status: 'expired', url: null });
+    expect((await stripe.checkout.sessions.retrieve(session.id)).status).toBe('expired');
+    const pay = await fetch(`${fake.url}/_fake/checkout/${session.id}/pay`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: '{"card":"4242424242424242"}' });
+    expect(pay.status).toBe(400);
+    expect(fake.store.state.events.filter((x) => x.type === 'checkout.session.completed' && (x.data.object as { id: string }).id === session.id)).toEqual([]);
+  });
+
+  it('expires a session at once on request (stripe.checkout.sessions.expire), once', async () => {
+    const session = await newSession();
+    expect((await stripe.checkout.sessions.expire(session.id)).status).toBe('expired');
+    expect(expiredEventsOf(session.id)).toHaveLength(1);
+    await expect(stripe.checkout.sessions.expire(session.id)).rejects.toThrow(/Only open checkout sessions can be expired/);
+    expect(expiredEventsOf(session.id)).toHaveLength(1);
   });
 
   it('refuses to pay a session twice', async () => {

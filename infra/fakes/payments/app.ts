@@ -1,6 +1,7 @@
 import express, { type NextFunction, type Request, type Response } from 'express';
 import { z } from 'zod';
 import { payWithCard } from './checkout.js';
+import { expireSession } from './expiry.js';
 import { checkoutPage, messagePage } from './checkout-page.js';
 import { notFound, StripeError } from './errors.js';
 import { newId, nowSeconds } from './ids.js';
@@ -102,9 +103,7 @@ export function createPaymentsApp({ store, deliverer, baseUrl }: PaymentsAppDeps
     const stored = store.session(req.params.id);
     if (!stored) throw notFound('checkout.session', req.params.id);
     if (stored.session.status !== 'open') throw new StripeError(400, `Only open checkout sessions can be expired; this one is ${stored.session.status}.`);
-    stored.session.status = 'expired';
-    stored.session.url = null;
-    deliverer.emit('checkout.session.expired', { ...stored.session });
+    expireSession(store, deliverer, stored);
     res.json(stored.session);
   });
   v1.get('/payment_intents/:id', (req, res) => {

@@ -1,5 +1,6 @@
 import { cardOutcome, type CardOutcome } from './cards.js';
 import { StripeError } from './errors.js';
+import { expireSession } from './expiry.js';
 import { newId, nowSeconds } from './ids.js';
 import type { PaymentIntent, PaymentsStore, StoredSession, StripeEvent } from './store.js';
 import type { WebhookDeliverer } from './webhooks.js';
@@ -37,10 +38,9 @@ export function payWithCard(store: PaymentsStore, deliverer: WebhookDeliverer, s
   if (s.status !== 'open') {
     throw new StripeError(400, `This checkout session is ${s.status}; it can no longer be paid.`, 'invalid_request_error', undefined, 'checkout_session_not_open');
   }
-  if (s.expires_at < nowSeconds()) {
-    s.status = 'expired';
-    s.url = null;
-    store.save();
+  if (s.expires_at <= nowSeconds()) {
+    // between two sweeps: expire it now, with its event, rather than take the payment
+    expireSession(store, deliverer, stored);
     throw new StripeError(400, 'This checkout session has expired.', 'invalid_request_error', undefined, 'checkout_session_expired');
   }
   const outcome = cardOutcome(card);
