@@ -256,7 +256,8 @@ export const ledgerLines = pgTable('ledger_lines', {
   amount: bigint('amount', { mode: 'number' }).notNull(),
 }, (t) => [index('ledger_lines_account_idx').on(t.account), index('ledger_lines_entry_idx').on(t.entryId)]);
 
-export const purchaseStatus = pgEnum('purchase_status', ['open', 'paid', 'expired']);
+/** open: checkout not paid yet; expired: its checkout lapsed unpaid; abandoned: a manager gave it up */
+export const purchaseStatus = pgEnum('purchase_status', ['open', 'paid', 'expired', 'abandoned']);
 
 /** A credit pack a manager started to buy: one Checkout Session. The credits themselves are ledger lines. */
 export const creditPurchases = pgTable('credit_purchases', {
@@ -270,6 +271,8 @@ export const creditPurchases = pgTable('credit_purchases', {
   currency: text('currency').notNull(),
   checkoutSessionId: text('checkout_session_id').notNull().unique(),
   status: purchaseStatus('status').notNull().default('open'),
+  /** when its checkout stops taking payment (the session's expires_at); null for offline purchases */
+  expiresAt: at('expires_at'),
   /** the card's refusal of the last attempt, shown until a later attempt pays */
   lastError: text('last_error'),
   /** printed on the receipt: TW-000001, ... */

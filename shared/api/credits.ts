@@ -45,7 +45,14 @@ export const creditBalanceSchema = z.object({
 });
 export type CreditBalance = z.infer<typeof creditBalanceSchema>;
 
-export const purchaseStatusSchema = z.enum(['open', 'paid', 'expired']);
+/**
+ * open: its checkout can still be paid; paid: credited (final); expired: the checkout lapsed unpaid;
+ * abandoned: a manager gave it up. Neither expired nor abandoned purchases moved any credits.
+ */
+export const purchaseStatusSchema = z.enum(['open', 'paid', 'expired', 'abandoned']);
+
+/** How long a checkout stays payable (Stripe allows 30 minutes to 24 hours). */
+export const CHECKOUT_LIFETIME_MINUTES = 60;
 export const purchaseSchema = z.object({
   id: idSchema,
   pack: z.string(),
@@ -59,6 +66,8 @@ export const purchaseSchema = z.object({
   receiptNumber: z.string(),
   buyer: z.object({ id: idSchema, name: z.string(), email: z.string() }).nullable(),
   createdAt: isoDateSchema,
+  /** when its checkout stops taking payment; null for purchases booked offline */
+  expiresAt: isoDateSchema.nullable(),
   paidAt: isoDateSchema.nullable(),
   receiptMailedAt: isoDateSchema.nullable(),
 });
@@ -85,6 +94,9 @@ export type CreditsSummaryResponse = z.infer<typeof creditsSummaryResponseSchema
 export const purchaseResponseSchema = z.object({ purchase: purchaseSchema, labName: z.string() });
 export type PurchaseResponse = z.infer<typeof purchaseResponseSchema>;
 export const purchaseParamsSchema = z.strictObject({ labId: idSchema, id: idSchema });
+/** POST /api/labs/:labId/credits/purchases/:id/abandon (managers): close a checkout not paid yet */
+export const abandonPurchaseResponseSchema = z.object({ purchase: purchaseSchema });
+export type AbandonPurchaseResponse = z.infer<typeof abandonPurchaseResponseSchema>;
 
 /** POST /api/labs/:labId/credits/checkout (managers): where to send the buyer's browser */
 export const checkoutRequestSchema = z.strictObject({ pack: creditPackIdSchema });

@@ -1,14 +1,16 @@
 import http, { type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { randomInt } from 'node:crypto';
-import { eq, sql } from 'drizzle-orm';
+import { and, eq, sql } from 'drizzle-orm';
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
 import Stripe from 'stripe';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { creditPurchases, ledgerEntries, ledgerLines } from '../../drizzle/schema.js';
+import { auditEvents, creditPurchases, ledgerEntries, ledgerLines, paymentEvents } from '../../drizzle/schema.js';
 import {
+  CHECKOUT_LIFETIME_MINUTES,
   CREDIT_CHECK_MAX,
+  abandonPurchaseResponseSchema,
   FREE_MONTHLY_ALLOWANCE,
   checkoutResponseSchema,
   creditCheckResponseSchema,
@@ -334,6 +336,102 @@ describe('buying credits through the payments fake', () => {
     const bad = await as(h.http.post(`/api/labs/${labId}/credits/checkout`), sessions.manager).send({ pack: 'crate' });
     expect(bad.status).toBe(400);
     expect(bad.body.error).toMatch(/pack must be one of sheet, ream, bale/);
+  });
+});
+
+describe('checkouts never paid', () => {
+  const entriesOf = async (lab: string) => (await h.deps.db.select({ n: sql<number>`count(*)::int` }).from(ledgerEntries).where(eq(ledgerEntries.labId, lab)))[0]!.n;
+
+  it('opens each checkout for an hour and says until when', async () => {
+    const lab = await freshLab(`Checkout Hour ${h.tag}`);
+    const { purchaseId, sessionId } = await checkout(lab);
+    const session = await stripe.checkout.sessions.retrieve(sessionId);
+    const p = (await summary(lab)).purchases.find((x) => x.id === purchaseId)!;
+    expect(p.status).toBe('open');
+    expect(new Date(p.expiresAt!).getTime()).toBe(session.expires_at * 1000);
+    expect(session.expires_at - session.created).toBeGreaterThanOrEqual(CHECKOUT_LIFETIME_MINUTES * 60 - 5);
+    expect(session.expires_at - session.created).toBeLessThanOrEqual(CHECKOUT_LIFETIME_MINUTES * 60 + 5);
+  });
+
+  it('lets a manager abandon one: the provider closes it, it shows abandoned, counts nowhere and books nothing', async () => {
+    const lab = await freshLab(`Abandon ${h.tag}`, 300);
+    const before = await summary(lab);
+    const entries = await entriesOf(lab);
+    const { purchaseId, sessionId } = await checkout(lab);
+    expect((await as(h.http.post(`/api/labs/${lab}/credits/purchases/${purchaseId}/abandon`), sessions.author)).status).toBe(403);
+
+    const res = await as(h.http.post(`/api/labs/${lab}/credits/purchases/${purchaseId}/abandon`), sessions.manager);
+    expect(res.status, JSON.stringify(res.body)).toBe(200);
+    expect(abandonPurchaseResponseSchema.parse(res.body).purchase).toMatchObject({ id: purchaseId, status: 'abandoned', paidAt: null });
+    // closed at the provider: it can no longer be paid, and the event it sent changes nothing here
+    expect((await stripe.checkout.sessions.retrieve(sessionId)).status).toBe('expired');
+    expect((await payWith(sessionId, '4242 4242 4242 4242')).status).toBe(400);
+    const expiredEvent = await until('the expired event to be handled', async () => {
+      const e = (await fakeEvents()).find((x) => x.type === 'checkout.session.expired' && x.data.object.id === sessionId);
+      const [row] = e ? await h.deps.db.select().from(paymentEvents).where(eq(paymentEvents.id, e.id)) : [];
+      return row;
+    });
+    expect(expiredEvent.outcome).toBe('ignored: purchase is abandoned');
+
+    const after = await summary(lab);
+    expect(after.purchases.find((p) => p.id === purchaseId)).toMatchObject({ status: 'abandoned' });
+    expect(after.balance).toEqual(before.balance);
+    expect(await entriesOf(lab)).toBe(entries);
+    const trail = await h.deps.db.select().from(auditEvents).where(and(eq(auditEvents.subjectId, purchaseId), eq(auditEvents.action, 'credits.checkout-abandoned')));
+    expect(trail.map((e) => e.actorId)).toEqual([people.manager.id]);
+
+    const again = await as(h.http.post(`/api/labs/${lab}/credits/purchases/${purchaseId}/abandon`), sessions.manager);
+    expect(again.status).toBe(409);
+    expect(again.body.error).toBe('this purchase is abandoned; only a checkout not paid yet can be abandoned');
+    expect((await as(h.http.post(`/api/labs/${labId}/credits/purchases/${purchaseId}/abandon`), sessions.manager)).status).toBe(404);
+
+    // had the money been taken all the same, the provider's "completed" still credits it, once
+    const session = await stripe.checkout.sessions.retrieve(sessionId);
+    const completed = eventOf('checkout.session.completed', { ...session, status: 'complete', payment_status: 'paid' });
+    expect((await postEvent(completed)).body.outcome).toBe('credited 1000');
+    expect((await postEvent(eventOf('checkout.session.completed', { ...session, status: 'complete', payment_status: 'paid' }))).body.outcome).toBe('already credited');
+    expect((await summary(lab)).balance.available).toBe(before.balance.available + 1000);
+    expect(await labLinesSum(lab)).toBe(0);
+  });
+
+  it('refuses to abandon a checkout paid meanwhile, and changes nothing', async () => {
+    const lab = await freshLab(`Paid Meanwhile ${h.tag}`);
+    const { purchaseId, sessionId } = await checkout(lab);
+    failNext = 1000; // the "completed" event has not reached us yet
+    try {
+      expect((await payWith(sessionId, '4242 4242 4242 4242')).status).toBe(200);
+      const res = await as(h.http.post(`/api/labs/${lab}/credits/purchases/${purchaseId}/abandon`), sessions.manager);
+      expect(res.status).toBe(409);
+      expect(res.body.error).toMatch(/paid meanwhile; its credits arrive as soon as the payment provider confirms the payment/);
+      expect((await summary(lab)).purchases.find((p) => p.id === purchaseId)!.status).toBe('open');
+    } finally {
+      failNext = 0;
+    }
+    await until('the purchase to be credited', async () => (await summary(lab)).purchases.find((p) => p.id === purchaseId && p.status === 'paid'), 15_000);
+    expect((await summary(lab)).balance.available).toBe(1000);
+  });
+
+  it('shows a checkout the provider let lapse as expired even when its event was lost, and only then', async () => {
+    const lab = await freshLab(`Lapsed ${h.tag}`);
+    const entries = await entriesOf(lab);
+    const lapsed = await checkout(lab);
+    const stillOpen = await checkout(lab);
+    failNext = 1000; // every delivery of the expired event fails
+    try {
+      await stripe.checkout.sessions.expire(lapsed.sessionId);
+      await until('a failed delivery', async () => (await fakeEvents()).find((e) => e.type === 'checkout.session.expired' && e.data.object.id === lapsed.sessionId && ourDeliveries(e).some((d) => d.attempts.length > 0)));
+      // both past their expiry as far as our rows know; only the provider says which one lapsed
+      await h.deps.db.update(creditPurchases).set({ expiresAt: new Date(Date.now() - 60_000) }).where(eq(creditPurchases.labId, lab));
+      const s = await summary(lab);
+      expect(s.purchases.find((p) => p.id === lapsed.purchaseId)!.status).toBe('expired');
+      expect(s.purchases.find((p) => p.id === stillOpen.purchaseId)!.status).toBe('open');
+    } finally {
+      failNext = 0;
+    }
+    const trail = await h.deps.db.select().from(auditEvents).where(and(eq(auditEvents.subjectId, lapsed.purchaseId), eq(auditEvents.action, 'credits.checkout-expired')));
+    expect(trail).toHaveLength(1);
+    expect(await entriesOf(lab)).toBe(entries);
+    expect((await summary(lab)).balance.available).toBe(0);
   });
 });
 

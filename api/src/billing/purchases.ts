@@ -1,13 +1,13 @@
 import { randomUUID } from 'node:crypto';
-import { and, desc, eq, isNull } from 'drizzle-orm';
+import { and, desc, eq, isNull, lte } from 'drizzle-orm';
 import type Stripe from 'stripe';
 import { creditPurchases, labs, paymentEvents, users } from '../../../drizzle/schema.js';
-import { CREDIT_PACKS, receiptNumber, type CreditPackId, type Purchase } from '../../../shared/api/credits.js';
+import { CHECKOUT_LIFETIME_MINUTES, CREDIT_PACKS, receiptNumber, type CreditPackId, type Purchase } from '../../../shared/api/credits.js';
 import type { Env } from '../../../shared/env.js';
 import type { Db } from '../db/client.js';
 import type { Logger } from '../logger.js';
 import type { Mailer } from '../mail/mailer.js';
-import { HttpError } from '../http/http-error.js';
+import { conflict, HttpError, notFound } from '../http/http-error.js';
 import { audit } from '../services/audit.js';
 import { accounts } from './accounts.js';
 import { post, type Executor, type Tx } from './ledger.js';
@@ -28,6 +28,7 @@ export function purchaseView(p: PurchaseRow, buyer: Buyer): Purchase {
     receiptNumber: receiptNumber(p.receiptNumber),
     buyer,
     createdAt: p.createdAt.toISOString(),
+    expiresAt: p.expiresAt?.toISOString() ?? null,
     paidAt: p.paidAt?.toISOString() ?? null,
     receiptMailedAt: p.receiptMailedAt?.toISOString() ?? null,
   };
@@ -61,6 +62,8 @@ export async function startCheckout(
   const session = await deps.stripe.checkout.sessions
     .create({
       mode: 'payment',
+      // a checkout left open is no purchase: it lapses within the hour (checkout.session.expired)
+      expires_at: Math.floor(Date.now() / 1000) + CHECKOUT_LIFETIME_MINUTES * 60,
       line_items: [{ price_data: { currency: pack.currency, unit_amount: pack.amount, product_data: { name: `${pack.name}: ${pack.credits.toLocaleString('en-US')} compute credits` } }, quantity: 1 }],
       success_url: `${back}&paid={CHECKOUT_SESSION_ID}`,
       cancel_url: `${back}&cancelled=1`,
@@ -77,10 +80,69 @@ export async function startCheckout(
   await deps.db.transaction(async (tx) => {
     await tx.insert(creditPurchases).values({
       id: purchaseId, labId, buyerId: buyer.id, pack: pack.id, credits: pack.credits, amount: pack.amount, currency: pack.currency, checkoutSessionId: session.id,
+      expiresAt: new Date(session.expires_at * 1000),
     });
     await audit(tx, { actorId: buyer.id, labId, action: 'credits.checkout', subjectType: 'purchase', subjectId: purchaseId, detail: { pack: pack.id, session: session.id } });
   });
   return { purchaseId, url: session.url };
+}
+
+const providerDown = (err: unknown) =>
+  new HttpError(502, `the payment provider could not be reached (${(err as Error).message}); nothing changed, try again shortly`);
+
+/**
+ * A manager gives up a checkout not paid yet: its session is closed at the provider (so it can no
+ * longer be paid) and the purchase shows as abandoned. The row stays locked while the provider is
+ * asked, so the checkout.session.expired event this sends, or a payment racing with it, is handled
+ * after and sees the outcome. Nothing is booked; a payment that won the race is credited as usual.
+ */
+export async function abandonCheckout(deps: { db: Db; stripe: Stripe }, labId: string, purchaseId: string, actorId: string): Promise<Purchase> {
+  await deps.db.transaction(async (tx) => {
+    const p = await lockPurchase(tx, { id: purchaseId });
+    if (!p || p.labId !== labId) throw notFound('purchase not found');
+    if (p.status !== 'open') throw conflict(`this purchase is ${p.status}; only a checkout not paid yet can be abandoned`);
+    // null: closed now; otherwise the provider refused because the session was no longer open, and says why
+    const before = await deps.stripe.checkout.sessions.expire(p.checkoutSessionId).then(
+      () => null,
+      async (err: unknown) => {
+        const s = await deps.stripe.checkout.sessions.retrieve(p.checkoutSessionId).catch(() => {
+          throw providerDown(err);
+        });
+        if (s.status === 'open') throw providerDown(err);
+        return s.status;
+      },
+    );
+    if (before === 'complete') throw conflict('this checkout was paid meanwhile; its credits arrive as soon as the payment provider confirms the payment');
+    if (before === 'expired') {
+      // it had lapsed on its own before the manager gave it up (its event still on the way)
+      await markExpired(tx, p, { by: 'abandon' });
+      return;
+    }
+    await tx.update(creditPurchases).set({ status: 'abandoned', lastError: null }).where(eq(creditPurchases.id, p.id));
+    await audit(tx, { actorId, labId, action: 'credits.checkout-abandoned', subjectType: 'purchase', subjectId: p.id, reason: 'given up before it was paid', detail: { pack: p.pack, session: p.checkoutSessionId } });
+  });
+  const [view] = await purchasesOf(deps.db, labId, purchaseId);
+  return view!;
+}
+
+/**
+ * Open purchases past their checkout's expiry whose expired event never reached us: the provider is
+ * asked, and those it reports expired are marked so (as the event would have). Nothing is assumed:
+ * a session it reports paid waits for its event, and an unreachable provider changes nothing.
+ */
+export async function expireLapsedCheckouts(deps: { db: Db; stripe: Stripe }, labId: string): Promise<void> {
+  const lapsed = await deps.db
+    .select()
+    .from(creditPurchases)
+    .where(and(eq(creditPurchases.labId, labId), eq(creditPurchases.status, 'open'), lte(creditPurchases.expiresAt, new Date())));
+  for (const row of lapsed) {
+    const session = await deps.stripe.checkout.sessions.retrieve(row.checkoutSessionId).catch(() => null);
+    if (session?.status !== 'expired') continue;
+    await deps.db.transaction(async (tx) => {
+      const p = await lockPurchase(tx, { id: row.id });
+      if (p?.status === 'open') await markExpired(tx, p, { by: 'reconciliation' });
+    });
+  }
 }
 
 export type EventResult = { outcome: string; purchaseId: string | null; duplicate: boolean };
@@ -92,6 +154,12 @@ async function lockPurchase(tx: Tx, where: { sessionId?: string; id?: string }) 
 }
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** An open purchase whose checkout lapsed: shown as expired; no credits were ever booked for it. */
+async function markExpired(tx: Tx, p: PurchaseRow, detail: Record<string, string>): Promise<void> {
+  await tx.update(creditPurchases).set({ status: 'expired', lastError: null }).where(eq(creditPurchases.id, p.id));
+  await audit(tx, { actorId: null, labId: p.labId, action: 'credits.checkout-expired', subjectType: 'purchase', subjectId: p.id, reason: 'the checkout was not completed in time', detail: { pack: p.pack, session: p.checkoutSessionId, ...detail } });
+}
 
 /** What one event does to our purchases and the ledger; called inside the event's transaction. */
 async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; purchaseId: string | null }> {
@@ -123,9 +191,9 @@ async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; pu
     case 'checkout.session.expired': {
       const p = await lockPurchase(tx, { sessionId: event.data.object.id });
       if (!p) return { outcome: 'ignored: not a checkout session of ours', purchaseId: null };
+      // an abandoned purchase stays abandoned: closing its checkout is what sent this event
       if (p.status !== 'open') return { outcome: `ignored: purchase is ${p.status}`, purchaseId: p.id };
-      await tx.update(creditPurchases).set({ status: 'expired' }).where(eq(creditPurchases.id, p.id));
-      await audit(tx, { actorId: null, labId: p.labId, action: 'credits.checkout-expired', subjectType: 'purchase', subjectId: p.id, reason: 'the checkout was not completed in time', detail: { pack: p.pack, session: p.checkoutSessionId, event: event.id } });
+      await markExpired(tx, p, { event: event.id });
       return { outcome: 'expired', purchaseId: p.id };
     }
     case 'payment_intent.payment_failed': {

@@ -3,6 +3,7 @@ import { Router } from 'express';
 import { memberships, users } from '../../../drizzle/schema.js';
 import {
   CREDIT_PACKS,
+  abandonPurchaseResponseSchema,
   checkoutRequestSchema,
   checkoutResponseSchema,
   creditAdjustmentRequestSchema,
@@ -20,7 +21,7 @@ import { authOf, requireAdmin, requireLabAccess, requireUser } from '../auth/mid
 import { adjustCredits } from '../billing/adjustments.js';
 import { checkCredits, memberStanding } from '../billing/gate.js';
 import { entriesOf, labBalance } from '../billing/ledger.js';
-import { purchasesOf, startCheckout } from '../billing/purchases.js';
+import { abandonCheckout, expireLapsedCheckouts, purchasesOf, startCheckout } from '../billing/purchases.js';
 import { reconcileLab } from '../billing/settle.js';
 import { createStripe } from '../billing/stripe-client.js';
 import { runUsages, usageCsv, usageRows } from '../billing/usage.js';
@@ -52,6 +53,7 @@ export function creditsRouter({ db, env }: AppDeps): Router {
   r.get('/labs/:labId/credits', requireUser, requireLabAccess(db, 'read'), async (_req, res) => {
     const { labId, role } = labOf(res);
     await reconcileLab(db, labId);
+    await expireLapsedCheckouts({ db, stripe }, labId);
     const user = authOf(res).user;
     const standing = role ? await memberStanding(db, labId, user.id) : null;
     respond(res, 200, creditsSummaryResponseSchema, {
@@ -85,6 +87,7 @@ export function creditsRouter({ db, env }: AppDeps): Router {
   r.get('/labs/:labId/credits/purchases/:id', requireUser, requireLabAccess(db, 'read'), async (req, res) => {
     const { id } = validate.params(req, purchaseParamsSchema);
     const { labId, labName } = labOf(res);
+    await expireLapsedCheckouts({ db, stripe }, labId);
     const [purchase] = await purchasesOf(db, labId, id);
     if (!purchase) throw notFound('purchase not found');
     respond(res, 200, purchaseResponseSchema, { purchase, labName });
@@ -104,6 +107,13 @@ export function creditsRouter({ db, env }: AppDeps): Router {
     const user = authOf(res).user;
     const out = await startCheckout({ db, env, stripe }, labOf(res).labId, user, pack);
     respond(res, 201, checkoutResponseSchema, out);
+  });
+
+  /** Give up a checkout not paid yet: the provider closes it, the purchase shows as abandoned. */
+  r.post('/labs/:labId/credits/purchases/:id/abandon', requireUser, requireLabAccess(db, 'manager'), async (req, res) => {
+    const { id } = validate.params(req, purchaseParamsSchema);
+    const purchase = await abandonCheckout({ db, stripe }, labOf(res).labId, id, authOf(res).user.id);
+    respond(res, 200, abandonPurchaseResponseSchema, { purchase });
   });
 
   r.post('/labs/:labId/credits/adjustments', requireUser, requireAdmin, requireLabAccess(db, 'read'), async (req, res) => {

@@ -9,7 +9,7 @@ import type {
 } from './contract.js';
 import type { CreateFigureRequest, FigureVersion, LabFiguresResponse, OrderPrintRequest, UpdateFigureRequest } from './contract.js';
 import { recentlyPaid } from '../pages/credits/money.js';
-import type { CheckoutResponse, CreditCheckResponse, CreditPackId, CreditsSummaryResponse, PurchaseResponse, UsageResponse } from './contract.js';
+import type { AbandonPurchaseResponse, CheckoutResponse, CreditCheckResponse, CreditPackId, CreditsSummaryResponse, PurchaseResponse, UsageResponse } from './contract.js';
 import { RUN_EVENT_NAMES, runEventSchema } from './contract.js';
 import { fetchRunJson, fetchViewLegend, infoJsonUrl, type ArtifactBase } from '../viewer/runArtifacts.js';
 
@@ -282,6 +282,15 @@ export function useCreditCheck(labId: string | null | undefined, credits: number
 }
 
 /** Start buying a pack: the browser leaves for the checkout page the API names. */
+/** A manager gives up a checkout not paid yet; the purchases list then shows it abandoned. */
+export function useAbandonPurchase(labId: string) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (purchaseId: string) => api<AbandonPurchaseResponse>('POST', `/api/labs/${encodeURIComponent(labId)}/credits/purchases/${encodeURIComponent(purchaseId)}/abandon`),
+    onSettled: () => qc.invalidateQueries({ queryKey: keys.credits(labId) }),
+  });
+}
+
 export function useCheckout(labId: string) {
   return useMutation({
     mutationFn: (pack: CreditPackId) => api<CheckoutResponse>('POST', `/api/labs/${encodeURIComponent(labId)}/credits/checkout`, { pack }),

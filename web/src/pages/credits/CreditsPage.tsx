@@ -1,8 +1,9 @@
+import { useState } from 'react';
 import { useSearchParams } from 'react-router';
-import { useCheckout, useCredits, useCreditUsage, useLab } from '../../api/queries.js';
-import { FREE_MONTHLY_ALLOWANCE, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
+import { useAbandonPurchase, useCheckout, useCredits, useCreditUsage, useLab } from '../../api/queries.js';
+import { CHECKOUT_LIFETIME_MINUTES, FREE_MONTHLY_ALLOWANCE, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
 import { useSignedIn } from '../../auth/useSignedIn.js';
-import { formatDate } from '../../format.js';
+import { formatDate, formatDateTime } from '../../format.js';
 import {
   Button, Count, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SkeletonTable, SortableTable, type Column,
 } from '../../ui/index.js';
@@ -47,7 +48,7 @@ function LabCredits({ labId, labName, isManager, isAdmin, paid, cancelled }: { l
       {cancelled ? <Notice tone="warning" title="Checkout cancelled">Nothing was charged.</Notice> : null}
       <BalanceSection data={data} />
       {isManager ? <PacksSection labId={labId} packs={data.packs} /> : null}
-      <PurchasesSection labId={labId} purchases={data.purchases} />
+      <PurchasesSection labId={labId} purchases={data.purchases} isManager={isManager} />
       <UsageSection labId={labId} />
       {isAdmin ? <AdjustmentForm labId={labId} /> : null}
     </div>
@@ -118,9 +119,47 @@ function PacksSection({ labId, packs }: { labId: string; packs: CreditPack[] }) 
   );
 }
 
-const STATUS_WORDS: Record<Purchase['status'], string> = { open: 'not paid yet', paid: 'paid', expired: 'expired' };
+const STATUS_WORDS: Record<Purchase['status'], string> = { open: 'not paid yet', paid: 'paid', expired: 'expired, not paid', abandoned: 'abandoned, not paid' };
 
-function PurchasesSection({ labId, purchases }: { labId: string; purchases: Purchase[] }) {
+/** Under the status: when an open checkout lapses, and that a closed one cost nothing. */
+function statusNote(p: Purchase): string | null {
+  if (p.status === 'open') return p.expiresAt ? `checkout open until ${formatDateTime(p.expiresAt)}` : null;
+  if (p.status === 'expired') return 'the checkout lapsed; nothing was charged';
+  if (p.status === 'abandoned') return 'given up; nothing was charged';
+  return null;
+}
+
+/** Abandon asks once more in place, since the checkout cannot be reopened. */
+function AbandonButton({ labId, purchase }: { labId: string; purchase: Purchase }) {
+  const abandon = useAbandonPurchase(labId);
+  const [asking, setAsking] = useState(false);
+  if (!asking) {
+    return (
+      <Button tone="quiet" size="sm" onClick={() => setAsking(true)}>
+        Abandon
+      </Button>
+    );
+  }
+  return (
+    <span className="inline-flex flex-col items-end gap-1">
+      <span className="text-xs text-ink-soft">Close this checkout? It can no longer be paid.</span>
+      <span className="inline-flex gap-2">
+        <Button tone="danger" size="sm" busy={abandon.isPending} busyLabel="Closing…" onClick={() => abandon.mutate(purchase.id)} aria-label={`Abandon the ${purchase.pack} checkout`}>
+          Abandon it
+        </Button>
+        <Button tone="quiet" size="sm" onClick={() => setAsking(false)}>
+          Keep it
+        </Button>
+      </span>
+      {abandon.isError ? <FormError error={abandon.error} /> : null}
+    </span>
+  );
+}
+
+function PurchasesSection({ labId, purchases, isManager }: { labId: string; purchases: Purchase[]; isManager: boolean }) {
+  // only paid purchases count: an expired or abandoned checkout bought nothing
+  const paid = purchases.filter((p) => p.status === 'paid');
+  const bought = paid.reduce((sum, p) => sum + p.credits, 0);
   const columns: Column<Purchase>[] = [
     { key: 'createdAt', header: 'Started', sortValue: (p) => p.createdAt, cell: (p) => formatDate(p.createdAt) },
     { key: 'receipt', header: 'Receipt', sortValue: (p) => p.receiptNumber, cell: (p) => <span className="font-mono text-xs">{p.receiptNumber}</span> },
@@ -132,8 +171,9 @@ function PurchasesSection({ labId, purchases }: { labId: string; purchases: Purc
       header: 'Status',
       sortValue: (p) => p.status,
       cell: (p) => (
-        <span>
+        <span className={p.status === 'expired' || p.status === 'abandoned' ? 'text-ink-soft' : undefined} data-testid={`purchase-status-${p.id}`}>
           {STATUS_WORDS[p.status]}
+          {statusNote(p) ? <span className="block text-xs text-ink-faint">{statusNote(p)}</span> : null}
           {p.lastError ? <span className="block text-xs text-stamp">{p.lastError}</span> : null}
         </span>
       ),
@@ -143,11 +183,25 @@ function PurchasesSection({ labId, purchases }: { labId: string; purchases: Purc
       key: 'view',
       header: '',
       align: 'right',
-      cell: (p) => (p.status === 'paid' ? <LinkButton tone="quiet" size="sm" to={`/lab/credits/receipts/${p.id}?labId=${labId}`}>Receipt</LinkButton> : null),
+      cell: (p) =>
+        p.status === 'paid' ? (
+          <LinkButton tone="quiet" size="sm" to={`/lab/credits/receipts/${p.id}?labId=${labId}`}>Receipt</LinkButton>
+        ) : p.status === 'open' && isManager ? (
+          <AbandonButton labId={labId} purchase={p} />
+        ) : null,
     },
   ];
   return (
-    <Section title="Purchases">
+    <Section
+      title="Purchases"
+      description={
+        purchases.length ? (
+          <span data-testid="purchases-paid">
+            {paid.length === 1 ? '1 paid purchase' : `${paid.length.toLocaleString('en-US')} paid purchases`}, {bought.toLocaleString('en-US')} credits bought. Checkouts not paid within {CHECKOUT_LIFETIME_MINUTES} minutes expire.
+          </span>
+        ) : undefined
+      }
+    >
       {purchases.length === 0 ? (
         <EmptyState title="No purchases yet">Bought packs and their receipts will be listed here.</EmptyState>
       ) : (
