@@ -1,3 +1,4 @@
+import { MAX_DPI, MIN_DPI } from '../../../../shared/print.js';
 import { MAX_PAGE_PIXELS, largestDpiWithin, pixelCountText } from '../../../../shared/print-size.js';
 import { groupThousands } from '../../format.js';
 import { Notice } from '../../ui/index.js';
@@ -20,7 +21,8 @@ export function PrintSizeNote({ widthMm, heightMm, dpi }: { widthMm: number; hei
     <>
       <p>
         At {dpi} DPI the page is {groupThousands(chosen.widthPx)} × {groupThousands(chosen.heightPx)} px ({pixelCountText(chosen.pixels)}); a print may have at most{' '}
-        {pixelCountText(MAX_PAGE_PIXELS)}, {most > 0 ? `${most} DPI on this page` : 'which no resolution of this page stays within'}.
+        {pixelCountText(MAX_PAGE_PIXELS)}
+        {most >= MAX_DPI ? ', which this page stays within at every resolution offered' : most >= MIN_DPI ? `: ${most} DPI on this page` : ', which this page exceeds at every resolution'}.
         {chosen.fits ? ` Files of up to ${approxFileSize(chosen.bytes.tiff)} (TIFF), ${approxFileSize(chosen.bytes.png)} (PNG) and ${approxFileSize(chosen.bytes.pdf)} (PDF); piles with large regular patches come out smaller.` : ''}
       </p>
       <table className="mt-2 w-full text-xs tabular-nums" data-testid="print-size-table">
