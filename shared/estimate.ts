@@ -21,9 +21,10 @@ export { backgroundMean, EstimateError, latticeShape, type ArrayBackgroundInfo, 
  * - Memory. About 16 bytes per cell: int32 heights, float64 odometer and the engine's bookkeeping.
  * - Work. Total topplings T ∝ n^(1 + 2/d) (the odometer solves a Poisson problem on a domain of
  *   radius n^(1/d)). Z^1 with no background is exact: m(m+1)(2m+1)/6 with m = ⌊n/2⌋. Z^2 uses a power
- *   law fitted to runs of the square lattice; other 2-D lattices and the cubic one scale it by 4/deg
- *   and by the domain's gain 2/g.
- * - Time. T divided by the rate measured on the development machine, plus drawing: every pyramid
+ *   law fitted to runs of the square lattice; other 2-D lattices scale it by 4/deg and by the
+ *   domain's gain 2/g. Z^3 has a coefficient of its own, measured with the engine, scaled the same way.
+ * - Time. T divided by the plain engine's rate for the dimension, measured on the development
+ *   machine (the seeded fast path has measured curves of its own), plus drawing: every pyramid
  *   the spec asks for (layers × palettes, `renderViews`) costs its pixels at the deepest level
  *   (cells of the drawn plane × k², k as in renderer/src/render/plan.ts `defaultPixelsPerCell`)
  *   at the measured render rate (which includes the coarser levels), plus a fixed part per pyramid.
@@ -40,6 +41,21 @@ export const TOPPLING_FIT = { c: 0.02015698687728256, alpha: 1.9895417568465261 
 
 /** Topplings per second of the exact engine on the 2-core development machine (measured here). */
 export const TOPPLINGS_PER_SECOND = 1.5e8;
+
+/**
+ * The plain engine's rate by dimension (2-core development machine, two threads, load under 1.5,
+ * 2026-12-05): a line pile of 3,000 grains is one tile, so one thread, 1,126,125,250 topplings in
+ * 17.2 s; the cubic lattice reaches 27 and 43 million per second at 10^6 and 3·10^6 grains (more
+ * neighbours and a third axis per toppling). Z^2 keeps TOPPLINGS_PER_SECOND.
+ */
+export const PLAIN_TOPPLINGS_PER_SECOND: Readonly<Record<1 | 2 | 3, number>> = { 1: 6.5e7, 2: TOPPLINGS_PER_SECOND, 3: 4.3e7 };
+
+/**
+ * Z^3, single source, empty background: T(n) = CUBIC_TOPPLING_C · n^(5/3) · (4/6)(2/g₀), g₀ = 10/3 the
+ * domain gain at h̄ = 0, anchored at 175,308,296 topplings for n = 10^6 (measured here with the engine,
+ * not published; 10^5: 3,758,041, 3·10^5: 23,575,907, 3·10^6: 1,088,716,882 follow n^(5/3) within 1 %).
+ */
+export const CUBIC_TOPPLING_C = 175_308_296 / (1e10 * (4 / 6) * (2 / (10 / 3)));
 
 /**
  * Wall seconds of the seeded fast path (renderer/src/scale/) on square-lattice single-source runs on
@@ -215,12 +231,12 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   let topplings: number;
   if (d === 1) topplings = lineTopplings(n) / Math.max(MIN_GAIN, 1 - mean);
   else if (d === 2) topplings = squareTopplings(n) * (4 / degree) * (2 / gain);
-  // T ∝ n · r^2 with r ∝ n^(1/3); anchored so that a cubic pile of the same radius does the same work per grain as Z^2
-  else topplings = n <= 0 ? 0 : TOPPLING_FIT.c * n ** (5 / 3) * (4 / degree) * (2 / gain);
+  // T ∝ n · r^2 with r ∝ n^(1/3)
+  else topplings = n <= 0 ? 0 : CUBIC_TOPPLING_C * n ** (5 / 3) * (4 / degree) * (2 / gain);
   const pyramids = renderViews(spec).length;
   const renderSeconds = pyramids * pyramidSeconds(shape);
   const fast = fastPathSeconds(spec);
-  const computeSeconds = fast ?? topplings / TOPPLINGS_PER_SECOND;
+  const computeSeconds = fast ?? topplings / PLAIN_TOPPLINGS_PER_SECOND[d];
   const seconds = RUN_OVERHEAD_SECONDS + computeSeconds + renderSeconds;
   return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), pyramids, computeSeconds, renderSeconds, seconds, credits: creditsFor(seconds, bytes), warnings };
 }

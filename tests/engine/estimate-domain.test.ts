@@ -1,7 +1,8 @@
 /**
  * The estimator's domain (shared/estimate.ts) against the engine's real arrays on small runs: the
  * API admits runs by the memory of that domain, so it must never be smaller than the real one, and
- * it should stay close on each axis, in the lattice's own width-to-height ratio.
+ * it should stay close on each axis, in the lattice's own width-to-height ratio. Its work (the
+ * topplings it prices) against the engine's counts where the model is not the square lattice's fit.
  */
 import { afterAll, describe, expect, it } from 'vitest';
 import { resolveProblem, stabilize } from '../../renderer/src/engine/index.js';
@@ -45,5 +46,20 @@ describe('the estimated domain follows the lattice', () => {
     expect(Math.abs(W / H / Math.sqrt(3) - 1)).toBeLessThan(0.03);
     expect(Math.abs(ew / eh / Math.sqrt(3) - 1)).toBeLessThan(0.03);
     expect([ew >= W, eh >= H]).toEqual([true, true]);
+  });
+});
+
+describe('the estimated work follows the engine', () => {
+  // Z^1: the closed form m(m+1)(2m+1)/6, m = ⌊n/2⌋ (OEIS A000330), equals the engine's count exactly;
+  // Z^3: the coefficient anchored at 10^6 grains must carry down the n^(5/3) law to small runs
+  it.for([
+    ['line', 600, 0],
+    ['cubic', 3e4, 0.03],
+    ['cubic', 1e5, 0.03],
+  ] as [string, number, number][])('%s, n = %d: predicted topplings within %s of the engine\'s', async ([preset, chips, within]) => {
+    const spec = runSpecSchema.parse({ lattice: { preset }, chips });
+    const out = await stabilize(resolveProblem(spec));
+    const counted = Number(out.stats.totalTopplings);
+    expect(Math.abs(estimateRun(spec).topplings / counted - 1)).toBeLessThanOrEqual(within);
   });
 });
