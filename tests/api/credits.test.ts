@@ -511,6 +511,20 @@ describe('gating submissions', () => {
     expect(over.body.error).toBe('this job needs 30 credits but only 1 credit of your monthly quota of 31 is left (29 over); ask a lab manager to raise it');
   });
 
+  it("tells a manager that they themselves can buy credits and raise their quota, not to find a manager", async () => {
+    const lab = await freshLab('Manager Short Lab', 19);
+    for (let k = 0; k < 3; k++) expect((await submit(sessions.manager, specCosting(30), lab)).status).toBe(201);
+    const short = await submit(sessions.manager, specCosting(30), lab);
+    expect(short.status).toBe(402);
+    expect(short.body.error).toMatch(/1 credit is missing; you can buy more on the lab's credits page$/);
+    const quotaLab = await freshLab('Manager Quota Lab', 1000);
+    await as(h.http.put(`/api/labs/${quotaLab}/members/${people.manager.id}/quota`), sessions.manager).send({ monthlyQuota: 31 }).expect(200);
+    expect((await submit(sessions.manager, specCosting(30), quotaLab)).status).toBe(201);
+    const over = await submit(sessions.manager, specCosting(30), quotaLab);
+    expect(over.status).toBe(402);
+    expect(over.body.error).toMatch(/\(29 over\); you can raise it under Members on the lab page$/);
+  });
+
   it('gates a series as a whole', async () => {
     const lab = await freshLab('Series Lab');
     // four grain counts that together cost more than the free allowance, each on its own less

@@ -12,11 +12,11 @@ import { memberUsed, runUsages } from './usage.js';
 
 const monthStart = (now: Date) => new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), 1));
 
-/** What a member has used this month and their quota (null = no personal limit). */
+/** What a member has used this month, their quota (null = no personal limit) and their role in the lab. */
 export async function memberStanding(ex: Executor, labId: string, memberId: string, now = new Date()) {
-  const [m] = await ex.select({ quota: memberships.monthlyQuota }).from(memberships).where(and(eq(memberships.labId, labId), eq(memberships.userId, memberId)));
+  const [m] = await ex.select({ quota: memberships.monthlyQuota, role: memberships.role }).from(memberships).where(and(eq(memberships.labId, labId), eq(memberships.userId, memberId)));
   const entries = await entriesOf(ex, labId, { kinds: ['reservation', 'settlement', 'release'], since: new Date(monthStart(now).getTime() - 40 * 86400_000) });
-  return { monthlyQuota: m?.quota ?? null, usedThisMonth: memberUsed(runUsages(entries), memberId, monthOf(now)), isMember: !!m };
+  return { monthlyQuota: m?.quota ?? null, usedThisMonth: memberUsed(runUsages(entries), memberId, monthOf(now)), isMember: !!m, isManager: m?.role === 'manager' };
 }
 
 /**
@@ -39,13 +39,15 @@ export async function checkCredits(ex: Executor, labId: string, memberId: string
     // the address of the credits page is `buyPath` (the form links it as "Buy credits"), not part of the sentence
     parts.push(
       `this job needs ${cr(credits)}: ${n(fromAllowance)} from this month's free allowance and ${n(fromBalance)} paid, ` +
-        `but the lab has ${n(balance.available)} available, so ${cr(missingCredits)} ${missingCredits === 1 ? 'is' : 'are'} missing; a lab manager can buy more on the lab's credits page`,
+        `but the lab has ${n(balance.available)} available, so ${cr(missingCredits)} ${missingCredits === 1 ? 'is' : 'are'} missing; ` +
+        // a manager is the one who buys: telling them to find a manager sends them looking for someone else
+        `${standing.isManager ? 'you can' : 'a lab manager can'} buy more on the lab's credits page`,
     );
   }
   if (overQuota > 0) {
     parts.push(
       `this job needs ${cr(credits)} but only ${cr(quotaLeft!)} of your monthly quota of ${n(standing.monthlyQuota!)} ${quotaLeft === 1 ? 'is' : 'are'} left ` +
-        `(${n(overQuota)} over); ask a lab manager to raise it`,
+        `(${n(overQuota)} over); ${standing.isManager ? "you can raise it under Members on the lab page" : 'ask a lab manager to raise it'}`,
     );
   }
   const allowed = parts.length === 0;
