@@ -256,5 +256,7 @@ describe('the outcome mail', () => {
     const mail = await waitForMail(h.env, authorEmail, /Run ready: Tiled pile/);
     expect(mail.text).toContain(`${h.env.PUBLIC_URL}/runs/${run.id}`);
     expect(mail.text).toContain('n = 1,000 grains');
+    // the wait since submission and, as on the run page, the farm's own time
+    expect(mail.text).toMatch(/is ready, \d+ s after you submitted it \(\d+ s of farm time\)\./);
   });
 });

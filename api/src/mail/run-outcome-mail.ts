@@ -1,7 +1,11 @@
 import type { MailMessage } from './mailer.js';
 import { htmlMail } from './layout.js';
 
-export type RunOutcome = { id: string; title: string; status: 'finished' | 'failed'; chips: number; lattice: string; error: string | null; seconds: number };
+/**
+ * `seconds`: from submission to the end, what the author waited; `farmSeconds`: the part a worker
+ * spent on it, which the run page reports (null when the run never started).
+ */
+export type RunOutcome = { id: string; title: string; status: 'finished' | 'failed'; chips: number; lattice: string; error: string | null; seconds: number; farmSeconds: number | null };
 
 /** "1 h 02 min", "3 min 05 s", "42 s": how long the author waited. */
 export function waitedFor(seconds: number): string {
@@ -15,10 +19,12 @@ export function waitedFor(seconds: number): string {
 export function runOutcomeMail(publicUrl: string, to: string, run: RunOutcome): MailMessage {
   const href = `${publicUrl.replace(/\/+$/, '')}/runs/${run.id}`;
   const what = `${run.lattice} lattice, n = ${run.chips.toLocaleString('en-US')} grains`;
+  // the wait and the farm time differ by the time in the queue: say both, so the mail and the run page agree
+  const farm = run.farmSeconds === null ? '' : ` (${waitedFor(run.farmSeconds)} of farm time)`;
   const lines =
     run.status === 'finished'
-      ? ['Hello,', `Your run "${run.title}" (${what}) is ready after ${waitedFor(run.seconds)}.`, 'Its arrays, statistics and deep-zoom views are on the run page.']
-      : ['Hello,', `Your run "${run.title}" (${what}) stopped after ${waitedFor(run.seconds)} without a result.`, `The farm said: ${run.error ?? 'no reason given'}`];
+      ? ['Hello,', `Your run "${run.title}" (${what}) is ready, ${waitedFor(run.seconds)} after you submitted it${farm}.`, 'Its arrays, statistics and deep-zoom views are on the run page.']
+      : ['Hello,', `Your run "${run.title}" (${what}) stopped ${waitedFor(run.seconds)} after you submitted it${farm}, without a result.`, `The farm said: ${run.error ?? 'no reason given'}`];
   return {
     to,
     subject: run.status === 'finished' ? `Run ready: ${run.title}` : `Run failed: ${run.title}`,

@@ -46,6 +46,7 @@ export async function sendRunOutcomeMail(
         lattice: latticeLabel(run.spec),
         error: run.error,
         seconds,
+        farmSeconds: run.startedAt ? (run.finishedAt.getTime() - run.startedAt.getTime()) / 1000 : null,
       }),
     );
   } catch (err) {
