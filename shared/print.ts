@@ -333,9 +333,13 @@ export function estimateCaptionLines(text: string, fontPt: number, widthPx: numb
   return lines;
 }
 
-export function panelLabelText(index: number, style: FigureSpec['labels'], override?: string): string | null {
+/**
+ * A panel's label: the author's own, else (a), (b), … or (1), (2), … when the figure has several
+ * panels; a lone panel is not labelled automatically, there is nothing to tell it from.
+ */
+export function panelLabelText(index: number, panelCount: number, style: FigureSpec['labels'], override?: string): string | null {
   if (override !== undefined) return override.length > 0 ? override : null;
-  if (style === 'none') return null;
+  if (style === 'none' || panelCount <= 1) return null;
   if (style === 'numbers') return `(${index + 1})`;
   // a..z, then aa, ab, … (16 panels at most, so single letters in practice)
   let s = '';
@@ -418,6 +422,45 @@ export function sliceNote(panels: readonly { name: string; z: number | null }[])
 /** n^(1/d) of a run: the length of one rescaled unit in lattice cells. */
 const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.max(1, run.chips), run.shape.length));
 
+/** A lattice coordinate as the product writes it: the minus sign "−", not a hyphen. */
+const signed = (v: number): string => (v < 0 ? `−${-v}` : String(v));
+
+/**
+ * A region in words, "x −50..49, y −20..19"; a line's only row is y = 0, so a line's region is
+ * its x range alone, "x −2500..2500".
+ */
+export function regionText(r: Region, dims: number): string {
+  const x = `x ${signed(r.xMin)}..${signed(r.xMax)}`;
+  return dims === 1 ? x : `${x}, y ${signed(r.yMin)}..${signed(r.yMax)}`;
+}
+
+/**
+ * What reducing by r does to a run's cells. A line is drawn as a band of identical rows
+ * (shared/drawn-plane.ts), so there r cells along the line become one pixel, not an r × r block.
+ */
+function reducedCellsText(r: number, dims: number): string {
+  return dims === 1 ? `every ${r} cells along the line become one pixel` : `every ${r} × ${r} block of cells becomes one pixel`;
+}
+
+/**
+ * How an unreduced panel prints its cells: "one printed pixel per cell", "8 × 8 printed pixels per
+ * cell"; a line's cell is a column of its band, so "a column 8 printed pixels wide per cell".
+ */
+export function cellPixelsText(cellPx: number, dims: number): string {
+  if (dims === 1) return cellPx === 1 ? 'a column one printed pixel wide per cell' : `a column ${cellPx} printed pixels wide per cell`;
+  return cellPx === 1 ? 'one printed pixel per cell' : `${cellPx} × ${cellPx} printed pixels per cell`;
+}
+
+/** The proof's note when no panel is reduced: "8 × 8 printed pixels per cell: nothing is reduced.", or panel by panel. */
+export function unreducedNote(panels: readonly { index: number; cellPx: number; dims: number }[]): string {
+  if (panels.length === 1) {
+    const t = cellPixelsText(panels[0]!.cellPx, panels[0]!.dims);
+    return `${t[0]!.toUpperCase()}${t.slice(1)}: nothing is reduced.`;
+  }
+  const each = panels.map((p, i) => `${i === 0 ? 'Panel' : 'panel'} ${p.index + 1}: ${cellPixelsText(p.cellPx, p.dims)}`);
+  return `${each.join('; ')}. Nothing is reduced.`;
+}
+
 function blockWord(layer: PanelSpec['layer']): string {
   return layer === 'heights' || layer === 'toppled' ? 'height' : 'value';
 }
@@ -443,7 +486,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
 
   // Fixed bands (page pixels) around each image and below the grid.
   const textLine = linePx(spec.textPt, dpi);
-  const labels = spec.panels.map((p, i) => panelLabelText(i, spec.labels, p.label));
+  const labels = spec.panels.map((p, i) => panelLabelText(i, spec.panels.length, spec.labels, p.label));
   const labelBand = labels.some((l) => l !== null) ? textLine + pt2px(spec.textPt * 0.3) : 0;
   const barThick = Math.max(1, px(0.6));
   const scaleBand = spec.scaleBar ? pt2px(spec.textPt * 0.5) + barThick + pt2px(spec.textPt * 0.3) + textLine : 0;
@@ -472,7 +515,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
         code: 'region-outside-run',
         panel: i,
         blocking: true,
-        message: `panel ${i + 1}: region x ${r.xMin}..${r.xMax}, y ${r.yMin}..${r.yMax} leaves the computed run (x ${whole.xMin}..${whole.xMax}, y ${whole.yMin}..${whole.yMax})`,
+        message: `panel ${i + 1}: region ${regionText(r, d)} leaves the computed run (${regionText(whole, d)})`,
       });
       return null;
     }
@@ -480,7 +523,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     if (d === 3) {
       zIndex = (p.z ?? 0) + run.origin[0];
       if (zIndex < 0 || zIndex >= run.shape[0]) {
-        warnings.push({ code: 'region-outside-run', panel: i, blocking: true, message: `panel ${i + 1}: slice z = ${p.z} is outside the run (z ${-run.origin[0]}..${run.shape[0] - 1 - run.origin[0]})` });
+        warnings.push({ code: 'region-outside-run', panel: i, blocking: true, message: `panel ${i + 1}: slice z = ${signed(p.z ?? 0)} is outside the run (z ${signed(-run.origin[0])}..${signed(run.shape[0] - 1 - run.origin[0])})` });
         return null;
       }
     }
@@ -572,7 +615,7 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
         code: 'cells-reduced',
         panel: i,
         blocking: false,
-        message: `panel ${i + 1}: cells are smaller than one printed pixel: every ${r} × ${r} block of cells becomes one pixel (most frequent ${blockWord(p.layer)})`,
+        message: `panel ${i + 1}: cells are smaller than one printed pixel: ${reducedCellsText(r, c.run.shape.length)} (most frequent ${blockWord(p.layer)})`,
       });
     }
     const iw = k > 0 ? c.w * k : Math.ceil(c.w / r);

@@ -77,7 +77,7 @@ describe('figures in the browser', () => {
     await screenshot(page, 'figures-compose-warning');
     await page.getByLabel('px per cell').fill('8');
     await expect.poll(() => page.getByTestId('proof-warnings').count()).toBe(0);
-    await page.getByText(/Every cell prints as 8 × 8 printed pixels/).waitFor();
+    await page.getByText('8 × 8 printed pixels per cell: nothing is reduced.').waitFor();
     // the proof's panel image has loaded from the run's stored whole-pile image
     await expect.poll(() => page.locator('[data-testid="proof"] image').count()).toBe(1);
     // the proof shows the print's legend (read from the run's stored view) and the caption's lines
@@ -113,7 +113,7 @@ describe('figures in the browser', () => {
     const field = (name: string) => panel.getByLabel(name, { exact: true });
     await expect.poll(() => field('xMin').inputValue()).toBe('-6');
     expect([await field('xMax').inputValue(), await field('yMin').inputValue(), await field('yMax').inputValue()]).toEqual(['3', '-4', '5']);
-    await drawer.getByTestId('region-readout').getByText('x -6..3, y -4..5 · 10 × 10 cells').waitFor();
+    await drawer.getByTestId('region-readout').getByText('x −6..3, y −4..5 · 10 × 10 cells').waitFor();
     // the drag drew, it did not pan: the rectangle sits on the outer edges of those cells
     const edges = async () => (await drawer.getByTestId('region-rect').boundingBox())!;
     const expectRect = async (x0: number, x1: number, y0: number, y1: number) => {

@@ -7,12 +7,15 @@ import {
   panelLabelText,
   pixelsFor,
   printableFigureSpecSchema,
+  regionText,
+  unreducedNote,
   type FigureSpecInput,
   type RunGeometry,
 } from '../../shared/print.js';
 import { MAX_PAGE_PIXELS, estimatePrintBytes, largestDpiWithin, pagePixels } from '../../shared/print-size.js';
 
 const run = (runId: string, side: number, chips = 1000): RunGeometry => ({ runId, shape: [side, side], origin: [side >> 1, side >> 1], chips });
+const line = (runId: string, cells: number, chips = 1000): RunGeometry => ({ runId, shape: [cells], origin: [cells >> 1], chips });
 const layout = (spec: FigureSpecInput, runs: RunGeometry[]) => layoutFigure(figureSpecSchema.parse(spec), runs);
 
 describe('page size', () => {
@@ -99,6 +102,41 @@ describe('panels', () => {
     expect(p.image.x - p.slot.x).toBe(Math.floor((p.slot.width - 60) / 2));
   });
 
+  it('leaves a lone panel unlabelled unless the author names it, and labels several', () => {
+    const one = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'r' }] }, [run('r', 41)]);
+    expect(one.panels[0].label).toBeNull();
+    expect(one.panels[0].labelAt).toBeNull();
+    const named = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'r', label: 'n = 1000' }] }, [run('r', 41)]);
+    expect(named.panels[0].label).toBe('n = 1000');
+    const two = layout({ size: { kind: 'paper', paper: 'A5' }, grid: { rows: 1, cols: 2 }, panels: [{ runId: 'r' }, { runId: 'r' }] }, [run('r', 41)]);
+    expect(two.panels.map((p) => p.label)).toEqual(['(a)', '(b)']);
+    // no label band is reserved above a lone unlabelled panel
+    expect(one.panels[0].image.y).toBe(one.panels[0].slot.y);
+  });
+
+  it('reduces a line along its length and says so in its own words', () => {
+    // 20,001 cells on a 90 mm column at 150 DPI (531 px): ceil(20001 / 531) = 38 cells per pixel
+    const l = layout({ size: { kind: 'column', column: 'single' }, dpi: 150, margins: { top: 0, right: 0, bottom: 0, left: 0 }, legend: false, panels: [{ runId: 'l' }] }, [line('l', 20001)]);
+    expect(l.panels[0].reduction).toBe(38);
+    expect(l.warnings.map((w) => w.message)).toEqual(['panel 1: cells are smaller than one printed pixel: every 38 cells along the line become one pixel (most frequent height)']);
+  });
+
+  it('writes regions with the minus sign, a line by its x range alone', () => {
+    expect(regionText({ xMin: -2500, xMax: 2500, yMin: 0, yMax: 0 }, 1)).toBe('x −2500..2500');
+    expect(regionText({ xMin: -6, xMax: 3, yMin: -4, yMax: 5 }, 2)).toBe('x −6..3, y −4..5');
+    const l = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'l', region: { xMin: -30, xMax: 0, yMin: 0, yMax: 0 } }] }, [line('l', 41)]);
+    expect(l.warnings.map((w) => w.message)).toEqual(['panel 1: region x −30..0 leaves the computed run (x −20..20)']);
+  });
+
+  it('says how unreduced cells print: one printed pixel per cell, k × k, a line as columns', () => {
+    expect(unreducedNote([{ index: 0, cellPx: 1, dims: 2 }])).toBe('One printed pixel per cell: nothing is reduced.');
+    expect(unreducedNote([{ index: 0, cellPx: 8, dims: 2 }])).toBe('8 × 8 printed pixels per cell: nothing is reduced.');
+    expect(unreducedNote([{ index: 0, cellPx: 3, dims: 2 }, { index: 1, cellPx: 2, dims: 1 }])).toBe('Panel 1: 3 × 3 printed pixels per cell; panel 2: a column 2 printed pixels wide per cell. Nothing is reduced.');
+    // the note follows the layout: a 41-cell square at a fixed 4 px per cell
+    const l = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'r', magnification: 4 }] }, [run('r', 41)]);
+    expect(unreducedNote(l.panels.map((p) => ({ index: p.index, cellPx: p.cellPx, dims: 2 })))).toBe('4 × 4 printed pixels per cell: nothing is reduced.');
+  });
+
   it('rejects regions outside the run and unknown runs', () => {
     const l = layout({ size: { kind: 'paper', paper: 'A5' }, panels: [{ runId: 'r', region: { xMin: -30, xMax: 0, yMin: 0, yMax: 0 } }, { runId: 'zz' }], grid: { rows: 1, cols: 2 } }, [run('r', 41)]);
     expect(l.printable).toBe(false);
@@ -131,9 +169,9 @@ describe('panels', () => {
   });
 
   it('labels panels and picks round scale-bar lengths', () => {
-    expect([0, 1, 25, 26].map((i) => panelLabelText(i, 'letters'))).toEqual(['(a)', '(b)', '(z)', '(aa)']);
-    expect(panelLabelText(2, 'numbers')).toBe('(3)');
-    expect(panelLabelText(0, 'none', 'A')).toBe('A');
+    expect([0, 1, 25, 26].map((i) => panelLabelText(i, 27, 'letters'))).toEqual(['(a)', '(b)', '(z)', '(aa)']);
+    expect(panelLabelText(2, 3, 'numbers')).toBe('(3)');
+    expect(panelLabelText(0, 2, 'none', 'A')).toBe('A');
     expect([0.19, 7, 25, 480].map(niceLength)).toEqual([0.1, 5, 20, 200]);
   });
 });

@@ -1,12 +1,12 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import OpenSeadragon from 'openseadragon';
-import type { Region } from '../../../shared/print.js';
+import { regionText, type Region } from '../../../shared/print.js';
 import type { RenderSpec } from '../../../shared/run-spec.js';
 import { Button } from '../ui/index.js';
 import { pixelsPerCell, type RunGeometry } from './cells.js';
 import { DeepZoom, type DeepZoomHandle } from './DeepZoom.js';
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
-import { imageRectOfRegion, regionOfImagePoints } from './regionGeometry.js';
+import { imageRectOfRegion, regionOfImagePoints, regionSizeText } from './regionGeometry.js';
 import { infoJsonUrl, type ArtifactBase } from './runArtifacts.js';
 
 type Mode = 'draw' | 'move';
@@ -35,6 +35,7 @@ export function RegionDrawer({ base, geometry, spec, layer, palette, region, onC
   const drawn = drawnOf(spec);
   const shownLayer = pickLayer(drawn, layer);
   const view = { layer: shownLayer, palette: paletteSegmentOf(drawn, shownLayer, pickPalette(drawn, palette)) };
+  const dims = geometry.shape.length;
 
   const [handle, setHandle] = useState<DeepZoomHandle | null>(null);
   const [, setTick] = useState(0);
@@ -119,7 +120,7 @@ export function RegionDrawer({ base, geometry, spec, layer, palette, region, onC
         {pendingRect ? <RegionBox rect={screenRect(pendingRect.x, pendingRect.y, pendingRect.x + pendingRect.width, pendingRect.y + pendingRect.height)} testId="region-rect-pending" dashed /> : null}
       </div>
       <p className="font-mono text-xs text-ink-soft" data-testid="region-readout">
-        {pending ? `drawing x ${pending.xMin}..${pending.xMax}, y ${pending.yMin}..${pending.yMax}` : region ? `x ${region.xMin}..${region.xMax}, y ${region.yMin}..${region.yMax} · ${(region.xMax - region.xMin + 1).toLocaleString('en-US')} × ${(region.yMax - region.yMin + 1).toLocaleString('en-US')} cells` : 'the whole run: drag over the view to choose a region'}
+        {pending ? `drawing ${regionText(pending, dims)}` : region ? `${regionText(region, dims)} · ${regionSizeText(region, dims)}` : 'the whole run: drag over the view to choose a region'}
       </p>
     </div>
   );

@@ -1,6 +1,7 @@
 import { describe, expect, test } from 'vitest';
 import { cellAt, pixelsPerCell, type RunGeometry } from './cells.js';
-import { imageRectOfRegion, regionOfImagePoints, wholeRegionOf } from './regionGeometry.js';
+import { regionText } from '../../../shared/print.js';
+import { imageRectOfRegion, regionOfImagePoints, regionSizeText, wholeRegionOf } from './regionGeometry.js';
 
 // The worked example of cells.test.ts: 7 × 5 cells, origin at (row 2, column 3), drawn 4 px per cell.
 const g: RunGeometry = { shape: [5, 7], origin: [2, 3], grains: 100 };
@@ -17,6 +18,13 @@ describe('a drawn rectangle and a region of cells', () => {
     // each corner agrees with the readout's cellAt
     expect(cellAt(5, 9, k, g)!.lattice).toEqual([r.xMin, r.yMin]);
     expect(cellAt(17.5, 12.2, k, g)!.lattice).toEqual([r.xMax, r.yMax]);
+  });
+
+  test('reads a region as the drawer shows it: the minus sign, a line by its x range and length alone', () => {
+    const r = wholeRegionOf(g);
+    expect(`${regionText(r, 2)} · ${regionSizeText(r, 2)}`).toBe('x −3..3, y −2..2 · 7 × 5 cells');
+    const l = wholeRegionOf({ shape: [5001], origin: [2500], grains: 5001 });
+    expect(`${regionText(l, 1)} · ${regionSizeText(l, 1)}`).toBe('x −2500..2500 · 5,001 cells');
   });
 
   test('is clipped to the plane, and nothing when wholly outside it', () => {

@@ -15,6 +15,12 @@ function originXY(g: RunGeometry): { ox: number; oy: number } {
 /** A line is drawn as a band of rows that all show y = 0 (shared/drawn-plane.ts): its regions always have y 0..0. */
 const isLine = (g: RunGeometry) => g.shape.length === 1;
 
+/** How many cells a region holds, in words: "10 × 10 cells", for a line "2,001 cells". */
+export function regionSizeText(r: Region, dims: number): string {
+  const w = (r.xMax - r.xMin + 1).toLocaleString('en-US');
+  return dims === 1 ? `${w} cells` : `${w} × ${(r.yMax - r.yMin + 1).toLocaleString('en-US')} cells`;
+}
+
 /** The whole computed plane as a region. */
 export function wholeRegionOf(g: RunGeometry): Region {
   const { width, height } = planeSize(g);

@@ -9,7 +9,9 @@ import {
   PAPER_NAMES,
   layoutFigure,
   printableFigureSpecSchema,
+  regionText,
   startingComposition,
+  unreducedNote,
   type FigureSpec,
   type FigureSpecInput,
   type PanelSpec,
@@ -315,7 +317,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
               </ul>
             ) : layout ? (
               <p className="mt-3 text-sm text-ink-soft">
-                Every cell prints as {layout.panels.map((p) => `${p.cellPx} × ${p.cellPx}`).join(', ')} printed pixels: nothing is reduced.
+                {unreducedNote(layout.panels.map((p) => ({ index: p.index, cellPx: p.cellPx, dims: geometry.find((g) => g.runId === p.runId)?.shape.length ?? 2 })))}
               </p>
             ) : null}
             {pageMm && Number.isInteger(spec.dpi ?? 300) ? <PrintSizeNote widthMm={pageMm.width} heightMm={pageMm.height} dpi={spec.dpi ?? 300} /> : null}
@@ -340,6 +342,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
 function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number; panel: FigureSpecInput['panels'][number]; runs: Run[]; onChange: (p: Partial<PanelSpec>) => void; onRemove?: () => void }) {
   const run = runs.find((r) => r.id === panel.runId);
   const whole = run?.stats ? wholeRegion(run.stats.shape, run.stats.origin) : null;
+  const dims = run?.stats?.shape.length ?? 2;
   const region = panel.region ?? null;
   const [drawing, setDrawing] = useState(false);
   const layer = panel.layer ?? 'heights';
@@ -417,7 +420,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
             ))
           : whole ? (
               <span className="pb-2 font-mono text-xs text-ink-soft">
-                x {whole.xMin}..{whole.xMax}, y {whole.yMin}..{whole.yMax}
+                {regionText(whole, dims)}
               </span>
             ) : null}
         <TextField label="Label" value={panel.label ?? ''} placeholder="automatic" maxLength={24} onChange={(e) => onChange({ label: e.target.value || undefined })} fieldClassName="w-32" />
