@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { idSchema, isoDateSchema } from './errors.js';
+import { runStatusSchema } from './runs.js';
 
 export const adminLabSchema = z.object({
   id: idSchema,
@@ -161,7 +162,7 @@ export const runningJobSchema = z.object({
   title: z.string(),
   labId: idSchema,
   labName: z.string(),
-  status: z.string(),
+  status: runStatusSchema,
   stage: z.string().nullable(),
   progress: z.number().min(0).max(1),
   startedAt: isoDateSchema.nullable(),

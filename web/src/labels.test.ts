@@ -1,5 +1,7 @@
 import { describe, expect, test } from 'vitest';
-import { backgroundOfSpec } from './labels.js';
+import { RUN_STATUSES } from '../../shared/api/runs.js';
+import { backgroundOfSpec, runStatusHeading, runStatusWord } from './labels.js';
+import { runPicture } from './thumbnails.js';
 
 describe('backgroundOfSpec', () => {
   test('gives the parameters that define each kind of background', () => {
@@ -18,5 +20,22 @@ describe('backgroundOfSpec', () => {
     expect(backgroundOfSpec({ kind: 'motif', cells: motif })).toBe('periodic motif 5×5');
     const weights = Array.from({ length: 12 }, (_, i) => i + 1);
     expect(backgroundOfSpec({ kind: 'random', seed: 3, weights })).toBe('random i.i.d. heights 0–11, seed 3');
+  });
+});
+
+describe('run status words', () => {
+  test('one distinct word per state, the same at the head of a section', () => {
+    expect(RUN_STATUSES.map(runStatusWord)).toEqual(['waiting', 'toppling', 'drawing', 'finished', 'failed', 'cancelled']);
+    expect(new Set(RUN_STATUSES.map(runStatusWord)).size).toBe(RUN_STATUSES.length);
+    // the run page's heading for a finished run and the list badge say the same word
+    expect(runStatusHeading('finished')).toBe('Finished');
+    expect(runStatusHeading('finished').toLowerCase()).toBe(runStatusWord('finished'));
+  });
+
+  test('the picture boxes of unfinished runs use the same words', () => {
+    const note = (status: (typeof RUN_STATUSES)[number]) => runPicture({ id: 'r', status, artifactsExpiredAt: null }).note;
+    for (const s of ['computing', 'rendering', 'cancelled'] as const) expect(note(s)).toBe(runStatusWord(s));
+    expect(note('failed').startsWith(runStatusWord('failed'))).toBe(true);
+    expect(note('queued').startsWith(runStatusWord('queued'))).toBe(true);
   });
 });

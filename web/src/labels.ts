@@ -1,6 +1,26 @@
-import type { Background, LatticeChoice, RunSpec } from './api/contract.js';
+import type { Background, LatticeChoice, RunSpec, RunStatus } from './api/contract.js';
 import { LAYERS, paletteById, type Layer } from '../../shared/palettes.js';
 import { DEFAULT_RENDER, layerHasMaskedCells } from '../../shared/run-spec.js';
+
+/** The one word for each state of a run: badges, filters, progress bars and headings all say it. */
+const RUN_STATUS_WORDS: Record<RunStatus, string> = {
+  queued: 'waiting',
+  computing: 'toppling',
+  rendering: 'drawing',
+  finished: 'finished',
+  failed: 'failed',
+  cancelled: 'cancelled',
+};
+
+export function runStatusWord(s: RunStatus): string {
+  return RUN_STATUS_WORDS[s];
+}
+
+/** The same word at the head of a section or notice: "Finished". */
+export function runStatusHeading(s: RunStatus): string {
+  const w = RUN_STATUS_WORDS[s];
+  return w[0]!.toUpperCase() + w.slice(1);
+}
 
 /** Names of lattices and backgrounds as people in the trade say them. */
 const LATTICE_NAMES: Record<string, string> = {

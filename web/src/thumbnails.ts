@@ -1,5 +1,6 @@
 import { figureThumbnailPath, runThumbnailPath } from '../../shared/api/artifacts.js';
 import type { RunStatus } from '../../shared/api/runs.js';
+import { runStatusWord } from './labels.js';
 
 /**
  * What a list shows in a run's or figure's picture box: the address of its small picture, or none,
@@ -16,10 +17,10 @@ export const NO_PICTURE = 'no picture stored';
 
 const RUN_NOTES: Record<Exclude<RunStatus, 'finished'>, string> = {
   queued: 'waiting for the farm',
-  computing: 'toppling',
-  rendering: 'drawing',
-  failed: 'failed: nothing to show',
-  cancelled: 'cancelled',
+  computing: runStatusWord('computing'),
+  rendering: runStatusWord('rendering'),
+  failed: `${runStatusWord('failed')}: nothing to show`,
+  cancelled: runStatusWord('cancelled'),
 };
 
 export function runPicture(run: { id: string; status: RunStatus; artifactsExpiredAt: string | null }): Picture {

@@ -5,7 +5,7 @@ import { api } from '../api/client.js';
 import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
-import { backgroundOfSpec, drawingOfSpec, latticeOfSpec } from '../labels.js';
+import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runStatusHeading, runStatusWord } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
 import { statsNote } from '../runStats.js';
@@ -94,17 +94,17 @@ function RunDetail({ run }: { run: Run }) {
       ) : null}
       {active ? (
         <Section title={run.status === 'queued' ? 'Waiting for a worker' : 'In progress'}>
-          <ProgressBar progress={run.progress} stage={run.stage ?? (run.status === 'queued' ? 'queued' : run.status)} startedAt={run.startedAt} />
+          <ProgressBar progress={run.progress} stage={run.stage ?? runStatusWord(run.status)} startedAt={run.startedAt} />
         </Section>
       ) : run.status === 'finished' ? (
-        <Section title="Finished" description={wall !== null ? `Computed and drawn in ${formatDuration(wall)} of farm time.` : undefined}>
-          <ProgressBar progress={1} stage="finished" startedAt={run.startedAt} />
+        <Section title={runStatusHeading('finished')} description={wall !== null ? `Computed and drawn in ${formatDuration(wall)} of farm time.` : undefined}>
+          <ProgressBar progress={1} stage={runStatusWord('finished')} startedAt={run.startedAt} />
         </Section>
       ) : null}
       {run.status === 'failed' ? (
         <ErrorPanel title="The run failed" error={new Error(run.error ?? 'the worker gave no reason')} />
       ) : null}
-      {run.status === 'cancelled' ? <Notice tone="warning" title="Cancelled">This run was stopped before it finished.</Notice> : null}
+      {run.status === 'cancelled' ? <Notice tone="warning" title={runStatusHeading('cancelled')}>This run was stopped before it finished.</Notice> : null}
       {expired ? (
         <Notice tone="warning" title="Expired — artifacts removed">
           No published figure used this run, so its arrays and tiles were deleted on {formatDateTime(run.artifactsExpiredAt)} at the end of the storage period.

@@ -3,12 +3,12 @@ import { Link, useSearchParams } from 'react-router';
 import { useLab, useRuns } from '../api/queries.js';
 import { LATTICE_PRESETS, RUN_STATUSES, type ListRunsQueryInput, type Run, type RunStatus } from '../api/contract.js';
 import { useActiveLab, useSignedIn } from '../auth/useSignedIn.js';
-import { backgroundOfSpec, latticeName, latticeOfSpec } from '../labels.js';
+import { backgroundOfSpec, latticeName, latticeOfSpec, runStatusWord } from '../labels.js';
 import { formatDate } from '../format.js';
 import { readStat, TOPPLED_SITES, TOPPLINGS } from '../runStats.js';
 import {
   Button, Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, ProgressBar, SelectField, SkeletonTable,
-  SortableTable, StatusBadge, statusLabel, Thumbnail, type Column, type SortState,
+  SortableTable, StatusBadge, Thumbnail, type Column, type SortState,
 } from '../ui/index.js';
 import { runPicture } from '../thumbnails.js';
 import { NewRunForm } from './NewRunForm.js';
@@ -58,7 +58,7 @@ const columns: Column<Run>[] = [
     width: '10.5rem',
     cell: (r) =>
       r.status === 'computing' || r.status === 'rendering' ? (
-        <ProgressBar compact progress={r.progress} stage={r.stage ?? statusLabel(r.status)} startedAt={r.startedAt} />
+        <ProgressBar compact progress={r.progress} stage={r.stage ?? runStatusWord(r.status)} startedAt={r.startedAt} />
       ) : (
         <StatusBadge status={r.status} />
       ),
@@ -143,7 +143,7 @@ export function RunsList() {
           <option value="">any status</option>
           {RUN_STATUSES.map((s) => (
             <option key={s} value={s}>
-              {statusLabel(s)}
+              {runStatusWord(s)}
             </option>
           ))}
         </SelectField>

@@ -39,7 +39,8 @@ export function ProgressBar({ progress, stage, startedAt, compact }: ProgressBar
           <span>
             {stage ?? 'working'} · <span className="tnum">{pct}</span>
           </span>
-          <span className="tnum">{progress >= 1 ? 'done' : left === null ? 'estimating time left' : `about ${formatDuration(left)} left`}</span>
+          {/* at 100% the stage names the state: no second word for it */}
+          <span className="tnum">{progress >= 1 ? '' : left === null ? 'estimating time left' : `about ${formatDuration(left)} left`}</span>
         </div>
       )}
     </div>

@@ -1,5 +1,6 @@
 import type { FarmHealthResponse } from '../../api/contract.js';
 import { formatDateTime, groupThousands } from '../../format.js';
+import { runStatusWord } from '../../labels.js';
 import { Button, EmptyState, ErrorPanel, FormError, ProgressBar, Section, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
 import { useFarmHealth, useRetryJob } from './adminQueries.js';
 
@@ -28,7 +29,7 @@ const workerColumns: Column<Worker>[] = [
 const runningColumns: Column<Running>[] = [
   { key: 'title', header: 'Run', cell: (r) => <a href={`/runs/${r.runId}`} className="font-medium">{r.title}</a>, sortValue: (r) => r.title.toLowerCase() },
   { key: 'lab', header: 'Lab', cell: (r) => r.labName, sortValue: (r) => r.labName },
-  { key: 'progress', header: 'Progress', cell: (r) => <ProgressBar compact progress={r.progress} stage={r.stage ?? r.status} startedAt={r.startedAt} />, sortValue: (r) => r.progress },
+  { key: 'progress', header: 'Progress', cell: (r) => <ProgressBar compact progress={r.progress} stage={r.stage ?? runStatusWord(r.status)} startedAt={r.startedAt} />, sortValue: (r) => r.progress },
   { key: 'worker', header: 'Worker', cell: (r) => <span className="font-mono text-xs">{r.worker ?? '—'}</span>, sortValue: (r) => r.worker },
 ];
 
