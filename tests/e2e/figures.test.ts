@@ -140,6 +140,9 @@ describe('figures in the browser', () => {
     const files = page.getByTestId('figure-files');
     await files.getByText('a-thousand-grains-on-z2-v1.pdf').waitFor();
     await expect.poll(async () => (await files.locator('tbody tr').count())).toBe(3);
+    // sizes in the words the ready mail uses (shared/file-size.ts), not raw byte counts
+    const sizes = await files.locator('tbody tr td:nth-child(2)').allTextContents();
+    expect(sizes.map((t) => t.trim()).filter((t) => !/^\d[\d,.]* (kB|MB)$/.test(t))).toEqual([]);
     await screenshot(page, 'figures-ready');
 
     // the PNG behind the listed link is the ordered size: 90 mm wide at 300 DPI = 1063 px (../shared/facts.md §7)

@@ -1,17 +1,12 @@
 import type { MailMessage } from './mailer.js';
 import { escapeHtml } from './layout.js';
+import { fileSizeText } from '../../../shared/file-size.js';
 
 export type ReadyFile = { format: string; name: string; bytes: number; sha256: string; url: string };
 export type ReadyPrint = { slug: string; title: string; version: number; widthPx: number; heightPx: number; dpi: number; files: ReadyFile[]; expiresAt: Date };
 
 const FORMAT_NAMES: Record<string, string> = { png: 'PNG', tiff: 'TIFF (LZW)', pdf: 'PDF' };
 
-/** "1.4 MB", "812 kB", "97 bytes" (decimal units, as file managers show them). */
-export function sizeWords(bytes: number): string {
-  if (bytes < 1000) return `${bytes} bytes`;
-  if (bytes < 1e6) return `${(bytes / 1e3).toFixed(0)} kB`;
-  return `${(bytes / 1e6).toFixed(1)} MB`;
-}
 
 /**
  * "Your print is ready": one presigned, expiring link per file (the files are private to the lab
@@ -25,12 +20,12 @@ export function figureReadyMail(publicUrl: string, to: string, p: ReadyPrint): M
     `Version ${p.version} of your figure "${p.title}" is printed: ${p.widthPx.toLocaleString('en-US')} × ${p.heightPx.toLocaleString('en-US')} pixels at ${p.dpi} DPI.`,
     `The download links below work until ${until}; the figure's page always has fresh ones.`,
   ];
-  const fileLines = p.files.map((f) => `${FORMAT_NAMES[f.format] ?? f.format}, ${f.name}, ${sizeWords(f.bytes)}, sha256 ${f.sha256}\n${f.url}`);
+  const fileLines = p.files.map((f) => `${FORMAT_NAMES[f.format] ?? f.format}, ${f.name}, ${fileSizeText(f.bytes)}, sha256 ${f.sha256}\n${f.url}`);
   const text = `${intro.join('\n\n')}\n\n${fileLines.join('\n\n')}\n\nThe figure's page: ${page}\n`;
   const items = p.files
     .map(
       (f) =>
-        `<li style="margin-bottom:0.8em"><a href="${escapeHtml(f.url)}" style="color:#1d4e89">${escapeHtml(FORMAT_NAMES[f.format] ?? f.format)}: ${escapeHtml(f.name)}</a> (${escapeHtml(sizeWords(f.bytes))})<br><code style="font-size:0.8em;color:#555">sha256 ${escapeHtml(f.sha256)}</code></li>`,
+        `<li style="margin-bottom:0.8em"><a href="${escapeHtml(f.url)}" style="color:#1d4e89">${escapeHtml(FORMAT_NAMES[f.format] ?? f.format)}: ${escapeHtml(f.name)}</a> (${escapeHtml(fileSizeText(f.bytes))})<br><code style="font-size:0.8em;color:#555">sha256 ${escapeHtml(f.sha256)}</code></li>`,
     )
     .join('\n');
   const html = `<!doctype html><html><body style="font-family:'Work Sans',Helvetica,Arial,sans-serif;max-width:38em;margin:2em auto;line-height:1.5;color:#222">

@@ -1,9 +1,10 @@
 import type { FigureFile } from '../../api/contract.js';
+import { fileSizeText } from '../../../../shared/file-size.js';
 import { groupThousands } from '../../format.js';
 
 const FORMAT_NAMES: Record<string, string> = { png: 'PNG', tiff: 'TIFF (LZW)', pdf: 'PDF, vector text' };
 
-/** Exact byte counts and the full checksum, so a downloaded file can be checked against the page. */
+/** Sizes as the mail gives them (exact bytes on hover) and the full checksum, so a downloaded file can be checked against the page. */
 export function FileList({ files }: { files: FigureFile[] }) {
   return (
     <table className="w-full text-sm" data-testid="figure-files">
@@ -26,7 +27,9 @@ export function FileList({ files }: { files: FigureFile[] }) {
                 sha256 {f.sha256}
               </div>
             </td>
-            <td className="whitespace-nowrap py-2 pr-4 text-right tabular-nums">{groupThousands(f.bytes)} bytes</td>
+            <td className="whitespace-nowrap py-2 pr-4 text-right tabular-nums" title={`${groupThousands(f.bytes)} bytes`}>
+              {fileSizeText(f.bytes)}
+            </td>
             <td className="whitespace-nowrap py-2 text-right tabular-nums">
               {groupThousands(f.widthPx)} × {groupThousands(f.heightPx)}
             </td>
