@@ -122,6 +122,8 @@ describe('the deep-zoom viewer', () => {
     await signIn(other, otherLab.email, otherLab.password);
     await other.goto(`/runs/${square}/view`);
     await other.getByText('No run at this address').waitFor();
+    // under the site's masthead, as the other not-found pages
+    await other.getByRole('navigation', { name: 'main' }).waitFor();
     expect(await other.getByText('has not been drawn').count()).toBe(0);
     await screenshot(other, 'tour6-viewer-other-lab');
   });

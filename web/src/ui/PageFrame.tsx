@@ -4,13 +4,16 @@ import { useMe, useSetActiveLab } from '../api/queries.js';
 import type { MeResponse } from '../api/contract.js';
 import { buttonClass } from './Button.js';
 
-/** The paper every page sits on: masthead with navigation, active lab and person, then the page. */
-export function PageFrame() {
+/**
+ * The paper every page sits on: masthead with navigation, active lab and person, then the page (the
+ * route's, or `children` for a page drawn outside the frame's routes, such as the viewer's not-found).
+ */
+export function PageFrame({ children }: { children?: ReactNode }) {
   return (
     <div className="flex min-h-screen flex-col">
       <Masthead />
       <main className="mx-auto w-full max-w-7xl flex-1 px-8 pb-20 pt-10">
-        <Outlet />
+        {children ?? <Outlet />}
       </main>
       <footer className="border-t border-rule-soft py-6 text-center text-xs text-ink-faint">
         Toppleworks — exact sandpiles, printed to size

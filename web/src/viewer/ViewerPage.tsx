@@ -6,7 +6,7 @@ import { DarkSelect, LAYER_LABELS, PALETTE_OPTIONS, PileViewer, type DrawnLayer,
 import { drawnOf, paletteSegmentOf, pickLayer, pickPalette } from './drawnViews.js';
 import { arrayUrl, type ArtifactBase } from './runArtifacts.js';
 import { useViewInAddress } from './useViewInAddress.js';
-import { isRunMissing, RunNotFound } from '../pages/RunNotFound.js';
+import { isRunMissing, RunNotFoundPage } from '../pages/RunNotFound.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
 
 /**
@@ -108,16 +108,7 @@ export function ViewerPage() {
   const labFigures = useLabFigures(r?.labId);
   const link = r && !labFigures.isPending ? runLink(r.id, labFigures.data?.figures ?? [], window.location.origin) : null;
   // the API hides other labs' runs behind a 404: say so as /runs/:id does, not that a view is missing
-  if (run.isError && isRunMissing(run.error)) {
-    return (
-      <div className="min-h-screen bg-paper px-8 py-16">
-        <title>No run at this address · Toppleworks</title>
-        <div className="mx-auto max-w-3xl">
-          <RunNotFound />
-        </div>
-      </div>
-    );
-  }
+  if (run.isError && isRunMissing(run.error)) return <RunNotFoundPage />;
 
   return (
     <div className="min-h-screen bg-night text-white">
