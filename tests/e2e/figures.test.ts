@@ -239,6 +239,10 @@ describe('figures in the browser', () => {
     await screenshot(other, 'figures-other-lab-edit');
     await other.goto('/lab/figures/no-such-figure-here/edit');
     await other.getByText('No figure to edit here').waitFor();
+    // the lab page of a published figure sends another lab's member to its permanent link
+    await other.goto('/lab/figures/a-thousand-grains-on-z2');
+    await other.waitForURL(/\/f\/a-thousand-grains-on-z2$/);
+    await other.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
     expect(otherErrors).toEqual([]);
 
     // edited after publishing: readers keep the published words until a new version is printed and published

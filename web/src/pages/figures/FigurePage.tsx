@@ -1,10 +1,11 @@
-import { useParams } from 'react-router';
+import { Navigate, useParams } from 'react-router';
 import type { FigureVersion } from '../../api/contract.js';
-import { useFigureLive, useOrderPrint, usePublishFigure } from '../../api/queries.js';
+import { useFigureLive, useMe, useOrderPrint, usePublishFigure } from '../../api/queries.js';
 import { formatDateTime } from '../../format.js';
 import { Button, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHeading, Section, SkeletonBlock } from '../../ui/index.js';
 import { FileList } from './FileList.js';
 import { figureUrl, PermanentLink } from './PermanentLink.js';
+import { readerFor } from './readerFor.js';
 
 const STATUS_WORDS: Record<FigureVersion['status'], string> = { queued: 'waiting for the farm', printing: 'printing', ready: 'ready', failed: 'failed' };
 
@@ -20,10 +21,13 @@ export function FigurePage() {
   const q = useFigureLive(slug);
   const order = useOrderPrint(slug);
   const publish = usePublishFigure(slug);
-  if (q.isPending) return <SkeletonBlock lines={8} />;
+  const me = useMe();
+  if (q.isPending || me.isPending) return <SkeletonBlock lines={8} />;
   if (q.isError) return <ErrorPanel error={q.error} />;
   if (q.data.withdrawn) return <EmptyState title="Withdrawn">This figure was withdrawn and you are not a member of its lab.</EmptyState>;
   const f = q.data.figure;
+  const reader = readerFor(f, me.data ?? null);
+  if (reader) return <Navigate to={reader} replace />;
   const shown = f.publishedAt !== null && f.withdrawnAt === null;
   const busy = f.versions.some((v) => v.status === 'queued' || v.status === 'printing');
   const ready = f.versions.find((v) => v.status === 'ready');
