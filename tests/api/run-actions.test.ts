@@ -132,7 +132,8 @@ describe('the outcome mail of a failed run', () => {
     const mail = await waitForMail(h.env, authorEmail, /Run failed: Doomed/);
     expect(mail.text).toContain('the pile reached the edge of the allowed domain');
     expect(mail.text).toContain(`${h.env.PUBLIC_URL}/runs/${run.id}`);
-    expect(mail.text).toMatch(/after 5 min 0\d s/);
+    // the wait since submission; no farm time, since no worker ever started it
+    expect(mail.text).toMatch(/stopped 5 min 0\d s after you submitted it, without a result\./);
     // a run still going gets none
     const live = await submit('Still going');
     expect(await sendRunOutcomeMail(h.deps, live.id)).toBe('not-final');
