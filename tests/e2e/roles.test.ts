@@ -12,7 +12,8 @@ function demo(role: 'author' | 'manager' | 'admin') {
 }
 
 /** Each demo role signs in through the real form and sees the pages of that role; a reader sees only public pages. */
-describe('demo roles in the browser', () => {
+// each test takes 2–6 s alone, but shares two cores with the rest of the suite: one took over 30 s in a full run
+describe('demo roles in the browser', { timeout: 90_000 }, () => {
   let stack: Stack;
   let browser: Browser;
 
