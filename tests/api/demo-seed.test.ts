@@ -14,7 +14,7 @@ import type { AppDeps } from '../../api/src/deps.js';
 import { DEMO_FIGURE_SLUG, DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
 import { finishDemo } from '../../api/src/seed/demo-finisher.js';
 import { ensureBucket } from '../../api/src/storage/s3-blob-store.js';
-import { auditEvents, figures, figureVersions, runs, users } from '../../drizzle/schema.js';
+import { auditEvents, figures, figureVersions, ledgerEntries, runs, users } from '../../drizzle/schema.js';
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
 import { figureResponseSchema, listFiguresResponseSchema } from '../../shared/api/figures.js';
 import { QUEUE_NAMES } from '../../shared/jobs.js';
@@ -98,6 +98,23 @@ describe('demo seed', () => {
     expect(composed.map((f) => [f.slug, f.runId])).toEqual([[DEMO_FIGURE_SLUG, first.id]]);
     // one journal column at 300 DPI with a scale bar, its caption printed under the pile
     expect(composed[0]!.spec).toEqual(specWithCaption(figureSpecSchema.parse(startingComposition(first.id)), composed[0]!.caption));
+  });
+
+  it('has every run hold its credits against its author, as a submitted run does, so the credits pages count them', async () => {
+    // a lab with four finished runs once read "No usage yet" and a whole free allowance left
+    const rows = await database.db.select().from(runs);
+    const held = await database.db.select().from(ledgerEntries).where(eq(ledgerEntries.kind, 'reservation'));
+    expect(held.map((e) => [e.runId, e.memberId, e.labId]).sort()).toEqual(rows.map((r) => [r.id, r.authorId, r.labId]).sort());
+    expect(held.every((e) => (e.detail as { credits: number }).credits >= 1)).toBe(true);
+    // the author's own view of the month: the credits of her runs, held until the farm settles them
+    const who = sessionFrom(await api.post('/api/auth/sign-in').send({ email: author.email, password: author.password }));
+    const me = (await as(api.get('/api/me'), who)).body as { activeLabId: string; user: { id: string } };
+    const mine = held.filter((e) => e.memberId === me.user.id).reduce((s, e) => s + (e.detail as { credits: number }).credits, 0);
+    expect(mine).toBeGreaterThan(0);
+    const credits = (await as(api.get(`/api/labs/${me.activeLabId}/credits`), who).expect(200)).body as { me: { usedThisMonth: number } };
+    expect(credits.me.usedThisMonth).toBe(mine);
+    const usage = (await as(api.get(`/api/labs/${me.activeLabId}/credits/usage`), who).expect(200)).body as { rows: { memberId: string; runs: number }[] };
+    expect(usage.rows.find((r) => r.memberId === me.user.id)?.runs).toBe(rows.filter((r) => r.authorId === me.user.id).length);
   });
 
   it('publishes no figure without a print, as the publish route requires of everyone', async () => {

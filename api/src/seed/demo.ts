@@ -115,6 +115,12 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
         spec: specWithCaption(figureSpecSchema.parse(startingComposition(runIds[0]!)), caption),
       }).returning();
       await bookOfflinePurchase(tx, main!.id, 5000, 'demo-purchase-0001', who('manager'));
+      // its runs hold their credits as POST /api/runs has them hold them, each against its author, so
+      // the credits page, the quotas and the admin console count them like any other run (settled by the farm)
+      const mainRuns = await tx.select().from(runs).where(eq(runs.labId, main!.id));
+      for (const by of new Set(mainRuns.map((r) => r.authorId))) {
+        await reserveForRuns(tx, main!.id, by, mainRuns.filter((r) => r.authorId === by));
+      }
       await audit(tx, { actorId: who('author'), labId: main!.id, action: 'figure.create', subjectType: 'figure', subjectId: figure!.id, detail: { slug: figure!.slug } });
       // The other lab is over quota (for the admin console): an admin cut its free allowance for a pilot,
       // it bought a little, and its queued runs hold every credit it has.
