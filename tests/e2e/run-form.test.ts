@@ -117,6 +117,22 @@ describe('the new-run form with grain counts out of range', () => {
     await screenshot(page, 'run-form-zero-n');
     expect(posted).toEqual([]);
     expect(new URL(page.url()).pathname).toBe('/runs');
+
+    // a refusal goes as soon as its field is edited, not at the next submit ("title is required" once
+    // stayed under a title already typed); the other fields' refusals stay until they are edited
+    const title = page.getByLabel('Title');
+    await title.fill('');
+    await page.getByRole('button', { name: 'Start run' }).click();
+    await expect.poll(() => title.getAttribute('aria-invalid')).toBe('true');
+    expect(await n.getAttribute('aria-invalid')).toBe('true');
+    await title.fill('Some grains after all');
+    await expect.poll(() => title.getAttribute('aria-invalid')).toBeNull();
+    expect(await page.getByText('title is required').count()).toBe(0);
+    expect(await n.getAttribute('aria-invalid')).toBe('true');
+    await n.fill('1000');
+    await expect.poll(() => n.getAttribute('aria-invalid')).toBeNull();
+    await screenshot(page, 'run-form-refusals-fixed');
+    expect(posted).toEqual([]);
   });
 
   test('background heights: errors on the field as typed, and a background that can never stabilize refused there, nothing sent', async () => {

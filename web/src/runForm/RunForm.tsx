@@ -15,7 +15,7 @@ import { RenderChoices } from './RenderChoices.js';
 import { UnitCellEditor } from './UnitCellEditor.js';
 import { CreditGate } from '../pages/credits/CreditGate.js';
 import {
-  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, parseGrainList, parseGrains, seriesChipsOfForm, seriesScaleHint, specOfForm, type RunFormState,
+  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, errorsAfterEdit, parseGrainList, parseGrains, seriesChipsOfForm, seriesScaleHint, specOfForm, type RunFormState,
 } from './formState.js';
 
 function useDebounced<T>(value: T, ms: number): T {
@@ -39,7 +39,11 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
   const qc = useQueryClient();
   const [f, setF] = useState<RunFormState>(initial);
   const [errors, setErrors] = useState<FieldErrors>({});
-  const set = (patch: Partial<RunFormState>) => setF((old) => ({ ...old, ...patch }));
+  const set = (patch: Partial<RunFormState>) => {
+    setF((old) => ({ ...old, ...patch }));
+    // an error under a field the author is changing no longer describes it ("title is required" beside a title)
+    setErrors((old) => errorsAfterEdit(old, patch));
+  };
 
   // the estimate is of the largest run the form would start
   const specForEstimate = useMemo(() => {

@@ -4,7 +4,7 @@ import { createRunRequestSchema, runSpecSchema } from '../api/contract.js';
 import { validate } from '../ui/formErrors.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkCell } from './UnitCellEditor.js';
-import { emptyForm, formOfSpec, parseGrainList, parseGrains, resizeCell, seriesScaleHint, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
+import { emptyForm, errorsAfterEdit, formOfSpec, parseGrainList, parseGrains, resizeCell, seriesScaleHint, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
 
 describe('grain counts as people type them', () => {
   test('grouped, powers of ten and exponent notation', () => {
@@ -109,5 +109,34 @@ describe('what a series is rescaled by, as the form says it', () => {
     expect(hint('manhattan')).toMatch(/rescaled by √n$/);
     expect(hint('cubic')).toMatch(/rescaled by ∛n$/);
     expect(hint('square', 'cell')).toMatch(/rescaled by √n$/);
+  });
+});
+
+describe('errors of the last submit while the author fixes the form', () => {
+  const refused = () => {
+    const r = validate(createRunRequestSchema, { labId: randomUUID(), title: '', spec: specOfForm({ ...emptyForm(), chips: '0' }) });
+    if (r.ok) throw new Error('an empty title and 0 grains were accepted');
+    return r.errors;
+  };
+
+  test('typing a title takes "title is required" away and leaves the grain count refused', () => {
+    const errors = refused();
+    expect(Object.keys(errors).sort()).toEqual(['spec.chips', 'title']);
+    expect(errorsAfterEdit(errors, { title: 'One million grains' })).toEqual({ 'spec.chips': 'must be at least 1' });
+    expect(errorsAfterEdit(errors, { chips: '10^6' })).toEqual({ title: errors.title });
+  });
+
+  test('a field answers for its own paths and those under it, not for look-alike names', () => {
+    const errors = { 'spec.sources.0.at': 'x', 'spec.sourcesExtra': 'y', 'spec.background.cells': 'z', 'spec.background': 'w', seriesChips: 'v' };
+    expect(errorsAfterEdit(errors, { sources: [] })).toEqual({ 'spec.sourcesExtra': 'y', 'spec.background.cells': 'z', 'spec.background': 'w', seriesChips: 'v' });
+    // another lattice changes the thresholds a background is judged against
+    expect(errorsAfterEdit(errors, { preset: 'triangular' })).toEqual({ 'spec.sources.0.at': 'x', 'spec.sourcesExtra': 'y', seriesChips: 'v' });
+    expect(errorsAfterEdit(errors, { mode: 'single' })).toEqual({ 'spec.sources.0.at': 'x', 'spec.sourcesExtra': 'y', 'spec.background.cells': 'z', 'spec.background': 'w' });
+  });
+
+  test('an edit that touches no refused field keeps the same errors object (no extra render)', () => {
+    const errors = { title: 'title is required' };
+    expect(errorsAfterEdit(errors, { palettes: ['kiln'] })).toBe(errors);
+    expect(errorsAfterEdit({}, { title: 'x' })).toEqual({});
   });
 });

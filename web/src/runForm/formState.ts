@@ -245,3 +245,39 @@ export function resizeCell(g: PeriodicGraph, px: number, py: number): PeriodicGr
   );
   return { period: [px, py], neighbours };
 }
+
+/** The error paths (as the schemas name them) that each form field's value decides. */
+const ERROR_PATHS_OF: Record<keyof RunFormState, readonly string[]> = {
+  title: ['title'],
+  // the lattice sets the thresholds a background is judged against, so its errors go stale too
+  latticeMode: ['spec.lattice', 'spec.background'],
+  preset: ['spec.lattice', 'spec.background'],
+  cell: ['spec.lattice', 'spec.background'],
+  cellName: ['spec.lattice'],
+  mode: ['spec.chips', 'seriesChips'],
+  chips: ['spec.chips'],
+  seriesChips: ['seriesChips'],
+  backgroundKind: ['spec.background'],
+  height: ['spec.background'],
+  a: ['spec.background'],
+  b: ['spec.background'],
+  motif: ['spec.background'],
+  seed: ['spec.background'],
+  weights: ['spec.background'],
+  upload: ['spec.background'],
+  sources: ['spec.sources'],
+  layers: ['spec.render'],
+  palettes: ['spec.render'],
+  untoppled: ['spec.render'],
+};
+
+/**
+ * The errors of the last submit that still describe the form after an edit: an edited field's own
+ * errors go (the author is fixing it; the next submit judges it again), the others stay.
+ * @example errorsAfterEdit({ title: 'title is required', 'spec.chips': 'must be at least 1' }, { title: 'n = 10^6' }) // { 'spec.chips': … }
+ */
+export function errorsAfterEdit(errors: Record<string, string>, patch: Partial<RunFormState>): Record<string, string> {
+  const stale = Object.keys(patch).flatMap((k) => ERROR_PATHS_OF[k as keyof RunFormState] ?? []);
+  const kept = Object.entries(errors).filter(([path]) => !stale.some((p) => path === p || path.startsWith(`${p}.`)));
+  return kept.length === Object.keys(errors).length ? errors : Object.fromEntries(kept);
+}
