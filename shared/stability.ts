@@ -145,13 +145,14 @@ export function neverStabilizesReason(lattice: LatticeChoice, bg: Background): s
   if (floor === undefined || floor < edge) return undefined;
   if (edge < 1) return `every site of this lattice has at most one neighbour, so a grain is passed on for ever and no run on it can finish`;
   const threshold = shape.degree === shape.maxDegree ? `the toppling threshold ${shape.maxDegree} of every site of this lattice` : `${shape.maxDegree}, the largest toppling threshold of this lattice's sites`;
-  const fix = `use a background with heights of at most ${edge - 1} on some sites`;
+  const fix = edge === 1 ? 'use a background with some empty sites (height 0)' : `use a background with heights of at most ${edge - 1} on some sites`;
+  const grains = `${floor} grain${floor === 1 ? '' : 's'}`;
   // at the threshold or above, every site is unstable before any grain is added: say so, not "one below"
   if (floor > edge) {
-    return `${BACKGROUND_PUTS[bg.kind]} at least ${floor} grains on every site, at or above ${threshold}: every site topples from the start and the avalanche never stops, so the run could never finish; ${fix}`;
+    return `${BACKGROUND_PUTS[bg.kind]} at least ${grains} on every site, at or above ${threshold}: every site topples from the start and the avalanche never stops, so the run could never finish; ${fix}`;
   }
   return (
-    `${BACKGROUND_PUTS[bg.kind]} at least ${floor} grains on every site, and ${edge} is one below ${threshold}: ` +
+    `${BACKGROUND_PUTS[bg.kind]} at least ${grains} on every site, and ${edge} is one below ${threshold}: ` +
     `the first grain makes every site topple in turn and the avalanche never stops, so the run could never finish; ${fix}`
   );
 }
