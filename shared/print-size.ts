@@ -55,13 +55,18 @@ export function largestDpiWithin(widthMm: number, heightMm: number, maxPixels = 
 
 const grouped = (n: number) => n.toLocaleString('en-US');
 
-/** "2.23 gigapixels", "139 megapixels": the order of magnitude people compare. */
+/**
+ * "2.23 gigapixels", "139 megapixels", "1.42 megapixels": the order of magnitude people compare, to
+ * three digits like the file sizes (a single-column page of 1.42 million pixels once read "1 megapixels").
+ */
 export function pixelCountText(pixels: number): string {
-  if (pixels >= 1e9) {
-    const g = Number((pixels / 1e9).toPrecision(3));
-    return `${g} gigapixel${g === 1 ? '' : 's'}`;
-  }
-  if (pixels >= 1e6) return `${Math.round(pixels / 1e6).toLocaleString('en-US')} megapixels`;
+  const inUnit = (v: number, unit: string) => {
+    const shown = Number(v.toPrecision(3));
+    return `${shown.toLocaleString('en-US')} ${unit}${shown === 1 ? '' : 's'}`;
+  };
+  // compared after rounding, so 999,999,999 pixels reads "1 gigapixel" rather than "1,000 megapixels"
+  if (Number((pixels / 1e6).toPrecision(3)) >= 1000) return inUnit(pixels / 1e9, 'gigapixel');
+  if (pixels >= 1e6) return inUnit(pixels / 1e6, 'megapixel');
   return `${grouped(pixels)} pixels`;
 }
 

@@ -2,7 +2,7 @@ import { MAX_DPI, MIN_DPI } from '../../../../shared/print.js';
 import { MAX_PAGE_PIXELS, largestDpiWithin, pixelCountText } from '../../../../shared/print-size.js';
 import { groupThousands } from '../../format.js';
 import { Notice } from '../../ui/index.js';
-import { approxFileSize, printSizeRows } from './printSize.js';
+import { approxFileSize, fileSizesText, printSizeRows } from './printSize.js';
 
 /** Pages from a quarter of the limit up are slow to make, upload and open: said before the author saves. */
 const LARGE_PIXELS = MAX_PAGE_PIXELS / 4;
@@ -23,7 +23,7 @@ export function PrintSizeNote({ widthMm, heightMm, dpi }: { widthMm: number; hei
         At {dpi} DPI the page is {groupThousands(chosen.widthPx)} × {groupThousands(chosen.heightPx)} px ({pixelCountText(chosen.pixels)}); a print may have at most{' '}
         {pixelCountText(MAX_PAGE_PIXELS)}
         {most >= MAX_DPI ? ', which this page stays within at every resolution offered' : most >= MIN_DPI ? `: ${most} DPI on this page` : ', which this page exceeds at every resolution'}.
-        {chosen.fits ? ` Files of up to ${approxFileSize(chosen.bytes.tiff)} (TIFF), ${approxFileSize(chosen.bytes.png)} (PNG) and ${approxFileSize(chosen.bytes.pdf)} (PDF); piles with large regular patches come out smaller.` : ''}
+        {chosen.fits ? ` Files: ${fileSizesText(chosen.bytes)}; piles with large regular patches come out smaller.` : ''}
       </p>
       <table className="mt-2 w-full text-xs tabular-nums" data-testid="print-size-table">
         <caption className="sr-only">pixels and largest file sizes by resolution</caption>

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { approxFileSize, fixedPageMm, printSizeRows } from './printSize.js';
+import { pixelCountText } from '../../../../shared/print-size.js';
+import { approxFileSize, fileSizesText, fixedPageMm, printSizeRows } from './printSize.js';
 
 describe('the composer\'s print size table', () => {
   it('compares the presets and the chosen DPI, marking those past the limit, files growing with the square of the DPI', () => {
@@ -23,5 +24,20 @@ describe('the composer\'s print size table', () => {
     expect(approxFileSize(400_000)).toBe('under 1 MB');
     expect(approxFileSize(23_456_789)).toBe('about 23 MB');
     expect(approxFileSize(1_496_000_000)).toBe('about 1.5 GB');
+  });
+
+  it('says the largest files in one phrase, without "up to under 1 MB"', () => {
+    expect(fileSizesText({ tiff: 147_000, png: 45_800, pdf: 36_100 })).toBe('under 1 MB each');
+    expect(fileSizesText({ tiff: 3_800_000, png: 1_200_000, pdf: 400_000 })).toBe('TIFF up to about 3.8 MB, PNG up to about 1.2 MB and PDF under 1 MB');
+  });
+
+  it('counts pixels to three figures, in the singular for exactly one unit', () => {
+    // a single journal column (90 mm) at 300 DPI: 1,063 × 1,335 px once read "1 megapixels"
+    expect(pixelCountText(1063 * 1335)).toBe('1.42 megapixels');
+    expect(pixelCountText(1_000_000)).toBe('1 megapixel');
+    expect(pixelCountText(139_200_000)).toBe('139 megapixels');
+    expect(pixelCountText(999_999_999)).toBe('1 gigapixel');
+    expect(pixelCountText(39_732 * 56_173)).toBe('2.23 gigapixels');
+    expect(pixelCountText(531 * 668)).toBe('354,708 pixels');
   });
 });

@@ -22,6 +22,18 @@ export function printSizeRows(widthMm: number, heightMm: number, chosenDpi: numb
 }
 
 /** "about 24 MB", "about 1.3 GB" (powers of 1000, as file managers show them); estimates, so two figures at most. */
+/**
+ * The largest files a page makes, as one phrase: "under 1 MB each" when all are, else each format
+ * with its bound ("TIFF up to about 3.8 MB, PNG up to about 1.2 MB and PDF under 1 MB"), never
+ * "up to under 1 MB".
+ */
+export function fileSizesText(bytes: { tiff: number; png: number; pdf: number }): string {
+  const sizes = (['tiff', 'png', 'pdf'] as const).map((f) => [f.toUpperCase(), approxFileSize(bytes[f])] as const);
+  if (sizes.every(([, size]) => size === 'under 1 MB')) return 'under 1 MB each';
+  const each = sizes.map(([name, size]) => `${name} ${size.startsWith('about') ? `up to ${size}` : size}`);
+  return `${each.slice(0, -1).join(', ')} and ${each.at(-1)}`;
+}
+
 export function approxFileSize(bytes: number): string {
   if (bytes < 1e6) return 'under 1 MB';
   if (bytes < 1e9) return `about ${Number((bytes / 1e6).toPrecision(2)).toLocaleString('en-US')} MB`;
