@@ -1,6 +1,6 @@
 import { Bar, BarChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { groupThousands } from '../format.js';
-import { heightBars, meanHeightTicks, niceTicks, radialBinWidth, radialPoints, type RadialProfileLike } from './plotData.js';
+import { heightBars, meanHeightTicks, niceTicks, siteCountTicks, radialBinWidth, radialPoints, type RadialProfileLike } from './plotData.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
 
 /** Chart ink from the paper-and-ink palette of web/src/styles.css. */
@@ -9,6 +9,7 @@ const tick = { fontSize: 11, fill: INK.soft };
 
 /** Count of toppled sites per final height. */
 export function HeightBarsPlot({ heightCounts }: { heightCounts: readonly number[] }) {
+  const ticks = siteCountTicks(heightCounts);
   return (
     <figure aria-label="toppled sites per height" data-testid="plot-heights">
       <div className="h-56">
@@ -16,7 +17,7 @@ export function HeightBarsPlot({ heightCounts }: { heightCounts: readonly number
           <BarChart data={heightBars(heightCounts)} margin={{ top: 8, right: 12, bottom: 18, left: 12 }}>
             <CartesianGrid stroke={INK.rule} vertical={false} />
             <XAxis dataKey="height" tick={tick} label={{ value: 'final height (grains)', position: 'insideBottom', offset: -10, fontSize: 11 }} />
-            <YAxis tick={tick} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'sites', angle: -90, position: 'insideLeft', fontSize: 11 }} />
+            <YAxis tick={tick} domain={[0, ticks[ticks.length - 1]!]} ticks={ticks} tickFormatter={(v: number) => groupThousands(v)} width={64} label={{ value: 'sites', angle: -90, position: 'insideLeft', fontSize: 11 }} />
             <Tooltip formatter={(v) => [`${groupThousands(Number(v))} sites`, 'toppled']} labelFormatter={(h) => `height ${h}`} />
             <Bar dataKey="sites" fill={INK.press} isAnimationActive={false} />
           </BarChart>

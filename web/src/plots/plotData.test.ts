@@ -1,5 +1,5 @@
 import { describe, expect, test } from 'vitest';
-import { decadeTicks, heightBars, logLogSlope, meanHeightTicks, naturalFit, niceTicks, radialPoints, seriesDimension } from './plotData.js';
+import { decadeTicks, heightBars, logLogSlope, meanHeightTicks, naturalFit, niceTicks, radialPoints, seriesDimension, siteCountTicks } from './plotData.js';
 
 describe('series plot', () => {
   test('points on r = c·√n give back c and a log-log slope of exactly 1/2', () => {
@@ -91,5 +91,14 @@ describe('the mean-height axis of a radial profile', () => {
     expect(at(2.1, 2.4).ticks).toEqual([0, 1, 2, 3]);
     expect(at(1, 0.98)).toEqual({ ticks: [0, 0.25, 0.5, 0.75, 1], decimals: 2 });
     expect(at().ticks).toEqual([0, 1]);
+  });
+});
+
+describe('the sites axis of the height bars', () => {
+  test('round steps up to the tallest bar, not quarters of it', () => {
+    // the demo's triangular run of 5·10^4 grains on a constant 2 (our own computation): tallest bar 13,711
+    expect(siteCountTicks([4170, 474, 5844, 3726, 13711, 8772])).toEqual([0, 5000, 10000, 15000]);
+    expect(siteCountTicks([3, 1, 2])).toEqual([0, 1, 2, 3]);
+    expect(siteCountTicks([])).toEqual([0, 1]);
   });
 });

@@ -66,6 +66,14 @@ export function meanHeightTicks(points: readonly { meanHeight: number }[]): { ti
   return niceTicks(Math.max(0, ...points.map((p) => p.meanHeight)), 4);
 }
 
+/**
+ * Round ticks for the sites axis of the height bars, from 0 to at least the tallest bar: left to the
+ * chart library, a tallest bar of 13,711 gave 3,500, 7,000, 10,500, 14,000.
+ */
+export function siteCountTicks(heightCounts: readonly number[]): number[] {
+  return niceTicks(Math.max(0, ...heightCounts), 4).ticks;
+}
+
 /** Toppled sites per final height, as bars. */
 export function heightBars(heightCounts: readonly number[]): { height: string; sites: number }[] {
   return heightCounts.map((sites, h) => ({ height: String(h), sites }));
