@@ -223,6 +223,21 @@ describe('figures in the browser', () => {
     await reader.getByTestId('figure-zoom').waitFor({ timeout: 20_000 });
     await reader.waitForTimeout(1000);
     await screenshot(reader, 'figures-reader');
+    // on a phone (390 px across) the permanent link fits the screen: no sideways scrolling, the pile
+    // as wide as the window, the files and the citation inside it (the page once kept a laptop's 1,024 px)
+    await reader.setViewportSize({ width: 390, height: 844 });
+    await reader.goto(cited!);
+    await reader.getByTestId('figure-zoom').locator('canvas').first().waitFor({ timeout: 20_000 });
+    await reader.waitForTimeout(800);
+    expect(await reader.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth)).toBeLessThanOrEqual(0);
+    const zoom = (await reader.getByTestId('figure-zoom').boundingBox())!;
+    expect([zoom.x, zoom.width]).toEqual([0, 390]);
+    for (const id of ['figure-files', 'bibtex']) {
+      const box = (await reader.getByTestId(id).boundingBox())!;
+      expect(box.x + box.width, id).toBeLessThanOrEqual(390);
+    }
+    await screenshot(reader, 'figures-reader-phone');
+    await reader.setViewportSize({ width: 1280, height: 800 });
     await reader.goto('/figures');
     await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
     await reader.getByText('constant 0', { exact: true }).waitFor();

@@ -56,8 +56,9 @@ export function createRouter() {
             { path: '/reset-password', element: <ResetPassword /> },
             { path: '/invitations/:token', element: <InvitationPage /> },
             { path: '/figures', element: <FiguresIndex /> },
-            { path: '/f/:slug', element: <FigureReader /> },
-            { path: '/f/:slug/v/:version', element: <FigureReader /> },
+            // readers follow a paper's link on any screen: these fit a phone (PageFrame, styles.css)
+            { path: '/f/:slug', element: <FigureReader />, handle: { fitsPhones: true } },
+            { path: '/f/:slug/v/:version', element: <FigureReader />, handle: { fitsPhones: true } },
             { path: '/dev/outbox', ...lazyPage(() => import('./pages/DevOutbox.js'), (m) => m.DevOutbox) },
             {
               element: <RequireSignIn />,

@@ -74,9 +74,9 @@ export function FigureReader() {
     <article>
       <title>{`${title} · Toppleworks`}</title>
       <p className="text-xs font-semibold uppercase tracking-[0.14em] text-ink-faint">Figure · {f.labName}</p>
-      <div className="mt-2 flex items-start justify-between gap-6">
-        <div>
-          <h1 className="text-3xl font-semibold tracking-tight">{title}</h1>
+      <div className="mt-2 flex flex-wrap items-start justify-between gap-x-6 gap-y-3">
+        <div className="min-w-0">
+          <h1 className="text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] sm:text-3xl">{title}</h1>
           <p className="mt-2 text-base text-ink-soft">{f.authors.join(', ')}</p>
         </div>
         {f.canEdit ? (
@@ -118,7 +118,7 @@ export function FigureReader() {
           </Suspense>
         </div>
       ) : null}
-      <div className="mt-8 grid grid-cols-[1.4fr_1fr] gap-8">
+      <div className="mt-8 grid grid-cols-1 gap-8 md:grid-cols-[1.4fr_1fr]">
         <Section title="Caption">
           <p className="whitespace-pre-line text-[15px] leading-relaxed text-ink" data-testid="figure-caption">
             {caption}

@@ -1,5 +1,5 @@
 import type { ReactNode } from 'react';
-import { Link, NavLink, Outlet } from 'react-router';
+import { Link, NavLink, Outlet, useMatches } from 'react-router';
 import { useMe, useSetActiveLab } from '../api/queries.js';
 import type { MeResponse } from '../api/contract.js';
 import { buttonClass } from './Button.js';
@@ -9,10 +9,12 @@ import { buttonClass } from './Button.js';
  * route's, or `children` for a page drawn outside the frame's routes, such as the viewer's not-found).
  */
 export function PageFrame({ children }: { children?: ReactNode }) {
+  // a route whose handle says it fits phones lifts the page's laptop minimum width (styles.css)
+  const fitsPhones = useMatches().some((m) => (m.handle as { fitsPhones?: boolean } | undefined)?.fitsPhones === true);
   return (
-    <div className="flex min-h-screen flex-col">
+    <div className="flex min-h-screen flex-col" data-fits-phones={fitsPhones ? '' : undefined}>
       <Masthead />
-      <main className="mx-auto w-full max-w-7xl flex-1 px-8 pb-20 pt-10">
+      <main className="mx-auto w-full max-w-7xl flex-1 px-4 pb-20 pt-10 sm:px-8">
         {children ?? <Outlet />}
       </main>
       <footer className="border-t border-rule-soft py-6 text-center text-xs text-ink-faint">
@@ -27,24 +29,24 @@ function Masthead() {
   const signedIn = me.data ?? null;
   return (
     <header className="border-b border-rule bg-sheet/80 backdrop-blur">
-      <div className="mx-auto flex h-16 max-w-7xl items-center gap-8 px-8">
-        <Link to="/" className="flex items-center gap-2.5 text-ink no-underline">
+      <div className="mx-auto flex h-16 max-w-7xl items-center gap-3 px-4 sm:gap-8 sm:px-8">
+        <Link to="/" className="flex items-center gap-2.5 text-ink no-underline" aria-label="Toppleworks">
           <Wordmark />
-          <span className="text-lg font-semibold tracking-tight">Toppleworks</span>
+          <span className="hidden text-lg font-semibold tracking-tight sm:inline">Toppleworks</span>
         </Link>
-        <nav aria-label="main" className="flex items-center gap-1 text-sm">
+        <nav aria-label="main" className="flex items-center text-sm sm:gap-1">
           {signedIn ? <NavItem to="/runs">Runs</NavItem> : null}
           <NavItem to="/figures">Figures</NavItem>
           {signedIn ? <NavItem to="/lab">Lab</NavItem> : null}
           {signedIn?.user.isAdmin ? <NavItem to="/admin">Site admin</NavItem> : null}
         </nav>
-        <div className="ml-auto flex items-center gap-4">
+        <div className="ml-auto flex items-center gap-3 sm:gap-4">
           {me.isPending ? null : signedIn ? (
             <>
               <LabSwitcher me={signedIn} />
               <Link to="/account" className="flex items-center gap-2 text-sm text-ink no-underline hover:text-press" title="Your account">
                 <Initials name={signedIn.user.name} />
-                <span className="max-w-40 truncate" data-testid="signed-in-name">{signedIn.user.name}</span>
+                <span className="hidden max-w-40 truncate sm:inline" data-testid="signed-in-name">{signedIn.user.name}</span>
               </Link>
             </>
           ) : (
@@ -68,7 +70,7 @@ function NavItem({ to, children }: { to: string; children: ReactNode }) {
     <NavLink
       to={to}
       className={({ isActive }) =>
-        `rounded-md px-3 py-1.5 no-underline ${isActive ? 'bg-press-tint font-medium text-press' : 'text-ink-soft hover:bg-paper hover:text-ink'}`
+        `rounded-md px-2 py-1.5 no-underline sm:px-3 ${isActive ? 'bg-press-tint font-medium text-press' : 'text-ink-soft hover:bg-paper hover:text-ink'}`
       }
     >
       {children}
@@ -87,7 +89,8 @@ function LabSwitcher({ me }: { me: MeResponse }) {
     );
   }
   return (
-    <label className="flex items-center gap-2 text-xs text-ink-soft">
+    // on a phone (only pages that fit one) the lab is chosen on the laptop pages; the masthead keeps to one line
+    <label className="hidden items-center gap-2 text-xs text-ink-soft md:flex">
       <span>Lab</span>
       <select
         aria-label="active lab"
