@@ -97,21 +97,25 @@ describe('buying compute credits in the browser', () => {
     await screenshot(page, 'credits-run-form');
 
     // a run submitted as the web app would (session cookie + CSRF header); no worker runs here, so it stays reserved
-    const status = await page.evaluate(async () => {
+    // the demo's runs hold credits too (each against its author), so the manager's own row is compared before and after
+    const { status, before } = await page.evaluate(async () => {
       const csrf = decodeURIComponent(document.cookie.split('; ').find((c) => c.startsWith('tw_csrf='))!.slice('tw_csrf='.length));
       const me = await (await fetch('/api/me')).json();
+      const rows = (await (await fetch(`/api/labs/${me.activeLabId}/credits/usage`)).json()).rows as { memberId: string; runs: number }[];
       const res = await fetch('/api/runs', {
         method: 'POST',
         headers: { 'Content-Type': 'application/json', 'X-CSRF-Token': csrf },
         body: JSON.stringify({ labId: me.activeLabId, title: 'A million grains', spec: { lattice: { preset: 'square' }, chips: 1_000_000 } }),
       });
-      return res.status;
+      return { status: res.status, before: rows.filter((r) => r.memberId === me.user.id).reduce((n, r) => n + r.runs, 0) };
     });
     expect(status).toBe(201);
     await page.goto('/lab/credits');
     const usage = page.getByRole('table', { name: 'usage per month and member' });
-    await usage.locator('tbody tr').first().waitFor();
-    expect(await usage.locator('tbody tr').first().textContent()).toContain('Perrin Ashcombe');
+    const mine = usage.locator('tbody tr', { hasText: 'Perrin Ashcombe' });
+    await mine.waitFor();
+    // columns: month, member, runs, charged, of which free, reserved
+    expect(Number((await mine.locator('td').nth(2).textContent())!.replaceAll(',', ''))).toBe(before + 1);
     expect(await page.locator('figure[aria-label="credits used per month"] .recharts-bar-rectangle').count()).toBeGreaterThan(0);
     await expect.poll(() => page.getByTestId('credits-reserved').textContent()).not.toBe('0');
     await screenshot(page, 'credits-usage');
