@@ -1,4 +1,4 @@
-import { spawn } from 'node:child_process';
+import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { createRequire } from 'node:module';
@@ -24,15 +24,21 @@ export interface CliRun {
  * process to do the same (about a fifth of each case's CPU time, measured).
  */
 export function stabilizeCli(args: string[], cwd: string): Promise<CliRun> {
-  return new Promise((done, fail) => {
-    const child = spawn(process.execPath, ['--import', TSX_LOADER, CLI, ...args], { cwd, stdio: ['ignore', 'pipe', 'pipe'] });
+  return startCli(args, cwd).done;
+}
+
+/** The same, with the child at hand (to interrupt it). */
+export function startCli(args: string[], cwd: string): { child: ChildProcess; done: Promise<CliRun> } {
+  const child = spawn(process.execPath, ['--import', TSX_LOADER, CLI, ...args], { cwd, stdio: ['ignore', 'pipe', 'pipe'] });
+  const done = new Promise<CliRun>((resolveRun, fail) => {
     let stdout = '';
     let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (s: string) => (stdout += s));
-    child.stderr.setEncoding('utf8').on('data', (s: string) => (stderr += s));
+    child.stdout!.setEncoding('utf8').on('data', (s: string) => (stdout += s));
+    child.stderr!.setEncoding('utf8').on('data', (s: string) => (stderr += s));
     child.on('error', fail);
-    child.on('close', (status) => done({ status, stdout, stderr }));
+    child.on('close', (status) => resolveRun({ status, stdout, stderr }));
   });
+  return { child, done };
 }
 
 /** A scratch folder for one test: run the CLI in it, list and read what it wrote. */
@@ -53,6 +59,10 @@ export class Workspace {
 
   run(args: string[]): Promise<CliRun> {
     return stabilizeCli(args, this.dir);
+  }
+
+  start(args: string[]): { child: ChildProcess; done: Promise<CliRun> } {
+    return startCli(args, this.dir);
   }
 
   /** Run, expect success with a clean stderr. */

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
@@ -249,6 +249,11 @@ describe.concurrent('stabilize CLI: bad input exits non-zero with one stderr lin
     ['source with the wrong number of coordinates', ['--lattice', 'line', '--chips', '5', '--source', '1,2:3', ...out], /has 2 coordinate\(s\); this lattice needs 1/, () => {}],
     ['sidecar would overwrite the lattice file', ['--lattice', 'periodic:h.json', '--chips', '5', ...out], /output h\.json would overwrite an input file/, (d) => writeFileSync(join(d, 'h.json'), JSON.stringify({ period: [1, 1], neighbours: [[[[1, 0], [-1, 0], [0, 1], [0, -1]]]] }))],
     ['output folder missing', ['--lattice', 'square', '--chips', '5', '--heights', 'nowhere/h.npy'], /folder .* does not exist/, () => {}],
+    ['--checkpoint-every without --checkpoint', ['--lattice', 'square', '--chips', '5', '--checkpoint-every', '60', ...out], /--checkpoint-every needs --checkpoint FILE/, () => {}],
+    ['--checkpoint-every of no time', ['--lattice', 'square', '--chips', '5', '--checkpoint', 's.snap', '--checkpoint-every', '0', ...out], /--checkpoint-every must be a positive number of seconds, got '0'/, () => {}],
+    ['checkpoint named like an output', ['--lattice', 'square', '--chips', '5', '--checkpoint', 'h.json', ...out], /--checkpoint h\.json must not be an input or output file/, () => {}],
+    // a damaged snapshot is refused and kept (it may hold hours of work), never silently replaced
+    ['damaged checkpoint', ['--lattice', 'square', '--chips', '5', '--checkpoint', 's.snap', ...out], /--checkpoint s\.snap: .*; remove it to start afresh$/, (d) => writeFileSync(join(d, 's.snap'), 'not a snapshot')],
   ];
 
   it.for(cases)('%s', async ([label, args, message, setup], { onTestFinished }) => {
@@ -286,4 +291,46 @@ describe.concurrent('stabilize CLI: bad input exits non-zero with one stderr lin
     }
     expect(w.files()).not.toContain('h.npy');
   });
+});
+
+describe('stabilize CLI: --checkpoint', () => {
+  /** Starts a run, interrupts it (SIGINT) once it has saved, and returns what it printed. */
+  async function interruptAfterSave(w: Workspace, args: string[]) {
+    const { child, done } = w.start(args);
+    let ended = false;
+    void done.then(() => (ended = true));
+    while (!ended && !existsSync(w.path('s.snap'))) await new Promise((r) => setTimeout(r, 20));
+    child.kill('SIGINT');
+    return done;
+  }
+
+  it('an interrupted run continues from its snapshot to the same result as an uninterrupted one', async ({ onTestFinished }) => {
+    // 4·10^6 grains take the seeded fast path for a few seconds: long enough to be caught saving
+    const args = ['--lattice', 'square', '--chips', '4e6', '--heights', 'h.npy'];
+    const whole = new Workspace(onTestFinished);
+    const expected = await whole.json(args);
+    expect(expected.checkpoint).toBeUndefined();
+
+    const w = new Workspace(onTestFinished);
+    const withSaves = [...args, '--checkpoint', 's.snap', '--checkpoint-every', '0.2'];
+    const stopped = await interruptAfterSave(w, withSaves);
+    expect(stopped.status).toBe(130);
+    expect(stopped.stderr.trim()).toBe('stabilize: interrupted; no output written; s.snap holds the last saved state, and the same command continues from it');
+    expect(w.files()).toEqual(['s.snap']);
+
+    // another problem must not continue from this snapshot, and the snapshot survives the refusal
+    const other = await w.run(['--lattice', 'square', '--chips', '3e6', '--heights', 'h.npy', '--checkpoint', 's.snap']);
+    expect(other.status).toBe(2);
+    expect(other.stderr).toMatch(/^stabilize: the checkpoint is not of this run: .*; remove it to start afresh\n$/);
+    expect(w.files()).toEqual(['s.snap']);
+
+    const resumed = await w.json(withSaves);
+    expect(resumed.checkpoint).toMatchObject({ file: 's.snap', resumed: true });
+    // the snapshot is gone once the outputs are written; they are the uninterrupted run's, bit for bit
+    expect(w.files()).toEqual(['h.json', 'h.npy']);
+    expect(w.readJson('h.json').heights.sha256).toBe(whole.readJson('h.json').heights.sha256);
+    for (const key of ['totalTopplings', 'toppledSites', 'originOdometer', 'shape', 'heightCounts', 'certificate'] as const) {
+      expect(resumed[key]).toEqual(expected[key]);
+    }
+  }, 120_000); // four runs of a few seconds each, on a machine shared with the rest of the suite
 });

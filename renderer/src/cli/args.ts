@@ -17,7 +17,13 @@ export interface CliOptions {
   progress: boolean;
   threads: number | undefined;
   maxSites: number | undefined;
+  /** snapshot file: resumed from when it exists, rewritten every `checkpointEvery` seconds */
+  checkpoint: string | undefined;
+  checkpointEvery: number;
 }
+
+/** Ten minutes: a kill loses at most that much work, and a 10^9 run writes a few dozen snapshots. */
+export const DEFAULT_CHECKPOINT_SECONDS = 600;
 
 const OPTIONS = {
   help: { type: 'boolean', short: 'h' },
@@ -32,6 +38,8 @@ const OPTIONS = {
   progress: { type: 'boolean' },
   threads: { type: 'string' },
   'max-sites': { type: 'string' },
+  checkpoint: { type: 'string' },
+  'checkpoint-every': { type: 'string' },
 } as const;
 
 const VALUE_FLAGS = new Set(
@@ -61,6 +69,10 @@ exactly, and write the final heights and the odometer as NumPy .npy arrays.
   --odometer-dtype T        int64 (default) | float64
   --threads K               worker threads for the engine
   --max-sites M             refuse runs whose array would exceed M sites
+  --checkpoint FILE         save the run's state to FILE while it computes and, when FILE exists,
+                            continue from it (same command, same engine version); FILE is removed
+                            once the outputs are written
+  --checkpoint-every S      seconds between saves (default ${DEFAULT_CHECKPOINT_SECONDS})
   --progress                print progress to stderr
   --json                    print exactly one JSON object to stdout
   -h, --help                this text
@@ -86,6 +98,13 @@ function joinNegativeValues(argv: readonly string[]): string[] {
   return out;
 }
 
+/** A positive number of seconds ("600", "0.5"). */
+function parseSeconds(flag: string, raw: string): number {
+  const value = Number(raw.trim());
+  if (raw.trim() === '' || !Number.isFinite(value) || value <= 0) throw new CliInputError(`${flag} must be a positive number of seconds, got '${raw}'`);
+  return value;
+}
+
 /** Parse argv (without node and script) into options; every problem becomes one CliInputError line. */
 export function parseCliArgs(argv: readonly string[]): CliOptions {
   let values: ReturnType<typeof parseArgs<{ options: typeof OPTIONS; strict: true; allowPositionals: false }>>['values'];
@@ -97,7 +116,7 @@ export function parseCliArgs(argv: readonly string[]): CliOptions {
   }
   const help = values.help ?? false;
   if (help) {
-    return { help, lattice: '', chips: 0, sources: [], background: undefined, heights: undefined, odometer: undefined, odometerDtype: 'int64', json: false, progress: false, threads: undefined, maxSites: undefined };
+    return { help, lattice: '', chips: 0, sources: [], background: undefined, heights: undefined, odometer: undefined, odometerDtype: 'int64', json: false, progress: false, threads: undefined, maxSites: undefined, checkpoint: undefined, checkpointEvery: DEFAULT_CHECKPOINT_SECONDS };
   }
   if (values.lattice === undefined || values.lattice.trim() === '') throw new CliInputError('--lattice is required (see --help)');
   if (values.chips === undefined) throw new CliInputError('--chips is required (see --help)');
@@ -112,6 +131,12 @@ export function parseCliArgs(argv: readonly string[]): CliOptions {
   if (values.heights !== undefined && values.heights === values.odometer) {
     throw new CliInputError('--heights and --odometer must be different files');
   }
+  if (values['checkpoint-every'] !== undefined && values.checkpoint === undefined) {
+    throw new CliInputError('--checkpoint-every needs --checkpoint FILE');
+  }
+  if (values.checkpoint !== undefined && (values.checkpoint.trim() === '' || /\.npy$/i.test(values.checkpoint))) {
+    throw new CliInputError(`--checkpoint must name a snapshot file (not an .npy array), got '${values.checkpoint}'`);
+  }
   return {
     help,
     lattice: values.lattice.trim(),
@@ -125,5 +150,7 @@ export function parseCliArgs(argv: readonly string[]): CliOptions {
     progress: values.progress ?? false,
     threads: values.threads === undefined ? undefined : parseCount('--threads', values.threads, { min: 1 }),
     maxSites: values['max-sites'] === undefined ? undefined : parseCount('--max-sites', values['max-sites'], { min: 1 }),
+    checkpoint: values.checkpoint,
+    checkpointEvery: values['checkpoint-every'] === undefined ? DEFAULT_CHECKPOINT_SECONDS : parseSeconds('--checkpoint-every', values['checkpoint-every']),
   };
 }

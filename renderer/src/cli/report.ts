@@ -11,6 +11,8 @@ export interface RunReport extends RunStatsJson {
   background: string;
   engineVersion: string;
   files: { heights: string | null; odometer: string | null; sidecar: string | null };
+  /** with --checkpoint: whether this invocation continued from the file, and how often it saved */
+  checkpoint?: { file: string; resumed: boolean; saves: number };
 }
 
 /** The short human summary: numbers grouped by thousands, n also as a power of ten. */
@@ -26,7 +28,7 @@ export function formatReport(r: RunReport): string {
   row('radius', `${r.radiusEuclidean.toFixed(2)} Euclidean${radius}, ${groupThousands(r.radiusLinf)} max-norm`);
   row('array', `${r.shape.map(groupThousands).join(' × ')} cells, origin at [${r.origin.join(', ')}]`);
   row('heights', r.heightCounts.map((c, h) => `${h}: ${groupThousands(c)}`).join('   ') + '  (toppled sites)');
-  row('time', `${r.seconds.toFixed(r.seconds < 10 ? 3 : 1)} s`);
+  row('time', `${r.seconds.toFixed(r.seconds < 10 ? 3 : 1)} s` + (r.checkpoint?.resumed ? ` since continuing from ${r.checkpoint.file}` : ''));
   const written = [r.files.heights, r.files.sidecar, r.files.odometer].filter((f): f is string => f !== null);
   if (written.length) row('wrote', written.join(', '));
   return lines.join('\n');

@@ -3,8 +3,10 @@
  * arguments, input files (JSON, .npy, PNG), atomic output writing and the report.
  * Run `--help` for the contract; exit codes are listed in errors.ts.
  */
+import { existsSync, rmSync } from 'node:fs';
 import { basename, resolve } from 'node:path';
-import { ENGINE_VERSION, resolveProblem, runStatsToJSON, stabilize } from '../engine/index.js';
+import { ENGINE_VERSION, isSnapshotError, resolveProblem, runStatsToJSON, stabilize, type Snapshot } from '../engine/index.js';
+import { readSnapshotFile, writeSnapshotFile } from '../farm/checkpoint-file.js';
 import { encodeNpy } from '../npy/index.js';
 import { parseCliArgs, USAGE } from './args.js';
 import { assertWritable, writeFilesAtomically, type OutputFile } from './atomic-write.js';
@@ -28,11 +30,30 @@ export async function main(argv: readonly string[], signal: AbortSignal): Promis
   for (const out of outputs) {
     if (inputPaths.some((input) => resolve(input) === resolve(out))) throw new CliInputError(`output ${out} would overwrite an input file`);
   }
+  const checkpoint = options.checkpoint;
+  if (checkpoint !== undefined && [...outputs, ...inputPaths].some((p) => resolve(p) === resolve(checkpoint))) {
+    throw new CliInputError(`--checkpoint ${checkpoint} must not be an input or output file`);
+  }
 
   const problem = resolveProblem(spec, upload ? { background: upload } : undefined);
+  const resume = checkpoint !== undefined && existsSync(checkpoint) ? readCheckpoint(checkpoint) : undefined;
+  if (resume && options.progress) process.stderr.write(`continuing from ${checkpoint}\n`);
+  let saves = 0;
   const outcome = await stabilize(problem, {
     ...(options.threads !== undefined ? { threads: options.threads } : {}),
     ...(options.maxSites !== undefined ? { maxSites: options.maxSites } : {}),
+    ...(checkpoint !== undefined
+      ? {
+          checkpoint: {
+            everySeconds: options.checkpointEvery,
+            save: (s: Snapshot) => {
+              writeSnapshotFile(checkpoint, s);
+              saves += 1;
+            },
+          },
+        }
+      : {}),
+    ...(resume ? { resume } : {}),
     signal,
     // the engine already throttles its reports; fraction is the share of grains fed in so far
     onProgress: options.progress
@@ -47,6 +68,7 @@ export async function main(argv: readonly string[], signal: AbortSignal): Promis
     background: options.background ?? 'constant:0',
     engineVersion: ENGINE_VERSION,
     files: { heights: options.heights ?? null, odometer: options.odometer ?? null, sidecar: sidecar ?? null },
+    ...(checkpoint !== undefined ? { checkpoint: { file: checkpoint, resumed: resume !== undefined, saves } } : {}),
   };
 
   const files: OutputFile[] = [];
@@ -70,8 +92,23 @@ export async function main(argv: readonly string[], signal: AbortSignal): Promis
     files.push({ path: sidecar, chunks: [new TextEncoder().encode(toJson(body, 2) + '\n')] });
   }
   await writeFilesAtomically(files);
+  // the outputs are complete, so the saved state has nothing more to give
+  if (checkpoint !== undefined) rmSync(checkpoint, { force: true });
 
   return { code: EXIT.ok, stdout: options.json ? toJson(report) : formatReport(report) };
+}
+
+/**
+ * The snapshot a previous invocation left. A damaged or foreign file is bad input (exit 2), never
+ * silently replaced: it may hold hours of work on another problem.
+ */
+function readCheckpoint(path: string): Snapshot {
+  try {
+    return readSnapshotFile(path);
+  } catch (error) {
+    if (isSnapshotError(error)) throw new CliInputError(`--checkpoint ${path}: ${(error as Error).message}; remove it to start afresh`);
+    throw error;
+  }
 }
 
 /** Map a failure to its exit code and one stderr line. */
@@ -79,9 +116,20 @@ export function describeFailure(error: unknown): { code: number; message: string
   const name = (error as { name?: string })?.name;
   const message = String((error as Error)?.message ?? error).replace(/\s*\n\s*/g, ' ');
   if (error instanceof CliInputError || name === 'EngineInputError') return { code: EXIT.input, message };
+  if (name === 'SnapshotError') return { code: EXIT.input, message: `the checkpoint is not of this run: ${message}; remove it to start afresh` };
   if (name === 'ExplosionError' || name === 'NotStabilizedError') return { code: EXIT.engine, message };
   if (name === 'AbortError') return { code: EXIT.interrupted, message: 'interrupted; no output written' };
   return { code: EXIT.internal, message: `unexpected failure: ${message}` };
+}
+
+/** The --checkpoint file of an interrupted command, when one was saved. */
+function savedCheckpointOf(argv: readonly string[]): string | undefined {
+  try {
+    const file = parseCliArgs(argv).checkpoint;
+    return file !== undefined && existsSync(file) ? file : undefined;
+  } catch {
+    return undefined;
+  }
 }
 
 async function run(): Promise<void> {
@@ -97,7 +145,8 @@ async function run(): Promise<void> {
   } catch (error) {
     const failure = controller.signal.aborted ? describeFailure(controller.signal.reason) : describeFailure(error);
     code = failure.code;
-    process.stderr.write(`stabilize: ${failure.message}\n`);
+    const saved = code === EXIT.interrupted ? savedCheckpointOf(process.argv.slice(2)) : undefined;
+    process.stderr.write(`stabilize: ${failure.message}${saved ? `; ${saved} holds the last saved state, and the same command continues from it` : ''}\n`);
     if (code === EXIT.internal && process.env.TOPPLEWORKS_DEBUG) console.error(error);
   }
   // Engine worker threads must not keep a finished command alive.

@@ -8,7 +8,10 @@ import type { KernelGeometry, KernelTables } from './kernel.js';
 export function bootWorker(here: string, name: string): Worker {
   if (here.endsWith('.ts')) {
     const url = new URL(`${name}.ts`, here).href;
-    return new Worker(`import('tsx/esm/api').then((m) => { m.register(); return import(${JSON.stringify(url)}); })`, { eval: true });
+    // resolved here, not in the worker: an eval'd worker resolves bare names from the current
+    // folder, which is not the repository when the command runs elsewhere
+    const tsx = import.meta.resolve('tsx/esm/api');
+    return new Worker(`import(${JSON.stringify(tsx)}).then((m) => { m.register(); return import(${JSON.stringify(url)}); })`, { eval: true });
   }
   return new Worker(new URL(`${name}.js`, here));
 }

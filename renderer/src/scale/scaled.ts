@@ -224,7 +224,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let lastYield = performance.now();
   let lastSave = performance.now();
   let base: ReturnType<typeof snapshotBase> | undefined;
-  const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false, folded: Fold | null = null) => {
+  const report = (stage: string, level: number, inLevel: number, grid: ScaleGrid | null, force = false, folded: Fold | null = null, knownToppled = 0) => {
     if (!options.onProgress) return;
     const now = performance.now();
     if (!force && now - lastReport < 500) return;
@@ -234,7 +234,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     const f = stage === 'done' ? 1 : Math.min(0.99, (done + weights[level]! * Math.min(0.99, inLevel)) / totalWeight);
     best = Math.max(best, f);
     const elapsed = (now - t0) / 1000;
-    let toppled = 0;
+    let toppled = knownToppled;
     if (grid && folded) toppled = countToppledFolded(grid, folded);
     else if (grid) toppled = countToppled(grid);
     options.onProgress({
@@ -413,7 +413,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   lastMark = null;
   outcome.stats.certificate = certificate;
   outcome.stats.seconds = (performance.now() - t0) / 1000;
-  report('done', 0, 1, null, true);
+  report('done', 0, 1, null, true, null, outcome.stats.toppledSites);
   return outcome;
   }
 }
