@@ -87,6 +87,20 @@ export function pageTooLargeMessage(what: string, widthMm: number, heightMm: num
   return `at ${dpi} DPI ${what} would be ${size}, more than the ${limit} a print may have; ${advice}`;
 }
 
+/**
+ * The longest page side, 200 in (5,080 mm). PDF's default unit is 1/72 in and readers are only
+ * required to open pages up to 14,400 units on a side (PDF Reference 1.7, Appendix C, implementation
+ * limits; from memory). Every format keeps it, so one composition prints as PNG, TIFF and PDF alike;
+ * at the lowest resolution, 150 DPI, such a side is 30,000 px.
+ */
+export const MAX_PAGE_SIDE_MM = 200 * MM_PER_INCH;
+
+/** Why a page is too long on a side to print (`what` as in pageTooLargeMessage); null when it fits. */
+export function pageSideTooLongMessage(what: string, widthMm: number, heightMm: number): string | null {
+  if (Math.max(widthMm, heightMm) <= MAX_PAGE_SIDE_MM) return null;
+  return `${what} is longer than ${grouped(MAX_PAGE_SIDE_MM)} mm (200 in) on a side, the largest page PDF readers open; choose a smaller page`;
+}
+
 /** Upper estimates of each file's size for a page of `pixels`, in bytes. */
 export function estimatePrintBytes(pixels: number): Record<keyof typeof PRINT_BYTES_PER_PIXEL, number> {
   return {

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { layerSchema, paletteIdSchema, untoppledStyleSchema, DEFAULT_PALETTE_ID } from './palettes.js';
 import { naturalScale, printScaleSymbol } from './natural-scale.js';
 import { lineBandRows, sliceText } from './drawn-plane.js';
-import { MM_PER_INCH, pageTooLargeMessage, pixelsFor } from './print-size.js';
+import { MM_PER_INCH, pageSideTooLongMessage, pageTooLargeMessage, pixelsFor } from './print-size.js';
 
 export { MM_PER_INCH, MAX_PAGE_PIXELS, pixelsFor } from './print-size.js';
 
@@ -168,7 +168,10 @@ export type FigureSpecInput = z.input<typeof figureSpecSchema>;
 export const printableFigureSpecSchema = figureSpecSchema.superRefine((s, ctx) => {
   const mm = pageSizeMm(s.size);
   if (mm.height === null) return;
-  const message = pageTooLargeMessage(pageName(s.size, mm.width, mm.height), mm.width, mm.height, s.dpi, MIN_DPI);
+  const name = pageName(s.size, mm.width, mm.height);
+  const tooLong = pageSideTooLongMessage(name, mm.width, mm.height);
+  if (tooLong) return ctx.addIssue({ code: 'custom', path: ['size'], message: tooLong });
+  const message = pageTooLargeMessage(name, mm.width, mm.height, s.dpi, MIN_DPI);
   if (message) ctx.addIssue({ code: 'custom', path: ['dpi'], message });
 });
 
@@ -693,7 +696,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
       message: `the size asked for cannot be met: at this column width the panels would make the page ${fmt(Math.round(heightMm))} mm tall (at most ${fmt(MAX_PAGE_HEIGHT_MM)} mm); choose a page height, a wider region or a fixed magnification`,
     });
   }
-  const tooLarge = pageTooLargeMessage(pageName(spec.size, sizeMm.width, heightMm), sizeMm.width, heightMm, dpi, MIN_DPI);
+  const name = pageName(spec.size, sizeMm.width, heightMm);
+  const tooLarge = pageSideTooLongMessage(name, sizeMm.width, heightMm) ?? pageTooLargeMessage(name, sizeMm.width, heightMm, dpi, MIN_DPI);
   if (tooLarge) warnings.push({ code: 'page-too-large', blocking: true, message: `the page is too large to print: ${tooLarge}` });
   const content: PxRect = { x: m.left, y: m.top, width: contentW, height: heightPx - m.top - m.bottom };
 

@@ -280,10 +280,23 @@ describe('the largest page a print may have', () => {
     expect(largestDpiWithin(594, 841)).toBe(1136);
   });
 
-  it('says when no resolution fits a custom page at all', () => {
-    const huge = printableFigureSpecSchema.safeParse({ size: { kind: 'custom', width: 6000, height: 6000 }, dpi: 150, panels: [{ runId: 'r' }] });
+  it('keeps every page side within 200 in, the largest page PDF readers must open, so every page fits at 150 DPI', () => {
+    const custom = (width: number, height: number, unit: 'mm' | 'in' = 'mm'): FigureSpecInput => ({ size: { kind: 'custom', width, height, unit }, dpi: 150, panels: [{ runId: 'r' }] });
+    const huge = printableFigureSpecSchema.safeParse(custom(6000, 6000));
     expect(huge.success).toBe(false);
-    expect(huge.error!.issues[0]!.message).toMatch(/this 6,000 × 6,000 mm page would be 35,433 × 35,433 px .*; even 150 DPI does not fit this 6,000 × 6,000 mm page; choose a smaller page$/);
+    expect(huge.error!.issues).toEqual([
+      expect.objectContaining({ path: ['size'], message: 'this 6,000 × 6,000 mm page is longer than 5,080 mm (200 in) on a side, the largest page PDF readers open; choose a smaller page' }),
+    ]);
+    // 14,400 units of 1/72 in (PDF Reference 1.7, Appendix C; from memory) = 200 in = 5,080 mm
+    expect(printableFigureSpecSchema.safeParse(custom(200, 10, 'in')).success).toBe(true);
+    expect(printableFigureSpecSchema.safeParse(custom(10, 200.5, 'in')).success).toBe(false);
+    // the largest page, 200 × 200 in, is 30,000 × 30,000 px = 9·10^8 px at 150 DPI: within the pixel limit
+    expect(printableFigureSpecSchema.safeParse(custom(5080, 5080)).success).toBe(true);
+    expect(pagePixels(5080, 5080, 150).pixels).toBe(900_000_000);
+    // a stored spec read without the limit is held back by the layout, which orders and prints check
+    const stored = layout(custom(6000, 100), [run('r', 101)]);
+    expect(stored.printable).toBe(false);
+    expect(stored.warnings).toEqual([expect.objectContaining({ code: 'page-too-large', blocking: true, message: expect.stringMatching(/longer than 5,080 mm \(200 in\) on a side/) })]);
   });
 
   it('estimates file sizes in proportion to the page pixels, a quarter as much at half the DPI', () => {
