@@ -1,5 +1,6 @@
 import type { MailMessage } from './mailer.js';
 import { htmlMail } from './layout.js';
+import { formatDuration } from '../../../shared/duration.js';
 
 /**
  * `seconds`: from submission to the end, what the author waited; `farmSeconds`: the part a worker
@@ -7,24 +8,15 @@ import { htmlMail } from './layout.js';
  */
 export type RunOutcome = { id: string; title: string; status: 'finished' | 'failed'; chips: number; lattice: string; error: string | null; seconds: number; farmSeconds: number | null };
 
-/** "1 h 02 min", "3 min 05 s", "42 s": how long the author waited. */
-export function waitedFor(seconds: number): string {
-  const s = Math.round(seconds);
-  if (s < 60) return `${s} s`;
-  const m = Math.floor(s / 60);
-  if (m < 60) return `${m} min ${String(s % 60).padStart(2, '0')} s`;
-  return `${Math.floor(m / 60)} h ${String(m % 60).padStart(2, '0')} min`;
-}
-
 export function runOutcomeMail(publicUrl: string, to: string, run: RunOutcome): MailMessage {
   const href = `${publicUrl.replace(/\/+$/, '')}/runs/${run.id}`;
   const what = `${run.lattice} lattice, n = ${run.chips.toLocaleString('en-US')} grains`;
   // the wait and the farm time differ by the time in the queue: say both, so the mail and the run page agree
-  const farm = run.farmSeconds === null ? '' : ` (${waitedFor(run.farmSeconds)} of farm time)`;
+  const farm = run.farmSeconds === null ? '' : ` (${formatDuration(run.farmSeconds)} of farm time)`;
   const lines =
     run.status === 'finished'
-      ? ['Hello,', `Your run "${run.title}" (${what}) is ready, ${waitedFor(run.seconds)} after you submitted it${farm}.`, 'Its arrays, statistics and deep-zoom views are on the run page.']
-      : ['Hello,', `Your run "${run.title}" (${what}) stopped ${waitedFor(run.seconds)} after you submitted it${farm}, without a result.`, `The farm said: ${run.error ?? 'no reason given'}`];
+      ? ['Hello,', `Your run "${run.title}" (${what}) is ready, ${formatDuration(run.seconds)} after you submitted it${farm}.`, 'Its arrays, statistics and deep-zoom views are on the run page.']
+      : ['Hello,', `Your run "${run.title}" (${what}) stopped ${formatDuration(run.seconds)} after you submitted it${farm}, without a result.`, `The farm said: ${run.error ?? 'no reason given'}`];
   return {
     to,
     subject: run.status === 'finished' ? `Run ready: ${run.title}` : `Run failed: ${run.title}`,

@@ -1,4 +1,6 @@
 import { groupThousands, powerOfTen } from './numbers.js';
+import { formatDuration } from '../../../shared/duration.js';
+import { stageWords } from '../engine/stage-words.js';
 import type { RunStatsJson } from '../../../shared/run-stats.js';
 
 /**
@@ -32,4 +34,25 @@ export function formatReport(r: RunReport): string {
   const written = [r.files.heights, r.files.sidecar, r.files.odometer].filter((f): f is string => f !== null);
   if (written.length) row('wrote', written.join(', '));
   return lines.join('\n');
+}
+
+/** What the engine reports while it works; the fast path adds its level and an estimate of the time left. */
+export interface ProgressReport {
+  stage: string;
+  fraction: number;
+  toppledSites: number;
+  level?: number;
+  levels?: number;
+  secondsLeft?: number | null;
+}
+
+/**
+ * One --progress line. The plain engine's fraction is the share of grains fed in so far; the fast
+ * path's is its estimate of the work done, so the line says which, and the level and time left when known.
+ */
+export function progressLine(p: ProgressReport): string {
+  const percent = `${(100 * p.fraction).toFixed(1)}%`;
+  if (p.levels === undefined || p.level === undefined) return `${stageWords(p.stage)}: ${percent} of grains fed, ${groupThousands(p.toppledSites)} sites toppled`;
+  const left = p.secondsLeft === null || p.secondsLeft === undefined || p.fraction >= 1 ? '' : `, about ${formatDuration(p.secondsLeft)} left`;
+  return `${stageWords(p.stage)}, level ${p.level + 1} of ${p.levels}: ${percent} of the estimated work${left}, ${groupThousands(p.toppledSites)} sites toppled`;
 }

@@ -11,9 +11,8 @@ import { encodeNpy } from '../npy/index.js';
 import { parseCliArgs, USAGE } from './args.js';
 import { assertWritable, writeFilesAtomically, type OutputFile } from './atomic-write.js';
 import { CliInputError, EXIT } from './errors.js';
-import { groupThousands } from './numbers.js';
 import { arrayHash, dtypeName, heightsForExport, odometerForExport } from './export-arrays.js';
-import { formatReport, type RunReport } from './report.js';
+import { formatReport, progressLine, type RunReport } from './report.js';
 import { resolveRunInputs } from './run-inputs.js';
 import { sidecarPath, toJson, type ArrayRecord, type Sidecar } from './sidecar.js';
 
@@ -55,10 +54,8 @@ export async function main(argv: readonly string[], signal: AbortSignal): Promis
       : {}),
     ...(resume ? { resume } : {}),
     signal,
-    // the engine already throttles its reports; fraction is the share of grains fed in so far
-    onProgress: options.progress
-      ? (p) => process.stderr.write(`${p.stage}: ${(100 * p.fraction).toFixed(1)}% of grains fed, ${groupThousands(p.toppledSites)} sites toppled\n`)
-      : undefined,
+    // the engine already throttles its reports
+    onProgress: options.progress ? (p) => process.stderr.write(`${progressLine(p)}\n`) : undefined,
   });
 
   const stats = runStatsToJSON(outcome.stats);

@@ -12,6 +12,7 @@ import { arrayKeys } from './artifacts.js';
 import { describeSnapshot, runCheckpoints, type RunCheckpoints } from './checkpoints.js';
 import { readStoredUpload } from './stored-arrays.js';
 import { runState } from './run-state.js';
+import { stageWords } from '../engine/stage-words.js';
 
 export interface ComputeDeps {
   db: Db;
@@ -34,14 +35,6 @@ export interface ComputeDeps {
   log?(line: string): void;
 }
 
-/** The engine's stage names, in the product's words (the run page shows them beside the bar). */
-const STAGE_WORDS: Record<string, string> = {
-  relax: 'toppling',
-  level: 'toppling',
-  grow: 'growing the domain',
-  done: 'checking the result',
-};
-const stageWords = (stage: string) => STAGE_WORDS[stage] ?? stage;
 
 /** How often the worker writes progress to PostgreSQL and looks for a cancellation. */
 const PROGRESS_EVERY_MS = 1000;
