@@ -237,6 +237,32 @@ describe('figures in the browser', () => {
       expect(box.x + box.width, id).toBeLessThanOrEqual(390);
     }
     await screenshot(reader, 'figures-reader-phone');
+    // every other page a signed-out reader reaches fits the phone too: nothing scrolls sideways, and
+    // nothing (a figure's entry, a form) sticks out past the screen's edge (a page of its own: the
+    // made-up invitation is refused on purpose, which the reader's quiet console must not count)
+    const phone = await newPage(farm.browser, farm.stack.url);
+    await phone.setViewportSize({ width: 390, height: 844 });
+    for (const [name, path, title] of [
+      ['landing', '/', 'Exact abelian sandpiles, computed at scale and printed to size.'],
+      ['figure-index', '/figures', 'Published figures'],
+      ['sign-in', '/sign-in', 'Sign in'],
+      ['sign-up', '/sign-up', 'Create an account'],
+      ['forgot-password', '/forgot-password', 'Reset your password'],
+      ['reset-password', '/reset-password', 'Choose a new password'],
+      ['verify-email', '/verify-email', 'Confirm your e-mail'],
+      ['invitation', '/invitations/no-such-invitation-token-at-all', 'This invitation is no longer open'],
+      ['not-found', '/no/such/page', 'No page at this address'],
+    ] as const) {
+      await phone.goto(path);
+      await phone.locator('main').getByText(title, { exact: true }).first().waitFor();
+      if (name === 'figure-index') await phone.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();
+      await phone.waitForTimeout(300);
+      expect(await phone.evaluate(() => document.documentElement.scrollWidth), name).toBeLessThanOrEqual(390);
+      const past = await phone.evaluate(() => [...document.querySelectorAll('main *')].filter((el) => el.getBoundingClientRect().right > 390.5).map((el) => el.outerHTML.slice(0, 80)));
+      expect(past, name).toEqual([]);
+      await screenshot(phone, `tour8b-phone-${name}`);
+    }
+    await phone.close();
     await reader.setViewportSize({ width: 1280, height: 800 });
     await reader.goto('/figures');
     await reader.getByRole('link', { name: 'A thousand grains on Z²' }).waitFor();

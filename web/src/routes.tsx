@@ -31,6 +31,9 @@ const lazyPage = <M,>(load: () => Promise<M>, pick: (m: M) => ComponentType) => 
 const viewerLoading = <div aria-busy="true" className="min-h-screen bg-night" />;
 const pageLoading = <div aria-busy="true" className="min-h-[50vh]" />;
 
+/** A route handle: the page is laid out for phones too, not only the laptop's 1,024 px (web/CONTEXT.md "screen widths"). */
+const PHONES = { fitsPhones: true };
+
 /** The route table of the contract; everything behind RequireSignIn needs a session. */
 export function createRouter() {
   return createBrowserRouter([
@@ -48,17 +51,18 @@ export function createRouter() {
           errorElement: <RouteError />,
           hydrateFallbackElement: pageLoading,
           children: [
-            { path: '/', element: <Landing /> },
-            { path: '/sign-in', element: <SignIn /> },
-            { path: '/sign-up', element: <SignUp /> },
-            { path: '/verify-email', element: <VerifyEmail /> },
-            { path: '/forgot-password', element: <ForgotPassword /> },
-            { path: '/reset-password', element: <ResetPassword /> },
-            { path: '/invitations/:token', element: <InvitationPage /> },
-            { path: '/figures', element: <FiguresIndex /> },
-            // readers follow a paper's link on any screen: these fit a phone (PageFrame, styles.css)
-            { path: '/f/:slug', element: <FigureReader />, handle: { fitsPhones: true } },
-            { path: '/f/:slug/v/:version', element: <FigureReader />, handle: { fitsPhones: true } },
+            // every page a signed-out reader reaches fits a phone (PageFrame, styles.css): readers follow a
+            // paper's link on any screen, and from a figure go on to the index, the front page or signing in
+            { path: '/', element: <Landing />, handle: PHONES },
+            { path: '/sign-in', element: <SignIn />, handle: PHONES },
+            { path: '/sign-up', element: <SignUp />, handle: PHONES },
+            { path: '/verify-email', element: <VerifyEmail />, handle: PHONES },
+            { path: '/forgot-password', element: <ForgotPassword />, handle: PHONES },
+            { path: '/reset-password', element: <ResetPassword />, handle: PHONES },
+            { path: '/invitations/:token', element: <InvitationPage />, handle: PHONES },
+            { path: '/figures', element: <FiguresIndex />, handle: PHONES },
+            { path: '/f/:slug', element: <FigureReader />, handle: PHONES },
+            { path: '/f/:slug/v/:version', element: <FigureReader />, handle: PHONES },
             { path: '/dev/outbox', ...lazyPage(() => import('./pages/DevOutbox.js'), (m) => m.DevOutbox) },
             {
               element: <RequireSignIn />,
@@ -78,7 +82,7 @@ export function createRouter() {
                 { path: '/admin', ...lazyPage(() => import('./pages/admin/AdminConsole.js'), (m) => m.AdminConsole) },
               ],
             },
-            { path: '*', element: <NotFound /> },
+            { path: '*', element: <NotFound />, handle: PHONES },
           ],
         },
       ],

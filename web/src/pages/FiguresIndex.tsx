@@ -36,8 +36,8 @@ export function FiguresIndex() {
         lede="Figures labs have published with a permanent link. Open one to read its caption, zoom in and cite it."
         actions={me.data ? <LinkButton tone="quiet" to="/lab/figures">Your lab's figures</LinkButton> : undefined}
       />
-      <div className="mb-6 flex items-end gap-4">
-        <SelectField label="Lattice" value={lattice} onChange={(e) => set('lattice', e.target.value)} fieldClassName="w-52">
+      <div className="mb-6 grid grid-cols-1 gap-4 sm:flex sm:items-end">
+        <SelectField label="Lattice" value={lattice} onChange={(e) => set('lattice', e.target.value)} fieldClassName="sm:w-52">
           <option value="">any lattice</option>
           {[...LATTICE_PRESETS, 'periodic'].map((l) => (
             <option key={l} value={l}>
@@ -45,7 +45,7 @@ export function FiguresIndex() {
             </option>
           ))}
         </SelectField>
-        <SelectField label="Background" value={background} onChange={(e) => set('background', e.target.value)} fieldClassName="w-52">
+        <SelectField label="Background" value={background} onChange={(e) => set('background', e.target.value)} fieldClassName="sm:w-52">
           <option value="">any background</option>
           {BACKGROUND_KINDS.map((b) => (
             <option key={b} value={b}>
@@ -53,7 +53,7 @@ export function FiguresIndex() {
             </option>
           ))}
         </SelectField>
-        <SelectField label="Grains" value={band?.value ?? ''} onChange={(e) => set('n', e.target.value)} fieldClassName="w-52">
+        <SelectField label="Grains" value={band?.value ?? ''} onChange={(e) => set('n', e.target.value)} fieldClassName="sm:w-52">
           <option value="">any n</option>
           {N_BANDS.map((b) => (
             <option key={b.value} value={b.value}>
@@ -86,13 +86,14 @@ export function FiguresIndex() {
 
 function FigureEntry({ figure: f }: { figure: Figure }) {
   return (
-    <li className="grid grid-cols-[auto_1fr_auto] gap-6 px-6 py-5 hover:bg-paper/40">
+    // on a phone the facts go under the title, beside the page's picture
+    <li className="grid grid-cols-[auto_minmax(0,1fr)] gap-x-4 gap-y-3 px-4 py-4 hover:bg-paper/40 sm:grid-cols-[auto_minmax(0,1fr)_auto] sm:gap-6 sm:px-6 sm:py-5">
       {/* for the mouse only: the title is the entry's one link for the keyboard and screen readers */}
       <Link to={`/f/${f.slug}`} tabIndex={-1} aria-hidden="true" className="block w-fit self-start">
         <Thumbnail picture={figurePicture(f)} alt={`Page of ${f.title}`} size={128} ground="sheet" />
       </Link>
-      <div>
-        <Link to={`/f/${f.slug}`} className="text-base font-semibold text-ink no-underline hover:text-press">
+      <div className="min-w-0">
+        <Link to={`/f/${f.slug}`} className="text-base font-semibold text-ink no-underline [overflow-wrap:anywhere] hover:text-press">
           {f.title}
         </Link>
         <p className="mt-1 line-clamp-2 max-w-3xl text-sm text-ink-soft">{f.caption}</p>
@@ -100,7 +101,7 @@ function FigureEntry({ figure: f }: { figure: Figure }) {
           {f.authors.join(', ')} · {f.labName}
         </p>
       </div>
-      <dl className="grid grid-cols-[auto_auto] content-start gap-x-4 gap-y-1 text-right text-xs">
+      <dl className="col-start-2 grid grid-cols-[auto_minmax(0,1fr)] content-start gap-x-4 gap-y-1 text-xs sm:col-start-auto sm:grid-cols-[auto_auto] sm:text-right">
         <dt className="text-ink-faint">grains</dt>
         <dd className="text-ink">
           <Count n={f.chips} />

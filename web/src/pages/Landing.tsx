@@ -14,17 +14,17 @@ export function Landing() {
   const me = useMe();
   return (
     <div>
-      <section className="grid grid-cols-[1.15fr_1fr] items-center gap-14 pt-4">
+      <section className="grid grid-cols-1 items-center gap-10 pt-4 md:grid-cols-[1.15fr_1fr] md:gap-14">
         <div>
           <p className="text-xs font-semibold uppercase tracking-[0.18em] text-stamp">A print shop for sandpiles</p>
-          <h1 className="mt-4 text-5xl font-semibold leading-[1.08] tracking-tight text-ink">
+          <h1 className="mt-4 text-4xl font-semibold leading-[1.08] tracking-tight text-ink sm:text-5xl">
             Exact abelian sandpiles, computed at scale and printed to size.
           </h1>
           <p className="mt-6 max-w-xl text-lg leading-relaxed text-ink-soft">
             Toppleworks stabilises runs of millions of grains and far beyond, keeps every height exact, and turns the
             result into deep-zoom pages and print-ready figures your lab can publish and cite.
           </p>
-          <div className="mt-9 flex gap-3">
+          <div className="mt-9 flex flex-wrap gap-3">
             {me.data ? (
               <LinkButton to="/runs">Go to your runs</LinkButton>
             ) : (
@@ -40,7 +40,7 @@ export function Landing() {
             </LinkButton>
           </div>
         </div>
-        <figure className="rounded-2xl border border-rule bg-sheet p-6 shadow-[0_1px_0_rgba(0,0,0,0.03)]">
+        <figure className="min-w-0 rounded-2xl border border-rule bg-sheet p-4 shadow-[0_1px_0_rgba(0,0,0,0.03)] sm:p-6">
           <div className="flex justify-center">
             <HeroCanvas />
           </div>
@@ -51,7 +51,7 @@ export function Landing() {
         </figure>
       </section>
 
-      <section className="mt-20 grid grid-cols-4 gap-6 border-t border-rule pt-10">
+      <section className="mt-16 grid grid-cols-1 gap-6 border-t border-rule pt-10 sm:grid-cols-2 md:mt-20 lg:grid-cols-4">
         {FEATURES.map((f) => (
           <div key={f.title}>
             <h2 className="text-base font-semibold text-ink">{f.title}</h2>

@@ -140,11 +140,11 @@ function Wordmark() {
 /** Title block of a page: small overline, heading, one-line lede, actions at the right. */
 export function PageHeading({ overline, title, lede, actions }: { overline?: ReactNode; title: ReactNode; lede?: ReactNode; actions?: ReactNode }) {
   return (
-    <div className="mb-8 flex items-end justify-between gap-8">
+    <div className="mb-8 flex flex-wrap items-end justify-between gap-x-8 gap-y-4">
       <DocumentTitle title={title} />
-      <div>
+      <div className="min-w-0">
         {overline ? <p className="mb-1 text-xs font-semibold uppercase tracking-[0.14em] text-ink-faint">{overline}</p> : null}
-        <h1 className="text-3xl font-semibold tracking-tight text-ink">{title}</h1>
+        <h1 className="text-2xl font-semibold tracking-tight text-ink sm:text-3xl">{title}</h1>
         {lede ? <p className="mt-2 max-w-2xl text-base text-ink-soft">{lede}</p> : null}
       </div>
       {actions ? <div className="flex shrink-0 gap-3">{actions}</div> : null}
@@ -157,7 +157,7 @@ export function FormSheet({ title, lede, children, footer }: { title: ReactNode;
   return (
     <div className="mx-auto mt-6 w-full max-w-md">
       <DocumentTitle title={title} />
-      <div className="rounded-xl border border-rule bg-sheet px-9 py-8 shadow-[0_1px_0_rgba(0,0,0,0.03)]">
+      <div className="rounded-xl border border-rule bg-sheet px-5 py-6 shadow-[0_1px_0_rgba(0,0,0,0.03)] sm:px-9 sm:py-8">
         <h1 className="text-2xl font-semibold tracking-tight">{title}</h1>
         {lede ? <p className="mt-2 text-sm text-ink-soft">{lede}</p> : null}
         <div className="mt-6">{children}</div>
