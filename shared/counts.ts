@@ -55,15 +55,33 @@ export function formatCountText(n: number | bigint): string {
 const compact = new Intl.NumberFormat('en-US', { notation: 'compact', maximumSignificantDigits: 3 });
 
 /**
- * The shortest honest form of a count where room is scarce (legend ticks): exact powers of ten as
- * "10⁴", other counts from 1000 up as "94K" or "1.07M" (three significant digits), smaller ones as
- * they are. A leading sign is kept ("+1.5K"). `powers: false` writes "10K" instead of "10⁴", for
- * fonts without the superscripts 4–9 (the print's Latin Work Sans).
+ * The short form of a count where room is scarce (legend ticks), in one style: from 1000 up as "10K",
+ * "94K" or "1.07M" (three significant digits), smaller ones as they are. A leading sign is kept
+ * ("+1.5K"). Fonts without the superscripts 4–9 (the print's Latin Work Sans) need this style.
  */
-export function compactCount(n: number, signed = false, powers = true): string {
+export function compactCount(n: number, signed = false): string {
   const sign = n < 0 ? '−' : signed && n > 0 ? '+' : '';
   const a = Math.abs(n);
   if (!Number.isInteger(a) || a < 1000) return `${sign}${a}`;
-  const p = powerOfTen(a);
-  return `${sign}${powers && p && p.mantissa === '1' ? `10${superscriptDigits(p.exponent)}` : compact.format(a)}`;
+  return `${sign}${compact.format(a)}`;
+}
+
+/**
+ * The short form of a count as a power of ten, in one style for every count from 1 up: "10⁰", "10³",
+ * "2.74 × 10⁴" (three significant digits). For labels of a logarithmic scale, whose stops are powers
+ * of ten; 0 and fractions are written as they are.
+ */
+export function tenPowerCount(n: number, signed = false): string {
+  const sign = n < 0 ? '−' : signed && n > 0 ? '+' : '';
+  const a = Math.abs(n);
+  if (!Number.isInteger(a) || a < 1) return `${sign}${a}`;
+  let exponent = BigInt(a).toString().length - 1;
+  let mantissa = Number((a / 10 ** exponent).toPrecision(3));
+  // 99,960 rounds to 10.0 × 10⁴: that is 10⁵
+  if (mantissa >= 10) {
+    mantissa /= 10;
+    exponent += 1;
+  }
+  const power = `10${superscriptDigits(exponent)}`;
+  return `${sign}${mantissa === 1 ? power : `${mantissa} × ${power}`}`;
 }

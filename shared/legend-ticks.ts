@@ -1,4 +1,4 @@
-import { compactCount } from './counts.js';
+import { compactCount, tenPowerCount } from './counts.js';
 
 /**
  * Which labels of a colour ramp to write under it, and where, for a ramp of a given width: the web
@@ -53,9 +53,18 @@ function crowded(all: number, kept: readonly PlacedTick[], gap: number): boolean
 }
 
 /**
- * The ticks of a continuous legend on a ramp `rampWidth` wide: the stored labels when they all fit
- * apart, otherwise the short forms of the counts (`shorten`: "10⁴", "1.07M"), leaving out the ticks
- * that still collide.
+ * How the labels of a crowded legend are shortened, one style for the whole legend (never "100, 10³,
+ * 27.4K" side by side): a logarithmic scale as powers of ten ("10², 10³, 2.74 × 10⁴") where the type
+ * has the superscripts, otherwise every count in the compact style ("100, 1K, 27.4K").
+ */
+export function shortLabels(scale: 'linear' | 'log1p', superscripts: boolean): (value: number, signed: boolean) => string {
+  return scale === 'log1p' && superscripts ? tenPowerCount : compactCount;
+}
+
+/**
+ * The ticks of a continuous legend on a ramp `rampWidth` wide: the stored labels (exact, grouped)
+ * when they all fit apart, otherwise all of them in the short form `shorten` (see shortLabels),
+ * leaving out the ticks that still collide.
  */
 export function legendTicks(
   stops: readonly RampStop[],

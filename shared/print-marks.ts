@@ -1,6 +1,5 @@
 import { colourTable, hexToRgba, legendFor, paletteById, type Layer, type LayerStats, type Legend, type Palette, type Rgba, type UntoppledStyle } from './palettes.js';
-import { compactCount } from './counts.js';
-import { legendTicks } from './legend-ticks.js';
+import { legendTicks, shortLabels } from './legend-ticks.js';
 import { legendRowPx, POINTS_PER_INCH, type FigureLayout, type PanelSpec } from './print.js';
 
 /**
@@ -162,7 +161,7 @@ function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title:
   marks.push({ kind: 'stroke', x, y: y1, width: barW, height: sw, colour: INK, lineWidthPt: 0.2 });
   // the same choice of ticks as the screen's legend: short forms when crowded, never the two ends
   // dropped; "10K" rather than "10⁴", as the Latin Work Sans has no superscripts beyond ³
-  const short = (v: number, signed: boolean) => compactCount(v, signed, false);
+  const short = shortLabels(legend.kind === 'continuous' ? legend.scale : 'linear', false);
   for (const t of legendTicks(stops, barW, labelWidth, textPt * 0.4, short)) text('regular', x + t.left, y1 + line, t.label);
   if (legend.kind === 'continuous' && legend.masked) {
     // laid out as a swatch of the discrete rows: centred over its label

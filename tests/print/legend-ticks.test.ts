@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { textWidthPt } from '../../renderer/src/print/fonts.js';
-import { compactCount } from '../../shared/counts.js';
-import { legendTicks, type PlacedTick } from '../../shared/legend-ticks.js';
+import { compactCount, tenPowerCount } from '../../shared/counts.js';
+import { legendTicks, shortLabels, type PlacedTick } from '../../shared/legend-ticks.js';
 import { legendFor, paletteById, type LayerStats } from '../../shared/palettes.js';
 import { figureTextMarks, panelLegend, type TextMark } from '../../shared/print-marks.js';
 import { figureSpecSchema, layoutFigure } from '../../shared/print.js';
@@ -55,14 +55,40 @@ describe('legend ticks', () => {
     });
   }
 
-  it('short forms: powers of ten with a superscript, other counts to three figures', () => {
-    expect(compactCount(10_000)).toBe('10⁴');
-    expect(compactCount(1_000_000)).toBe('10⁶');
+  it('compact short forms: every count from 1000 up to three figures with K, M, B', () => {
+    expect(compactCount(10_000)).toBe('10K');
+    expect(compactCount(1_000_000)).toBe('1M');
     expect(compactCount(107_356)).toBe('107K');
     expect(compactCount(1_073_456)).toBe('1.07M');
     expect(compactCount(999)).toBe('999');
     expect(compactCount(1500, true)).toBe('+1.5K');
-    expect(compactCount(100_000, false, false)).toBe('100K');
+    expect(compactCount(100_000)).toBe('100K');
+  });
+
+  it('power-of-ten short forms: every count from 1 up, with a superscript, to three figures', () => {
+    expect([1, 10, 100, 1000, 10_000].map((n) => tenPowerCount(n))).toEqual(['10⁰', '10¹', '10²', '10³', '10⁴']);
+    expect(tenPowerCount(27_384)).toBe('2.74 × 10⁴');
+    expect(tenPowerCount(125_250)).toBe('1.25 × 10⁵');
+    expect(tenPowerCount(27_000)).toBe('2.7 × 10⁴');
+    // rounding up to the next power of ten is written as that power
+    expect(tenPowerCount(99_960)).toBe('10⁵');
+    expect(tenPowerCount(1_000_000_000_000)).toBe('10¹²');
+    expect(tenPowerCount(0)).toBe('0');
+    expect(tenPowerCount(1500, true)).toBe('+1.5 × 10³');
+  });
+
+  it('shortens a whole legend in one style: no "100, 10³, 27.4K" side by side', () => {
+    // the tour's case: a largest count of 27,384 on the 232 px ramp of the viewer's legend card
+    const l = odometerLegend(27_384);
+    const screen = legendTicks(l.stops, 232, perChar, 6, shortLabels('log1p', true)).map((t) => t.label);
+    expect(screen.every((t) => /^(\d(\.\d{1,2})? × )?10[⁰¹²³⁴⁵⁶⁷⁸⁹]+$/.test(t)), screen.join(', ')).toBe(true);
+    expect(screen.at(-1)).toBe('2.74 × 10⁴');
+    // the print's type has no superscripts beyond ³: every label compact instead
+    const print = legendTicks(l.stops, 232, perChar, 6, shortLabels('log1p', false)).map((t) => t.label);
+    expect(print.every((t) => /^(\d{1,3}|\d+(\.\d+)?K)$/.test(t)), print.join(', ')).toBe(true);
+    expect(print.at(-1)).toBe('27.4K');
+    // a linear scale (the difference layer) is never written in powers
+    expect(shortLabels('linear', true)).toBe(compactCount);
   });
 });
 

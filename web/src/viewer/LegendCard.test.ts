@@ -19,7 +19,14 @@ describe('legend card', () => {
     test(`odometer ticks up to ${max} stay apart and on the ramp`, () => {
       const ticks = ticksOf(renderToStaticMarkup(createElement(LegendCard, { legend: odometer(max) })));
       expect(ticks.length).toBeGreaterThanOrEqual(3);
-      expect(ticks[0]!.label).toBe('1');
+      // one style for the whole legend: the exact labels stored with it, or every one a power of ten
+      // (never "1, 10, 100, 10³, 27.4K")
+      const exact = legendFor(paletteById('tidewater'), 'odometer', { cells: 9, minHeight: 0, maxHeight: 3, heightCounts: [1, 2, 3, 3], toppledCells: 8, maxOdometer: max });
+      const stored = exact.kind === 'continuous' ? exact.stops.map((s) => s.label) : [];
+      const allStored = ticks.every((t) => stored.includes(t.label));
+      const allPowers = ticks.every((t) => /^(\d(\.\d{1,2})? × )?10[⁰¹²³⁴⁵⁶⁷⁸⁹]+$/.test(t.label));
+      expect(allStored || allPowers, ticks.map((t) => t.label).join(', ')).toBe(true);
+      expect(ticks[0]!.label).toBe(allStored ? '1' : '10⁰');
       ticks.forEach((t, i) => {
         expect(t.left).toBeGreaterThanOrEqual(0);
         expect(t.left + tickWidth(t.label)).toBeLessThanOrEqual(RAMP_PX + 0.1);
@@ -27,4 +34,18 @@ describe('legend card', () => {
       });
     });
   }
+});
+
+describe('legend card styles', () => {
+  test('a crowded odometer legend writes every tick as a power of ten, the top one rounded', () => {
+    // 27,384 topplings at the most toppled site: the stored labels 1, 10, 100, 1,000, 10,000, 27,384 do not fit
+    const ticks = ticksOf(renderToStaticMarkup(createElement(LegendCard, { legend: odometer(27_384) })));
+    expect(ticks.map((t) => t.label).at(-1)).toBe('2.74 × 10⁴');
+    expect(ticks.map((t) => t.label).every((l) => !/K|M|,/.test(l))).toBe(true);
+  });
+
+  test('a legend whose stored labels fit keeps them all, exact', () => {
+    const ticks = ticksOf(renderToStaticMarkup(createElement(LegendCard, { legend: odometer(500), widthOf: (l: string) => l.length * 4 })));
+    expect(ticks.map((t) => t.label)).toEqual(['1', '10', '100', '500']);
+  });
 });

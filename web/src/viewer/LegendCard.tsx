@@ -1,5 +1,5 @@
 import type { Legend } from '../../../shared/palettes.js';
-import { legendTicks } from '../../../shared/legend-ticks.js';
+import { legendTicks, shortLabels } from '../../../shared/legend-ticks.js';
 
 /** Width of the ramp in CSS pixels: the card's fixed width less its padding. */
 export const RAMP_PX = 232;
@@ -36,9 +36,9 @@ export function LegendCard({ legend, widthOf = tickWidth }: { legend: Legend; wi
             className="h-3 rounded-sm"
             style={{ background: `linear-gradient(to right, ${legend.stops.map((s) => `${s.colour} ${(s.position * 100).toFixed(2)}%`).join(', ')})` }}
           />
-          {/* ticks that fit the ramp: crowded ones give way, long counts take their short form (shared with the print) */}
+          {/* ticks that fit the ramp: crowded ones give way, and then every label takes the short form, powers of ten on the log scale (shared with the print) */}
           <div className="relative mt-1 h-4" data-testid="legend-ticks">
-            {legendTicks(legend.stops, RAMP_PX, widthOf, TICK_GAP_PX).map((t) => (
+            {legendTicks(legend.stops, RAMP_PX, widthOf, TICK_GAP_PX, shortLabels(legend.scale, true)).map((t) => (
               <span key={t.label} className="absolute whitespace-nowrap" style={{ left: `${t.left.toFixed(1)}px` }}>
                 {t.label}
               </span>
