@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { eq } from 'drizzle-orm';
 import { labs, runs, users } from '../../drizzle/schema.js';
 import { RETENTION_RULE } from '../../shared/api/admin.js';
@@ -13,6 +13,18 @@ import { createApp } from '../../api/src/app.js';
 import type { AppDeps } from '../../api/src/deps.js';
 import { createFarmHealth, type FarmHealth } from '../../api/src/queue/farm-health.js';
 import { DIST_DIR, startStack, type Stack } from './stack.js';
+
+/** Right-aligned cells of a table (numbers with their units) whose text runs over more than one line. */
+async function linesOfNumbers(page: Page, table: string): Promise<string[]> {
+  return page.getByRole('table', { name: table }).locator('td.text-right').evaluateAll((cells) =>
+    cells.flatMap((td) => {
+      const range = document.createRange();
+      range.selectNodeContents(td);
+      const tops = new Set([...range.getClientRects()].filter((r) => r.width > 0).map((r) => Math.round(r.top)));
+      return tops.size > 1 ? [td.textContent ?? ''] : [];
+    }),
+  );
+}
 
 /**
  * The admin console's "done when", as a newcomer would do it in headless Chromium on the demo data:
@@ -133,11 +145,26 @@ describe('the admin console in the browser', () => {
     // the seed queues every demo run (api/src/seed/demo.ts) and no worker runs in this test
     await expect.poll(() => compute.locator('td').nth(1).textContent()).toBe('6');
     await page.getByText('No worker is alive').waitFor();
+    // what the two counts are, in words: worker processes with a live heartbeat, and BullMQ's
+    // registered connections summed over the five queues
+    await page.getByText('No worker reporting in; no connection taking jobs from the 5 queues (one per queue a worker serves).').waitFor();
     await screenshot(page, 'admin-farm');
     await page.getByRole('navigation', { name: 'admin sections' }).getByRole('link', { name: 'Storage' }).click();
     await page.getByText('Retention of unpublished runs').waitFor();
-    await page.getByRole('table', { name: 'storage' }).locator('tbody tr', { hasText: DEMO_OTHER_LAB }).waitFor();
-    await screenshot(page, 'admin-storage');
+    const storageRow = page.getByRole('table', { name: 'storage' }).locator('tbody tr', { hasText: DEMO_OTHER_LAB });
+    await storageRow.waitFor();
+    // sizes as the figure page writes them (shared/file-size.ts), the exact count on hover
+    const stored = storageRow.locator('td').nth(1).locator('span');
+    expect(await stored.textContent()).toMatch(/^\d[\d.,]* (bytes?|kB|MB|GB|TB)$/);
+    expect(await stored.getAttribute('title')).toMatch(/^[\d,]+ bytes?$/);
+    expect(await page.getByRole('table', { name: 'storage' }).textContent()).not.toMatch(/\d{1,3},\d{3} bytes/);
+    expect(await linesOfNumbers(page, 'storage')).toEqual([]);
+    await screenshot(page, 'tour8b-admin-storage');
+    await page.getByRole('navigation', { name: 'admin sections' }).getByRole('link', { name: 'Usage and quotas' }).click();
+    await page.getByRole('table', { name: 'lab usage' }).locator('tbody tr').first().waitFor();
+    // "0 credits" and the other numbers with units stay on one line
+    expect(await linesOfNumbers(page, 'lab usage')).toEqual([]);
+    await screenshot(page, 'tour8b-admin-usage');
   });
 
   test('a lab manager changes a role on the lab page with a reason, the last manager cannot step down, and the admin sees it in the trail', async () => {

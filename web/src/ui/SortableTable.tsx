@@ -96,7 +96,8 @@ export function SortableTable<T>({ columns, rows, rowKey, sort, onSort, initialS
           {sorted.map((row) => (
             <tr key={rowKey(row)} className="border-b border-rule-soft last:border-0 hover:bg-paper/50">
               {columns.map((c) => (
-                <td key={c.key} className={`${pad} align-middle ${c.align === 'right' ? 'text-right tnum' : ''}`}>
+                // right-aligned cells hold numbers with their units ("0 credits", "3.38 MB"): one line each, the column widens instead
+                <td key={c.key} className={`${pad} align-middle ${c.align === 'right' ? 'whitespace-nowrap text-right tnum' : ''}`}>
                   {c.cell(row)}
                 </td>
               ))}

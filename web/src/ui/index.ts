@@ -5,6 +5,7 @@ export * from './CopyButton.js';
 export * from './Count.js';
 export * from './EmptyState.js';
 export * from './ErrorPanel.js';
+export * from './FileSize.js';
 export * from './Field.js';
 export * from './formErrors.js';
 export * from './Notice.js';

@@ -2,6 +2,7 @@ import type { FarmHealthResponse } from '../../api/contract.js';
 import { formatDateTime, groupThousands } from '../../format.js';
 import { runStatusWord } from '../../labels.js';
 import { Button, EmptyState, ErrorPanel, FormError, ProgressBar, Section, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
+import { workersSummary } from './adminFormat.js';
 import { useFarmHealth, useRetryJob } from './adminQueries.js';
 
 type Queue = FarmHealthResponse['queues'][number];
@@ -63,7 +64,7 @@ export function FarmTab() {
       <Section title="Queues" description={`As of ${formatDateTime(f.at)}; refreshed every 3 seconds.`}>
         <SortableTable caption="queues" columns={queueColumns} rows={f.queues} rowKey={(q) => q.queue} />
       </Section>
-      <Section title="Workers" description={`${groupThousands(f.workers.length)} sending heartbeats; ${groupThousands(f.bullWorkers)} worker connections registered with the queues.`}>
+      <Section title="Workers" description={workersSummary(f.workers.length, f.bullWorkers, f.queues.length)}>
         {f.workers.length === 0 ? <EmptyState title="No worker is alive">Start one with the renderer worker; it reports here every few seconds.</EmptyState> : <SortableTable caption="workers" columns={workerColumns} rows={f.workers} rowKey={(w) => `${w.host}:${w.pid}`} />}
       </Section>
       <Section title="Running">

@@ -1,7 +1,6 @@
 import type { AdminStorageResponse } from '../../api/contract.js';
 import { formatDate, groupThousands } from '../../format.js';
-import { Button, EmptyState, ErrorPanel, FormError, Notice, Section, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
-import { formatBytes } from './adminFormat.js';
+import { Button, EmptyState, ErrorPanel, FileSize, FormError, Notice, Section, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
 import { useAdminStorage, useRetentionNotice } from './adminQueries.js';
 
 type LabStorage = AdminStorageResponse['labs'][number];
@@ -21,9 +20,9 @@ function NoticeButton({ lab }: { lab: LabStorage }) {
 
 const columns: Column<LabStorage>[] = [
   { key: 'name', header: 'Lab', cell: (l) => <span className="font-medium">{l.name}</span>, sortValue: (l) => l.name.toLowerCase() },
-  { key: 'bytes', header: 'Stored', align: 'right', cell: (l) => formatBytes(l.bytes), sortValue: (l) => l.bytes },
-  { key: 'published', header: 'Published runs', align: 'right', cell: (l) => formatBytes(l.publishedBytes), sortValue: (l) => l.publishedBytes },
-  { key: 'unpublished', header: 'Unpublished runs', align: 'right', cell: (l) => formatBytes(l.unpublishedBytes), sortValue: (l) => l.unpublishedBytes },
+  { key: 'bytes', header: 'Stored', align: 'right', cell: (l) => <FileSize bytes={l.bytes} />, sortValue: (l) => l.bytes },
+  { key: 'published', header: 'Published runs', align: 'right', cell: (l) => <FileSize bytes={l.publishedBytes} />, sortValue: (l) => l.publishedBytes },
+  { key: 'unpublished', header: 'Unpublished runs', align: 'right', cell: (l) => <FileSize bytes={l.unpublishedBytes} />, sortValue: (l) => l.unpublishedBytes },
   { key: 'due', header: 'Near their end', align: 'right', cell: (l) => groupThousands(l.dueForNotice), sortValue: (l) => l.dueForNotice },
   { key: 'notice', header: '', cell: (l) => <NoticeButton lab={l} /> },
 ];
@@ -57,7 +56,7 @@ export function StorageTab() {
             columns={[
               { key: 'title', header: 'Run', cell: (r) => <a href={`/runs/${r.runId}`}>{r.title}</a>, sortValue: (r) => r.title.toLowerCase() },
               { key: 'lab', header: 'Lab', cell: (r) => r.labName, sortValue: (r) => r.labName },
-              { key: 'bytes', header: 'Stored', align: 'right', cell: (r) => formatBytes(r.bytes), sortValue: (r) => r.bytes },
+              { key: 'bytes', header: 'Stored', align: 'right', cell: (r) => <FileSize bytes={r.bytes} />, sortValue: (r) => r.bytes },
               { key: 'expires', header: 'Cleared on', cell: (r) => formatDate(r.expiresAt), sortValue: (r) => r.expiresAt },
               { key: 'mailed', header: 'Lab mailed', cell: (r) => formatDate(r.noticeMailedAt), sortValue: (r) => r.noticeMailedAt },
             ]}

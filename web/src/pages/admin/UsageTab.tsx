@@ -1,8 +1,7 @@
 import { useSearchParams } from 'react-router';
 import type { LabUsage, MemberUsage } from '../../api/contract.js';
 import { formatDate, groupThousands } from '../../format.js';
-import { buttonClass, EmptyState, ErrorPanel, FactList, Notice, Section, SelectField, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
-import { formatBytes } from './adminFormat.js';
+import { buttonClass, EmptyState, ErrorPanel, FactList, FileSize, Notice, Section, SelectField, SkeletonTable, SortableTable, type Column } from '../../ui/index.js';
 import { useAdminUsage, usageCsvUrl } from './adminQueries.js';
 import { AllowanceForm, CreditsForm, SuspensionForm } from './LabActions.js';
 import { StandingBadge } from './StandingBadge.js';
@@ -30,7 +29,7 @@ function labColumns(open: (id: string) => void): Column<LabUsage>[] {
     { key: 'reserved', header: 'Held', align: 'right', cell: (l) => `${groupThousands(l.reserved)} credits`, sortValue: (l) => l.reserved },
     { key: 'cpu', header: 'CPU-seconds', align: 'right', cell: (l) => groupThousands(Math.round(sum(l, (m) => m.cpuSeconds))), sortValue: (l) => sum(l, (m) => m.cpuSeconds) },
     { key: 'runs', header: 'Runs', align: 'right', cell: (l) => groupThousands(sum(l, (m) => m.runs)), sortValue: (l) => sum(l, (m) => m.runs) },
-    { key: 'storage', header: 'Stored', align: 'right', cell: (l) => formatBytes(l.storageBytes), sortValue: (l) => l.storageBytes },
+    { key: 'storage', header: 'Stored', align: 'right', cell: (l) => <FileSize bytes={l.storageBytes} />, sortValue: (l) => l.storageBytes },
   ];
 }
 
@@ -42,7 +41,7 @@ const memberColumns: Column<MemberUsage>[] = [
   { key: 'quota', header: 'Monthly quota', align: 'right', cell: (m) => (m.monthlyQuota === null ? 'no limit' : `${groupThousands(m.monthlyQuota)} credits`), sortValue: (m) => m.monthlyQuota },
   { key: 'cpu', header: 'CPU-seconds', align: 'right', cell: (m) => groupThousands(Math.round(m.months.reduce((s, x) => s + x.cpuSeconds, 0))), sortValue: (m) => m.months.reduce((s, x) => s + x.cpuSeconds, 0) },
   { key: 'runs', header: 'Runs', align: 'right', cell: (m) => groupThousands(m.months.reduce((s, x) => s + x.runs, 0)), sortValue: (m) => m.months.reduce((s, x) => s + x.runs, 0) },
-  { key: 'storage', header: 'Stored', align: 'right', cell: (m) => formatBytes(m.months.reduce((s, x) => s + x.storageBytes, 0)), sortValue: (m) => m.months.reduce((s, x) => s + x.storageBytes, 0) },
+  { key: 'storage', header: 'Stored', align: 'right', cell: (m) => <FileSize bytes={m.months.reduce((s, x) => s + x.storageBytes, 0)} />, sortValue: (m) => m.months.reduce((s, x) => s + x.storageBytes, 0) },
 ];
 
 const monthColumns: Column<LabUsage['months'][number]>[] = [
@@ -52,7 +51,7 @@ const monthColumns: Column<LabUsage['months'][number]>[] = [
   { key: 'purchased', header: 'Bought', align: 'right', cell: (m) => groupThousands(m.purchased), sortValue: (m) => m.purchased },
   { key: 'cpu', header: 'CPU-seconds', align: 'right', cell: (m) => groupThousands(Math.round(m.cpuSeconds)), sortValue: (m) => m.cpuSeconds },
   { key: 'runs', header: 'Runs', align: 'right', cell: (m) => groupThousands(m.runs), sortValue: (m) => m.runs },
-  { key: 'storage', header: 'Stored', align: 'right', cell: (m) => formatBytes(m.storageBytes), sortValue: (m) => m.storageBytes },
+  { key: 'storage', header: 'Stored', align: 'right', cell: (m) => <FileSize bytes={m.storageBytes} />, sortValue: (m) => m.storageBytes },
 ];
 
 export function UsageTab() {
@@ -115,7 +114,7 @@ function LabDetail({ lab, onClose }: { lab: LabUsage; onClose: () => void }) {
             { term: 'Paid balance', value: <span data-testid="lab-available">{groupThousands(lab.available)} credits</span> },
             { term: 'Held for running jobs', value: `${groupThousands(lab.reserved)} credits` },
             { term: 'Free allowance', value: `${groupThousands(lab.freeAllowance)} credits per month${lab.allowanceIsDefault ? ' (site default)' : ' (set by an admin)'}, ${groupThousands(lab.freeLeft)} left this month` },
-            { term: 'Stored', value: formatBytes(lab.storageBytes) },
+            { term: 'Stored', value: <FileSize bytes={lab.storageBytes} /> },
           ]}
         />
         <div className="mt-6 grid grid-cols-1 gap-8 lg:grid-cols-2">

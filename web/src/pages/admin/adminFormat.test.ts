@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { creditTicks } from './adminFormat.js';
+import { countOf, creditTicks, workersSummary } from './adminFormat.js';
 
 describe('creditTicks', () => {
   it('gives whole, distinct ticks for small ranges (a paid balance of 0 to 2 once read 2, 2, 1, 1, 0)', () => {
@@ -25,5 +25,19 @@ describe('creditTicks', () => {
 
   it('reaches below 0 when a value does', () => {
     expect(creditTicks([-3, 4]).ticks).toEqual([-4, -2, 0, 2, 4]);
+  });
+});
+
+describe('workersSummary', () => {
+  it('says what the two counts are, in the singular where there is one', () => {
+    // one worker process serving all five queues holds one registered connection per queue
+    expect(workersSummary(1, 5, 5)).toBe('1 worker reporting in; 5 connections taking jobs from the 5 queues (one per queue a worker serves).');
+    expect(workersSummary(2, 10, 5)).toBe('2 workers reporting in; 10 connections taking jobs from the 5 queues (one per queue a worker serves).');
+    expect(workersSummary(1, 1, 1)).toBe('1 worker reporting in; 1 connection taking jobs from the 1 queue (one per queue a worker serves).');
+  });
+
+  it('says "no" rather than 0 and starts with a capital', () => {
+    expect(workersSummary(0, 0, 5)).toBe('No worker reporting in; no connection taking jobs from the 5 queues (one per queue a worker serves).');
+    expect(countOf(1_500, 'credit')).toBe('1,500 credits');
   });
 });

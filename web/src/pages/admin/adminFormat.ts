@@ -2,8 +2,22 @@ import type { Standing } from '../../api/contract.js';
 import { groupThousands } from '../../format.js';
 import { niceStep } from '../../plots/plotData.js';
 
-/** Bytes shown exactly, grouped, with the unit named. */
-export const formatBytes = (n: number) => `${groupThousands(n)} bytes`;
+/** "1 worker", "5 connections", "no worker": a count with its noun in the right number. */
+export function countOf(n: number, noun: string, plural = `${noun}s`): string {
+  return n === 0 ? `no ${noun}` : `${groupThousands(n)} ${n === 1 ? noun : plural}`;
+}
+
+/**
+ * The farm's workers in plain words. `reporting` counts worker processes whose heartbeat key is alive
+ * (shared/api/admin.ts); `connections` is BullMQ's count of Redis connections registered as workers,
+ * summed over the queues: each process holds one for each queue it serves, so one process on five
+ * queues shows 1 and 5. More connections than that means a process that stopped reporting in.
+ */
+export function workersSummary(reporting: number, connections: number, queues: number): string {
+  const who = countOf(reporting, 'worker');
+  const taking = `${countOf(connections, 'connection')} taking jobs from the ${countOf(queues, 'queue')}`;
+  return `${who.charAt(0).toUpperCase()}${who.slice(1)} reporting in; ${taking} (one per queue a worker serves).`;
+}
 
 export const STANDING_LABEL: Record<Standing, string> = { over: 'over quota', close: 'close to quota', ok: 'within quota' };
 const STANDING_CLASS: Record<Standing, string> = {
