@@ -53,8 +53,19 @@ export const backgroundSchema = z.discriminatedUnion('kind', [
 ]);
 export type Background = z.infer<typeof backgroundSchema>;
 
-/** Grain counts up to 2^53 - 1 are accepted even where this machine cannot finish them. */
-export const chipsSchema = z.number().int().min(0).max(Number.MAX_SAFE_INTEGER);
+/**
+ * The largest grain count: counts travel as JSON numbers (doubles), whose whole numbers are exact
+ * only up to 2^53 − 1. Accepted even where the machines cannot finish such a run (the estimate and
+ * the submit then refuse it for its memory, api/src/services/run-memory.ts).
+ */
+export const MAX_CHIPS = Number.MAX_SAFE_INTEGER;
+// no-break spaces keep "2⁵³ − 1" on one line under a narrow field
+export const CHIPS_TOO_LARGE_MESSAGE = 'must be at most 9,007,199,254,740,991 (2⁵³\u00a0−\u00a01), the largest grain count held exactly';
+
+/** zod's whole numbers stop at 2^53 − 1 already (its "safe integer range"): that refusal gets our words. */
+const grainCount = () => z.number().int({ error: (issue) => (issue.code === 'too_big' ? CHIPS_TOO_LARGE_MESSAGE : undefined) });
+
+export const chipsSchema = grainCount().min(0);
 
 export const sourceSchema = z.strictObject({
   at: z.array(z.number().int()).min(1).max(3),
@@ -163,7 +174,7 @@ export const NEW_RUN_MIN_CHIPS_MESSAGE = 'must be at least 1';
  */
 export const newRunSpecSchema = runSpecShapeSchema
   // negative counts get the same message as 0 (not "at least 0", which read as if 0 were fine)
-  .extend({ chips: z.number().int().min(0, NEW_RUN_MIN_CHIPS_MESSAGE).max(Number.MAX_SAFE_INTEGER) })
+  .extend({ chips: grainCount().min(0, NEW_RUN_MIN_CHIPS_MESSAGE) })
   .superRefine((spec, ctx) => {
     checkRenderAgainstBackground(spec, ctx);
     checkBackgroundCanStabilize(spec, ctx);

@@ -20,5 +20,22 @@ export const estimateSchema = z.object({
   warnings: z.array(z.string()),
 });
 export type Estimate = z.infer<typeof estimateSchema>;
-export const estimateResponseSchema = z.object({ estimate: estimateSchema });
+
+/**
+ * A run the farm cannot compute (its working memory is beyond the machines'): the estimate's answer,
+ * not a bad request, so it comes with 200; submitting such a run is refused (400) in the same words,
+ * `spec: <reason>`.
+ */
+export const estimateRefusalSchema = z.object({
+  /** the whole sentence, e.g. "this run needs about 14,901.2 GiB of working memory (…); use fewer grains" */
+  reason: z.string().min(1),
+  /** working memory the run needs, bytes */
+  bytes: z.number().int().min(0),
+  /** memory of the machines that compute it, bytes */
+  limitBytes: z.number().int().min(0),
+});
+export type EstimateRefusal = z.infer<typeof estimateRefusalSchema>;
+
+/** Either the prediction, or why the farm cannot do the run at all (bad input is a 400 instead). */
+export const estimateResponseSchema = z.union([z.strictObject({ estimate: estimateSchema }), z.strictObject({ refused: estimateRefusalSchema })]);
 export type EstimateResponse = z.infer<typeof estimateResponseSchema>;

@@ -174,10 +174,11 @@ describe('backgrounds that can never stabilize (shared/stability.ts)', () => {
 describe('POST /api/estimates', () => {
   let h: Harness;
   let who: Session;
+  let labId: string;
   beforeAll(async () => {
     h = await startHarness('estimates');
     const u = await createUser(h, 'Estimate Author');
-    await createLab(h, 'Estimate Lab', [{ userId: u.id, role: 'author' }]);
+    labId = await createLab(h, 'Estimate Lab', [{ userId: u.id, role: 'author' }]);
     who = await signIn(h, u.email, TEST_PASSWORD);
   });
   afterAll(async () => {
@@ -187,7 +188,7 @@ describe('POST /api/estimates', () => {
   it('answers what the form computes itself', async () => {
     const s: RunSpecInput = { lattice: { preset: 'honeycomb' }, chips: 250_000, background: { kind: 'random', seed: 7, weights: [1, 1] } };
     const res = await as(h.http.post('/api/estimates'), who).send({ spec: s }).expect(200);
-    expect(estimateResponseSchema.parse(res.body).estimate).toEqual(estimateRun(spec(s)));
+    expect(estimateResponseSchema.parse(res.body)).toEqual({ estimate: estimateRun(spec(s)) });
   });
 
   it('refuses an unknown lattice or a bad spec with 400', async () => {
@@ -199,24 +200,45 @@ describe('POST /api/estimates', () => {
     expect(bad.body.issues[0].path).toBe('spec.chips');
   });
 
-  it('refuses a run too large for the machines with its memory, needed against available, not with its cost', async () => {
+  it('answers a run too large for the machines with why, memory needed against available, not with its cost', async () => {
     // n = 10^12 on Z^2 needs thousands of GiB (16 bytes a cell), beyond any machine this runs on; its
-    // price (over 10^12 credits) only follows from that size, so the memory is the reason given
+    // price (over 10^12 credits) only follows from that size, so the memory is the reason given. The
+    // farm's "cannot" is the estimate's answer (200), not a bad request: the submit is what is refused
     const s: RunSpecInput = { lattice: { preset: 'square' }, chips: 1e12 };
     const e = estimateRun(spec(s));
     expect(e.bytes).toBeGreaterThan(totalmem());
-    const huge = await as(h.http.post('/api/estimates'), who).send({ spec: s });
-    expect(huge.status).toBe(400);
-    const said = /^spec: this run needs about ([\d,.]+) GiB of working memory \(a ([\d,]+) × ([\d,]+) domain, ([\d,]+) cells at (\d+) bytes each\), more than the ([\d,.]+) GiB of the machines that compute it; use fewer grains$/.exec(huge.body.error);
-    expect(said, huge.body.error).not.toBeNull();
+    const huge = await as(h.http.post('/api/estimates'), who).send({ spec: s }).expect(200);
+    const answer = estimateResponseSchema.parse(huge.body);
+    if (!('refused' in answer)) throw new Error(`expected a refusal, got ${JSON.stringify(huge.body)}`);
+    expect(Object.keys(huge.body)).toEqual(['refused']);
+    const said = /^this run needs about ([\d,.]+) GiB of working memory \(a ([\d,]+) × ([\d,]+) domain, ([\d,]+) cells at (\d+) bytes each\), more than the ([\d,.]+) GiB of the machines that compute it; use fewer grains$/.exec(answer.refused.reason);
+    expect(said, answer.refused.reason).not.toBeNull();
     const num = (t: string) => Number(t.replaceAll(',', ''));
     const [needed, h0, w0, cells, perCell, available] = [num(said![1]!), num(said![2]!), num(said![3]!), num(said![4]!), num(said![5]!), num(said![6]!)];
     // needed: the estimate's domain at the engine's bytes per cell; available: this machine's memory
     expect([h0, w0, cells, perCell]).toEqual([...e.shape, e.cells, BYTES_PER_CELL]);
     expect(Math.abs(needed - e.bytes / 2 ** 30)).toBeLessThanOrEqual(0.05);
     expect(Math.abs(available - totalmem() / 2 ** 30)).toBeLessThanOrEqual(0.05);
-    expect(huge.body.issues).toEqual([{ path: 'spec', message: `needs about ${said![1]} GiB of working memory; the machines have ${said![6]} GiB` }]);
+    expect([answer.refused.bytes, answer.refused.limitBytes]).toEqual([e.bytes, totalmem()]);
+    // no price for a run that cannot be computed
+    expect(JSON.stringify(huge.body)).not.toMatch(/credits/);
+    // the submit refuses it in the same words, on the spec, with both numbers
+    const submit = await as(h.http.post('/api/runs'), who).send({ labId, title: 'A trillion grains', spec: s });
+    expect(submit.status).toBe(400);
+    expect(submit.body.error).toBe(`spec: ${answer.refused.reason}`);
+    expect(submit.body.issues).toEqual([{ path: 'spec', message: `needs about ${said![1]} GiB of working memory; the machines have ${said![6]} GiB` }]);
     const small = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1000 } }).expect(200);
-    expect(estimateResponseSchema.parse(small.body).estimate.warnings).toEqual([]);
+    const fits = estimateResponseSchema.parse(small.body);
+    expect('estimate' in fits && fits.estimate.warnings).toEqual([]);
+  });
+
+  it('still refuses a malformed spec with 400 beside its field, also at sizes beyond the machines', async () => {
+    // bad input stays a bad request, whatever the size: the schema is checked before the memory
+    const res = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1e12, background: { kind: 'constant', height: 3 } } });
+    expect(res.status).toBe(400);
+    expect(res.body.issues.map((i: { path: string }) => i.path)).toEqual(['spec.background.height']);
+    const tooMany = await as(h.http.post('/api/estimates'), who).send({ spec: { lattice: { preset: 'square' }, chips: 1e20 } });
+    expect(tooMany.status).toBe(400);
+    expect(tooMany.body.issues).toEqual([{ path: 'spec.chips', message: 'must be at most 9,007,199,254,740,991 (2⁵³\u00a0−\u00a01), the largest grain count held exactly' }]);
   });
 });

@@ -52,6 +52,11 @@ describe('the new-run form with grain counts out of range', () => {
     const page = await newPage(browser, stack.url);
     await signIn(page, author.email, author.password);
     const refused = refusals(page);
+    // the browser logs every 4xx fetch as "Failed to load resource": the estimate's answer must not be one
+    const consoleErrors: string[] = [];
+    page.on('console', (m) => {
+      if (m.type() === 'error') consoleErrors.push(m.text());
+    });
     await page.goto('/runs/new');
     await page.getByLabel('Title').fill('A trillion grains');
     await page.getByLabel('Grains at the origin (n)').fill('1000000000000');
@@ -75,6 +80,8 @@ describe('the new-run form with grain counts out of range', () => {
     expect(spill).toEqual([]);
     expect(await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth)).toBeLessThanOrEqual(0);
     await screenshot(page, 'run-form-huge-n');
+    // the estimate's answer is no failed request: nothing in the console until the submit is refused
+    expect(consoleErrors).toEqual([]);
 
     await submitAndSettle(page, 400);
     // the estimate box already says why, in the words the submit's refusal has: said once, not twice
@@ -84,13 +91,43 @@ describe('the new-run form with grain counts out of range', () => {
     expect(await page.getByTestId('refused-as-above').textContent()).toBe('Not started: the check above says why.');
     expect(new URL(page.url()).pathname).toBe('/runs/new');
     await screenshot(page, 'run-form-huge-n-refused');
-    // the estimate's refusal and the submit's; no side request (a credit check) failed on the way
-    expect([...new Set(refused)].sort()).toEqual(['POST /api/estimates 400', 'POST /api/runs 400']);
+    // only the submit is refused: the estimate answered (200) that the farm cannot do it, and no side
+    // request (a credit check) failed on the way
+    expect([...new Set(refused)].sort()).toEqual(['POST /api/runs 400']);
 
     // a smaller n then goes through, and the old refusal does not linger
     await page.getByLabel('Grains at the origin (n)').fill('1000');
     await page.getByRole('button', { name: 'Start run' }).click();
     await page.waitForURL((u) => /^\/runs\/[0-9a-f-]{36}$/.test(u.pathname));
+  });
+
+  test('n = 1e20: the hint names the largest count accepted and why; a line\'s motif speaks of the line', async () => {
+    const page = await newPage(browser, stack.url);
+    await signIn(page, author.email, author.password);
+    await page.goto('/runs/new');
+    await page.getByLabel('Title').fill('Too many grains');
+    const n = page.getByLabel('Grains at the origin (n)');
+    await n.fill('1e20');
+    // a number, only too large: not "a whole number of at least 1"
+    await page.getByText('must be at most 9,007,199,254,740,991 (2⁵³\u00a0−\u00a01), the largest grain count held exactly').waitFor();
+    expect(await page.getByText('a whole number of at least 1', { exact: false }).count()).toBe(0);
+    await screenshot(page, 'tour8b-run-form-1e20');
+    await n.fill('1000');
+
+    // the motif field's words follow the lattice: the line has no rows
+    await page.getByLabel('Lattice').selectOption('line');
+    await page.getByLabel('Background').selectOption('motif');
+    const motif = page.getByLabel('Motif: heights along the line (x mod their number), separated by spaces');
+    await motif.waitFor();
+    expect(await page.getByText(/y mod rows/).count()).toBe(0);
+    // a motif of two rows: the second is said to be unused
+    await motif.fill('1 0\n1 1');
+    await page.getByText('the line repeats the first row only; the other row is not used').waitFor();
+    await screenshot(page, 'tour8b-run-form-line-motif');
+    await motif.fill('1 0');
+    await expect.poll(() => page.getByText('the line repeats the first row only', { exact: false }).count()).toBe(0);
+    await page.getByLabel('Lattice').selectOption('square');
+    await page.getByLabel('Motif: one line per row (y mod rows), heights separated by spaces').waitFor();
   });
 
   test('n = 0 on the runs page: refused beside the field with the shared schema\'s message, nothing sent', async () => {

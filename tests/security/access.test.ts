@@ -174,9 +174,11 @@ describe('runs larger than the machine', () => {
     expect(series.status).toBe(400);
     expect(series.body.error).toMatch(/GiB of working memory/);
     expect([await rows(), await entries()]).toEqual([r0, e0]);
-    // the estimate refuses with the same reason, so the form shows it before any submit (or credit check)
+    // the estimate answers with the same reason (an answer, not an error), so the form shows it before
+    // any submit (or credit check)
     const est = await as(h.http.post('/api/estimates'), a).send({ spec: huge });
-    expect(est.status).toBe(400);
-    expect(est.body.error).toBe(res.body.error);
+    expect(est.status).toBe(200);
+    expect(`spec: ${est.body.refused.reason}`).toBe(res.body.error);
+    expect([await rows(), await entries()]).toEqual([r0, e0]);
   });
 });

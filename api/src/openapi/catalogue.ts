@@ -101,7 +101,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   },
   { method: 'get', path: '/uploads/background/:sha256', tag: 'uploads', summary: 'Summary of an uploaded background', access: 'user', params: api.backgroundUploadParamsSchema, responses: { 200: api.backgroundUploadResponseSchema } },
 
-  { method: 'post', path: '/estimates', tag: 'runs', summary: 'Predicted domain, memory, time and credits of a specification', access: 'user', body: api.estimateRequestSchema, responses: { 200: api.estimateResponseSchema } },
+  { method: 'post', path: '/estimates', tag: 'runs', summary: 'Predicted domain, memory, time and credits of a specification', description: 'Answers `{ estimate }`, or `{ refused }` with the reason for a run the machines cannot compute (its working memory beyond theirs; POST /api/runs refuses it with 400 in the same words). A specification that does not validate is a 400.', access: 'user', body: api.estimateRequestSchema, responses: { 200: api.estimateResponseSchema } },
 
   { method: 'get', path: '/figures', tag: 'figures', summary: 'Published figures', access: 'public', query: api.listFiguresQuerySchema, responses: { 200: api.listFiguresResponseSchema } },
   { method: 'get', path: '/figures/:slug', tag: 'figures', summary: 'A figure by its permanent slug (drafts for their lab only; withdrawn ones answer withdrawn: true)', access: 'optional', params: api.figureParamsSchema, responses: { 200: api.figureResponseSchema } },

@@ -6,21 +6,25 @@ import { badRequest } from '../http/http-error.js';
 import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
 import { findBackground } from '../services/background-uploads.js';
-import { estimateOrRefuse, refuseIfTooLarge } from '../services/run-memory.js';
+import { estimateOrRefuse, memoryRefusal } from '../services/run-memory.js';
 
 export function estimatesRouter({ db }: AppDeps): Router {
   const r = Router();
 
-  /** The run form's prediction (shared/estimate.ts); an uploaded background is read from its record. */
+  /**
+   * The run form's prediction (shared/estimate.ts), or why the farm cannot compute the run; a spec
+   * that does not validate is a 400. An uploaded background is read from its record.
+   */
   r.post('/estimates', requireUser, async (req, res) => {
     const { spec } = validate.body(req, estimateRequestSchema);
     const bg = spec.background;
     const upload = bg.kind === 'array' ? await findBackground(db, bg.sha256) : null;
     if (bg.kind === 'array' && !upload) throw badRequest(`spec.background: no uploaded background has sha256 ${bg.sha256}`);
     const estimate = estimateOrRefuse(spec, upload ? { shape: upload.shape, meanHeight: upload.meanHeight } : undefined);
-    // the submit's own refusal, while the author is still typing: its price (and any credit check of it) would only follow from the size
-    refuseIfTooLarge(estimate);
-    respond(res, 200, estimateResponseSchema, { estimate });
+    // a run too large for the machines is a valid question with a definite answer (the submit's own
+    // refusal, in its words), not a bad request; no price is given, as it would only follow from the size
+    const refusal = memoryRefusal(estimate);
+    respond(res, 200, estimateResponseSchema, refusal ? { refused: { reason: refusal.reason, bytes: refusal.bytes, limitBytes: refusal.limitBytes } } : { estimate });
   });
 
   return r;

@@ -5,7 +5,7 @@ import { api } from '../api/client.js';
 import { useCreditCheck, useEstimate } from '../api/queries.js';
 import { isStatus, messageForPeople } from '../api/ApiError.js';
 import {
-  createRunRequestSchema, createSeriesRequestSchema, newRunSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
+  CHIPS_TOO_LARGE_MESSAGE, MAX_CHIPS, createRunRequestSchema, createSeriesRequestSchema, newRunSpecSchema, type RunResponse, type RunSpecInput, type SeriesResponse,
 } from '../api/contract.js';
 import { backgroundKindName, latticeName } from '../labels.js';
 import { formatDuration, groupThousands } from '../format.js';
@@ -15,7 +15,7 @@ import { RenderChoices } from './RenderChoices.js';
 import { UnitCellEditor } from './UnitCellEditor.js';
 import { CreditGate } from '../pages/credits/CreditGate.js';
 import {
-  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, errorsAfterEdit, parseGrainList, parseGrains, seriesChipsOfForm, seriesScaleHint, specOfForm, type RunFormState,
+  BACKGROUND_KINDS, BUILTIN_PRESETS, PERIODIC_PRESET_NAMES, dimensionOfForm, errorsAfterEdit, grainCountHint, motifWording, parseGrainList, parseGrains, seriesChipsOfForm, seriesScaleHint, specOfForm, type RunFormState,
 } from './formState.js';
 
 function useDebounced<T>(value: T, ms: number): T {
@@ -105,15 +105,20 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
   }
 
   const grains = parseGrains(f.chips);
+  const dimension = dimensionOfForm(f);
+  const motif = motifWording(dimension, f.motif);
   // the shared schema read live says all the server would about these fields, and never goes stale
   const bgErr = (k: string) => (f.backgroundKind === 'array' ? undefined : (liveIssues.background(k) ?? errors['spec.background']));
-  const est = estimate.data?.estimate;
+  // the prediction, or why the farm cannot compute this run at all (an answer of the estimate, not an error)
+  const est = estimate.data && 'estimate' in estimate.data ? estimate.data.estimate : undefined;
+  const refused = estimate.data && 'refused' in estimate.data ? estimate.data.refused : undefined;
   // the credit check the estimate box shows (CreditGate asks the same query), so a refused submit
   // that only repeats it, or the estimate's own refusal, is not said a second time by the button
   const gated = est && specForEstimate && f.mode !== 'series' ? est.credits : null;
   const creditCheck = useCreditCheck(labId, gated);
   const shownAbove = [
     specForEstimate && estimate.isError ? messageForPeople(estimate.error) : null,
+    specForEstimate && refused ? refused.reason : null,
     gated !== null && creditCheck.data && !creditCheck.data.allowed ? creditCheck.data.message : null,
   ];
   const submitRefusal = create.isError && !shownAbove.includes(messageForPeople(create.error)) ? create.error : null;
@@ -155,7 +160,7 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
             value={f.chips}
             onChange={(e) => set({ chips: e.target.value })}
             error={errors['spec.chips']}
-            hint={Number.isSafeInteger(grains) && grains >= 1 ? <Count n={grains} unit="grains" /> : 'a whole number of at least 1, e.g. 1000000 or 10^6'}
+            hint={grainCountHint(grains) ?? <Count n={grains} unit="grains" />}
           />
         ) : (
           <TextField
@@ -195,9 +200,11 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
           </>
         ) : f.backgroundKind === 'motif' ? (
           <label className="col-span-2 flex flex-col gap-1.5 text-sm">
-            <span className="font-medium">Motif: one line per row (y mod rows), heights separated by spaces</span>
-            <textarea value={f.motif} onChange={(e) => set({ motif: e.target.value })} rows={4} className="rounded-md border border-rule bg-sheet px-3 py-2 font-mono text-sm" aria-invalid={bgErr('cells') ? true : undefined} />
+            <span className="font-medium">{motif.label}</span>
+            <textarea value={f.motif} onChange={(e) => set({ motif: e.target.value })} rows={dimension === 1 ? 2 : 4} className="rounded-md border border-rule bg-sheet px-3 py-2 font-mono text-sm" aria-invalid={bgErr('cells') ? true : undefined} />
             {bgErr('cells') ? <span role="alert" className="text-xs font-medium text-stamp">{bgErr('cells')}</span> : null}
+            {/* also beside a refusal: on a line, that refusal reads the first row only */}
+            {motif.note ? <span className="text-xs text-ink-soft" data-testid="motif-note">{motif.note}</span> : null}
           </label>
         ) : (
           <span className="col-span-2" />
@@ -251,6 +258,8 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
             <p className="text-ink-soft">Complete the form to see the size, time and cost.</p>
           ) : estimate.isError ? (
             <FormError error={estimate.error} />
+          ) : refused ? (
+            <FormError error={new Error(refused.reason)} />
           ) : !est ? (
             <p className="text-ink-soft">Estimating…</p>
           ) : (
@@ -308,6 +317,8 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
 
 function SeriesHint({ text }: { text: string }) {
   const ns = parseGrainList(text);
+  // a number past the largest count says so, rather than how to type a list
+  if (ns.some((n) => n > MAX_CHIPS)) return <>each {CHIPS_TOO_LARGE_MESSAGE}</>;
   if (!ns.length || !ns.every(Number.isSafeInteger)) return <>separated by commas, e.g. 10^4, 10^5, 10^6</>;
   return <>{ns.length} runs: {ns.map((n, i) => <span key={i}>{i ? ', ' : ''}<Count n={n} /></span>)}</>;
 }

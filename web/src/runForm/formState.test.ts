@@ -4,7 +4,7 @@ import { createRunRequestSchema, runSpecSchema } from '../api/contract.js';
 import { validate } from '../ui/formErrors.js';
 import type { Layer, PaletteId } from '../../../shared/palettes.js';
 import { checkCell } from './UnitCellEditor.js';
-import { emptyForm, errorsAfterEdit, formOfSpec, parseGrainList, parseGrains, resizeCell, seriesScaleHint, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
+import { dimensionOfForm, emptyForm, errorsAfterEdit, formOfSpec, grainCountHint, motifWording, parseGrainList, parseGrains, resizeCell, seriesScaleHint, specOfForm, SQUARE_CELL, toggled, toggleOffset } from './formState.js';
 
 describe('grain counts as people type them', () => {
   test('grouped, powers of ten and exponent notation', () => {
@@ -138,5 +138,45 @@ describe('errors of the last submit while the author fixes the form', () => {
     const errors = { title: 'title is required' };
     expect(errorsAfterEdit(errors, { palettes: ['kiln'] })).toBe(errors);
     expect(errorsAfterEdit({}, { title: 'x' })).toEqual({});
+  });
+});
+
+describe('the hint under the grain count', () => {
+  test('a count too large names the largest accepted and why, not "at least 1"', () => {
+    // "1e20" parses as a number: it is its size that is refused, by the same words the schema uses
+    for (const typed of ['1e20', '10^20', '9007199254740992']) {
+      expect(grainCountHint(parseGrains(typed)), typed).toBe('must be at most 9,007,199,254,740,991 (2⁵³\u00a0−\u00a01), the largest grain count held exactly');
+    }
+    const r = validate(createRunRequestSchema, { labId: randomUUID(), title: 'Too many', spec: specOfForm({ ...emptyForm(), chips: '1e20' }) });
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.errors['spec.chips']).toBe(grainCountHint(1e20));
+    // the largest count itself is accepted
+    expect(grainCountHint(parseGrains('9007199254740991'))).toBeNull();
+    expect(validate(createRunRequestSchema, { labId: randomUUID(), title: 'Most', spec: specOfForm({ ...emptyForm(), chips: '9007199254740991' }) }).ok).toBe(true);
+  });
+
+  test('text, fractions and counts below 1 ask for a whole number of at least 1', () => {
+    for (const n of [NaN, 1.5, 0, -3]) expect(grainCountHint(n)).toBe('a whole number of at least 1, e.g. 1000000 or 10^6');
+    expect(grainCountHint(1)).toBeNull();
+  });
+});
+
+describe('the motif field follows the lattice', () => {
+  test('a line has no rows: its label speaks of the line, and extra rows are said to be unused', () => {
+    expect(dimensionOfForm({ latticeMode: 'preset', preset: 'line' })).toBe(1);
+    const line = motifWording(1, '2 1 0');
+    expect(line.label).toBe('Motif: heights along the line (x mod their number), separated by spaces');
+    expect(line.label).not.toMatch(/row/);
+    expect(line.note).toBeUndefined();
+    expect(motifWording(1, '2 1\n1 2').note).toBe('the line repeats the first row only; the other row is not used');
+    expect(motifWording(1, '2\n1\n0').note).toBe('the line repeats the first row only; the other 2 rows are not used');
+  });
+
+  test('planar lattices and unit cells read rows; the cubic lattice repeats them on every layer', () => {
+    expect(dimensionOfForm({ latticeMode: 'preset', preset: 'square' })).toBe(2);
+    expect(dimensionOfForm({ latticeMode: 'cell', preset: 'line' })).toBe(2);
+    expect(dimensionOfForm({ latticeMode: 'preset', preset: 'cubic' })).toBe(3);
+    expect(motifWording(2, '2 1\n1 2')).toEqual({ label: 'Motif: one line per row (y mod rows), heights separated by spaces' });
+    expect(motifWording(3, '2 1\n1 2').label).toBe('Motif: one line per row (y mod rows), heights separated by spaces; the same on every layer z');
   });
 });

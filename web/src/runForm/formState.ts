@@ -1,6 +1,6 @@
 import type { Background, PeriodicGraph, RunSpec } from '../api/contract.js';
 import type { LatticeChoice } from '../../../shared/run-spec.js';
-import { DEFAULT_RENDER, type RenderSpec } from '../../../shared/run-spec.js';
+import { CHIPS_TOO_LARGE_MESSAGE, DEFAULT_RENDER, MAX_CHIPS, type RenderSpec } from '../../../shared/run-spec.js';
 import { LAYERS, PALETTE_IDS, type Layer, type PaletteId, type UntoppledStyle } from '../../../shared/palettes.js';
 import { PERIODIC_PRESETS } from '../../../renderer/src/engine/lattice.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
@@ -122,18 +122,49 @@ export function latticeOfForm(f: RunFormState): unknown {
   return f.cellName.trim() ? { periodic: f.cell, name: f.cellName.trim() } : { periodic: f.cell };
 }
 
+/** The dimension of the form's lattice: 1 for the line, 3 for the cubic lattice, 2 otherwise (unit cells are planar). */
+export function dimensionOfForm(f: Pick<RunFormState, 'latticeMode' | 'preset'>): 1 | 2 | 3 {
+  try {
+    if (f.latticeMode === 'preset') return latticeShape({ preset: f.preset } as LatticeChoice).dimension;
+  } catch {
+    // an unknown preset is refused by the form's own check; the wording stays planar meanwhile
+  }
+  return 2;
+}
+
 /**
  * What a series of the form's lattice looks like on the series page, which rescales each pile by its
- * own n^(1/d): "n" on the line, "√n" on the plane, "∛n" on the cubic lattice (unit cells are planar).
+ * own n^(1/d): "n" on the line, "√n" on the plane, "∛n" on the cubic lattice.
  */
 export function seriesScaleHint(f: Pick<RunFormState, 'latticeMode' | 'preset'>): string {
-  let dimension = 2;
-  try {
-    if (f.latticeMode === 'preset') dimension = latticeShape({ preset: f.preset } as LatticeChoice).dimension;
-  } catch {
-    // an unknown preset is refused by the form's own check; the hint stays planar meanwhile
+  return `one run per n, side by side, each rescaled by ${scaleSymbol(dimensionOfForm(f))}`;
+}
+
+/**
+ * How a motif is typed on a lattice of each dimension (the engine reads cells[y mod rows][x mod cols],
+ * a line only row 0, the cubic lattice the same rows on every layer z), and a note when the text has
+ * rows the lattice does not read.
+ */
+export function motifWording(dimension: 1 | 2 | 3, text: string): { label: string; note?: string } {
+  if (dimension === 1) {
+    const rows = parseMotif(text).length;
+    return {
+      label: 'Motif: heights along the line (x mod their number), separated by spaces',
+      note: rows > 1 ? `the line repeats the first row only; the other ${rows - 1 === 1 ? 'row is' : `${rows - 1} rows are`} not used` : undefined,
+    };
   }
-  return `one run per n, side by side, each rescaled by ${scaleSymbol(dimension)}`;
+  const label = 'Motif: one line per row (y mod rows), heights separated by spaces';
+  return dimension === 3 ? { label: `${label}; the same on every layer z` } : { label };
+}
+
+/**
+ * The hint under the grain count while it is not a count a run can have (null once it is): the
+ * largest accepted count, with its reason, for one too large ("1e20" is a number, just too big).
+ */
+export function grainCountHint(n: number): string | null {
+  if (Number.isSafeInteger(n) && n >= 1) return null;
+  if (n > MAX_CHIPS) return CHIPS_TOO_LARGE_MESSAGE;
+  return 'a whole number of at least 1, e.g. 1000000 or 10^6';
 }
 
 /** Coordinates typed as "3, -2" or "(3, -2)". */
