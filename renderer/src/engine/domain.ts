@@ -176,3 +176,41 @@ export class Domain {
     return t;
   }
 }
+
+/** Generous first guess of the pile's radius; the box grows anyway, so this only saves copies. */
+function radiusGuess(dim: number, grains: number): number {
+  if (dim === 1) return Math.ceil(grains / 2) + 2;
+  if (dim === 2) return Math.ceil(0.5 * Math.sqrt(grains)) + 2;
+  return Math.ceil(0.8 * Math.cbrt(grains)) + 2;
+}
+
+/**
+ * The lattice-coordinate box a run starts with ([min, max] for x, y, z): every source with a radius
+ * guess, the origin, and any uploaded array, clamped to the site budget (the sources must still fit).
+ * Both the tiled engine and the line path start from it and grow alike, so they refuse the same runs.
+ */
+export function initialNeed(problem: Problem, maxSites: number): [[number, number], [number, number], [number, number]] {
+  const dim = problem.lattice.dim;
+  const need: [[number, number], [number, number], [number, number]] = [[0, 0], [0, 0], [0, 0]];
+  const r0 = radiusGuess(dim, Number(problem.grainsIn));
+  for (const s of problem.sources) {
+    const r = s.chips > 0 ? r0 : 0;
+    for (let a = 0; a < dim; a++) {
+      need[a]![0] = Math.min(need[a]![0], s.at[a]! - r);
+      need[a]![1] = Math.max(need[a]![1], s.at[a]! + r);
+    }
+  }
+  const ext = problem.background.extent;
+  if (ext) for (let a = 0; a < dim; a++) ((need[a]![0] = Math.min(need[a]![0], ext[a]![0])), (need[a]![1] = Math.max(need[a]![1], ext[a]![1])));
+  const T = tileDims(dim);
+  for (let a = 0; a < dim; a++) {
+    const span = need[a]![1] - need[a]![0] + 1;
+    const cap = Math.floor(Math.pow(maxSites, 1 / dim)) - 2 * T[a]!;
+    if (span > cap && !ext) {
+      const lo = Math.min(...problem.sources.map((s) => s.at[a]!)), hi = Math.max(...problem.sources.map((s) => s.at[a]!));
+      const mid = Math.floor((lo + hi) / 2), half = Math.max(Math.floor(cap / 2), Math.ceil((hi - lo) / 2));
+      need[a] = [Math.min(lo, mid - half), Math.max(hi, mid + half)];
+    }
+  }
+  return need;
+}

@@ -3,7 +3,7 @@
  * Entry points for the CLI, the API and the renderer worker.
  */
 export { resolveProblem, type Problem, type Uploads } from './problem.js';
-export { stabilize, takesFastPath, SCALED_MIN_CHIPS, type StabilizeOptions, type Progress, type CheckpointOptions } from './stabilize.js';
+export { stabilize, takesFastPath, takesLinePath, SCALED_MIN_CHIPS, type StabilizeOptions, type Progress, type CheckpointOptions } from './stabilize.js';
 export { encodeSnapshot, decodeSnapshot, snapshotBytes, isSnapshotError, SnapshotError, SNAPSHOT_FORMAT, type Snapshot, type SeededSnapshot, type TiledSnapshot } from './snapshot.js';
 export { stabilizeReference } from './reference.js';
 export { stabilizeBox, boxStabilizer, type BoxResult, type BoxOptions } from './box.js';

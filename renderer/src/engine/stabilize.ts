@@ -3,6 +3,7 @@ import type { Problem } from './problem.js';
 import { checkSnapshot, SnapshotError, type Snapshot } from './snapshot.js';
 import { stabilizeTiled, type CheckpointOptions, type Progress } from './tiled.js';
 import { scaledPathApplies, stabilizeScaled } from '../scale/scaled.js';
+import { linePathApplies, stabilizeLine } from './line-path.js';
 
 export type { CheckpointOptions, Progress } from './tiled.js';
 
@@ -16,8 +17,9 @@ export interface StabilizeOptions {
   /** grains moved from a source into its cell per round (default RESERVE_BATCH; smaller only for tests) */
   reserveBatch?: number;
   /**
-   * use the scaled fast path (renderer/src/scale/) where it applies and n >= SCALED_MIN_CHIPS
-   * (default true); the result is the same bit for bit, only faster
+   * use a fast path where one applies (default true): the scaled one (renderer/src/scale/) on planar
+   * lattices with n >= SCALED_MIN_CHIPS, the closed-form one (line-path.ts) on every line run; false
+   * forces the plain tiled engine (comparisons). The result is the same bit for bit, only faster.
    */
   scaled?: boolean;
   /** snapshots of whichever path runs, every `everySeconds` (`save` is called synchronously) */
@@ -37,16 +39,28 @@ export function takesFastPath(problem: Problem, options: Pick<StabilizeOptions, 
   return options.scaled !== false && scaledPathApplies(problem) && problem.sources[0]!.chips >= SCALED_MIN_CHIPS;
 }
 
+/** Whether stabilize takes the line's closed-form path for this problem (before any certificate fallback). */
+export function takesLinePath(problem: Problem, options: Pick<StabilizeOptions, 'scaled'> = {}): boolean {
+  return options.scaled !== false && linePathApplies(problem);
+}
+
 /**
- * The engine's one entry point: the seeded fast path where it applies, else (or when its certificate
- * fails, which must never be published) the plain tiled engine. Checkpoints and resume work on both:
- * a fast-path snapshot resumes the fast path, a tiled one the tiled engine (also when it was written
- * by the fallback of a fast-path run).
+ * The engine's one entry point: the line's closed-form path on line runs, the seeded fast path where
+ * it applies, else (or when a fast path's certificate fails, which must never be published) the plain
+ * tiled engine. Checkpoints and resume work on all three: a seeded snapshot resumes the seeded path, a
+ * tiled one the tiled engine, or on a line run the line path (both write and read the tiled kind).
  * @throws NotStabilizedError, AbortError (the signal's reason), SnapshotError (see `resume`).
  */
 export async function stabilize(problem: Problem, options: StabilizeOptions = {}): Promise<Outcome> {
   const { resume, checkpoint, ...rest } = options;
   if (resume) checkSnapshot(problem, resume);
+  if (resume?.kind !== 'seeded' && takesLinePath(problem, options)) {
+    const out = await stabilizeLine(problem, { onProgress: rest.onProgress, signal: rest.signal, maxSites: rest.maxSites, checkpoint, resume });
+    if (out?.stats.certificate?.passed) return out;
+    // never publish an uncertified result: the plain engine starts over (the line path took the
+    // snapshot's arrays over), with checkpoints of its own
+    return stabilizeTiled(problem, { ...rest, checkpoint });
+  }
   const fast = takesFastPath(problem, options);
   if (resume?.kind === 'seeded' && !fast) throw new SnapshotError('the checkpoint is of the seeded fast path, which this run does not take');
   if (fast && resume?.kind !== 'tiled') {

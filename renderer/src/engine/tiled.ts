@@ -1,5 +1,5 @@
 import { availableParallelism } from 'node:os';
-import { Domain } from './domain.js';
+import { Domain, initialNeed } from './domain.js';
 import { NotStabilizedError } from './errors.js';
 import { IDLE, PENDING_FULL, relaxTile, STACK_SLACK } from './kernel.js';
 import { DEFAULT_MAX_SITES, RESERVE_BATCH } from './limits.js';
@@ -38,13 +38,6 @@ export interface TiledOptions {
   resume?: TiledSnapshot;
 }
 
-/** Generous first guess of the pile's radius; the box grows anyway, so this only saves copies. */
-function radiusGuess(dim: number, grains: number): number {
-  if (dim === 1) return Math.ceil(grains / 2) + 2;
-  if (dim === 2) return Math.ceil(0.5 * Math.sqrt(grains)) + 2;
-  return Math.ceil(0.8 * Math.cbrt(grains)) + 2;
-}
-
 /** Below this many pending tiles in a colour, handing work to a thread costs more than it saves. */
 const PARALLEL_MIN_TILES = 2;
 
@@ -67,30 +60,10 @@ export async function stabilizeTiled(problem: Problem, options: TiledOptions = {
   const dim = g.dim;
   const tables = tablesFor(g);
 
-  // box to start with: every source with a radius guess, the origin, and any uploaded array
-  const need: [[number, number], [number, number], [number, number]] = [[0, 0], [0, 0], [0, 0]];
+  const need = initialNeed(problem, maxSites);
   const total = Number(problem.grainsIn);
-  const r0 = radiusGuess(dim, total);
-  for (const s of problem.sources) {
-    const r = s.chips > 0 ? r0 : 0;
-    for (let a = 0; a < dim; a++) {
-      need[a]![0] = Math.min(need[a]![0], s.at[a]! - r);
-      need[a]![1] = Math.max(need[a]![1], s.at[a]! + r);
-    }
-  }
   const ext = problem.background.extent;
-  if (ext) for (let a = 0; a < dim; a++) ((need[a]![0] = Math.min(need[a]![0], ext[a]![0])), (need[a]![1] = Math.max(need[a]![1], ext[a]![1])));
-  // clamp the guess to the budget (the sources themselves must still fit)
   const T = tileDims(dim);
-  for (let a = 0; a < dim; a++) {
-    const span = need[a]![1] - need[a]![0] + 1;
-    const cap = Math.floor(Math.pow(maxSites, 1 / dim)) - 2 * T[a]!;
-    if (span > cap && !ext) {
-      const lo = Math.min(...problem.sources.map((s) => s.at[a]!)), hi = Math.max(...problem.sources.map((s) => s.at[a]!));
-      const mid = Math.floor((lo + hi) / 2), half = Math.max(Math.floor(cap / 2), Math.ceil((hi - lo) / 2));
-      need[a] = [Math.min(lo, mid - half), Math.max(hi, mid + half)];
-    }
-  }
   const resume = options.resume;
   if (resume) checkTiledSnapshot(problem, resume);
   const domain = resume ? Domain.restore(problem, resume.tiles, resume.origin, resume.h, resume.od) : new Domain(problem, need);
