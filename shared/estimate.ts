@@ -44,7 +44,8 @@ export const TOPPLINGS_PER_SECOND = 1.5e8;
 
 /**
  * The plain engine's rate by dimension (2-core development machine, two threads, load under 1.5,
- * 2026-12-05): a line pile of 3,000 grains is one tile, so one thread, 1,126,125,250 topplings in
+ * 2026-12-05; line runs now take the line path, priced by LINE_PATH_SECONDS: the 1-D rate is kept
+ * for runs forced onto the plain engine): a line pile of 3,000 grains is one tile, so one thread, 1,126,125,250 topplings in
  * 17.2 s; the cubic lattice reaches 27 and 43 million per second at 10^6 and 3·10^6 grains (more
  * neighbours and a third axis per toppling). Z^2 keeps TOPPLINGS_PER_SECOND.
  */
@@ -54,9 +55,10 @@ export const PLAIN_TOPPLINGS_PER_SECOND: Readonly<Record<1 | 2 | 3, number>> = {
  * The line's closed-form path (renderer/src/engine/line-path.ts), which takes every line run: one
  * nearest-zero look-up per grain, O(log L), then passes over the array (odometer, statistics,
  * certificate). Seconds = grains · LINE_PATH_SECONDS.perGrain + cells · LINE_PATH_SECONDS.perCell,
- * fitted to `npm run bench:line` on the 2-core development machine (see LINE_PATH_MEASURED).
+ * read off `npm run bench:line -- --plain-max 1e3` on the 2-core development machine (2026-12-05,
+ * load average 4.5, shared): 10^6 grains 0.48 s, 10^7 grains 3.04 s (the pile covers n cells).
  */
-export const LINE_PATH_SECONDS = { perGrain: 0, perCell: 0 } as const;
+export const LINE_PATH_SECONDS = { perGrain: 2.5e-7, perCell: 0.6e-7 } as const;
 
 /**
  * Z^3, single source, empty background: T(n) = CUBIC_TOPPLING_C · n^(5/3) · (4/6)(2/g₀), g₀ = 10/3 the

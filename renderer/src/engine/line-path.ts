@@ -39,7 +39,7 @@ export interface LineOptions {
   maxSites?: number;
   /**
    * Snapshots of the tiled kind (the box, its heights, the odometer so far from the balance, and the
-   * grains still to add as reserves): either path resumes them. At about 5 million grains a second a
+   * grains still to add as reserves): either path resumes them. At about 3 million grains a second (10^7 in 3 s, `npm run bench:line`) a
    * run within the default site budget ends before WORKER_CHECKPOINT_SECONDS (60 s) is due; larger
    * budgets on the farm make longer line runs, so they are honoured all the same.
    */
