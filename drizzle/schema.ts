@@ -146,6 +146,14 @@ export const runs = pgTable('runs', {
   artifactsExpiredAt: at('artifacts_expired_at'),
   /** set once nothing of the expired run is left in the object store (a sweep interrupted midway finishes it later) */
   artifactsClearedAt: at('artifacts_cleared_at'),
+  /**
+   * What the object store holds under runs/<id>/ (arrays, checkpoint, tile pyramids), from a listing
+   * taken by whoever last wrote or deleted there (api/src/storage/run-usage.ts), so the admin's
+   * storage report sums rows instead of listing every run. New runs start at 0; null means unknown
+   * (rows from before migration 0013): the report lists those once and fills them in.
+   */
+  storedBytes: bigint('stored_bytes', { mode: 'number' }),
+  storedObjects: integer('stored_objects'),
 }, (t) => [index('runs_lab_created_idx').on(t.labId, t.createdAt), index('runs_status_idx').on(t.status), index('runs_series_idx').on(t.seriesId)]);
 
 /**

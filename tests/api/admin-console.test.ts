@@ -276,6 +276,9 @@ describe('storage and retention', () => {
     expect(lab.dueForNotice).toBe(1);
     expect(lab.bytes).toBe(1234);
     expect((await usageOf(labId)).storageBytes).toBe(1234);
+    // a row written without its size (as before migration 0013) was listed once and filled in
+    const [filled] = await h.deps.db.select({ bytes: runs.storedBytes, objects: runs.storedObjects }).from(runs).where(eq(runs.id, old!.id));
+    expect(filled).toEqual({ bytes: 1234, objects: 2 });
 
     const notice = await as(http.post(`/api/admin/labs/${labId}/retention-notice`), s.admin);
     expect(notice.status).toBe(200);

@@ -133,6 +133,9 @@ describe('the retention sweep', () => {
     const row = await rowOf(gone);
     expect(row.artifactsExpiredAt).not.toBeNull();
     expect(row.artifactsClearedAt).not.toBeNull();
+    // the stored size the storage report reads agrees with a listing: nothing left
+    expect({ bytes: row.storedBytes, objects: row.storedObjects }).toEqual(await h.deps.blobs.usage(`runs/${gone}/`));
+    expect(row.storedObjects).toBe(0);
     // the run itself, its statistics and spec stay
     expect(row.status).toBe('finished');
     expect(row.stats).not.toBeNull();
@@ -201,6 +204,7 @@ describe('the retention sweep', () => {
     expect(out.finished).toContain(half);
     expect(await stored(half)).toBe(0);
     expect((await rowOf(half)).artifactsClearedAt).not.toBeNull();
+    expect((await rowOf(half)).storedObjects).toBe(0);
     // and clearing again is harmless
     await expect(clearExpiredRun(deps, half, 'interrupted')).resolves.toEqual({ objects: 0, prints: 0 });
   });

@@ -1,7 +1,12 @@
 import { randomUUID } from 'node:crypto';
+import { cp, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { drizzle } from 'drizzle-orm/node-postgres';
+import { migrate } from 'drizzle-orm/node-postgres/migrator';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { migrateDatabase } from '../../api/src/db/migrate.js';
+import { migrateDatabase, MIGRATIONS_FOLDER } from '../../api/src/db/migrate.js';
 import { testEnv } from './support/harness.js';
 
 /** Apply the committed migrations to a database created empty for this test, then inspect it. */
@@ -85,6 +90,48 @@ describe('migrations from an empty database', () => {
       await c.query(`insert into memberships (lab_id, user_id, role) values ($1, $2, 'author')`, [l, u]);
       await expect(c.query(`insert into memberships (lab_id, user_id, role) values ($1, $2, 'manager')`, [l, u])).rejects.toThrow(/duplicate key/);
       await expect(c.query(`insert into memberships (lab_id, user_id, role) values ($1, $2, 'owner')`, [l, u])).rejects.toThrow(/enum/);
+    });
+  });
+});
+
+describe('migration 0013 (stored sizes of runs) on a database with runs', () => {
+  const older = `${name}_0012`;
+  const olderUrl = (() => {
+    const u = new URL(adminUrl);
+    u.pathname = `/${older}`;
+    return u.toString();
+  })();
+  let folder: string;
+  beforeAll(async () => {
+    await withClient(adminUrl, (c) => c.query(`create database ${older}`));
+    // the committed migrations up to 0012 only: a database as it was before the size columns
+    folder = await mkdtemp(join(tmpdir(), 'tw-migrations-'));
+    await cp(MIGRATIONS_FOLDER, folder, { recursive: true });
+    const journalPath = join(folder, 'meta', '_journal.json');
+    const journal = JSON.parse(await readFile(journalPath, 'utf8')) as { entries: { idx: number }[] };
+    journal.entries = journal.entries.filter((e) => e.idx <= 12);
+    await writeFile(journalPath, JSON.stringify(journal));
+  });
+  afterAll(async () => {
+    await withClient(adminUrl, (c) => c.query(`drop database if exists ${older} with (force)`));
+    if (folder) await rm(folder, { recursive: true, force: true });
+  });
+
+  it('leaves the size of runs stored before it unknown (null), and new rows may say zero', async () => {
+    await withClient(olderUrl, (c) => migrate(drizzle(c), { migrationsFolder: folder }));
+    const runId = await withClient(olderUrl, async (c) => {
+      const lab = (await c.query(`insert into labs (name) values ('Old Lab') returning id`)).rows[0].id;
+      const user = (await c.query(`insert into users (email, name, password_hash) values ('old@lab.test', 'Old', 'x') returning id`)).rows[0].id;
+      return (await c.query(`insert into runs (lab_id, author_id, title, spec, status) values ($1, $2, 'old run', '{}'::jsonb, 'finished') returning id`, [lab, user])).rows[0].id as string;
+    });
+    await migrateDatabase(olderUrl);
+    await withClient(olderUrl, async (c) => {
+      expect((await c.query('select stored_bytes, stored_objects from runs where id = $1', [runId])).rows).toEqual([{ stored_bytes: null, stored_objects: null }]);
+      const lab = (await c.query(`select id from labs`)).rows[0].id;
+      const user = (await c.query(`select id from users`)).rows[0].id;
+      const fresh = await c.query(`insert into runs (lab_id, author_id, title, spec, stored_bytes, stored_objects) values ($1, $2, 'new run', '{}'::jsonb, 0, 0) returning stored_bytes, stored_objects`, [lab, user]);
+      // bigint arrives as text from pg
+      expect(fresh.rows).toEqual([{ stored_bytes: '0', stored_objects: 0 }]);
     });
   });
 });

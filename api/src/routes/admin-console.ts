@@ -26,9 +26,10 @@ import { allowanceOf } from '../billing/ledger.js';
 import { setAllowance } from '../services/admin-allowance.js';
 import { auditCsv, auditKinds, auditTrail } from '../services/admin-audit.js';
 import { farmReport, retryFailedJob } from '../services/admin-farm.js';
-import { sendRetentionNotice, storageReport, storedBytesByRun } from '../services/admin-storage.js';
+import { sendRetentionNotice, storageReport } from '../services/admin-storage.js';
 import { reinstateLab, suspendLab } from '../services/admin-suspension.js';
 import { allLabUsage, monthsUpTo, usageCsv } from '../services/admin-usage.js';
+import { runUsageOf } from '../storage/run-usage.js';
 
 /** The admin console's routes; `farm` lets tests read their own BullMQ prefix (otherwise one reader per request on the product's). */
 export type AdminConsoleDeps = AppDeps & { farm?: FarmHealth };
@@ -51,7 +52,7 @@ export function adminConsoleRouter(deps: AdminConsoleDeps): Router {
   async function usage(months: number) {
     const now = new Date();
     const list = monthsUpTo(now, months);
-    return { month: monthOf(now), months: list, labs: await allLabUsage(db, list, await storedBytesByRun({ db, blobs }), now) };
+    return { month: monthOf(now), months: list, labs: await allLabUsage(db, list, await runUsageOf({ db, blobs }), now) };
   }
 
   r.get('/admin/usage', async (req, res) => {

@@ -98,7 +98,7 @@ export async function seedDemo(env: Env, options: SeedOptions = {}): Promise<{ s
       const runIds: string[] = [];
       for (const r of DEMO_RUNS) {
         const spec = runSpecSchema.parse(r.spec);
-        const [row] = await tx.insert(runs).values({ labId: labIds[r.lab], authorId: who(r.by), title: r.title, spec }).returning({ id: runs.id });
+        const [row] = await tx.insert(runs).values({ labId: labIds[r.lab], authorId: who(r.by), title: r.title, spec, storedBytes: 0, storedObjects: 0 }).returning({ id: runs.id });
         runIds.push(row!.id);
         // in the job outbox with the row (api/src/queue/outbox.ts); sent after the commit, or by the API once Redis answers
         await recordJobs(tx, queue, [{ name: JOB_NAMES.computeRun, data: { runId: row!.id, spec } }]);

@@ -9,6 +9,7 @@ import { conflict } from '../http/http-error.js';
 import { retentionMail } from '../mail/retention-mail.js';
 import type { Mailer } from '../mail/mailer.js';
 import type { BlobStore } from '../storage/blob-store.js';
+import { recordRunUsage, runPrefix, runUsageOf } from '../storage/run-usage.js';
 import { audit } from './audit.js';
 
 /**
@@ -111,8 +112,8 @@ export async function mailRetentionNotices(deps: RetentionDeps, labId: string, a
     if (!lab) return null;
     const runsDue = (await candidates(tx, now, [labId])).filter((r) => dueForNotice(r.expiresAt, now));
     const noticed = await noticesOf(tx, runsDue.map((r) => r.id));
-    const due: typeof runsDue = [];
-    for (const r of runsDue) if (!noticed.has(r.id) && (await deps.blobs.usage(`runs/${r.id}/`)).objects > 0) due.push(r);
+    const held = await runUsageOf({ db: tx, blobs: deps.blobs }, runsDue.filter((r) => !noticed.has(r.id)).map((r) => r.id));
+    const due = runsDue.filter((r) => !noticed.has(r.id) && (held.get(r.id)?.objects ?? 0) > 0);
     if (due.length === 0) return { mailedTo: [], runs: 0, labName: lab.name };
     const to = await recipientsOf(tx, labId);
     const items = due.map((r) => ({ title: r.title, removalAt: removalDateOf(r.expiresAt, now)!.toISOString() }));
@@ -140,7 +141,7 @@ export async function mailRetentionNotices(deps: RetentionDeps, labId: string, a
  */
 export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>, runId: string, title: string): Promise<{ objects: number; prints: number }> {
   // in batches of ≤ 1,000 per request, failed keys retried; anything left throws, so artifacts_cleared_at stays unset
-  const objects = await deps.blobs.deletePrefix(`runs/${runId}/`);
+  const objects = await deps.blobs.deletePrefix(runPrefix(runId));
   const drafts = await deps.db
     .select({ id: figureVersions.id, figureId: figureVersions.figureId, number: figureVersions.number, files: figureVersions.files, status: figureVersions.status })
     .from(figureVersions)
@@ -158,7 +159,11 @@ export async function clearExpiredRun(deps: Pick<RetentionDeps, 'db' | 'blobs'>,
         .where(and(eq(figureVersions.id, v.id), eq(figureVersions.status, 'ready')));
     }
   }
-  await deps.db.update(runs).set({ artifactsClearedAt: new Date() }).where(and(eq(runs.id, runId), isNull(runs.artifactsClearedAt)));
+  // deletePrefix returned on an empty listing page: the run holds nothing now
+  await deps.db
+    .update(runs)
+    .set({ artifactsClearedAt: sql`coalesce(${runs.artifactsClearedAt}, now())`, storedBytes: 0, storedObjects: 0 })
+    .where(eq(runs.id, runId));
   return { objects, prints };
 }
 
@@ -177,7 +182,8 @@ async function claimExpiredRun(db: Db, blobs: BlobStore, run: { id: string; expi
       .for('update', { skipLocked: true });
     if (!row) return null;
     if ((await keptRunIds(tx, run.id)).size > 0) return null;
-    const size = await blobs.usage(`runs/${run.id}/`);
+    // listed once more at the claim, for the audit record (and the row, in case it was unknown)
+    const size = await recordRunUsage(tx, blobs, run.id);
     await tx.update(runs).set({ artifactsExpiredAt: new Date() }).where(eq(runs.id, run.id));
     await audit(tx, {
       actorId: null,

@@ -4,34 +4,16 @@ import { RETENTION_RULE, type AdminStorageResponse } from '../../../shared/api/a
 import type { Db } from '../db/client.js';
 import { notFound, conflict } from '../http/http-error.js';
 import type { BlobStore } from '../storage/blob-store.js';
+import { runUsageOf } from '../storage/run-usage.js';
 import { dueForNotice, expiryOf, keptRunIds, mailRetentionNotices, noticesOf, removalDateOf, type RetentionDeps } from './admin-retention.js';
 
-export type RunBytes = Map<string, { bytes: number; objects: number }>;
-
-/** Runs listed at once when summing storage: enough to hide latency, few enough for a small store. */
-const LISTINGS_AT_ONCE = 8;
-
 /**
- * Bytes stored per run, one listing of `runs/<id>/` per run (with sizes, so no request per tile).
- * Per-run listings stay small and never walk objects that other runs are writing at that moment.
- */
-export async function storedBytesByRun(deps: { db: Db; blobs: BlobStore }): Promise<RunBytes> {
-  const ids = (await deps.db.select({ id: runs.id }).from(runs)).map((r) => r.id);
-  const out: RunBytes = new Map();
-  for (let i = 0; i < ids.length; i += LISTINGS_AT_ONCE) {
-    const batch = ids.slice(i, i + LISTINGS_AT_ONCE);
-    const sizes = await Promise.all(batch.map((id) => deps.blobs.usage(`runs/${id}/`)));
-    batch.forEach((id, k) => sizes[k]!.objects > 0 && out.set(id, sizes[k]!));
-  }
-  return out;
-}
-
-/**
- * Storage per lab with each run's size, whether a published figure keeps it, when its artifacts go
- * (the end of retention, or later when the notice came late) and the notice already mailed.
+ * Storage per lab with each run's size (from the runs' rows: only sizes not known yet are listed),
+ * whether a published figure keeps it, when its artifacts go (the end of retention, or later when
+ * the notice came late) and the notice already mailed.
  */
 export async function storageReport(deps: { db: Db; blobs: BlobStore }, now = new Date()): Promise<AdminStorageResponse> {
-  const bytes = await storedBytesByRun(deps);
+  const bytes = await runUsageOf(deps);
   const rows = await deps.db
     .select({ id: runs.id, title: runs.title, labId: runs.labId, finishedAt: runs.finishedAt, expiredAt: runs.artifactsExpiredAt, labName: labs.name })
     .from(runs)

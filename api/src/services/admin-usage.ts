@@ -8,7 +8,7 @@ import { reconcileLab } from '../billing/settle.js';
 import { memberUsed, runUsages } from '../billing/usage.js';
 import { allowanceOf } from '../billing/ledger.js';
 import { toCsv } from './admin-csv.js';
-import type { RunBytes } from './admin-storage.js';
+import type { RunUsageMap } from '../storage/run-usage.js';
 
 /** The last `n` calendar months up to `now`'s, oldest first ("2026-07" … "2026-12"). */
 export function monthsUpTo(now: Date, n: number): string[] {
@@ -39,7 +39,7 @@ export function labStandingOf(b: { used: number; allowance: number; freeLeft: nu
 const emptyMonth = (month: string): UsageMonth => ({ month, credits: 0, cpuSeconds: 0, runs: 0, storageBytes: 0, granted: 0, purchased: 0 });
 
 /** Usage of one lab, its members and its balance history, from the ledger, the runs and the stored bytes. */
-export async function labUsage(db: Db, labId: string, months: string[], bytes: RunBytes, now = new Date()): Promise<LabUsage> {
+export async function labUsage(db: Db, labId: string, months: string[], bytes: RunUsageMap, now = new Date()): Promise<LabUsage> {
   await reconcileLab(db, labId);
   const [lab] = await db.select().from(labs).where(eq(labs.id, labId));
   const entries = await entriesOf(db, labId);
@@ -122,7 +122,7 @@ export async function labUsage(db: Db, labId: string, months: string[], bytes: R
 const STANDING_ORDER: Record<Standing, number> = { over: 0, close: 1, ok: 2 };
 
 /** Every lab, those over quota first, then close, then by name. */
-export async function allLabUsage(db: Db, months: string[], bytes: RunBytes, now = new Date()): Promise<LabUsage[]> {
+export async function allLabUsage(db: Db, months: string[], bytes: RunUsageMap, now = new Date()): Promise<LabUsage[]> {
   const ids = await db.select({ id: labs.id }).from(labs).orderBy(asc(labs.name));
   const out: LabUsage[] = [];
   for (const { id } of ids) out.push(await labUsage(db, id, months, bytes, now));

@@ -44,9 +44,10 @@ export async function createRuns(
       seriesId = row!.id;
       await audit(tx, { actorId: actor.id, labId, action: 'series.create', subjectType: 'series', subjectId: seriesId, detail: { chips: items.map((i) => i.spec.chips) } });
     }
+    // a new run holds nothing in the store yet; the worker records its size as it writes (storage/run-usage.ts)
     const rows = await tx
       .insert(runs)
-      .values(items.map((item) => ({ labId, authorId: actor.id, title: item.title, spec: item.spec, seriesId })))
+      .values(items.map((item) => ({ labId, authorId: actor.id, title: item.title, spec: item.spec, seriesId, storedBytes: 0, storedObjects: 0 })))
       .returning();
     // credits: reserve the estimate or refuse with 402 (api/src/billing/README.md); the rows roll back on refusal
     await reserveForRuns(tx, labId, actor.id, rows);

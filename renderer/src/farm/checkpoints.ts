@@ -16,6 +16,8 @@ export interface CheckpointDeps {
   runId: string;
   /** one line per event, for the job's log and the worker's output */
   log(line: string): void;
+  /** after each checkpoint reached the store (the run's stored size is recorded there); must not throw */
+  stored?(): Promise<void>;
 }
 
 export interface StoredCheckpoint {
@@ -72,6 +74,7 @@ export function runCheckpoints(deps: CheckpointDeps): RunCheckpoints {
     await deps.s3.send(new PutObjectCommand({ Bucket: deps.bucket, Key, Body, ContentLength: size, ContentType: 'application/octet-stream' }));
     uploaded++;
     deps.log(`checkpoint ${uploaded} stored (${what}, ${(size / 2 ** 20).toFixed(1)} MiB in ${((performance.now() - t0) / 1000).toFixed(1)} s)`);
+    await deps.stored?.();
   };
 
   return {

@@ -2,6 +2,7 @@ import { UnrecoverableError, WaitingError, type Job } from 'bullmq';
 import type { S3Client } from '@aws-sdk/client-s3';
 import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
+import { refreshRunUsage } from '../../../api/src/storage/run-usage.js';
 import { computeRunDataSchema } from '../../../shared/jobs.js';
 import { ENGINE_VERSION, isEngineError, isSnapshotError, resolveProblem, runStatsToJSON, stabilize, type Outcome, type Problem, type Snapshot } from '../engine/index.js';
 import { arrayHash, dtypeName, heightsForExport, odometerForExport } from '../cli/export-arrays.js';
@@ -76,6 +77,8 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
   let lastWrite = 0;
   let pending: Promise<unknown> = Promise.resolve();
   let checkpoints: RunCheckpoints | null = null;
+  // what runs/<id>/ holds, into the run's row after each write or deletion here (api/src/storage/run-usage.ts)
+  const recordSize = () => refreshRunUsage(deps.db, deps.store, data.runId, log);
   try {
     const problem = resolveProblem(data.spec, await readStoredUpload(deps.store, data.spec.background));
     const onProgress = (p: { stage: string; fraction: number }) => {
@@ -88,7 +91,7 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
         if ((await state.current()) === 'cancelled') abort.abort(new Error('cancelled by its author'));
       });
     };
-    checkpoints = runCheckpoints({ s3: deps.s3, bucket: deps.bucket, runId: data.runId, log });
+    checkpoints = runCheckpoints({ s3: deps.s3, bucket: deps.bucket, runId: data.runId, log, stored: recordSize });
     const outcome = await stabilizeWithCheckpoints(problem, checkpoints, { deps, state, log, signal: abort.signal, onProgress });
     await pending;
 
@@ -121,6 +124,7 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
     await deps.store.put(keys.sidecar, toJson(sidecar, 2), 'application/json');
     // the arrays are safe: the checkpoint has done its work (a kill before this line resumes and stores them again)
     if (checkpoints) await checkpoints.remove().catch((err: Error) => log(`the checkpoint could not be deleted: ${err.message}`));
+    await recordSize();
     log(`arrays stored (heights sha256 ${heightsRecord.sha256.slice(0, 16)}…)`);
     await state.computed(stats);
     await deps.enqueueRender(data.runId);
@@ -144,10 +148,12 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
       }
       // cancelled: nothing of it is kept
       await checkpoints?.remove().catch(() => {});
+      await recordSize();
       return 'skipped';
     }
     if (unrecoverable(err) || err instanceof UnrecoverableError) {
       await checkpoints?.remove().catch(() => {});
+      await recordSize();
       await state.failed(err.message);
       await deps.notifyOutcome(data.runId);
       throw new UnrecoverableError(err.message);
@@ -156,6 +162,7 @@ export async function computeRun(job: Job, deps: ComputeDeps, token?: string, lo
     // mark failed on the last attempt
     if (job.attemptsMade + 1 >= (job.opts.attempts ?? 1)) {
       await checkpoints?.remove().catch(() => {});
+      await recordSize();
       await state.failed(`the farm could not finish this run: ${(err as Error).message}`);
       await deps.notifyOutcome(data.runId);
     }

@@ -4,6 +4,7 @@ import { Queue, Worker, type Job } from 'bullmq';
 import { Redis } from 'ioredis';
 import { connectDatabase } from '../../../api/src/db/client.js';
 import { createS3BlobStore } from '../../../api/src/storage/s3-blob-store.js';
+import { refreshRunUsage } from '../../../api/src/storage/run-usage.js';
 import { createSmtpMailer } from '../../../api/src/mail/mailer.js';
 import type { Env } from '../../../shared/env.js';
 import { BYTES_PER_CELL } from '../../../shared/estimate.js';
@@ -139,6 +140,7 @@ export async function startFarmWorker(env: Env, options: FarmWorkerOptions = {})
       if (!(await runState(database.db, runId).failed('every farm worker that took this run stopped before it finished (out of memory, or the machine went down); it was given up after several attempts'))) return;
       log(`run ${runId}: given up, its workers died before it finished`);
       await s3.send(new DeleteObjectCommand({ Bucket: env.S3_BUCKET, Key: checkpointKey(runId) })).catch(() => {});
+      await refreshRunUsage(database.db, store, runId, (line) => log(`run ${runId}: ${line}`));
       await notifyOutcome(runId);
     } catch (err) {
       console.error(`after run ${runId} was given up: ${(err as Error).message}`);

@@ -3,6 +3,7 @@ import type { S3Client } from '@aws-sdk/client-s3';
 import { eq } from 'drizzle-orm';
 import type { Db } from '../../../api/src/db/client.js';
 import type { BlobStore } from '../../../api/src/storage/blob-store.js';
+import { refreshRunUsage } from '../../../api/src/storage/run-usage.js';
 import { runs } from '../../../drizzle/schema.js';
 import { renderRunDataSchema } from '../../../shared/jobs.js';
 import { renderViews, runSpecSchema, type RunSpec } from '../../../shared/run-spec.js';
@@ -36,6 +37,7 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
   const status = await state.current();
   if (status !== 'rendering') return 'skipped';
   const [row] = await deps.db.select({ spec: runs.spec }).from(runs).where(eq(runs.id, runId));
+  const recordSize = () => refreshRunUsage(deps.db, deps.store, runId, (line) => console.error(`run ${runId}: ${line}`));
   try {
     // stored rows predate the `render` field or hold it; parsing fills the same defaults the API did
     const parsed = runSpecSchema.safeParse(row?.spec);
@@ -53,6 +55,8 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
       await renderPyramid(input, sink, { runId, style: view, stats, background: view.layer === 'difference' ? background : undefined });
     }
   } catch (err) {
+    // a pyramid drawn in part stays in the store until a retry overwrites it: count what is there
+    await recordSize();
     // a spec or arrays the renderer refuses would be refused again: fail the run at once with the reason
     if (err instanceof UnrecoverableError || isRenderInputError(err) || isEngineError(err)) {
       const message = (err as Error).message;
@@ -68,6 +72,8 @@ export async function renderRun(job: Job, deps: RenderDeps): Promise<'finished' 
     }
     throw err;
   }
+  // the arrays and every pyramid are stored: one listing of runs/<id>/ into the row (api/src/storage/run-usage.ts)
+  await recordSize();
   if (await state.finished()) await deps.notifyOutcome(runId);
   return 'finished';
 }
