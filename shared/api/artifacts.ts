@@ -45,7 +45,7 @@ export const figureArrayParamsSchema = z.strictObject({ slug: slugSchema, name: 
 /**
  * GET /api/runs/:id/thumbnail: the smallest whole image of the run's first drawn view that its pyramid
  * already stores (longer side at most THUMBNAIL_MAX_SIDE), PNG. GET /api/figures/:slug/thumbnail: the
- * printed page the caller may see, JPEG, or (before a print with a PNG or TIFF is ready) its first panel's view.
+ * printed page the caller may see, JPEG, or (before a print is ready) its first panel's view.
  */
 export const THUMBNAIL_MAX_SIDE = 256;
 export const runThumbnailParamsSchema = z.strictObject({ id: idSchema });

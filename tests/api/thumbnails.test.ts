@@ -199,15 +199,27 @@ describe('a figure\'s thumbnail', () => {
     expect(lab.headers['cache-control']).toBe('private, no-cache');
   });
 
-  it('falls back to the first panel for a print without a raster (PDF only), and refuses a malformed slug', { timeout: 120_000 }, async () => {
+  it('shows a PDF-only print\'s page too: the same JPEG a PNG print of the figure gets; refuses a malformed slug', { timeout: 120_000 }, async () => {
     const f = await compose('Vector only');
     await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['pdf'] }).expect(202);
-    await printed(f.slug, 1);
-    expect(await h.deps.blobs.exists(printThumbnailKey(f.id, 1))).toBe(false);
+    const v1 = await printed(f.slug, 1);
+    expect(v1.files.map((x) => x.format)).toEqual(['pdf']);
+    const pdfOnly = await h.deps.blobs.get(printThumbnailKey(f.id, 1));
+    expect(pdfOnly).not.toBeNull();
     const res = await getImage(`/api/figures/${f.slug}/thumbnail`, author);
     expect(res.status).toBe(200);
-    expect(res.headers['content-type']).toBe('image/png');
-    expect([...(res.body as Buffer).subarray(0, 8)]).toEqual(PNG_SIGNATURE);
+    expect(res.headers['content-type']).toBe('image/jpeg');
+    expect([...(res.body as Buffer).subarray(0, 3)]).toEqual(JPEG_SIGNATURE);
+    expect(Buffer.compare(res.body as Buffer, pdfOnly!)).toBe(0);
+    const meta = await sharp(res.body as Buffer).metadata();
+    expect(Math.max(meta.width!, meta.height!)).toBe(THUMBNAIL_MAX_SIDE);
+    expect(Math.abs(meta.width! / meta.height! - v1.files[0]!.widthPx / v1.files[0]!.heightPx)).toBeLessThan(2 / Math.min(meta.width!, meta.height!));
+
+    // the same figure printed as PNG: its thumbnail, shrunk from the PNG, is the very same file
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    await printed(f.slug, 2);
+    const fromPng = await h.deps.blobs.get(printThumbnailKey(f.id, 2));
+    expect(Buffer.compare(fromPng!, pdfOnly!)).toBe(0);
 
     const bad = await h.http.get('/api/figures/Not_A_Slug/thumbnail').expect(400);
     expect(JSON.stringify(bad.body.issues)).toMatch(/slug/);

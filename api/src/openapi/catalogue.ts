@@ -125,7 +125,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   },
   {
     method: 'get', path: '/figures/:slug/thumbnail', tag: 'artifacts', summary: 'A small picture of a figure\'s printed page for lists', access: 'optional',
-    description: 'A published figure shows everyone the page of its newest published version (cached publicly for an hour); a draft shows its lab the newest ready print. Without a PNG or TIFF print: the first panel\'s view.',
+    description: 'A published figure shows everyone the page of its newest published version (cached publicly for an hour); a draft shows its lab the newest ready print. Before a print with a page thumbnail (nothing printed yet, or a print older than page thumbnails): the first panel\'s view.',
     params: api.figureThumbnailParamsSchema, responses: { 200: figurePicture, 304: null },
   },
   { method: 'get', path: '/figures/:slug/arrays/:name', tag: 'artifacts', summary: 'Download the arrays of a figure\'s run', access: 'optional', params: api.figureArrayParamsSchema, responses: { 200: download, 304: null } },

@@ -13,7 +13,8 @@ import { isPublic, specOf, type FigureRow } from './figures.js';
 /**
  * Small pictures for lists, taken from what the farm already stores: a run's picture is the smallest
  * whole image of its first drawn view's pyramid (the coarsest level, at most one tile); a figure's is
- * the page thumbnail the print job shrank from its PNG or TIFF, else its first panel's view.
+ * the page thumbnail the print job stored with the version (every order has one; an older print may
+ * not), else its first panel's view.
  */
 
 /** The whole-image sizes a pyramid's info.json lists (renderer/src/render/plan.ts `infoJson`). */
@@ -51,7 +52,7 @@ async function panelImage(db: Db, blobs: BlobStore, panel: PanelSpec): Promise<s
 /**
  * A figure's picture and who may cache it. A published figure shows everyone (its lab included) the
  * page of its newest published version, so one cached answer fits every caller; a draft or withdrawn
- * one shows its lab the newest ready print. Before a print with a raster exists: the first panel.
+ * one shows its lab the newest ready print. Before a print with a page thumbnail exists: the first panel.
  */
 export async function figureThumbnailKey(db: Db, blobs: BlobStore, row: FigureRow): Promise<{ key: string | null; visibility: 'public' | 'private' }> {
   const shown = isPublic(row.figure);

@@ -11,7 +11,7 @@ import { figures, figureVersions, runs, type FigureFileRecord } from '../../../d
 import { printFigureDataSchema } from '../../../shared/jobs.js';
 import { resolveProblem } from '../engine/index.js';
 import { THUMBNAIL_MAX_SIDE } from '../../../shared/api/artifacts.js';
-import { isPrintInputError, pageThumbnail, PRINT_CONTENT_TYPES, renderPrint, type PrintFormat, type PrintRun } from '../print/index.js';
+import { isPrintInputError, PRINT_CONTENT_TYPES, renderPrint, type PrintFormat, type PrintRun } from '../print/index.js';
 import { backgroundFromLattice, type RenderInput } from '../render/index.js';
 import { printKey, printThumbnailKey } from './artifacts.js';
 import { readStoredArrays, readStoredUpload } from './stored-arrays.js';
@@ -73,7 +73,9 @@ export async function printRun(job: Job, deps: PrintDeps): Promise<'ready' | 'sk
     const paths: Partial<Record<PrintFormat, string>> = {};
     for (const f of v.formats) paths[f] = join(dir, `${base}.${EXTENSIONS[f]}`);
     await stage(`printing ${v.formats.map((f) => f.toUpperCase()).join(', ')}`);
-    const result = await renderPrint(v.spec, printRuns, paths, { title: figure.title, creationDate: v.createdAt }).catch((err: unknown) => {
+    // lists show the page small: the print engine shrinks it from the PNG or TIFF, or for a PDF-only
+    // order from a scratch PNG of the same page (print/thumbnail.ts)
+    const result = await renderPrint(v.spec, printRuns, paths, { title: figure.title, creationDate: v.createdAt, thumbnail: THUMBNAIL_MAX_SIDE }).catch((err: unknown) => {
       throw isPrintInputError(err) ? new UnrecoverableError((err as Error).message) : err;
     });
 
@@ -87,13 +89,8 @@ export async function printRun(job: Job, deps: PrintDeps): Promise<'ready' | 'sk
       );
       files.push({ format: file.format, key, name, bytes: file.bytes, sha256: file.sha256, widthPx: file.widthPx, heightPx: file.heightPx });
     }
-    // lists show the page small; shrunk from a raster already written (a PDF-only order has none and
-    // its lists show the first panel's view instead), stored before the version is marked ready
-    const raster = result.files.find((f) => f.format === 'png') ?? result.files.find((f) => f.format === 'tiff');
-    if (raster) {
-      const thumb = await pageThumbnail(raster.path, THUMBNAIL_MAX_SIDE);
-      await deps.store.put(printThumbnailKey(figure.id, v.number), thumb.jpeg, 'image/jpeg');
-    }
+    // stored before the version is marked ready, so a ready version always has its page thumbnail
+    if (result.thumbnail) await deps.store.put(printThumbnailKey(figure.id, v.number), result.thumbnail.jpeg, 'image/jpeg');
     const [done] = await deps.db
       .update(figureVersions)
       .set({ status: 'ready', stage: null, files, error: null, finishedAt: new Date() })

@@ -8,6 +8,7 @@ import type { WrittenFile } from './file-output.js';
 import { writeFigurePdf, type PdfOptions } from './pdf.js';
 import { prepareFigure, type PrintRun } from './prepare.js';
 import { writeFigurePng, writeFigureTiff, type RasterOptions } from './raster-outputs.js';
+import { orderThumbnail, type PageThumbnail } from './thumbnail.js';
 
 export { PrintInputError, isPrintInputError } from './errors.js';
 export { prepareFigure, PAPER, INK, type PrintRun, type PreparedFigure, type PreparedPanel } from './prepare.js';
@@ -18,7 +19,7 @@ export { writeFigurePng, writeFigureTiff, type RasterOptions } from './raster-ou
 export { renderFigurePdf, writeFigurePdf, type PdfOptions } from './pdf.js';
 export { writeAtomically, sha256Of, type WrittenFile } from './file-output.js';
 export { WORK_SANS_FILES, textWidthPt } from './fonts.js';
-export { pageThumbnail, type PageThumbnail } from './thumbnail.js';
+export { orderThumbnail, pageThumbnail, type PageThumbnail } from './thumbnail.js';
 export { figureMarks, wrapText, type Mark, type TextMark, type FillMark, type StrokeMark } from './marks.js';
 export { MarkPainter, INK_LEVELS } from './mark-raster.js';
 
@@ -38,18 +39,22 @@ export interface PrintedFile extends WrittenFile {
 export interface PrintResult {
   layout: FigureLayout;
   files: PrintedFile[];
+  /** the page shrunk to at most `thumbnail` px a side, when asked for (every format, PDF only too) */
+  thumbnail?: PageThumbnail;
 }
 
 export interface PrintOptions extends RasterOptions, PdfOptions {
   /** called after each file is written */
   onFile?: (file: PrintedFile) => void;
+  /** also make the page's JPEG thumbnail, at most this many pixels a side (thumbnail.ts `orderThumbnail`) */
+  thumbnail?: number;
 }
 
 /**
  * Render one order: validate and lay out once, then write each asked format to `paths[format]`
  * (each file all or nothing).
  * @throws PrintInputError for a bad spec, a missing run or a blocking layout warning (nothing written)
- * @example await renderPrint(spec, [{ runId: 'r1', input: outcome, chips: 1000 }], { pdf: '/tmp/fig.pdf', png: '/tmp/fig.png' })
+ * @example await renderPrint(spec, [{ runId: 'r1', input: outcome, chips: 1000 }], { pdf: '/tmp/fig.pdf', png: '/tmp/fig.png' }, { thumbnail: 256 })
  */
 export async function renderPrint(spec: unknown, runs: readonly PrintRun[], paths: Partial<Record<PrintFormat, string>>, opts: PrintOptions = {}): Promise<PrintResult> {
   const fig = prepareFigure(spec, runs);
@@ -62,5 +67,6 @@ export async function renderPrint(spec: unknown, runs: readonly PrintRun[], path
     files.push(file);
     opts.onFile?.(file);
   }
-  return { layout: fig.layout, files };
+  const thumbnail = opts.thumbnail ? await orderThumbnail(fig, files, opts.thumbnail) : undefined;
+  return { layout: fig.layout, files, ...(thumbnail ? { thumbnail } : {}) };
 }
