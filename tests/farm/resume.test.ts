@@ -169,7 +169,7 @@ describe('a worker killed mid-run', () => {
     workers.push(first);
     await first.waitFor(/renderer worker ready/);
     const run = await submit('Plain engine killed midway', spec);
-    await first.waitFor(new RegExp(`run ${run.id}: checkpoint \\d+ stored \\(plain engine,`), 30_000);
+    await first.waitFor(new RegExp(`run ${run.id}: checkpoint \\d+ stored \\(tiled state, plain engine or line path,`), 30_000);
     await first.kill();
     expect(first.child.signalCode).toBe('SIGKILL');
 
@@ -186,7 +186,7 @@ describe('a worker killed mid-run', () => {
     workers.push(second);
     const done = await runSettled(h, author, run.id, 45_000);
     expect(done.status, `${done.error}\n${second.output()}`).toBe('finished');
-    expect(second.output()).toMatch(new RegExp(`run ${run.id}: resuming from its checkpoint .*\\(plain engine,`));
+    expect(second.output()).toMatch(new RegExp(`run ${run.id}: resuming from its checkpoint .*\\(tiled state, plain engine or line path,`));
     expect(await h.deps.blobs.exists(checkpointKey(run.id))).toBe(false);
 
     const { straight } = await expectUninterruptedArrays(run.id, done.spec);

@@ -41,9 +41,9 @@ export interface RunCheckpoints {
   dispose(): void;
 }
 
-/** How the logs name a snapshot: its kind, and the level on the fast path. */
+/** How the logs name a snapshot: its kind, and the level on the fast path (a line's own path writes the tiled kind). */
 export function describeSnapshot(s: Snapshot): string {
-  return s.kind === 'seeded' ? `level ${s.level}, fast path` : 'plain engine';
+  return s.kind === 'seeded' ? `level ${s.level}, fast path` : 'tiled state, plain engine or line path';
 }
 
 /**
