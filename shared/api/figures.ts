@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { CAPTION_MAX_CHARS, figureSpecSchema, printableFigureSpecSchema } from '../print.js';
 import { backgroundSchema } from '../run-spec.js';
+import { certificateSchema } from '../run-stats.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';
 
 /** Permanent-link slugs: lower-case words joined by hyphens. */
@@ -96,6 +97,8 @@ export const figureRunSchema = z.object({
   chips: z.number().int().min(0),
   shape: z.array(z.number().int().min(1)),
   origin: z.array(z.number().int()),
+  /** the engine's exactness certificate, shown to readers with each panel; null when computed before certificates existed */
+  certificate: certificateSchema.nullable(),
 });
 export type FigureRun = z.infer<typeof figureRunSchema>;
 

@@ -164,6 +164,14 @@ describe.concurrent('stabilize CLI: outputs and options', () => {
     const r = await w.ok(['--lattice', 'square', '--chips', '10000']);
     expect(r.stdout).toContain('n = 10,000 (10^4)');
     expect(r.stdout).toMatch(/topplings\s+[\d,]+,\d{3}/);
+    // the engine's certificate in words (shared/certificate-words.ts): this square pile passes every check
+    expect(r.stdout).toMatch(/^certificate\s+passed: stable, grains conserved, odometer explained, minimal \((seeded, \d+ repair rounds?|legal topplings)\)$/m);
+  });
+
+  it('names the line\'s closed form in the summary\'s certificate', async ({ onTestFinished }) => {
+    const w = new Workspace(onTestFinished);
+    const r = await w.ok(['--lattice', 'line', '--chips', '1000']);
+    expect(r.stdout).toMatch(/^certificate\s+passed: .*\(closed form on the line\)$/m);
   });
 
   it('takes an 8-bit grayscale PNG background, mapping its grey levels in ascending order to 0, 1, 2', async ({ onTestFinished }) => {

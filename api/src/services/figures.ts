@@ -174,7 +174,7 @@ export async function compositionRuns(db: Db, labId: string, spec: FigureSpec): 
     if (!r || r.labId !== labId) throw badRequest(`spec.panels: run ${id} is not a run of this lab`);
     if (r.status !== 'finished' || !r.stats) throw badRequest(`spec.panels: run "${r.title}" is ${r.status}; figures are composed from finished runs`);
     if (r.artifactsExpiredAt) throw badRequest(`spec.panels: run "${r.title}" expired and its arrays and tiles were removed; re-run it and use the new run`);
-    return { id: r.id, title: r.title, lattice: latticeLabel(r.spec), background: r.spec.background.kind, chips: r.spec.chips, shape: r.stats.shape, origin: r.stats.origin };
+    return { id: r.id, title: r.title, lattice: latticeLabel(r.spec), background: r.spec.background.kind, chips: r.spec.chips, shape: r.stats.shape, origin: r.stats.origin, certificate: r.stats.certificate ?? null };
   });
 }
 
@@ -241,6 +241,7 @@ export async function figureDetail(db: Db, row: FigureRow, canEdit: boolean, ins
     chips: r.spec.chips,
     shape: r.stats?.shape ?? [1],
     origin: r.stats?.origin ?? [0],
+    certificate: r.stats?.certificate ?? null,
   }));
   return {
     ...labFigureView(row),

@@ -2,6 +2,7 @@ import { groupThousands, powerOfTen } from './numbers.js';
 import { formatDuration } from '../../../shared/duration.js';
 import { stageWords } from '../engine/stage-words.js';
 import type { RunStatsJson } from '../../../shared/run-stats.js';
+import { certificateLine } from '../../../shared/certificate-words.js';
 
 /**
  * The object printed by --json: the engine's statistics in their JSON form (bigint counts as decimal
@@ -30,6 +31,7 @@ export function formatReport(r: RunReport): string {
   row('radius', `${r.radiusEuclidean.toFixed(2)} Euclidean${radius}, ${groupThousands(r.radiusLinf)} max-norm`);
   row('array', `${r.shape.map(groupThousands).join(' × ')} cells, origin at [${r.origin.join(', ')}]`);
   row('heights', r.heightCounts.map((c, h) => `${h}: ${groupThousands(c)}`).join('   ') + '  (toppled sites)');
+  row('certificate', certificateLine(r.certificate));
   row('time', `${r.seconds.toFixed(r.seconds < 10 ? 3 : 1)} s` + (r.checkpoint?.resumed ? ` since continuing from ${r.checkpoint.file}` : ''));
   const written = [r.files.heights, r.files.sidecar, r.files.odometer].filter((f): f is string => f !== null);
   if (written.length) row('wrote', written.join(', '));

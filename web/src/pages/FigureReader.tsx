@@ -9,6 +9,9 @@ import { CitationBlock, Count, EmptyState, ErrorPanel, FactList, LinkButton, Not
 import { figureBibtex } from './citation.js';
 import { FileList } from './figures/FileList.js';
 import { figureUrl, PermanentLink } from './figures/PermanentLink.js';
+import { panelRuns } from './figures/panelRuns.js';
+import { certificateSentence, certificateTone } from '../../../shared/certificate-words.js';
+import type { FigureRun } from '../../../shared/api/figures.js';
 
 // OpenSeadragon comes with the viewer chunk, only when the figure has tiles to show
 const FigureZoom = lazy(() => import('../viewer/FigureZoom.js').then((m) => ({ default: m.FigureZoom })));
@@ -70,6 +73,8 @@ export function FigureReader() {
   // a citation names one version, whose link shows exactly what was cited for good
   const permalink = shown ? figureUrl(f.slug, shown.number) : figureUrl(f.slug);
   const others = published.filter((v) => v !== shown);
+  // the runs of the panels as shown (the published composition), each with its certificate
+  const sources = panelRuns(latest?.spec ?? f.spec, f.runs);
   return (
     <article>
       <title>{`${title} · Toppleworks`}</title>
@@ -124,7 +129,7 @@ export function FigureReader() {
             {caption}
           </p>
         </Section>
-        <Section title="The run">
+        <Section title={sources.length > 1 ? 'The runs' : 'The run'}>
           <FactList
             items={[
               { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
@@ -138,6 +143,19 @@ export function FigureReader() {
                 : []),
               { term: 'Background', value: backgroundOfSpec(f.backgroundSpec) },
               { term: shown ? `Version ${shown.number} published` : 'Published', value: formatDate(shown?.publishedAt ?? f.publishedAt) },
+              // one run: its certificate; several: each run's facts and certificate under the labels of its panels
+              ...(sources.length === 1
+                ? [{ term: 'Certificate', value: <CertificateVerdict run={sources[0]!.run} /> }]
+                : sources.map((p) => ({
+                    term: `${p.panels.length > 1 ? 'Panels' : 'Panel'} ${p.panels.join(', ')}`,
+                    value: (
+                      <>
+                        <Count n={p.run.chips} unit="grains" /> on {latticeName(p.run.lattice)}
+                        <br />
+                        <CertificateVerdict run={p.run} />
+                      </>
+                    ),
+                  }))),
             ]}
           />
         </Section>
@@ -183,5 +201,17 @@ export function FigureReader() {
         />
       </Section>
     </article>
+  );
+}
+
+const VERDICT_TONE = { passed: 'text-leaf', failed: 'text-stamp', none: 'text-ink-soft' } as const;
+
+/** One line a reader can cite: whether the run behind a panel is certified exact, and how it was computed. */
+function CertificateVerdict({ run }: { run: FigureRun }) {
+  const tone = certificateTone(run.certificate);
+  return (
+    <span data-testid="figure-certificate" data-verdict={tone} className={VERDICT_TONE[tone]}>
+      {certificateSentence(run.certificate)}
+    </span>
   );
 }

@@ -8,6 +8,7 @@ import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runStatusHeading, runStatusWord } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
+import { RunCertificate } from './RunCertificate.js';
 import { statsNote } from '../runStats.js';
 import { scaleSymbol } from '../../../shared/natural-scale.js';
 import { isRunMissing, RunNotFound } from './RunNotFound.js';
@@ -110,6 +111,12 @@ function RunDetail({ run }: { run: Run }) {
           No published figure used this run, so its arrays and tiles were deleted on {formatDateTime(run.artifactsExpiredAt)} at the end of the storage period.
           The specification and statistics stay: Re-run computes it again.
         </Notice>
+      ) : null}
+
+      {run.stats ? (
+        <Section title="Certificate" description="Checked by the engine on the final state before the result was stored.">
+          <RunCertificate certificate={run.stats.certificate} />
+        </Section>
       ) : null}
 
       <div className="grid grid-cols-2 gap-8">

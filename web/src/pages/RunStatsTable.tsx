@@ -1,7 +1,6 @@
 import type { ReactNode } from 'react';
-import { runStatsFromJSON, type RunStats } from '../../../shared/run-stats.js';
+import { runStatsFromJSON, type RunStatsJson } from '../../../shared/run-stats.js';
 import { formatElapsed, groupThousands } from '../format.js';
-import { statRows } from '../runStats.js';
 import { Count } from '../ui/index.js';
 import { naturalScale, scaleSymbol } from '../../../shared/natural-scale.js';
 
@@ -18,14 +17,9 @@ function Unit({ children }: { children: ReactNode }) {
   return <span className="text-ink-soft"> {children}</span>;
 }
 
-/** The worker's statistics, each with its unit; falls back to a plain listing if the JSON is of another shape. */
-export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeconds: number | null }) {
-  let s: RunStats | null = null;
-  try {
-    s = stats ? runStatsFromJSON(stats) : null;
-  } catch {
-    s = null;
-  }
+/** The worker's statistics, each with its unit (the API answers them in the shared schema, or null until computed). */
+export function RunStatsTable({ stats, wallSeconds }: { stats: RunStatsJson | null; wallSeconds: number | null }) {
+  const s = stats ? runStatsFromJSON(stats) : null;
   const rows: { label: ReactNode; value: ReactNode }[] = [];
   if (s) {
     const massOk = s.grainsIn === s.grainsOut;
@@ -53,7 +47,7 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
           <span className="font-mono text-[13px]">
             {/* x first, as the readout and the composer write coordinates; the bounds come in array order (z, y, x) */}
             {s.bbox
-              .map(([lo, hi], i) => `${axisNames(s!.bbox!.length)[i]} ∈ [${signed(lo)}, ${signed(hi)}]`)
+              .map(([lo, hi], i) => `${axisNames(s.bbox!.length)[i]} ∈ [${signed(lo)}, ${signed(hi)}]`)
               .reverse()
               .join(', ')}
           </span>
@@ -78,13 +72,6 @@ export function RunStatsTable({ stats, wallSeconds }: { stats: unknown; wallSeco
       // the engine's own measured seconds (a fraction for small runs), not rounded away to "0 s"
       { label: 'Engine time', value: formatElapsed(s.seconds) },
     );
-  } else {
-    for (const r of statRows(stats)) {
-      rows.push({
-        label: r.label,
-        value: typeof r.value === 'string' ? r.value : Number.isInteger(r.value) || typeof r.value === 'bigint' ? <Count n={r.value} unit={r.unit} /> : String(r.value),
-      });
-    }
   }
   if (wallSeconds !== null) rows.push({ label: 'Wall-clock time', value: formatElapsed(wallSeconds) });
   if (rows.length === 0) return <p className="text-sm text-ink-faint">No statistics yet.</p>;

@@ -5,7 +5,6 @@ import { LATTICE_PRESETS, RUN_STATUSES, type ListRunsQueryInput, type Run, type 
 import { useActiveLab, useSignedIn } from '../auth/useSignedIn.js';
 import { backgroundOfSpec, latticeName, latticeOfSpec, runStatusWord } from '../labels.js';
 import { formatDate } from '../format.js';
-import { readStat, TOPPLED_SITES, TOPPLINGS } from '../runStats.js';
 import {
   Button, Count, EmptyState, ErrorPanel, LinkButton, PageHeading, Pager, ProgressBar, SelectField, SkeletonTable,
   SortableTable, StatusBadge, Thumbnail, type Column, type SortState,
@@ -63,8 +62,8 @@ const columns: Column<Run>[] = [
         <StatusBadge status={r.status} />
       ),
   },
-  { key: 'toppled', header: 'Toppled sites', align: 'right', cell: (r) => <StatCell value={readStat(r.stats, TOPPLED_SITES)} /> },
-  { key: 'topplings', header: 'Topplings', align: 'right', cell: (r) => <StatCell value={readStat(r.stats, TOPPLINGS)} /> },
+  { key: 'toppled', header: 'Toppled sites', align: 'right', cell: (r) => <StatCell value={r.stats?.toppledSites ?? null} /> },
+  { key: 'topplings', header: 'Topplings', align: 'right', cell: (r) => <StatCell value={r.stats ? BigInt(r.stats.totalTopplings) : null} /> },
   {
     // sorts by creation time; the author filter sits above the table
     key: 'createdAt',
