@@ -17,6 +17,8 @@ import { pixelsFor } from '../../shared/print.js';
 import { runLink } from '../../web/src/pages/citation.js';
 import { sendFigureReadyMail } from '../../api/src/services/figures-ready-mail.js';
 import { finishedRun, markReady } from './figures-fixtures.js';
+import { resolveProblem, runStatsToJSON, stabilize } from '../../renderer/src/engine/index.js';
+import { runSpecSchema } from '../../shared/run-spec.js';
 import { as, createLab, createUser, signIn, startHarness, TEST_PASSWORD, type Harness, type Session } from './support/harness.js';
 import { waitForMail } from './support/outbox.js';
 
@@ -485,5 +487,26 @@ describe('a published figure does not change under its readers', () => {
     const save = await as(h.http.put(`/api/figures/${f.slug}`), outsider).send({ caption: 'mine now' });
     expect(save.status).toBe(403);
     expect(save.body.error).toMatch(/only members of the figure's lab/);
+  });
+});
+
+describe('the certificate of each panel\'s run', () => {
+  it('reaches readers of the published figure as the engine stored it, and null for runs from before certificates', async () => {
+    // the real engine's statistics for a small pile, stored as the worker stores them (compute-run.ts)
+    const spec16 = runSpecSchema.parse({ lattice: { preset: 'square' }, chips: 16 });
+    const stats = runStatsToJSON((await stabilize(resolveProblem(spec16), { threads: 1 })).stats);
+    expect(stats.certificate?.passed).toBe(true);
+    const [certified] = await h.deps.db.insert(runs).values({ labId, authorId, title: `certified ${h.tag}`, spec: spec16, status: 'finished', stats, finishedAt: new Date() }).returning();
+    const f = detail(
+      (await as(h.http.post('/api/figures'), author).send({ labId, title: `Certified panels ${h.tag}`, spec: { ...spec(certified!.id), grid: { rows: 1, cols: 2 }, panels: [{ runId: certified!.id }, { runId: runSquare }] } }).expect(201)).body,
+    );
+    await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({ formats: ['png'] }).expect(202);
+    await markReady(h, f.id, 1);
+    await as(h.http.post(`/api/figures/${f.slug}/publish`), author).expect(200);
+    // signed out: the public answer, parsed with the shared schema the reader page uses
+    const seen = detail((await h.http.get(`/api/figures/${f.slug}`).expect(200)).body);
+    expect(seen.runs.find((r) => r.id === certified!.id)?.certificate).toEqual(stats.certificate);
+    // the fixture's statistics predate certificates (figures-fixtures.ts): the contract says so with null
+    expect(seen.runs.find((r) => r.id === runSquare)?.certificate).toBeNull();
   });
 });
