@@ -123,17 +123,25 @@ export function FigureReader() {
           </Suspense>
         </div>
       ) : null}
-      <div className="mt-8 grid grid-cols-1 gap-8 md:grid-cols-[1.4fr_1fr]">
-        <Section title="Caption">
-          <p className="whitespace-pre-line text-[15px] leading-relaxed text-ink" data-testid="figure-caption">
-            {caption}
-          </p>
-        </Section>
+      {/* a figure without a caption gives its runs the whole width instead of an empty box */}
+      <div className={`mt-8 grid grid-cols-1 gap-8 ${caption.trim() ? 'md:grid-cols-[1.4fr_1fr]' : ''}`}>
+        {caption.trim() ? (
+          <Section title="Caption">
+            <p className="whitespace-pre-line text-[15px] leading-relaxed text-ink" data-testid="figure-caption">
+              {caption}
+            </p>
+          </Section>
+        ) : null}
         <Section title={sources.length > 1 ? 'The runs' : 'The run'}>
           <FactList
             items={[
-              { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
-              { term: 'Lattice', value: latticeName(f.lattice) },
+              // several runs: each panel's line says its own n, lattice and background instead
+              ...(sources.length > 1
+                ? []
+                : [
+                    { term: 'Grains at the origin', value: <Count n={f.chips} unit="grains" /> },
+                    { term: 'Lattice', value: latticeName(f.lattice) },
+                  ]),
               // a cubic pile is shown in 2-D slices: say which, in the print and in the deep zoom (the source's slice)
               ...(dimension === 3
                 ? [
@@ -141,7 +149,7 @@ export function FigureReader() {
                     ...(drawn.data ? [{ term: 'Deep zoom', value: sliceText(0) }] : []),
                   ]
                 : []),
-              { term: 'Background', value: backgroundOfSpec(f.backgroundSpec) },
+              ...(sources.length > 1 ? [] : [{ term: 'Background', value: backgroundOfSpec(f.backgroundSpec) }]),
               { term: shown ? `Version ${shown.number} published` : 'Published', value: formatDate(shown?.publishedAt ?? f.publishedAt) },
               // one run: its certificate; several: each run's facts and certificate under the labels of its panels
               ...(sources.length === 1
@@ -150,7 +158,7 @@ export function FigureReader() {
                     term: `${p.panels.length > 1 ? 'Panels' : 'Panel'} ${p.panels.join(', ')}`,
                     value: (
                       <>
-                        <Count n={p.run.chips} unit="grains" /> on {latticeName(p.run.lattice)}
+                        <Count n={p.run.chips} unit="grains" /> on {latticeName(p.run.lattice)}, {p.run.background} background
                         <br />
                         <CertificateVerdict run={p.run} />
                       </>

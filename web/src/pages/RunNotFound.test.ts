@@ -1,14 +1,17 @@
 import { createElement } from 'react';
 import { renderToStaticMarkup } from 'react-dom/server';
 import { QueryClient, QueryClientProvider } from '@tanstack/react-query';
-import { MemoryRouter } from 'react-router';
+import { createMemoryRouter, RouterProvider } from 'react-router';
 import { describe, expect, test } from 'vitest';
 import { NotFound } from './NotFound.js';
 import { RunNotFoundPage } from './RunNotFound.js';
 import { PageFrame } from '../ui/PageFrame.js';
 
+// a data router, as the app's (the frame reads the matched routes' handles)
 const html = (page: ReturnType<typeof createElement>) =>
-  renderToStaticMarkup(createElement(QueryClientProvider, { client: new QueryClient() }, createElement(MemoryRouter, null, page)));
+  renderToStaticMarkup(
+    createElement(QueryClientProvider, { client: new QueryClient() }, createElement(RouterProvider, { router: createMemoryRouter([{ path: '*', element: page }]) })),
+  );
 
 describe('the viewer\'s "no run at this address"', () => {
   test('sits under the masthead, as the other not-found pages do', () => {
