@@ -1,3 +1,4 @@
+import { withUnit } from './counts.js';
 import type { Certificate } from './run-stats.js';
 
 /**
@@ -29,20 +30,18 @@ export function certificateHeadline(c: Certificate | null | undefined): string {
   return 'No certificate';
 }
 
-const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
-
 /** How the odometer was reached, in a phrase: "seeded from coarser solutions, with 2 repair rounds". */
 export function methodWords(c: Certificate): string {
   if (c.method === 'legal') return 'legal topplings: only unstable sites toppled';
   if (c.method === 'closed-form') return 'grain by grain in closed form on the line';
-  return `seeded from coarser solutions, with ${plural(c.repairRounds, 'repair round', 'repair rounds')}`;
+  return `seeded from coarser solutions, with ${withUnit(c.repairRounds, 'repair round')}`;
 }
 
 /** The same, terse, for one-line summaries. */
 function methodShort(c: Certificate): string {
   if (c.method === 'legal') return 'legal topplings';
   if (c.method === 'closed-form') return 'closed form on the line';
-  return `seeded, ${plural(c.repairRounds, 'repair round', 'repair rounds')}`;
+  return `seeded, ${withUnit(c.repairRounds, 'repair round')}`;
 }
 
 /** Each check of a certificate with its verdict; in the order a reader would ask. */
@@ -81,7 +80,7 @@ export function certificateChecks(c: Certificate): CertificateCheck[] {
           ok: c.minimal,
           detail: c.minimal
             ? 'No set of toppled sites could topple once less and stay stable, so no smaller odometer exists (the least action principle, arXiv:0901.3805).'
-            : `${plural(c.peeledSites, 'site', 'sites')} could topple once less and stay stable (the least action principle, arXiv:0901.3805).`,
+            : `${withUnit(c.peeledSites, 'site')} could topple once less and stay stable (the least action principle, arXiv:0901.3805).`,
         },
   ];
 }
@@ -92,13 +91,18 @@ export function certificateChecks(c: Certificate): CertificateCheck[] {
  */
 export function certificateLine(c: Certificate | null | undefined): string {
   if (!c) return 'none: computed before certificates existed';
-  const checks = certificateChecks(c);
-  const ordered = c.passed ? checks : [...checks.filter((k) => k.ok === false), ...checks.filter((k) => k.ok !== false)];
-  return `${c.passed ? 'passed' : 'FAILED'}: ${ordered.map((k) => k.name).join(', ')} (${methodShort(c)})`;
+  return `${c.passed ? 'passed' : 'FAILED'}: ${checksSummary(c)}`;
 }
 
 /** The reader's one line: "Certified exact — stable, grains conserved, … (seeded, 0 repair rounds)". */
 export function certificateSentence(c: Certificate | null | undefined): string {
   if (!c) return 'No certificate: the run was computed before certificates existed.';
-  return `${certificateHeadline(c)} — ${certificateLine(c).replace(/^(passed|FAILED): /, '')}`;
+  return `${certificateHeadline(c)} — ${checksSummary(c)}`;
+}
+
+/** The checks' names, what failed first, and the method: "stable, grains conserved, … (seeded, 0 repair rounds)". */
+function checksSummary(c: Certificate): string {
+  const checks = certificateChecks(c);
+  const ordered = c.passed ? checks : [...checks.filter((k) => k.ok === false), ...checks.filter((k) => k.ok !== false)];
+  return `${ordered.map((k) => k.name).join(', ')} (${methodShort(c)})`;
 }

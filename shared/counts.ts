@@ -12,6 +12,11 @@ export function groupThousands(n: number | bigint): string {
   return grouped.format(n);
 }
 
+/** "1 grain", "2 grains": units are always named. */
+export function withUnit(n: number | bigint, singular: string, plural = `${singular}s`): string {
+  return `${groupThousands(n)} ${n === 1 || n === 1n ? singular : plural}`;
+}
+
 export interface PowerOfTen {
   /** decimal mantissa written exactly, e.g. "2.5"; "1" for an exact power of ten */
   mantissa: string;
@@ -41,6 +46,12 @@ export function superscriptDigits(k: number): string {
   return String(k).replace(/\d/g, (d) => SUPERSCRIPT_DIGITS[Number(d)]!).replace('-', '⁻');
 }
 
+/** "10⁶", or "2.5 × 10⁶" when the mantissa is not 1. */
+function tenPowerText(mantissa: string | number, exponent: number): string {
+  const power = `10${superscriptDigits(exponent)}`;
+  return String(mantissa) === '1' ? power : `${mantissa} × ${power}`;
+}
+
 /**
  * Plain-text form, e.g. "1,000,000 (10⁶)" or "2,500,000 (2.5 × 10⁶)", for titles and copy; in markup
  * `ui/Count` writes the same with a <sup>. Both superscript, so no page reads "10^6".
@@ -48,8 +59,7 @@ export function superscriptDigits(k: number): string {
 export function formatCountText(n: number | bigint): string {
   const p = powerOfTen(n);
   if (!p) return groupThousands(n);
-  const power = `10${superscriptDigits(p.exponent)}`;
-  return `${groupThousands(n)} (${p.mantissa === '1' ? power : `${p.mantissa} × ${power}`})`;
+  return `${groupThousands(n)} (${tenPowerText(p.mantissa, p.exponent)})`;
 }
 
 const compact = new Intl.NumberFormat('en-US', { notation: 'compact', maximumSignificantDigits: 3 });
@@ -82,6 +92,5 @@ export function tenPowerCount(n: number, signed = false): string {
     mantissa /= 10;
     exponent += 1;
   }
-  const power = `10${superscriptDigits(exponent)}`;
-  return `${sign}${mantissa === 1 ? power : `${mantissa} × ${power}`}`;
+  return `${sign}${tenPowerText(mantissa, exponent)}`;
 }

@@ -3,17 +3,12 @@
  * Pure functions, so the same rules hold in tables, headings and tests.
  */
 
-import { groupThousands } from '../../shared/counts.js';
 import { formatDuration } from '../../shared/duration.js';
 
 // the count and duration rules live in shared/ so API-made titles follow them too; re-exported for the pages
-export { formatCountText, groupThousands, powerOfTen, superscriptDigits, type PowerOfTen } from '../../shared/counts.js';
+export { formatCountText, groupThousands, powerOfTen, superscriptDigits, withUnit, type PowerOfTen } from '../../shared/counts.js';
 export { formatDuration } from '../../shared/duration.js';
 
-/** "1 grain", "2 grains": units are always named. */
-export function withUnit(n: number | bigint, singular: string, plural = `${singular}s`): string {
-  return `${groupThousands(n)} ${n === 1 || n === 1n ? singular : plural}`;
-}
 
 /**
  * A measured time, such as the engine's: like formatDuration, but a run of a fraction of a second

@@ -1,10 +1,10 @@
 import type { Standing } from '../../api/contract.js';
-import { groupThousands } from '../../format.js';
+import { withUnit } from '../../format.js';
 import { niceStep } from '../../plots/plotData.js';
 
 /** "1 worker", "5 connections", "no worker": a count with its noun in the right number. */
 export function countOf(n: number, noun: string, plural = `${noun}s`): string {
-  return n === 0 ? `no ${noun}` : `${groupThousands(n)} ${n === 1 ? noun : plural}`;
+  return n === 0 ? `no ${noun}` : withUnit(n, noun, plural);
 }
 
 /**

@@ -21,7 +21,6 @@ export function printSizeRows(widthMm: number, heightMm: number, chosenDpi: numb
   });
 }
 
-/** "about 24 MB", "about 1.3 GB" (powers of 1000, as file managers show them); estimates, so two figures at most. */
 /**
  * The largest files a page makes, as one phrase: "under 1 MB each" when all are, else each format
  * with its bound ("TIFF up to about 3.8 MB, PNG up to about 1.2 MB and PDF under 1 MB"), never
@@ -34,6 +33,7 @@ export function fileSizesText(bytes: { tiff: number; png: number; pdf: number })
   return `${each.slice(0, -1).join(', ')} and ${each.at(-1)}`;
 }
 
+/** "about 24 MB", "about 1.3 GB" (powers of 1000, as file managers show them); estimates, so two figures at most. */
 export function approxFileSize(bytes: number): string {
   if (bytes < 1e6) return 'under 1 MB';
   if (bytes < 1e9) return `about ${Number((bytes / 1e6).toPrecision(2)).toLocaleString('en-US')} MB`;
