@@ -183,7 +183,9 @@ describe('demo roles in the browser', { timeout: 90_000 }, () => {
     expect((await withToken()).status).toBe(401);
 
     await page.getByRole('button', { name: 'Sign out' }).click();
-    await page.waitForURL((u) => u.pathname === '/');
+    // polls the address rather than waiting for a navigation event, so a failure names where the page went
+    await expect.poll(() => new URL(page.url()).pathname, { timeout: 60_000 }).toBe('/');
+    await page.getByTestId('signed-in-name').waitFor({ state: 'detached' });
     await page.goto('/runs');
     await page.waitForURL((u) => u.pathname === '/sign-in');
   });

@@ -8,7 +8,7 @@ import { createRoot } from 'react-dom/client';
 import { QueryClientProvider } from '@tanstack/react-query';
 import { RouterProvider } from 'react-router';
 import { createQueryClient, setSignedOutHandler } from './api/queryClient.js';
-import { keys } from './api/queries.js';
+import { keys, SIGN_OUT } from './api/queries.js';
 import { createRouter } from './routes.js';
 import { signInPathFor } from './auth/nextPath.js';
 
@@ -16,7 +16,9 @@ const queryClient = createQueryClient();
 const router = createRouter();
 
 // A session that ends mid-visit (expired, revoked, signed out elsewhere) sends the person to sign in.
+// Not while they sign out here: a request caught by the revocation would bounce them from the front page.
 setSignedOutHandler(() => {
+  if (queryClient.isMutating({ mutationKey: SIGN_OUT }) > 0) return;
   queryClient.setQueryData(keys.me, null);
   const here = router.state.location;
   if (here.pathname !== '/sign-in') void router.navigate(signInPathFor(here), { replace: true });

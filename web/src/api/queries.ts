@@ -38,7 +38,6 @@ export const keys = {
   creditCheck: (labId: string, credits: number) => ['credits', labId, 'check', credits] as const,
 };
 
-/** The signed-in person, or null for a reader; a 401 here is an answer, not an error. */
 /** The signed-in person, or null: the API answers "not signed in" with 200, so public pages log no error. */
 export function useMe() {
   return useQuery({
@@ -64,11 +63,15 @@ export function useSetActiveLab() {
   });
 }
 
+/** Marks the sign-out mutation, so a 401 answered while it runs is not taken for an ended session. */
+export const SIGN_OUT = ['sign-out'] as const;
+
 /** Signs out and lands on the front page; the page leaves first, so no signed-in page renders without a person. */
 export function useSignOut() {
   const qc = useQueryClient();
   const navigate = useNavigate();
   return useMutation({
+    mutationKey: SIGN_OUT,
     mutationFn: () => api<void>('POST', '/api/auth/sign-out'),
     meta: { quiet401: true },
     onSettled: async () => {
