@@ -31,7 +31,7 @@ const lazyPage = <M,>(load: () => Promise<M>, pick: (m: M) => ComponentType) => 
 const viewerLoading = <div aria-busy="true" className="min-h-screen bg-night" />;
 const pageLoading = <div aria-busy="true" className="min-h-[50vh]" />;
 
-/** A route handle: the page is laid out for phones too, not only the laptop's 1,024 px (web/CONTEXT.md "screen widths"). */
+/** A route handle: the page is laid out for phones too, not only down to a tablet's 768 px (web/CONTEXT.md "screen widths"). */
 const PHONES = { fitsPhones: true };
 
 /** The route table of the contract; everything behind RequireSignIn needs a session. */

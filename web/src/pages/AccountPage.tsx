@@ -24,7 +24,7 @@ export function AccountPage() {
           </Button>
         }
       />
-      <div className="grid grid-cols-2 gap-8">
+      <div className="grid grid-cols-1 gap-8 md:grid-cols-2">
         <Section title="Profile">
           <FactList
             items={[

@@ -107,7 +107,7 @@ function LabDetail({ labId, isManager, me }: { labId: string; isManager: boolean
         <SortableTable caption="lab members" columns={columns} rows={members} rowKey={(m) => m.userId} initialSort={{ key: 'name', order: 'asc' }} />
       </Section>
       {isManager ? (
-        <div className="grid grid-cols-[1fr_1.3fr] gap-8">
+        <div className="grid grid-cols-1 gap-8 md:grid-cols-[1fr_1.3fr]">
           <InviteForm labId={labId} />
           <PendingInvitations labId={labId} invitations={invitations} />
         </div>
@@ -324,7 +324,7 @@ function NoLab({ me }: { me: MeResponse }) {
   return (
     <div className="space-y-8">
       <PageHeading title="Your lab" lede="A lab shares one compute budget; its managers invite members and set quotas." />
-      <div className="grid grid-cols-2 gap-8">
+      <div className="grid grid-cols-1 gap-8 md:grid-cols-2">
         <Section title="Join a lab">
           <p className="text-sm text-ink-soft">Ask a lab manager to invite {me.user.email}. The mail has a link that adds you to the lab.</p>
         </Section>

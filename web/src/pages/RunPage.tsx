@@ -119,7 +119,7 @@ function RunDetail({ run }: { run: Run }) {
         </Section>
       ) : null}
 
-      <div className="grid grid-cols-2 gap-8">
+      <div className="grid grid-cols-1 gap-8 lg:grid-cols-2">
         <Section title="Specification">
           <FactList
             items={[
@@ -150,7 +150,7 @@ function RunDetail({ run }: { run: Run }) {
         </Section>
       </div>
       {run.stats ? (
-        <div className="grid grid-cols-2 gap-8">
+        <div className="grid grid-cols-1 gap-8 md:grid-cols-2">
           <Section title="Toppled sites by final height" description="Only sites that toppled at least once are counted.">
             <HeightBarsPlot heightCounts={run.stats.heightCounts} />
           </Section>

@@ -137,7 +137,7 @@ export function RunsList() {
       />
       {composing ? <NewRunForm labId={lab.id} onClose={() => setComposing(false)} /> : null}
 
-      <div className="mb-5 flex items-end gap-4">
+      <div className="mb-5 flex flex-wrap items-end gap-4">
         <SelectField label="Status" value={status ?? ''} onChange={(e) => set({ status: e.target.value })} fieldClassName="w-44">
           <option value="">any status</option>
           {RUN_STATUSES.map((s) => (

@@ -126,7 +126,7 @@ export function RunForm({ labId, initial, onClose }: { labId: string; initial: R
   const shownKey = estimate.data ? (estimate.isPlaceholderData ? null : specForEstimateDebounced) : null;
   const estimatedFor = shownKey ? Number(shownKey.chips) + (shownKey.sources ?? []).reduce((a, s) => a + s.chips, 0) : null;
   return (
-    <form noValidate onSubmit={submit} className="grid grid-cols-[minmax(0,1fr)_20rem] gap-8" aria-label="new run">
+    <form noValidate onSubmit={submit} className="grid grid-cols-1 gap-8 lg:grid-cols-[minmax(0,1fr)_20rem]" aria-label="new run">
       <div className="grid min-w-0 grid-cols-3 content-start gap-5">
         <TextField label="Title" name="title" value={f.title} onChange={(e) => set({ title: e.target.value })} error={errors.title} fieldClassName="col-span-3" placeholder="e.g. Square lattice, one million grains" />
 

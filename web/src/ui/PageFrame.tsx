@@ -9,7 +9,7 @@ import { buttonClass } from './Button.js';
  * route's, or `children` for a page drawn outside the frame's routes, such as the viewer's not-found).
  */
 export function PageFrame({ children }: { children?: ReactNode }) {
-  // a route whose handle says it fits phones lifts the page's laptop minimum width (styles.css)
+  // a route whose handle says it fits phones lifts the page's tablet minimum width (styles.css)
   const fitsPhones = useMatches().some((m) => (m.handle as { fitsPhones?: boolean } | undefined)?.fitsPhones === true);
   return (
     <div className="flex min-h-screen flex-col" data-fits-phones={fitsPhones ? '' : undefined}>
@@ -32,7 +32,8 @@ function Masthead() {
       <div className="mx-auto flex h-16 max-w-7xl items-center gap-3 px-4 sm:gap-8 sm:px-8">
         <Link to="/" className="flex items-center gap-2.5 text-ink no-underline" aria-label="Toppleworks">
           <Wordmark />
-          <span className="hidden text-lg font-semibold tracking-tight sm:inline">Toppleworks</span>
+          {/* signed in, the navigation and lab switcher need a tablet's width: the word waits for a laptop's */}
+          <span className={`hidden text-lg font-semibold tracking-tight ${signedIn ? 'lg:inline' : 'sm:inline'}`}>Toppleworks</span>
         </Link>
         <nav aria-label="main" className="flex items-center text-sm sm:gap-1">
           {signedIn ? <NavItem to="/runs">Runs</NavItem> : null}
@@ -46,7 +47,7 @@ function Masthead() {
               <LabSwitcher me={signedIn} />
               <Link to="/account" className="flex items-center gap-2 text-sm text-ink no-underline hover:text-press" title="Your account">
                 <Initials name={signedIn.user.name} />
-                <span className="hidden max-w-40 truncate sm:inline" data-testid="signed-in-name">{signedIn.user.name}</span>
+                <span className="hidden max-w-40 truncate lg:inline" data-testid="signed-in-name">{signedIn.user.name}</span>
               </Link>
             </>
           ) : (
@@ -89,12 +90,12 @@ function LabSwitcher({ me }: { me: MeResponse }) {
     );
   }
   return (
-    // on a phone (only pages that fit one) the lab is chosen on the laptop pages; the masthead keeps to one line
-    <label className="hidden items-center gap-2 text-xs text-ink-soft md:flex">
+    // on a phone (only pages that fit one) the lab is chosen on wider screens; the masthead keeps to one line
+    <label className="hidden min-w-0 items-center gap-2 text-xs text-ink-soft md:flex">
       <span>Lab</span>
       <select
         aria-label="active lab"
-        className="max-w-72 rounded-md border border-rule bg-sheet px-2 py-1 text-sm text-ink"
+        className="max-w-44 rounded-md border border-rule bg-sheet px-2 py-1 text-sm text-ink lg:max-w-72"
         value={me.activeLabId ?? ''}
         disabled={setLab.isPending}
         onChange={(e) => setLab.mutate(e.target.value)}

@@ -114,7 +114,7 @@ export function ViewerPage() {
     <div className="min-h-screen bg-night text-white">
       <title>{`${title} · deep zoom · Toppleworks`}</title>
       <PileViewer panes={panes} lock={lock} toolbar={toolbar} initialView={opened} onViewChange={onViewChange} />
-      <section className="mx-auto grid max-w-6xl grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)] gap-10 px-8 py-10 text-sm">
+      <section className="mx-auto grid max-w-6xl grid-cols-1 gap-10 px-8 py-10 text-sm md:grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)]">
         <div>
           <h2 className="mb-3 text-base font-semibold">Downloads</h2>
           <ul className="space-y-1.5">

@@ -48,7 +48,7 @@ export function AuditTab() {
       description="Every admin action, billing event, role change and publication, append-only: who, when, what and why. Person finds what someone did and what was done to them."
       actions={<a className={`${buttonClass('quiet', 'sm')} no-underline`} href={auditCsvUrl(q)} download>Export CSV</a>}
     >
-      <form className="mb-5 grid grid-cols-5 gap-3" aria-label="filter the trail" onSubmit={(e) => e.preventDefault()}>
+      <form className="mb-5 grid grid-cols-3 gap-3 lg:grid-cols-5" aria-label="filter the trail" onSubmit={(e) => e.preventDefault()}>
         <SelectField label="Lab" value={q.labId ?? ''} onChange={(e) => set('labId', e.target.value)}>
           <option value="">all labs</option>
           {labs.data?.labs.map((l) => <option key={l.id} value={l.id}>{l.name}</option>)}

@@ -72,7 +72,7 @@ function BalanceSection({ data }: { data: CreditsSummaryResponse }) {
   const b = data.balance;
   return (
     <Section title="Balance" description={<span data-testid="credits-allowance">{allowanceText(b, FREE_MONTHLY_ALLOWANCE)}</span>}>
-      <div className="grid grid-cols-4 gap-8">
+      <div className="grid grid-cols-2 gap-8 lg:grid-cols-4">
         <Figure label="Available" value={b.available} unit="paid credits" testId="credits-available" />
         <Figure label="Reserved" value={b.reserved} unit="credits held by running jobs" testId="credits-reserved" />
         <Figure label="Free this month" value={b.freeLeft} unit={`of ${b.freeAllowance} credits left`} testId="credits-free" />
@@ -99,7 +99,7 @@ function PacksSection({ labId, packs }: { labId: string; packs: CreditPack[] }) 
           <FormError error={checkout.error} />
         </div>
       ) : null}
-      <div className="grid grid-cols-3 gap-6">
+      <div className="grid grid-cols-1 gap-6 md:grid-cols-3">
         {packs.map((p) => (
           <div key={p.id} className="rounded-lg border border-rule bg-paper px-5 py-4">
             <p className="text-sm font-semibold text-ink">{p.name}</p>

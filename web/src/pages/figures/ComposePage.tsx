@@ -132,7 +132,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
           </Notice>
         </div>
       ) : null}
-      <div className="grid grid-cols-[minmax(0,1.05fr)_minmax(0,1fr)] items-start gap-8">
+      <div className="grid grid-cols-1 items-start gap-8 md:grid-cols-[minmax(0,1.5fr)_minmax(0,1fr)] lg:grid-cols-[minmax(0,1.05fr)_minmax(0,1fr)]">
         <div className="flex flex-col gap-6">
           <Section title="Title and caption">
             <div className="flex flex-col gap-4">

@@ -58,7 +58,7 @@ export function FigurePage() {
         }
       />
       <FormError error={order.error ?? publish.error} />
-      <div className="grid grid-cols-[minmax(0,1.6fr)_minmax(0,1fr)] items-start gap-8">
+      <div className="grid grid-cols-1 items-start gap-8 lg:grid-cols-[minmax(0,1.6fr)_minmax(0,1fr)]">
         <Section title="Versions" description="Each order prints the title, caption and composition as they are then; the permanent link shows the newest published version, and earlier published versions keep links of their own.">
           {f.versions.length === 0 ? (
             <p className="text-sm text-ink-soft">Nothing ordered yet. Order the print to make the PNG, TIFF and PDF files.</p>
