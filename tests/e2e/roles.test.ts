@@ -207,6 +207,21 @@ describe('demo roles in the browser', { timeout: 90_000 }, () => {
     await page.reload();
     await expect.poll(() => page.getByLabel('monthly quota of Maren Tollis in credits').inputValue()).toBe('2,500');
 
+    // Typed without separators, the saved quota comes back grouped and Save goes away: the field used to
+    // keep "3000" against the saved "3,000", so the form looked unsaved for ever.
+    const form = page.getByRole('form', { name: 'monthly quota of Maren Tollis' });
+    await page.getByLabel('monthly quota of Maren Tollis in credits').fill('3000');
+    await form.getByRole('button', { name: 'Save' }).click();
+    await form.getByRole('button', { name: 'Save' }).waitFor({ state: 'detached' });
+    expect(await page.getByLabel('monthly quota of Maren Tollis in credits').inputValue()).toBe('3,000');
+
+    // Words are refused with words, and the complaint goes once the value changes.
+    await page.getByLabel('monthly quota of Maren Tollis in credits').fill('lots');
+    await form.getByRole('button', { name: 'Save' }).click();
+    expect(await form.getByRole('alert').textContent()).toBe('enter a whole number');
+    await page.getByLabel('monthly quota of Maren Tollis in credits').fill('3,00');
+    await form.getByRole('alert').waitFor({ state: 'detached' });
+
     // A negative quota is stopped in the browser by the shared schema, with the message beside the field.
     await page.getByLabel('monthly quota of Maren Tollis in credits').fill('-5');
     await page.getByRole('form', { name: 'monthly quota of Maren Tollis' }).getByRole('button', { name: 'Save' }).click();

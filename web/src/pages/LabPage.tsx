@@ -5,7 +5,7 @@ import { api } from '../api/client.js';
 import { keys, useLab } from '../api/queries.js';
 import {
   createInvitationRequestSchema, createLabRequestSchema, quotaRequestSchema, roleRequestSchema, type Invitation, type LabResponse,
-  type Member, type MeResponse,
+  type Member, type MeResponse, type QuotaRequest,
 } from '../api/contract.js';
 import { useSignedIn } from '../auth/useSignedIn.js';
 import { formatDate, groupThousands } from '../format.js';
@@ -190,8 +190,12 @@ function QuotaEditor({ labId, member }: { labId: string; member: Member }) {
   const [error, setError] = useState<string>();
   const qc = useQueryClient();
   const save = useMutation({
-    mutationFn: (body: unknown) => api<unknown>('PUT', `/api/labs/${labId}/members/${member.userId}/quota`, body),
-    onSuccess: () => qc.invalidateQueries({ queryKey: keys.lab(labId) }),
+    mutationFn: (body: QuotaRequest) => api<unknown>('PUT', `/api/labs/${labId}/members/${member.userId}/quota`, body),
+    // the field shows what was saved in the page's own spelling ("3000" becomes "3,000"), so Save goes away
+    onSuccess: (_res, body) => {
+      setValue(body.monthlyQuota === null ? '' : groupThousands(body.monthlyQuota));
+      return qc.invalidateQueries({ queryKey: keys.lab(labId) });
+    },
     onError: (e) => setError(serverFieldErrors(e).monthlyQuota ?? (e as Error).message),
   });
   function submit(e: FormEvent) {
@@ -212,7 +216,10 @@ function QuotaEditor({ labId, member }: { labId: string; member: Member }) {
             inputMode="numeric"
             value={value}
             placeholder="no limit"
-            onChange={(e) => setValue(e.target.value)}
+            onChange={(e) => {
+              setValue(e.target.value);
+              setError(undefined); // an old complaint must not stand beside a new value
+            }}
             className={`w-28 rounded-md border bg-sheet px-2 py-1 text-right text-sm tnum ${error ? 'border-stamp' : 'border-rule'}`}
           />
           <span className="text-xs text-ink-soft">credits</span>
