@@ -1,5 +1,32 @@
 import { z } from 'zod';
 
+/**
+ * Plain-language wording for zod's generic messages, for forms (`web/src/ui/formErrors.ts`) and the
+ * API's 400 answers (`api/src/http/validate.ts`) alike. Messages written into a schema take precedence
+ * over this map (zod 4 error precedence), so only the defaults are reworded.
+ */
+export function friendlyMessage(issue: z.core.$ZodRawIssue): string | undefined {
+  switch (issue.code) {
+    case 'too_small':
+      if (issue.origin === 'string') return `must be at least ${issue.minimum} characters`;
+      if (issue.origin === 'array') return `needs at least ${issue.minimum} ${issue.minimum === 1 ? 'entry' : 'entries'}`;
+      return `must be at least ${issue.minimum}`;
+    case 'too_big':
+      if (issue.origin === 'string') return `must be at most ${issue.maximum} characters`;
+      if (issue.origin === 'array') return `allows at most ${issue.maximum} entries`;
+      return `must be at most ${Number(issue.maximum).toLocaleString('en-US')}`;
+    case 'invalid_value':
+      if (issue.values.length === 1) return `must be ${JSON.stringify(issue.values[0])}`;
+      return `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}`;
+    case 'invalid_type':
+      if (issue.expected === 'number' || issue.expected === 'int') return 'enter a whole number';
+      if (issue.input === undefined || issue.input === null || issue.input === '') return 'required';
+      return undefined;
+    default:
+      return undefined;
+  }
+}
+
 /** One problem with a request field; `path` is dotted (`spec.background.height`, `body` for the whole body). */
 export const apiIssueSchema = z.object({ path: z.string(), message: z.string() });
 export type ApiIssue = z.infer<typeof apiIssueSchema>;

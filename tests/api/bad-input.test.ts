@@ -65,6 +65,18 @@ describe('bad input gets a 4xx that says what was wrong, and changes nothing', (
     expect(res.body.error).toMatch(/Content-Type: application\/json/);
   });
 
+  it('limits and choices zod checks without a message of its own are refused in plain words', async () => {
+    // these used to answer zod's defaults: 'Too big: expected number to be <=100' and
+    // 'Invalid option: expected one of "createdAt"|"finishedAt"|…'
+    const big = await as(h.http.get('/api/runs'), s).query({ labId, pageSize: 100_000 });
+    expect(big.status).toBe(400);
+    expect(big.body.issues).toEqual([{ path: 'pageSize', message: 'must be at most 100' }]);
+    expect(big.body.error).toBe('invalid request query: pageSize: must be at most 100');
+    const sort = await as(h.http.get('/api/runs'), s).query({ labId, sort: 'nonsense' });
+    expect(sort.status).toBe(400);
+    expect(sort.body.issues).toEqual([{ path: 'sort', message: 'must be one of "createdAt", "finishedAt", "title", "status", "chips"' }]);
+  });
+
   it('an invalid run spec → 400 with the path inside the spec, and no row or job', async () => {
     const before = await runCount();
     const res = await as(h.http.post('/api/runs'), s).send({ labId, title: 'negative', spec: { lattice: { preset: 'square' }, chips: -1 } });

@@ -78,6 +78,14 @@ describe('figures in the browser', () => {
     await page.getByLabel('px per cell').fill('8');
     await expect.poll(() => page.getByTestId('proof-warnings').count()).toBe(0);
     await page.getByText('8 × 8 printed pixels per cell: nothing is reduced.').waitFor();
+    // a resolution out of range is named in the words of the other forms (it used to read
+    // 'dpi: Too big: expected number to be <=1200'), and the figure cannot be created meanwhile
+    await page.getByLabel('DPI', { exact: true }).fill('5000');
+    await page.getByText('These settings are not valid yet').waitFor();
+    await page.getByText('dpi: must be at most 1,200', { exact: true }).waitFor();
+    expect(await page.getByRole('button', { name: 'Create the figure' }).isDisabled()).toBe(true);
+    await page.getByLabel('DPI', { exact: true }).fill('300');
+    await page.getByText('These settings are not valid yet').waitFor({ state: 'detached' });
     // the proof's panel image has loaded from the run's stored whole-pile image
     await expect.poll(() => page.locator('[data-testid="proof"] image').count()).toBe(1);
     // the proof shows the print's legend (read from the run's stored view) and the caption's lines

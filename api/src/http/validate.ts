@@ -1,6 +1,6 @@
 import type { Request } from 'express';
 import type { z } from 'zod';
-import type { ApiIssue } from '../../../shared/api/errors.js';
+import { friendlyMessage, type ApiIssue } from '../../../shared/api/errors.js';
 import { HttpError } from './http-error.js';
 
 type Where = 'body' | 'query' | 'params';
@@ -11,7 +11,8 @@ export function toIssues(error: z.ZodError): ApiIssue[] {
 }
 
 function parse<S extends z.ZodType>(where: Where, schema: S, value: unknown): z.output<S> {
-  const result = schema.safeParse(value);
+  // zod's own defaults ("Too big: expected number to be <=100") in the words the forms use
+  const result = schema.safeParse(value, { error: friendlyMessage });
   if (result.success) return result.data;
   const issues = toIssues(result.error);
   const summary = issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; ');

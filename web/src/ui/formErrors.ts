@@ -1,4 +1,5 @@
 import type { z } from 'zod';
+import { friendlyMessage } from '../../../shared/api/errors.js';
 import { isApiError, type Issue } from '../api/ApiError.js';
 
 /** Field path -> first message, e.g. { email: 'not an e-mail address' }. */
@@ -13,28 +14,8 @@ export function issuesToFieldErrors(issues: readonly Issue[]): FieldErrors {
   return out;
 }
 
-/**
- * Plain-language wording for zod's generic messages. Messages written into a schema take precedence
- * over this map (zod 4 error precedence), so only the defaults are reworded.
- */
-export function friendlyMessage(issue: z.core.$ZodRawIssue): string | undefined {
-  switch (issue.code) {
-    case 'too_small':
-      if (issue.origin === 'string') return `must be at least ${issue.minimum} characters`;
-      if (issue.origin === 'array') return `needs at least ${issue.minimum} ${issue.minimum === 1 ? 'entry' : 'entries'}`;
-      return `must be at least ${issue.minimum}`;
-    case 'too_big':
-      if (issue.origin === 'string') return `must be at most ${issue.maximum} characters`;
-      if (issue.origin === 'array') return `allows at most ${issue.maximum} entries`;
-      return `must be at most ${Number(issue.maximum).toLocaleString('en-US')}`;
-    case 'invalid_type':
-      if (issue.expected === 'number' || issue.expected === 'int') return 'enter a whole number';
-      if (issue.input === undefined || issue.input === null || issue.input === '') return 'required';
-      return undefined;
-    default:
-      return undefined;
-  }
-}
+// the wording lives beside the API's error shape, so a form and a 400 answer say the same thing
+export { friendlyMessage } from '../../../shared/api/errors.js';
 
 /** Browser-side check with the same schema the API uses; issues come out in the API's own shape. */
 export function validate<S extends z.ZodType>(

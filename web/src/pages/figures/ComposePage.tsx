@@ -22,7 +22,7 @@ import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../
 import { isZeroBackground } from '../../../../shared/run-spec.js';
 import { latticeOfSpec } from '../../labels.js';
 import { drawnOf } from '../../viewer/drawnViews.js';
-import { Button, Count, EmptyState, ErrorPanel, FormError, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
+import { Button, Count, EmptyState, ErrorPanel, FormError, friendlyMessage, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 import { rescaledUnitName } from './rescaledUnit.js';
@@ -89,7 +89,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   const setPanel = (i: number, patch: Partial<PanelSpec>) =>
     setSpec({ panels: spec.panels.map((p, j) => (j === i ? { ...p, ...patch } : p)) });
 
-  const parsed = printableFigureSpecSchema.safeParse(spec);
+  // in the words of the other forms and of the API's answer ("dpi: must be at most 1,200")
+  const parsed = printableFigureSpecSchema.safeParse(spec, { error: friendlyMessage });
   const geometry = useMemo(
     () => runs.map((r) => ({ runId: r.id, shape: r.stats!.shape, origin: r.stats!.origin, chips: r.spec.chips })),
     [runs],
