@@ -3,17 +3,10 @@ import type { AuditEvent, AuditQueryInput } from '../../api/contract.js';
 import { useAdminLabs, useAdminUsers } from '../../api/queries.js';
 import { formatDateTime } from '../../format.js';
 import { buttonClass, EmptyState, ErrorPanel, Section, SelectField, SkeletonTable, SortableTable, TextField, type Column } from '../../ui/index.js';
+import { auditDetailText } from './adminFormat.js';
 import { auditCsvUrl, useAuditTrail } from './adminQueries.js';
 
 const FILTERS = ['labId', 'actorId', 'personId', 'kind', 'from', 'to'] as const;
-
-/** A short, readable summary of an event's detail (the CSV keeps the whole JSON). */
-function detailText(d: AuditEvent['detail']): string {
-  if (!d) return '';
-  return Object.entries(d)
-    .map(([k, v]) => `${k}: ${typeof v === 'object' ? JSON.stringify(v) : String(v)}`)
-    .join(', ');
-}
 
 const columns: Column<AuditEvent>[] = [
   { key: 'at', header: 'When (UTC)', cell: (e) => <span className="tnum whitespace-nowrap">{formatDateTime(e.at)}</span>, sortValue: (e) => e.at },
@@ -22,7 +15,7 @@ const columns: Column<AuditEvent>[] = [
   { key: 'about', header: 'About', cell: (e) => e.subjectName ?? <span className="text-ink-faint">{e.subjectType ?? '—'}</span>, sortValue: (e) => e.subjectName ?? e.subjectType },
   { key: 'lab', header: 'Lab', cell: (e) => e.labName ?? '—', sortValue: (e) => e.labName },
   { key: 'reason', header: 'Why', cell: (e) => e.reason ?? <span className="text-ink-faint">—</span>, sortValue: (e) => e.reason },
-  { key: 'detail', header: 'Detail', cell: (e) => <span className="text-xs text-ink-soft">{detailText(e.detail)}</span> },
+  { key: 'detail', header: 'Detail', cell: (e) => <span className="text-xs text-ink-soft">{auditDetailText(e.detail)}</span> },
 ];
 
 export function AuditTab() {

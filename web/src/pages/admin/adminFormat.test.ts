@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { countOf, creditTicks, workersSummary } from './adminFormat.js';
+import { auditDetailText, countOf, creditTicks, workersSummary } from './adminFormat.js';
 
 describe('creditTicks', () => {
   it('gives whole, distinct ticks for small ranges (a paid balance of 0 to 2 once read 2, 2, 1, 1, 0)', () => {
@@ -39,5 +39,25 @@ describe('workersSummary', () => {
   it('says "no" rather than 0 and starts with a capital', () => {
     expect(workersSummary(0, 0, 5)).toBe('No worker reporting in; no connection taking jobs from the 5 queues (one per queue a worker serves).');
     expect(countOf(1_500, 'credit')).toBe('1,500 credits');
+  });
+});
+
+describe('auditDetailText', () => {
+  it('shows a purchase amount as money instead of minor units beside a currency code', () => {
+    // the detail the purchase webhook writes (api/src/billing/purchases.ts); 2000 cents = €20.00
+    expect(auditDetailText({ amount: 2000, credits: 1000, session: 'cs_test_1', currency: 'eur' })).toBe('amount: €20.00, credits: 1,000, session: cs_test_1');
+    expect(auditDetailText({ amount: 1500, currency: 'jpy' })).toBe('amount: ¥1,500');
+  });
+
+  it('groups counts, joins lists and names an empty value', () => {
+    expect(auditDetailText({ chips: 200000 })).toBe('chips: 200,000');
+    expect(auditDetailText({ formats: ['png', 'tiff', 'pdf'], version: 1 })).toBe('formats: png, tiff, pdf, version: 1');
+    expect(auditDetailText({ from: null, monthlyQuota: 1500 })).toBe('from: none, monthlyQuota: 1,500');
+    expect(auditDetailText({ month: '2026-12', ratio: 0.5, nested: { a: 1 } })).toBe('month: 2026-12, ratio: 0.5, nested: {"a":1}');
+    expect(auditDetailText(null)).toBe('');
+  });
+
+  it('leaves an amount without a currency as a number', () => {
+    expect(auditDetailText({ amount: 2000 })).toBe('amount: 2,000');
   });
 });

@@ -1,5 +1,6 @@
 import type { Standing } from '../../api/contract.js';
-import { withUnit } from '../../format.js';
+import { groupThousands, withUnit } from '../../format.js';
+import { formatMoney } from '../credits/money.js';
 import { niceStep } from '../../plots/plotData.js';
 
 /** "1 worker", "5 connections", "no worker": a count with its noun in the right number. */
@@ -43,4 +44,24 @@ export function creditTicks(values: readonly number[], maxTicks = 5): { ticks: n
   const ticks: number[] = [];
   for (let t = first; t <= last; t += step) ticks.push(t);
   return { ticks, domain: [first, last] };
+}
+
+/**
+ * An audit event's detail in a line (the CSV keeps the whole JSON): an amount with its currency as
+ * money ("amount: €20.00", not the cents "amount: 2000, currency: eur"), counts grouped, lists joined.
+ */
+export function auditDetailText(d: Record<string, unknown> | null): string {
+  if (!d) return '';
+  const money = typeof d.amount === 'number' && typeof d.currency === 'string';
+  return Object.entries(d)
+    .filter(([k]) => !(money && k === 'currency'))
+    .map(([k, v]) => `${k}: ${money && k === 'amount' ? formatMoney(v as number, d.currency as string) : detailValue(v)}`)
+    .join(', ');
+}
+
+function detailValue(v: unknown): string {
+  if (v === null || v === undefined) return 'none';
+  if (typeof v === 'number') return Number.isSafeInteger(v) ? groupThousands(v) : String(v);
+  if (Array.isArray(v) && v.every((x) => typeof x !== 'object' || x === null)) return v.join(', ');
+  return typeof v === 'object' ? JSON.stringify(v) : String(v);
 }
