@@ -126,5 +126,16 @@ describe('the deep-zoom viewer', () => {
     await other.getByRole('navigation', { name: 'main' }).waitFor();
     expect(await other.getByText('has not been drawn').count()).toBe(0);
     await screenshot(other, 'tour6-viewer-other-lab');
+
+    // 4. a finished run's page and the page of a run out of reach open no event stream: nothing to follow
+    // (both used to open one, the second answering 404 into the console)
+    const streams: string[] = [];
+    for (const p of [page, other]) p.on('request', (r) => void (r.url().endsWith('/events') && streams.push(r.url())));
+    await page.goto(`/runs/${square}`);
+    await page.getByRole('progressbar', { name: 'finished' }).waitFor();
+    await other.goto(`/runs/${square}`);
+    await other.getByText('No run at this address').waitFor();
+    await page.waitForTimeout(500);
+    expect(streams).toEqual([]);
   });
 });

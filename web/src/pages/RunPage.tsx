@@ -18,12 +18,13 @@ const ACTIVE: readonly RunStatus[] = ['queued', 'computing', 'rendering'];
 
 export function RunPage() {
   const { id = '' } = useParams();
-  const [working, setWorking] = useState(true);
-  // server-sent events while the run works; polling only when the stream is down
+  // server-sent events once the run is known to be working (never for a finished run or one out of
+  // reach, whose stream would only end at once or answer 404); polling only when the stream is down
+  const [working, setWorking] = useState(false);
   const live = useRunEvents(id, working);
   const run = useRun(id, live);
   const status = run.data?.run.status;
-  useEffect(() => setWorking(!status || ACTIVE.includes(status)), [status]);
+  useEffect(() => setWorking(status !== undefined && ACTIVE.includes(status)), [status]);
   if (run.isPending) return <SkeletonBlock lines={8} />;
   if (run.isError) {
     if (isRunMissing(run.error)) return <RunNotFound />;
