@@ -225,6 +225,13 @@ describe('figures in the browser', () => {
     // the citation names the version, whose link never changes
     await expect.poll(() => reader.getByTestId('bibtex').textContent()).toMatch(/@misc\{a-thousand-grains-on-z2-v1,[\s\S]*\\url\{[^}]*\/f\/a-thousand-grains-on-z2\/v\/1\}/);
     expect(await reader.getByTestId('bibtex').evaluate((el) => el.scrollWidth <= el.clientWidth)).toBe(true);
+    // beside it, the deep zoom's IIIF image service, which opens without an account too
+    // (IIIF Image API 3.0, https://iiif.io/api/image/3.0/#51-image-information-request: info.json's id is the service's base)
+    const iiif = (await reader.getByTestId('figure-iiif').getAttribute('href'))!;
+    expect(new URL(iiif).pathname).toBe('/api/figures/a-thousand-grains-on-z2/views/heights/tidewater/iiif/info.json');
+    const info = await reader.evaluate(async (u) => (await fetch(u, { credentials: 'omit' })).json(), iiif) as { id: string; type: string };
+    expect(info.type).toBe('ImageService3');
+    expect(new URL(info.id).pathname).toBe(new URL(iiif).pathname.replace(/\/info\.json$/, ''));
     // the run's citation opens for this reader without an account
     await reader.goto(cited!);
     await reader.getByRole('heading', { name: 'A thousand grains on Z²' }).waitFor();
@@ -240,7 +247,7 @@ describe('figures in the browser', () => {
     expect(await reader.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth)).toBeLessThanOrEqual(0);
     const zoom = (await reader.getByTestId('figure-zoom').boundingBox())!;
     expect([zoom.x, zoom.width]).toEqual([0, 390]);
-    for (const id of ['figure-files', 'bibtex']) {
+    for (const id of ['figure-files', 'bibtex', 'figure-iiif']) {
       const box = (await reader.getByTestId(id).boundingBox())!;
       expect(box.x + box.width, id).toBeLessThanOrEqual(390);
     }

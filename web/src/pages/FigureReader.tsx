@@ -12,6 +12,7 @@ import { figureUrl, PermanentLink } from './figures/PermanentLink.js';
 import { panelRuns } from './figures/panelRuns.js';
 import { certificateSentence, certificateTone } from '../../../shared/certificate-words.js';
 import type { FigureRun } from '../../../shared/api/figures.js';
+import { infoJsonUrl } from '../viewer/runArtifacts.js';
 
 // OpenSeadragon comes with the viewer chunk, only when the figure has tiles to show
 const FigureZoom = lazy(() => import('../viewer/FigureZoom.js').then((m) => ({ default: m.FigureZoom })));
@@ -75,6 +76,7 @@ export function FigureReader() {
   const others = published.filter((v) => v !== shown);
   // the runs of the panels as shown (the published composition), each with its certificate
   const sources = panelRuns(latest?.spec ?? f.spec, f.runs);
+  const iiifUrl = `${window.location.origin}${infoJsonUrl(base, 'heights', 'tidewater')}`;
   return (
     <article>
       <title>{`${title} · Toppleworks`}</title>
@@ -200,6 +202,15 @@ export function FigureReader() {
           {shown ? (
             <p className="text-sm text-ink-soft">
               Newest version: <a href={figureUrl(f.slug)} className="font-mono">{figureUrl(f.slug)}</a>
+            </p>
+          ) : null}
+          {drawn.data ? (
+            // the deep zoom's own tiles, for a IIIF viewer, a slide deck or a digital edition
+            <p className="text-sm text-ink-soft">
+              Deep zoom for any IIIF viewer (Image API 3.0):{' '}
+              <a href={iiifUrl} className="font-mono [overflow-wrap:anywhere]" data-testid="figure-iiif">
+                {iiifUrl}
+              </a>
             </p>
           ) : null}
         </div>
