@@ -32,6 +32,15 @@ export function InvitationPage() {
         </EmptyState>
       );
     }
+    // a link cut short or mangled on its way from the mail: the API refuses its token's shape (400)
+    if (isStatus(invitation.error, 400)) {
+      return (
+        <EmptyState title="This invitation link is incomplete" action={<Link to="/">Front page</Link>}>
+          Part of the address is missing or changed. Open the link from the invitation mail again, or copy all of it into
+          the address bar.
+        </EmptyState>
+      );
+    }
     return <ErrorPanel error={invitation.error} />;
   }
   const inv = invitation.data;
