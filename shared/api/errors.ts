@@ -19,7 +19,9 @@ export function friendlyMessage(issue: z.core.$ZodRawIssue): string | undefined 
       if (issue.values.length === 1) return `must be ${JSON.stringify(issue.values[0])}`;
       return `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}`;
     case 'invalid_type':
-      if (issue.expected === 'number' || issue.expected === 'int') return 'enter a whole number';
+      // a fraction is refused by an integer schema only: millimetres and ratios take any number
+      if (issue.expected === 'int' || (issue.expected === 'number' && (issue.inst as { isInt?: boolean } | undefined)?.isInt === true)) return 'enter a whole number';
+      if (issue.expected === 'number') return 'enter a number';
       if (issue.input === undefined || issue.input === null || issue.input === '') return 'required';
       return undefined;
     default:
