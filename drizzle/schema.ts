@@ -16,7 +16,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import type { RunSpec } from '../shared/run-spec.js';
 import type { RunStatsJson } from '../shared/run-stats.js';
-import type { FigureSpec } from '../shared/print.js';
+import type { FigureSpec } from '../shared/print-spec.js';
 
 /**
  * The database schema. Migrations are generated from this file with `npx drizzle-kit generate`
@@ -189,7 +189,7 @@ export const figures = pgTable('figures', {
   publishedAt: at('published_at'),
   /** a withdrawn figure keeps its slug (permanent links never point at something else) but is no longer shown */
   withdrawnAt: at('withdrawn_at'),
-  /** the composition the next print order uses (shared/print.ts FigureSpec); null: one panel of runId */
+  /** the composition the next print order uses (shared/print-spec.ts FigureSpec); null: one panel of runId */
   spec: jsonb('spec').$type<FigureSpec>(),
   updatedAt: at('updated_at').notNull().defaultNow(),
 }, (t) => [index('figures_published_idx').on(t.publishedAt)]);
@@ -208,7 +208,7 @@ export const figureVersions = pgTable('figure_versions', {
   id: id(),
   figureId: uuid('figure_id').notNull().references(() => figures.id, { onDelete: 'cascade' }),
   number: integer('number').notNull(),
-  /** the validated FigureSpec (shared/print.ts), defaults filled in */
+  /** the validated FigureSpec (shared/print-spec.ts), defaults filled in */
   spec: jsonb('spec').$type<FigureSpec>().notNull(),
   /** the figure's title when ordered; null only for rows written without one (the figure's title stands in) */
   title: text('title'),

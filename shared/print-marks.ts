@@ -1,6 +1,8 @@
 import { colourTable, hexToRgba, legendFor, paletteById, type Layer, type LayerStats, type Legend, type Palette, type Rgba, type UntoppledStyle } from './palettes.js';
 import { legendTicks, shortLabels } from './legend-ticks.js';
-import { legendRowPx, POINTS_PER_INCH, type FigureLayout, type PanelSpec } from './print.js';
+import { POINTS_PER_INCH } from './print-page.js';
+import type { PanelSpec } from './print-spec.js';
+import { legendRowPx, type FigureLayout } from './print-layout.js';
 
 /**
  * Everything on a figure's page that is not a panel raster or a scale bar: panel labels, scale-bar

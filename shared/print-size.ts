@@ -1,7 +1,7 @@
 /**
  * How many pixels a printed page may have, and what a page of a given size and resolution weighs:
- * shared by the spec schema and the layout (shared/print.ts), the API's refusal and the composer's
- * warning, so all of them name the same numbers.
+ * shared by the spec schema (print-spec.ts), the layout (print-layout.ts), the API's refusal and the
+ * composer's warning, so all of them name the same numbers.
  */
 
 export const MM_PER_INCH = 25.4;

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { CAPTION_MAX_CHARS, figureSpecSchema, printableFigureSpecSchema } from '../print.js';
+import { CAPTION_MAX_CHARS, figureSpecSchema, printableFigureSpecSchema } from '../print-spec.js';
 import { backgroundSchema } from '../run-spec.js';
 import { certificateSchema } from '../run-stats.js';
 import { idSchema, isoDateSchema, pageSchema } from './errors.js';

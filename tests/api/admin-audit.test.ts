@@ -4,7 +4,7 @@ import type Stripe from 'stripe';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { auditEvents, creditPurchases, figureVersions, figures } from '../../drizzle/schema.js';
 import { auditResponseSchema } from '../../shared/api/admin.js';
-import { figureSpecSchema } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
 import { bookOfflinePurchase } from '../../api/src/billing/adjustments.js';
 import { handlePaymentEvent } from '../../api/src/billing/purchases.js';
 import { finishedRun, markReady } from './figures-fixtures.js';

@@ -6,7 +6,7 @@ import { auditEvents, figureVersions, figures, runs } from '../../drizzle/schema
 import { RETENTION_RULE } from '../../shared/api/admin.js';
 import { runResponseSchema } from '../../shared/api/runs.js';
 import { QUEUE_NAMES } from '../../shared/jobs.js';
-import { figureSpecSchema } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
 import { connectDatabase } from '../../api/src/db/client.js';
 import { clearExpiredRun, removalDateOf, sweepRetention, type RetentionDeps } from '../../api/src/services/admin-retention.js';
 import { createFarmHealth } from '../../api/src/queue/farm-health.js';

@@ -18,7 +18,7 @@ import { auditEvents, figures, figureVersions, ledgerEntries, runs, users } from
 import { startFarmWorker } from '../../renderer/src/farm/farm-worker.js';
 import { figureResponseSchema, listFiguresResponseSchema } from '../../shared/api/figures.js';
 import { QUEUE_NAMES } from '../../shared/jobs.js';
-import { figureSpecSchema, specWithCaption, startingComposition } from '../../shared/print.js';
+import { figureSpecSchema, specWithCaption, startingComposition } from '../../shared/print-spec.js';
 import { as, closeAppDeps, connectAppDeps, sessionFrom, testEnv } from './support/harness.js';
 
 /** The demo seed on a database created empty for this test, with the API it is served by. */

@@ -13,7 +13,7 @@ import {
   type FigureDetail,
 } from '../../shared/api/figures.js';
 import { JOB_NAMES, QUEUE_NAMES, jobIdFor } from '../../shared/jobs.js';
-import { pixelsFor } from '../../shared/print.js';
+import { pixelsFor } from '../../shared/print-size.js';
 import { runLink } from '../../web/src/pages/citation.js';
 import { sendFigureReadyMail } from '../../api/src/services/figures-ready-mail.js';
 import { finishedRun, markReady } from './figures-fixtures.js';
@@ -72,7 +72,7 @@ describe('composing a figure', () => {
     expect(f.publishedAt).toBeNull();
     expect(f.versions).toEqual([]);
     expect(f.canEdit).toBe(true);
-    // defaults from shared/print.ts: heights layer, letters for labels, 10 mm margins
+    // defaults from shared/print-spec.ts: heights layer, letters for labels, 10 mm margins
     expect(f.spec.panels[0]).toMatchObject({ layer: 'heights', magnification: 'fit' });
     expect(f.spec.margins).toEqual({ top: 10, right: 10, bottom: 10, left: 10 });
     expect(f.runs.find((r) => r.id === runSquare)).toMatchObject({ shape: [7, 7], origin: [3, 3], chips: 16 });

@@ -6,7 +6,7 @@ import sharp from 'sharp';
 import { labs, apiTokens, creditPurchases, figures, invitations, memberships, runs, series, figureVersions } from '../../drizzle/schema.js';
 import { writeNpy } from '../../renderer/src/npy/index.js';
 import { printThumbnailKey } from '../../renderer/src/farm/artifacts.js';
-import { figureSpecSchema } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
 import { legendFor, paletteById } from '../../shared/palettes.js';
 import { finishedRun } from './figures-fixtures.js';
 import { API_ROUTERS } from '../../api/src/app.js';

@@ -25,7 +25,7 @@ import { parseArgs } from 'node:util';
 import sharp from 'sharp';
 import { pagePalette, pageStrips, prepareFigure, renderPrint, type PrintFormat } from '../../renderer/src/print/index.js';
 import type { RenderInput } from '../../renderer/src/render/index.js';
-import type { FigureSpecInput } from '../../shared/print.js';
+import type { FigureSpecInput } from '../../shared/print-spec.js';
 import { runInChild } from './child-case.js';
 
 type Order = 'a4' | 'a0' | 'a0-600';

@@ -6,7 +6,7 @@ import { readNpy } from '../../renderer/src/npy/read.js';
 import { writeNpy } from '../../renderer/src/npy/write.js';
 import type { FigureResponse } from '../../shared/api/figures.js';
 import { heightColour, hexToRgba, paletteById } from '../../shared/palettes.js';
-import { startingComposition } from '../../shared/print.js';
+import { startingComposition } from '../../shared/print-spec.js';
 import { apiCall, newPage, screenshot, signIn } from './browser.js';
 import { useFarmInBrowser } from './farm-in-browser.js';
 

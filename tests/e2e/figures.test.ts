@@ -3,7 +3,7 @@ import sharp from 'sharp';
 import { eq } from 'drizzle-orm';
 import { hashPassword } from '../../api/src/auth/passwords.js';
 import { labs, memberships, users } from '../../drizzle/schema.js';
-import { pixelsFor } from '../../shared/print.js';
+import { pixelsFor } from '../../shared/print-size.js';
 import { apiCall, newPage, screenshot, signIn } from './browser.js';
 import { useFarmInBrowser } from './farm-in-browser.js';
 

@@ -6,7 +6,8 @@ import { renderPrint } from '../../renderer/src/print/index.js';
 import { computeStats, planeOf } from '../../renderer/src/render/index.js';
 import { colourTable, paletteById } from '../../shared/palettes.js';
 import { lineBandRows } from '../../shared/drawn-plane.js';
-import { figureSpecSchema, layoutFigure } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
+import { layoutFigure } from '../../shared/print-layout.js';
 import { decodeRgb, tempDir } from './helpers.js';
 
 let dir: string;

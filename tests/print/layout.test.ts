@@ -1,18 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import {
-  figureSpecSchema,
-  layoutFigure,
-  niceLength,
-  pageSizeMm,
-  panelLabelText,
-  pixelsFor,
-  printableFigureSpecSchema,
-  regionText,
-  unreducedNote,
-  type FigureSpecInput,
-  type RunGeometry,
-} from '../../shared/print.js';
-import { MAX_PAGE_PIXELS, estimatePrintBytes, largestDpiWithin, pagePixels } from '../../shared/print-size.js';
+import { MAX_PAGE_PIXELS, estimatePrintBytes, largestDpiWithin, pagePixels, pixelsFor } from '../../shared/print-size.js';
+import { pageSizeMm } from '../../shared/print-page.js';
+import { figureSpecSchema, printableFigureSpecSchema, type FigureSpecInput } from '../../shared/print-spec.js';
+import { panelLabelText, regionText, unreducedNote } from '../../shared/print-words.js';
+import { layoutFigure, niceLength, type RunGeometry } from '../../shared/print-layout.js';
 
 const run = (runId: string, side: number, chips = 1000): RunGeometry => ({ runId, shape: [side, side], origin: [side >> 1, side >> 1], chips });
 const line = (runId: string, cells: number, chips = 1000): RunGeometry => ({ runId, shape: [cells], origin: [cells >> 1], chips });

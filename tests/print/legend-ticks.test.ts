@@ -4,7 +4,8 @@ import { compactCount, tenPowerCount } from '../../shared/counts.js';
 import { legendTicks, shortLabels, type PlacedTick } from '../../shared/legend-ticks.js';
 import { legendFor, paletteById, type LayerStats } from '../../shared/palettes.js';
 import { figureTextMarks, panelLegend, type TextMark } from '../../shared/print-marks.js';
-import { figureSpecSchema, layoutFigure } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
+import { layoutFigure } from '../../shared/print-layout.js';
 
 /**
  * Tick labels of continuous legends: the screen's legend card and the printed legend row choose them

@@ -2,7 +2,8 @@ import { readFile, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { renderPrint } from '../../renderer/src/print/index.js';
-import { figureSpecSchema, layoutFigure } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
+import { layoutFigure } from '../../shared/print-layout.js';
 import { squarePile, tempDir } from './helpers.js';
 
 let dir: string;

@@ -6,7 +6,8 @@ import { textWidthPt, workSansFaces } from '../../renderer/src/print/fonts.js';
 import { createFolderSink, legendKeyOf, renderPyramid, viewPrefix } from '../../renderer/src/render/index.js';
 import { legendResponseSchema } from '../../shared/api/artifacts.js';
 import { figureTextMarks, WORK_SANS_ASCENT_EM, type Mark } from '../../shared/print-marks.js';
-import { figureSpecSchema, layoutFigure, type FigureSpecInput } from '../../shared/print.js';
+import { figureSpecSchema, type FigureSpecInput } from '../../shared/print-spec.js';
+import { layoutFigure } from '../../shared/print-layout.js';
 import { proofLegends, type ProofRun } from '../../web/src/pages/figures/proofLegend.js';
 import { squarePile, tempDir } from './helpers.js';
 

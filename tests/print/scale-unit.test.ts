@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { figureSpecSchema, layoutFigure, scaleBarText } from '../../shared/print.js';
+import { figureSpecSchema } from '../../shared/print-spec.js';
+import { scaleBarText } from '../../shared/print-words.js';
+import { layoutFigure } from '../../shared/print-layout.js';
 import { naturalScale } from '../../shared/natural-scale.js';
 
 /**

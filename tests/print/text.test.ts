@@ -6,7 +6,9 @@ import { textWidthPt } from '../../renderer/src/print/fonts.js';
 import { wrapText } from '../../renderer/src/print/marks.js';
 import { computeStats, planeOf } from '../../renderer/src/render/index.js';
 import { colourTable, paletteById } from '../../shared/palettes.js';
-import { POINTS_PER_INCH, type FigureLayout, type FigureSpecInput, type PxRect } from '../../shared/print.js';
+import { POINTS_PER_INCH } from '../../shared/print-page.js';
+import type { FigureSpecInput } from '../../shared/print-spec.js';
+import type { FigureLayout, PxRect } from '../../shared/print-layout.js';
 import { decodeRgb, squarePile, tempDir } from './helpers.js';
 
 /**

@@ -16,7 +16,7 @@ import {
   type Figure,
 } from '../../../shared/api/figures.js';
 import { JOB_NAMES, jobIdFor } from '../../../shared/jobs.js';
-import { specWithCaption } from '../../../shared/print.js';
+import { specWithCaption } from '../../../shared/print-spec.js';
 import { dispatchNow, recordJobs } from '../queue/outbox.js';
 import { figures, figureVersions, runs } from '../../../drizzle/schema.js';
 import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';

@@ -3,7 +3,7 @@ import { fileURLToPath } from 'node:url';
 import { count, eq, sql } from 'drizzle-orm';
 import { loadEnv, type Env } from '../../../shared/env.js';
 import { JOB_NAMES } from '../../../shared/jobs.js';
-import { figureSpecSchema, specWithCaption, startingComposition } from '../../../shared/print.js';
+import { figureSpecSchema, specWithCaption, startingComposition } from '../../../shared/print-spec.js';
 import { runSpecSchema, type RunSpecInput } from '../../../shared/run-spec.js';
 import { figures, labs, memberships, runs, users } from '../../../drizzle/schema.js';
 import { bookOfflinePurchase } from '../billing/adjustments.js';

@@ -4,7 +4,7 @@ import { figureVersions, runs } from '../../../drizzle/schema.js';
 import { printThumbnailKey } from '../../../renderer/src/farm/artifacts.js';
 import { iiifPrefix, viewPrefix } from '../../../renderer/src/render/keys.js';
 import { THUMBNAIL_MAX_SIDE } from '../../../shared/api/artifacts.js';
-import { panelSpecSchema, type PanelSpec } from '../../../shared/print.js';
+import { panelSpecSchema, type PanelSpec } from '../../../shared/print-spec.js';
 import { layerHasMaskedCells, renderViews, type RenderView } from '../../../shared/run-spec.js';
 import type { Db } from '../db/client.js';
 import type { BlobStore } from '../storage/blob-store.js';

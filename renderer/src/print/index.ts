@@ -1,9 +1,9 @@
 /**
- * Print engine: a figure spec (shared/print.ts) and finished runs → exact-size PNG, TIFF and PDF,
+ * Print engine: a figure spec (shared/print-spec.ts) and finished runs → exact-size PNG, TIFF and PDF,
  * each with the same Work Sans labels, legend, scale bars and caption, streamed in strips so no
  * full-page buffer is ever held.
  */
-import type { FigureLayout } from '../../../shared/print.js';
+import type { FigureLayout } from '../../../shared/print-layout.js';
 import type { WrittenFile } from './file-output.js';
 import { writeFigurePdf, type PdfOptions } from './pdf.js';
 import { prepareFigure, type PrintRun } from './prepare.js';

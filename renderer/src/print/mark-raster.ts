@@ -1,6 +1,6 @@
 import sharp from 'sharp';
 import type { Rgba } from '../../../shared/palettes.js';
-import { POINTS_PER_INCH } from '../../../shared/print.js';
+import { POINTS_PER_INCH } from '../../../shared/print-page.js';
 import { layoutLine, workSansFaces, type FontFace } from './fonts.js';
 import type { Mark } from './marks.js';
 

@@ -1,5 +1,5 @@
 import type { Rgba } from '../../../shared/palettes.js';
-import type { PxRect } from '../../../shared/print.js';
+import type { PxRect } from '../../../shared/print-layout.js';
 import { PanelRaster } from './panel-raster.js';
 import { INK_LEVELS, inkLevelColour, MarkPainter, type MarkTarget } from './mark-raster.js';
 import { figureMarks } from './marks.js';

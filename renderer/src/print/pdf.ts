@@ -4,7 +4,7 @@ import { finished } from 'node:stream/promises';
 import { createDeflate } from 'node:zlib';
 import PDFDocument from 'pdfkit';
 import { rgbaToHex, type Rgba } from '../../../shared/palettes.js';
-import { POINTS_PER_INCH } from '../../../shared/print.js';
+import { POINTS_PER_INCH } from '../../../shared/print-page.js';
 import { writeStreamAtomically, type WrittenFile } from './file-output.js';
 import { workSans, type FontFace } from './fonts.js';
 import { figureMarks, type Mark } from './marks.js';

@@ -1,6 +1,7 @@
 import type { LayerStats, Legend, Rgba } from '../../../shared/palettes.js';
 import { panelLegend } from '../../../shared/print-marks.js';
-import { figureSpecSchema, layoutFigure, type FigureLayout, type FigureSpec, type PanelLayout, type PanelSpec } from '../../../shared/print.js';
+import { figureSpecSchema, type FigureSpec, type PanelSpec } from '../../../shared/print-spec.js';
+import { layoutFigure, type FigureLayout, type PanelLayout } from '../../../shared/print-layout.js';
 import { computeStats } from '../render/stats.js';
 import { indexHistogram, layerScale, type LayerScale } from '../render/layers.js';
 import { planeOf, type BackgroundSource, type Plane, type RenderInput } from '../render/plane.js';

@@ -1,6 +1,7 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import OpenSeadragon from 'openseadragon';
-import { regionText, type Region } from '../../../shared/print.js';
+import type { Region } from '../../../shared/print-spec.js';
+import { regionText } from '../../../shared/print-words.js';
 import type { RenderSpec } from '../../../shared/run-spec.js';
 import { Button } from '../ui/index.js';
 import { pixelsPerCell, type RunGeometry } from './cells.js';

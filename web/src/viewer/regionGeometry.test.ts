@@ -1,6 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import { cellAt, pixelsPerCell, type RunGeometry } from './cells.js';
-import { regionText } from '../../../shared/print.js';
+import { regionText } from '../../../shared/print-words.js';
 import { imageRectOfRegion, regionOfImagePoints, regionSizeText, wholeRegionOf } from './regionGeometry.js';
 
 // The worked example of cells.test.ts: 7 × 5 cells, origin at (row 2, column 3), drawn 4 px per cell.

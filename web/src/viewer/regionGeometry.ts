@@ -1,4 +1,4 @@
-import type { Region } from '../../../shared/print.js';
+import type { Region } from '../../../shared/print-spec.js';
 import { planeSize, type RunGeometry } from './cells.js';
 
 /**

@@ -1,21 +1,18 @@
 import { useMemo, useState } from 'react';
 import { Link, useNavigate, useParams, useSearchParams } from 'react-router';
 import { LAYERS, PALETTES } from '../../../../shared/palettes.js';
+import { COLUMN_NAMES, JOURNAL_WIDTHS_MM, PAPER_NAMES } from '../../../../shared/print-page.js';
 import {
-  COLUMN_NAMES,
-  JOURNAL_WIDTHS_MM,
   MAX_DPI,
   MIN_DPI,
-  PAPER_NAMES,
-  layoutFigure,
   printableFigureSpecSchema,
-  regionText,
   startingComposition,
-  unreducedNote,
   type FigureSpec,
   type FigureSpecInput,
   type PanelSpec,
-} from '../../../../shared/print.js';
+} from '../../../../shared/print-spec.js';
+import { regionText, unreducedNote } from '../../../../shared/print-words.js';
+import { layoutFigure } from '../../../../shared/print-layout.js';
 import type { FigureDetail, FigureResponse, Run } from '../../api/contract.js';
 import { isStatus } from '../../api/ApiError.js';
 import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';

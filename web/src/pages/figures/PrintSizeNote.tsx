@@ -1,4 +1,4 @@
-import { MAX_DPI, MIN_DPI } from '../../../../shared/print.js';
+import { MAX_DPI, MIN_DPI } from '../../../../shared/print-spec.js';
 import { MAX_PAGE_PIXELS, largestDpiWithin, pixelCountText } from '../../../../shared/print-size.js';
 import { groupThousands } from '../../format.js';
 import { Notice } from '../../ui/index.js';

@@ -1,5 +1,6 @@
 import type { FigureRun } from '../../../../shared/api/figures.js';
-import { panelLabelText, type FigureSpec } from '../../../../shared/print.js';
+import type { FigureSpec } from '../../../../shared/print-spec.js';
+import { panelLabelText } from '../../../../shared/print-words.js';
 
 export interface PanelRun {
   /** the panels drawn from this run, by their printed labels ("(a)", "(c)"), or "panel 2" where none is printed */

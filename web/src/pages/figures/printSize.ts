@@ -1,4 +1,4 @@
-import { pageSizeMm, pageSizeSchema } from '../../../../shared/print.js';
+import { pageSizeMm, pageSizeSchema } from '../../../../shared/print-page.js';
 import { MAX_PAGE_PIXELS, estimatePrintBytes, pagePixels, type PagePixels } from '../../../../shared/print-size.js';
 
 /** The resolutions the composer compares a page at: its presets, and the one chosen when it is not one of them. */

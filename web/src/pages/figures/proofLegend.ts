@@ -1,6 +1,7 @@
 import type { LayerStats } from '../../../../shared/palettes.js';
 import { panelLegend, type PanelLegend } from '../../../../shared/print-marks.js';
-import type { FigureLayout, FigureSpec } from '../../../../shared/print.js';
+import type { FigureSpec } from '../../../../shared/print-spec.js';
+import type { FigureLayout } from '../../../../shared/print-layout.js';
 
 /** What the proof knows of a run: its title (for messages) and its array box. */
 export interface ProofRun {

@@ -1,200 +1,19 @@
-import { z } from 'zod';
-import { layerSchema, paletteIdSchema, untoppledStyleSchema, DEFAULT_PALETTE_ID } from './palettes.js';
-import { naturalScale, printScaleSymbol } from './natural-scale.js';
-import { lineBandRows, sliceText } from './drawn-plane.js';
+import { naturalScale } from './natural-scale.js';
+import { lineBandRows } from './drawn-plane.js';
 import { MM_PER_INCH, pageSideTooLongMessage, pageTooLargeMessage, pixelsFor } from './print-size.js';
-
-export { MM_PER_INCH, MAX_PAGE_PIXELS, pixelsFor } from './print-size.js';
+import { fmt, MAX_PAGE_HEIGHT_MM, pageName, pageSizeMm, pointsFor, POINTS_PER_INCH } from './print-page.js';
+import { DEFAULT_CAPTION_PT, MIN_DPI, type FigureSpec, type PanelSpec, type Region } from './print-spec.js';
+import { blockWord, estimateCaptionLines, panelLabelText, reducedCellsText, regionText, scaleBarText, signed, sliceNote } from './print-words.js';
 
 /**
- * The print-figure contract shared by the web form (proof preview), the API (orders) and the render
- * worker (renderer/src/print): what the author asks for (`figureSpecSchema`) and the exact pixel
- * geometry that follows from it (`layoutFigure`, pure, no I/O), so the preview's warnings and the
- * printed file can never disagree.
+ * The exact pixel geometry that follows from a figure spec (`layoutFigure`, pure, no I/O), shared by
+ * the proof preview, the API and the render worker, so the preview's warnings and the printed file
+ * can never disagree; and the legend rows the layout reserves, which print-marks.ts fills.
  *
  * Coordinates: page pixels have (0, 0) at the top-left corner, x to the right, y down. Lattice
  * coordinates of a run are array indices minus the run's origin, x the last array axis, y the row
  * axis (so y grows downwards on the page, as in the deep-zoom view).
  */
-
-export const POINTS_PER_INCH = 72;
-export const MIN_DPI = 150;
-export const MAX_DPI = 1200;
-
-/** ISO 216 A series, portrait width × height in millimetres. */
-export const ISO_A_SIZES_MM = {
-  A0: [841, 1189],
-  A1: [594, 841],
-  A2: [420, 594],
-  A3: [297, 420],
-  A4: [210, 297],
-  A5: [148, 210],
-  A6: [105, 148],
-} as const;
-
-/** North American paper sizes (ANSI/ASME Y14.1 A and B; Legal is 8.5 × 14 in), portrait, inches. */
-export const US_SIZES_IN = {
-  letter: [8.5, 11],
-  legal: [8.5, 14],
-  tabloid: [11, 17],
-} as const;
-
-/**
- * Journal artwork widths in millimetres (common practice: journals commonly ask for figures one
- * column, one and a half columns or the full text width wide).
- */
-export const JOURNAL_WIDTHS_MM = {
-  single: 90,
-  'one-and-a-half': 140,
-  full: 190,
-} as const;
-
-export const PAPER_NAMES = ['A0', 'A1', 'A2', 'A3', 'A4', 'A5', 'A6', 'letter', 'legal', 'tabloid'] as const;
-export type PaperName = (typeof PAPER_NAMES)[number];
-export const COLUMN_NAMES = Object.keys(JOURNAL_WIDTHS_MM) as [keyof typeof JOURNAL_WIDTHS_MM, ...(keyof typeof JOURNAL_WIDTHS_MM)[]];
-export type ColumnName = keyof typeof JOURNAL_WIDTHS_MM;
-
-const lengthUnitSchema = z.enum(['mm', 'in']);
-
-/** The longest caption a figure can carry: it is printed under the panels, so it must fit a page. */
-export const CAPTION_MAX_CHARS = 2000;
-/** Caption size when the composition does not choose one. */
-export const DEFAULT_CAPTION_PT = 9;
-
-/** The tallest journal-column page, chosen or following from the content (2 m: a long poster strip). */
-export const MAX_PAGE_HEIGHT_MM = 2000;
-
-export const pageSizeSchema = z.discriminatedUnion('kind', [
-  z.strictObject({
-    kind: z.literal('paper'),
-    paper: z.enum(PAPER_NAMES),
-    orientation: z.enum(['portrait', 'landscape']).default('portrait'),
-  }),
-  z.strictObject({
-    kind: z.literal('column'),
-    column: z.enum(COLUMN_NAMES),
-    /** page height in mm; omitted: as tall as the panels, legend and caption need */
-    heightMm: z.number().positive().max(MAX_PAGE_HEIGHT_MM).optional(),
-  }),
-  z.strictObject({
-    kind: z.literal('custom'),
-    width: z.number().positive(),
-    height: z.number().positive(),
-    unit: lengthUnitSchema.default('mm'),
-  }),
-]);
-export type PageSize = z.infer<typeof pageSizeSchema>;
-
-const latticeInt = z.number().int().min(-(2 ** 30)).max(2 ** 30);
-
-/** Inclusive lattice-coordinate rectangle, relative to the run's origin. */
-export const regionSchema = z
-  .strictObject({ xMin: latticeInt, xMax: latticeInt, yMin: latticeInt, yMax: latticeInt })
-  .refine((r) => r.xMin <= r.xMax && r.yMin <= r.yMax, { message: 'region needs xMin ≤ xMax and yMin ≤ yMax' });
-export type Region = z.infer<typeof regionSchema>;
-
-export const MAX_MAGNIFICATION = 256;
-
-export const panelSpecSchema = z.strictObject({
-  runId: z.string().min(1).max(64),
-  layer: layerSchema.default('heights'),
-  palette: paletteIdSchema.default(DEFAULT_PALETTE_ID),
-  /** untoppled cells: the palette's neutral colour, or unprinted paper */
-  untoppled: untoppledStyleSchema.default('neutral'),
-  /** omitted: the whole computed array */
-  region: regionSchema.optional(),
-  /** whole device pixels per lattice cell, or the largest that fits the panel ('fit') */
-  magnification: z.union([z.literal('fit'), z.number().int().min(1).max(MAX_MAGNIFICATION)]).default('fit'),
-  /** overrides the automatic panel label */
-  label: z.string().max(24).optional(),
-  /** depth slice of a 3-D run, lattice coordinate relative to the origin (default 0, the source's slice) */
-  z: latticeInt.optional(),
-});
-export type PanelSpec = z.infer<typeof panelSpecSchema>;
-
-const mm = z.number().min(0).max(500);
-
-export const figureSpecSchema = z
-  .strictObject({
-    version: z.literal(1).default(1),
-    panels: z.array(panelSpecSchema).min(1).max(16),
-    grid: z
-      .strictObject({
-        rows: z.number().int().min(1).max(8).default(1),
-        cols: z.number().int().min(1).max(8).default(1),
-        gapMm: mm.default(4),
-        /**
-         * none: every panel fills its place; lattice: one lattice unit is the same length in every
-         * panel; rescaled: one unit of x/n^(1/d) is the same length in every panel (piles of different n
-         * side by side). Applies to panels whose magnification is 'fit'.
-         */
-        sharedScale: z.enum(['none', 'lattice', 'rescaled']).default('none'),
-      })
-      .default({ rows: 1, cols: 1, gapMm: 4, sharedScale: 'none' }),
-    size: pageSizeSchema,
-    dpi: z.number().int().min(MIN_DPI).max(MAX_DPI).default(300),
-    margins: z
-      .strictObject({ top: mm.default(10), right: mm.default(10), bottom: mm.default(10), left: mm.default(10) })
-      .default({ top: 10, right: 10, bottom: 10, left: 10 }),
-    /** omitted: no scale bar; length omitted: a round length near a quarter of the panel */
-    scaleBar: z
-      .strictObject({ unit: z.enum(['lattice', 'rescaled']).default('lattice'), length: z.number().positive().max(1e9).optional() })
-      .optional(),
-    legend: z.boolean().default(true),
-    caption: z.strictObject({ text: z.string().min(1).max(CAPTION_MAX_CHARS), fontPt: z.number().min(5).max(36).default(DEFAULT_CAPTION_PT) }).optional(),
-    /** automatic panel labels: (a), (b), … or (1), (2), … */
-    labels: z.enum(['none', 'letters', 'numbers']).default('letters'),
-    /** size of labels, legend and scale-bar text */
-    textPt: z.number().min(5).max(36).default(8),
-  })
-  .superRefine((s, ctx) => {
-    if (s.panels.length > s.grid.rows * s.grid.cols) {
-      ctx.addIssue({
-        code: 'custom',
-        path: ['grid'],
-        message: `${s.panels.length} panels do not fit a ${s.grid.rows} × ${s.grid.cols} grid`,
-      });
-    }
-  });
-export type FigureSpec = z.infer<typeof figureSpecSchema>;
-export type FigureSpecInput = z.input<typeof figureSpecSchema>;
-
-/**
- * A composition that may be saved or printed now: a figure spec whose page, when its size is fixed,
- * stays within MAX_PAGE_PIXELS. Stored and published specs are read with `figureSpecSchema`, since
- * prints ordered before the limit existed must keep answering; a journal column whose height follows
- * from its panels is checked by `layoutFigure` (blocking warning 'page-too-large').
- */
-export const printableFigureSpecSchema = figureSpecSchema.superRefine((s, ctx) => {
-  const mm = pageSizeMm(s.size);
-  if (mm.height === null) return;
-  const name = pageName(s.size, mm.width, mm.height);
-  const tooLong = pageSideTooLongMessage(name, mm.width, mm.height);
-  if (tooLong) return ctx.addIssue({ code: 'custom', path: ['size'], message: tooLong });
-  const message = pageTooLargeMessage(name, mm.width, mm.height, s.dpi, MIN_DPI);
-  if (message) ctx.addIssue({ code: 'custom', path: ['dpi'], message });
-});
-
-/**
- * What a new figure of one run starts as on the compose page: the whole run a single journal
- * column wide at 300 DPI, with a scale bar in lattice units. The demo's figure is composed the
- * same way, so it prints as a figure composed by hand would.
- */
-export function startingComposition(runId: string): FigureSpecInput {
-  return { panels: [{ runId }], size: { kind: 'column', column: 'single' }, dpi: 300, scaleBar: { unit: 'lattice' } };
-}
-
-/**
- * The composition with the figure's own caption (the one its form and reader page show) as the
- * printed caption, keeping the composition's font size; a blank caption prints none. A figure's
- * caption and its spec's caption are stored apart, so this is applied wherever a spec is read.
- */
-export function specWithCaption(spec: FigureSpec, caption: string): FigureSpec {
-  const { caption: before, ...rest } = spec;
-  if (!caption.trim()) return rest;
-  // captions stored before the two limits were aligned may be longer; the print cuts them with an ellipsis anyway
-  return { ...rest, caption: { text: caption.slice(0, CAPTION_MAX_CHARS), fontPt: before?.fontPt ?? DEFAULT_CAPTION_PT } };
-}
 
 /** What layout needs to know about a run: its array box and its number of grains. */
 export interface RunGeometry {
@@ -276,82 +95,9 @@ export interface FigureLayout {
   printable: boolean;
 }
 
-export function pointsFor(mmLength: number): number {
-  return (mmLength / MM_PER_INCH) * POINTS_PER_INCH;
-}
-
-/** Page size in mm, null height for a journal column whose height follows from the content. */
-export function pageSizeMm(size: PageSize): { width: number; height: number | null } {
-  switch (size.kind) {
-    case 'paper': {
-      const iso = (ISO_A_SIZES_MM as Record<string, readonly [number, number]>)[size.paper];
-      const [w, h] = iso ?? US_SIZES_IN[size.paper as keyof typeof US_SIZES_IN].map((v) => v * MM_PER_INCH);
-      return size.orientation === 'landscape' ? { width: h, height: w } : { width: w, height: h };
-    }
-    case 'column':
-      return { width: JOURNAL_WIDTHS_MM[size.column], height: size.heightMm ?? null };
-    case 'custom':
-      return size.unit === 'in' ? { width: size.width * MM_PER_INCH, height: size.height * MM_PER_INCH } : { width: size.width, height: size.height };
-  }
-}
-
-/** How a message names the page: "A0 portrait", "a single-column page of 90 × 400 mm", "this 120 × 90 mm page". */
-export function pageName(size: PageSize, widthMm: number, heightMm: number): string {
-  const mm = `${fmt(Math.round(widthMm * 10) / 10)} × ${fmt(Math.round(heightMm * 10) / 10)} mm`;
-  switch (size.kind) {
-    case 'paper':
-      return `${size.paper.length === 2 ? size.paper : size.paper[0]!.toUpperCase() + size.paper.slice(1)} ${size.orientation}`;
-    case 'column':
-      return `a ${size.column.replace(/-/g, ' ')} column page of ${mm}`;
-    case 'custom':
-      return `this ${mm} page`;
-  }
-}
-
 /** Text-line heights in page pixels (Work Sans set solid at 1.25 line height). */
 function linePx(pt: number, dpi: number): number {
   return Math.ceil(((pt * 1.25) / POINTS_PER_INCH) * dpi);
-}
-
-/**
- * Caption lines at a given width. An estimate (no font metrics here, so the web form can call it):
- * 0.58 em per character is a little wider than Work Sans's average, so the reserved box holds the text.
- */
-export function estimateCaptionLines(text: string, fontPt: number, widthPx: number, dpi: number): number {
-  const charPx = ((0.58 * fontPt) / POINTS_PER_INCH) * dpi;
-  const perLine = Math.max(1, Math.floor(widthPx / charPx));
-  let lines = 0;
-  for (const para of text.split('\n')) {
-    let len = 0;
-    let n = 1;
-    for (const word of para.split(/\s+/).filter(Boolean)) {
-      const w = word.length;
-      if (len === 0) len = w;
-      else if (len + 1 + w <= perLine) len += 1 + w;
-      else (n++, (len = w));
-      while (len > perLine) (n++, (len -= perLine));
-    }
-    lines += n;
-  }
-  return lines;
-}
-
-/**
- * A panel's label: the author's own, else (a), (b), … or (1), (2), … when the figure has several
- * panels; a lone panel is not labelled automatically, there is nothing to tell it from.
- */
-export function panelLabelText(index: number, panelCount: number, style: FigureSpec['labels'], override?: string): string | null {
-  if (override !== undefined) return override.length > 0 ? override : null;
-  if (style === 'none' || panelCount <= 1) return null;
-  if (style === 'numbers') return `(${index + 1})`;
-  // a..z, then aa, ab, … (16 panels at most, so single letters in practice)
-  let s = '';
-  let i = index;
-  do {
-    s = String.fromCharCode(97 + (i % 26)) + s;
-    i = Math.floor(i / 26) - 1;
-  } while (i >= 0);
-  return `(${s})`;
 }
 
 /** A round length (1, 2 or 5 × 10^e) not above `target`. */
@@ -397,76 +143,8 @@ export function legendRowPx(textPt: number, dpi: number): number {
   return 3 * linePx(textPt, dpi) + legendRowGapPx(textPt, dpi);
 }
 
-const fmt = (v: number) => v.toLocaleString('en-US', { maximumFractionDigits: 6 });
-
-export function scaleBarText(unit: 'lattice' | 'rescaled', length: number, cells: number, dimension = 2): string {
-  if (unit === 'lattice') return `${fmt(length)} lattice ${length === 1 ? 'unit' : 'units'}`;
-  // the unit is n^(1/d) in the print font's glyphs (n½, n¹⁄³); the cell count says the same plainly
-  return `${fmt(length)} · ${printScaleSymbol(dimension)} = ${fmt(Math.round(cells))} cells`;
-}
-
-/**
- * The caption sentence naming the slice each panel of a 3-D run shows ("Slice z = 0 of a 3-D pile.",
- * or "(a), (b): slice z = 0 of a 3-D pile; (c): slice z = 2 of a 3-D pile."); null when no panel is a
- * slice. `z` is the lattice coordinate of the panel's slice, null for a panel of another dimension.
- */
-export function sliceNote(panels: readonly { name: string; z: number | null }[]): string | null {
-  const groups = new Map<number, string[]>();
-  for (const p of panels) if (p.z !== null) groups.set(p.z, [...(groups.get(p.z) ?? []), p.name]);
-  if (groups.size === 0) return null;
-  const only = [...groups.keys()][0]!;
-  if (groups.size === 1 && panels.every((p) => p.z !== null)) {
-    const text = sliceText(only);
-    return `${text.charAt(0).toUpperCase()}${text.slice(1)}.`;
-  }
-  return `${[...groups].map(([z, names]) => `${names.join(', ')}: ${sliceText(z)}`).join('; ')}.`;
-}
-
 /** n^(1/d) of a run: the length of one rescaled unit in lattice cells. */
 const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.max(1, run.chips), run.shape.length));
-
-/** A lattice coordinate as the product writes it: the minus sign "−", not a hyphen. */
-const signed = (v: number): string => (v < 0 ? `−${-v}` : String(v));
-
-/**
- * A region in words, "x −50..49, y −20..19"; a line's only row is y = 0, so a line's region is
- * its x range alone, "x −2500..2500".
- */
-export function regionText(r: Region, dims: number): string {
-  const x = `x ${signed(r.xMin)}..${signed(r.xMax)}`;
-  return dims === 1 ? x : `${x}, y ${signed(r.yMin)}..${signed(r.yMax)}`;
-}
-
-/**
- * What reducing by r does to a run's cells. A line is drawn as a band of identical rows
- * (shared/drawn-plane.ts), so there r cells along the line become one pixel, not an r × r block.
- */
-function reducedCellsText(r: number, dims: number): string {
-  return dims === 1 ? `every ${r} cells along the line become one pixel` : `every ${r} × ${r} block of cells becomes one pixel`;
-}
-
-/**
- * How an unreduced panel prints its cells: "one printed pixel per cell", "8 × 8 printed pixels per
- * cell"; a line's cell is a column of its band, so "a column 8 printed pixels wide per cell".
- */
-export function cellPixelsText(cellPx: number, dims: number): string {
-  if (dims === 1) return cellPx === 1 ? 'a column one printed pixel wide per cell' : `a column ${cellPx} printed pixels wide per cell`;
-  return cellPx === 1 ? 'one printed pixel per cell' : `${cellPx} × ${cellPx} printed pixels per cell`;
-}
-
-/** The proof's note when no panel is reduced: "8 × 8 printed pixels per cell: nothing is reduced.", or panel by panel. */
-export function unreducedNote(panels: readonly { index: number; cellPx: number; dims: number }[]): string {
-  if (panels.length === 1) {
-    const t = cellPixelsText(panels[0]!.cellPx, panels[0]!.dims);
-    return `${t[0]!.toUpperCase()}${t.slice(1)}: nothing is reduced.`;
-  }
-  const each = panels.map((p, i) => `${i === 0 ? 'Panel' : 'panel'} ${p.index + 1}: ${cellPixelsText(p.cellPx, p.dims)}`);
-  return `${each.join('; ')}. Nothing is reduced.`;
-}
-
-function blockWord(layer: PanelSpec['layer']): string {
-  return layer === 'heights' || layer === 'toppled' ? 'height' : 'value';
-}
 
 /**
  * The exact pixel geometry of a figure: page size in pixels (round(size_in × dpi)), where each panel's
