@@ -45,28 +45,45 @@ export function takesLinePath(problem: Problem, options: Pick<StabilizeOptions, 
 }
 
 /**
+ * The engine's three paths. `stabilizeWith` takes them as a parameter so a test can hand it a path
+ * that returns a wrong result with its honest (failing) certificate and watch the fallback work;
+ * `stabilize` always uses these.
+ */
+export interface EnginePaths {
+  line: typeof stabilizeLine;
+  scaled: typeof stabilizeScaled;
+  tiled: typeof stabilizeTiled;
+}
+const PATHS: EnginePaths = { line: stabilizeLine, scaled: stabilizeScaled, tiled: stabilizeTiled };
+
+/**
  * The engine's one entry point: the line's closed-form path on line runs, the seeded fast path where
  * it applies, else (or when a fast path's certificate fails, which must never be published) the plain
  * tiled engine. Checkpoints and resume work on all three: a seeded snapshot resumes the seeded path, a
  * tiled one the tiled engine, or on a line run the line path (both write and read the tiled kind).
  * @throws NotStabilizedError, AbortError (the signal's reason), SnapshotError (see `resume`).
  */
-export async function stabilize(problem: Problem, options: StabilizeOptions = {}): Promise<Outcome> {
+export function stabilize(problem: Problem, options: StabilizeOptions = {}): Promise<Outcome> {
+  return stabilizeWith(PATHS, problem, options);
+}
+
+/** `stabilize` over the given paths (tests of the certificate fallback). */
+export async function stabilizeWith(paths: EnginePaths, problem: Problem, options: StabilizeOptions = {}): Promise<Outcome> {
   const { resume, checkpoint, ...rest } = options;
   if (resume) checkSnapshot(problem, resume);
   if (resume?.kind !== 'seeded' && takesLinePath(problem, options)) {
-    const out = await stabilizeLine(problem, { onProgress: rest.onProgress, signal: rest.signal, maxSites: rest.maxSites, checkpoint, resume });
+    const out = await paths.line(problem, { onProgress: rest.onProgress, signal: rest.signal, maxSites: rest.maxSites, checkpoint, resume });
     if (out?.stats.certificate?.passed) return out;
     // never publish an uncertified result: the plain engine starts over (the line path took the
     // snapshot's arrays over), with checkpoints of its own
-    return stabilizeTiled(problem, { ...rest, checkpoint });
+    return paths.tiled(problem, { ...rest, checkpoint });
   }
   const fast = takesFastPath(problem, options);
   if (resume?.kind === 'seeded' && !fast) throw new SnapshotError('the checkpoint is of the seeded fast path, which this run does not take');
   if (fast && resume?.kind !== 'tiled') {
-    const out = await stabilizeScaled(problem, { onProgress: rest.onProgress, signal: rest.signal, maxSites: rest.maxSites, threads: rest.threads, checkpoint, resume });
+    const out = await paths.scaled(problem, { onProgress: rest.onProgress, signal: rest.signal, maxSites: rest.maxSites, threads: rest.threads, checkpoint, resume });
     if (out.stats.certificate?.passed) return out;
     // never publish an uncertified result: fall back to plain legal toppling (with checkpoints of its own)
   }
-  return stabilizeTiled(problem, { ...rest, checkpoint, resume: resume?.kind === 'tiled' ? resume : undefined });
+  return paths.tiled(problem, { ...rest, checkpoint, resume: resume?.kind === 'tiled' ? resume : undefined });
 }
