@@ -139,6 +139,37 @@ describe('stored sizes in the database', () => {
     expect(await usageBytes()).toBe(1512);
   });
 
+  it('two writers record in the order they listed: a late listing of a worker that lost its job cannot replace a newer figure', async () => {
+    const [row] = await h.deps.db
+      .insert(runs)
+      .values({ labId, authorId, title: 'written by two workers', spec: runSpecSchema.parse({ lattice: { preset: 'square' }, chips: 5 }), storedBytes: 0, storedObjects: 0 })
+      .returning();
+    const id = row!.id;
+    await h.deps.blobs.put(`${runPrefix(id)}checkpoint/state.twckpt`, Buffer.alloc(100), 'application/octet-stream');
+    // the first writer's listing is slow to come back (the real store, answered late)
+    let answer!: () => void;
+    const late = new Promise<void>((resolve) => (answer = resolve));
+    let listed!: () => void;
+    const listedOnce = new Promise<void>((resolve) => (listed = resolve));
+    const slow = Object.create(h.deps.blobs) as typeof h.deps.blobs;
+    slow.usage = async (prefix) => {
+      const size = await h.deps.blobs.usage(prefix);
+      listed();
+      await late;
+      return size;
+    };
+    const first = recordRunUsage(h.deps.db, slow, id);
+    await listedOnce;
+    // meanwhile the second writer stores the arrays and records: it waits for the first to finish
+    await h.deps.blobs.put(`${runPrefix(id)}arrays/heights.npy`, Buffer.alloc(2000), 'application/octet-stream');
+    const second = recordRunUsage(h.deps.db, h.deps.blobs, id);
+    await new Promise((resolve) => setTimeout(resolve, 300));
+    answer();
+    expect(await first).toEqual({ bytes: 100, objects: 1 });
+    expect(await second).toEqual({ bytes: 2100, objects: 2 });
+    expect(await sizeInRow(id)).toEqual({ bytes: 2100, objects: 2 });
+  });
+
   it('a new run is never of unknown size: the API writes zero, the worker its listings', { timeout: 90_000 }, async () => {
     const res = await as(h.http.post('/api/runs'), author).send({ labId, title: 'Fresh pile', spec: { lattice: { preset: 'square' }, chips: 10 } }).expect(201);
     const id: string = res.body.run.id;

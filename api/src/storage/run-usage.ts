@@ -18,11 +18,18 @@ export type RunUsageMap = Map<string, RunUsage>;
 /** Everything of a run lives under this prefix (renderer/src/farm/artifacts.ts, renderer/src/render/keys.ts). */
 export const runPrefix = (runId: string) => `runs/${runId}/`;
 
-/** List the run's prefix and store what it holds; for whoever has just written or deleted objects there. */
+/**
+ * List the run's prefix and store what it holds; for whoever has just written or deleted objects there.
+ * The listing is taken while the run's row is locked, so two writers record in the order they listed:
+ * a worker that lost its job and lists late cannot overwrite the newer figure of the one that took over.
+ */
 export async function recordRunUsage(ex: Executor, blobs: BlobStore, runId: string): Promise<RunUsage> {
-  const size = await blobs.usage(runPrefix(runId));
-  await ex.update(runs).set({ storedBytes: size.bytes, storedObjects: size.objects }).where(eq(runs.id, runId));
-  return size;
+  return ex.transaction(async (tx) => {
+    await tx.select({ id: runs.id }).from(runs).where(eq(runs.id, runId)).for('update');
+    const size = await blobs.usage(runPrefix(runId));
+    await tx.update(runs).set({ storedBytes: size.bytes, storedObjects: size.objects }).where(eq(runs.id, runId));
+    return size;
+  });
 }
 
 /** After a writer failed to record: unknown rather than stale, so the next report lists it again. Best effort. */
