@@ -185,7 +185,12 @@ describe('demo roles in the browser', { timeout: 90_000 }, () => {
     await page.getByRole('button', { name: 'Sign out' }).click();
     // polls the address rather than waiting for a navigation event, so a failure names where the page went
     await expect.poll(() => new URL(page.url()).pathname, { timeout: 60_000 }).toBe('/');
+    // and stays there once the page knows nobody is signed in (the account page, still rendering as
+    // the person was cleared, used to send most sign-outs on to the sign-in page)
+    await page.getByRole('banner').getByRole('link', { name: 'Sign in' }).waitFor();
     await page.getByTestId('signed-in-name').waitFor({ state: 'detached' });
+    await page.waitForLoadState('networkidle');
+    expect(new URL(page.url()).pathname).toBe('/');
     await page.goto('/runs');
     await page.waitForURL((u) => u.pathname === '/sign-in');
   });

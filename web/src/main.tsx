@@ -6,7 +6,8 @@ import './styles.css';
 import { StrictMode } from 'react';
 import { createRoot } from 'react-dom/client';
 import { QueryClientProvider } from '@tanstack/react-query';
-import { RouterProvider } from 'react-router';
+// the DOM build of the provider: it can commit a navigation at once when asked (flushSync, see useSignOut)
+import { RouterProvider } from 'react-router/dom';
 import { createQueryClient, setSignedOutHandler } from './api/queryClient.js';
 import { keys, SIGN_OUT } from './api/queries.js';
 import { createRouter } from './routes.js';

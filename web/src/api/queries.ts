@@ -66,7 +66,12 @@ export function useSetActiveLab() {
 /** Marks the sign-out mutation, so a 401 answered while it runs is not taken for an ended session. */
 export const SIGN_OUT = ['sign-out'] as const;
 
-/** Signs out and lands on the front page; the page leaves first, so no signed-in page renders without a person. */
+/**
+ * Signs out and lands on the front page. The page leaves first, so no signed-in page renders without
+ * a person: the navigation is committed at once (flushSync) rather than in a transition, which could
+ * still be pending when the person is cleared, and the page behind sign-in would then send them to the
+ * sign-in page instead.
+ */
 export function useSignOut() {
   const qc = useQueryClient();
   const navigate = useNavigate();
@@ -75,7 +80,7 @@ export function useSignOut() {
     mutationFn: () => api<void>('POST', '/api/auth/sign-out'),
     meta: { quiet401: true },
     onSettled: async () => {
-      await navigate('/', { replace: true });
+      await navigate('/', { replace: true, flushSync: true });
       qc.setQueryData(keys.me, null);
       qc.removeQueries({ predicate: (q) => q.queryKey[0] !== 'me' });
     },
