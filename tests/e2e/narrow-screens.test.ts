@@ -1,7 +1,7 @@
 import { beforeAll, describe, expect, test } from 'vitest';
 import type { Locator, Page } from 'playwright-core';
 import { DEMO_FIGURE_SLUG, DEMO_SIGN_INS, type DemoSignIn } from '../../api/src/seed/demo.js';
-import { startingComposition } from '../../shared/print.js';
+import { startingComposition } from '../../shared/print-spec.js';
 import { apiCall, newPage, screenshot, signIn } from './browser.js';
 import { useFarmInBrowser } from './farm-in-browser.js';
 
