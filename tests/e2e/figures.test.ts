@@ -34,7 +34,8 @@ describe('figures in the browser', () => {
     await farm.stack.deps.db.update(users).set({ activeLabId: otherLab!.id }).where(eq(users.id, o!.id));
   }, 60_000);
 
-  test('compose, order, see it ready, publish, read signed out, unpublish, see "withdrawn"', { timeout: 180_000 }, async () => {
+  // two prints and a publication on the real farm: 80 s alone, up to 180 s beside other browser files on two cores
+  test('compose, order, see it ready, publish, read signed out, unpublish, see "withdrawn"', { timeout: 300_000 }, async () => {
     const page = await newPage(farm.browser, farm.stack.url);
     await signIn(page, email, PASSWORD);
     const me = await apiCall<{ activeLabId: string }>(page, 'GET', '/api/me');
