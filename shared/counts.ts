@@ -18,25 +18,36 @@ export function withUnit(n: number | bigint, singular: string, plural = `${singu
 }
 
 export interface PowerOfTen {
-  /** decimal mantissa written exactly, e.g. "2.5"; "1" for an exact power of ten */
+  /** decimal mantissa, e.g. "2.5"; "1" for an exact power of ten; three significant digits at most */
   mantissa: string;
   exponent: number;
+  /** the mantissa is rounded (the count has more than three significant digits): shown as "≈ 6.42 × 10⁵" */
+  approximate: boolean;
 }
 
 /**
- * Scientific form written from the integer's digits, so no rounding ever creeps in:
- * 1000000 -> { mantissa: "1", exponent: 6 }, 2500000 -> { mantissa: "2.5", exponent: 6 }.
+ * Scientific form, there to show scale at a glance beside the exact count: written from the integer's
+ * digits, exactly when they end in zeros after the third (1000000 -> "1" × 10^6, 2500000 -> "2.5" ×
+ * 10^6), else rounded to three significant digits and marked approximate (641601 -> ≈ "6.42" × 10^5;
+ * 99960 -> ≈ "1" × 10^5), since "6.41601 × 10⁵" only repeats the count.
  * Returns null for |n| < 1000, where the plain number says it all.
  */
 export function powerOfTen(n: number | bigint): PowerOfTen | null {
   if (typeof n === 'number' && (!Number.isInteger(n))) return null;
   const negative = n < 0;
+  const sign = negative ? '-' : '';
   const digits = (negative ? -BigInt(n) : BigInt(n)).toString();
   if (digits.length < 4) return null;
-  const exponent = digits.length - 1;
+  let exponent = digits.length - 1;
   const rest = digits.slice(1).replace(/0+$/, '');
-  const mantissa = (negative ? '-' : '') + digits[0] + (rest ? `.${rest}` : '');
-  return { mantissa, exponent };
+  if (rest.length <= 2) return { mantissa: sign + digits[0] + (rest ? `.${rest}` : ''), exponent, approximate: false };
+  // half up on the decimal digits themselves (a double would round 1.235 down)
+  let lead = Number(digits.slice(0, 3)) + (Number(digits[3]) >= 5 ? 1 : 0);
+  if (lead === 1000) {
+    lead = 100;
+    exponent += 1;
+  }
+  return { mantissa: sign + String(lead / 100), exponent, approximate: true };
 }
 
 const SUPERSCRIPT_DIGITS = '⁰¹²³⁴⁵⁶⁷⁸⁹';
@@ -59,7 +70,7 @@ function tenPowerText(mantissa: string | number, exponent: number): string {
 export function formatCountText(n: number | bigint): string {
   const p = powerOfTen(n);
   if (!p) return groupThousands(n);
-  return `${groupThousands(n)} (${tenPowerText(p.mantissa, p.exponent)})`;
+  return `${groupThousands(n)} (${p.approximate ? '≈ ' : ''}${tenPowerText(p.mantissa, p.exponent)})`;
 }
 
 const compact = new Intl.NumberFormat('en-US', { notation: 'compact', maximumSignificantDigits: 3 });

@@ -24,15 +24,27 @@ describe('exact number display', () => {
   });
 
   test('power of ten agrees with mathjs exponential notation for every safe integer from 1,000 up', () => {
-    // mathjs (general-purpose npm library) prints e.g. 1234567 as "1.234567e+6"
+    // mathjs (general-purpose npm library) prints e.g. 2500000 as "2.5e+6", and to three significant
+    // digits 1234567 as "1.23e+6": exact when three digits say it all, else rounded and marked so
     fc.assert(
       fc.property(fc.integer({ min: 1000, max: 10 ** 15 }), (n) => {
         const p = powerOfTen(n)!;
-        const [mantissa, exponent] = mathFormat(n, { notation: 'exponential' }).split('e');
-        expect(p.mantissa).toBe(mantissa);
+        const exact = mathFormat(n, { notation: 'exponential' });
+        const rounded = mathFormat(n, { notation: 'exponential', precision: 3 });
+        const [mantissa, exponent] = (p.approximate ? rounded : exact).split('e');
+        expect(p.approximate).toBe(exact.split('e')[0]!.replace(/[-.]/g, '').length > 3);
+        expect(p.mantissa).toBe(mantissa!.replace(/\.?0+$/, ''));
         expect(p.exponent).toBe(Number(exponent));
       }),
     );
+  });
+
+  test('a count of more than three significant digits gets a rounded power of ten, marked approximate', () => {
+    expect(formatCountText(641_601)).toBe('641,601 (≈ 6.42 × 10⁵)');
+    expect(formatCountText(1_706_141_972)).toBe('1,706,141,972 (≈ 1.71 × 10⁹)');
+    expect(formatCountText(99_960)).toBe('99,960 (≈ 10⁵)');
+    expect(formatCountText(12_350_001)).toBe('12,350,001 (≈ 1.24 × 10⁷)');
+    expect(formatCountText(4_250_000)).toBe('4,250,000 (4.25 × 10⁶)');
   });
 
   test('small counts carry no power of ten', () => {

@@ -14,7 +14,7 @@ import { runView } from '../services/views.js';
 /** "n = 10⁶" for powers of ten, "n = 40,000" otherwise: titles a reader can scan, with the pages' superscripts. */
 export function chipsLabel(n: number): string {
   const p = powerOfTen(n);
-  return p && p.mantissa === '1' ? `n = 10${superscriptDigits(p.exponent)}` : `n = ${groupThousands(n)}`;
+  return p && p.mantissa === '1' && !p.approximate ? `n = 10${superscriptDigits(p.exponent)}` : `n = ${groupThousands(n)}`;
 }
 
 export function seriesRouter({ db, queue, log }: AppDeps): Router {

@@ -2,7 +2,8 @@ import { groupThousands, powerOfTen } from '../format.js';
 
 /**
  * An exact count: "1,000,000 (10⁶)" with a real superscript, followed by its unit when given.
- * The power of ten appears only from 1,000 up, where it helps a reader judge scale at a glance.
+ * The power of ten appears only from 1,000 up, where it helps a reader judge scale at a glance;
+ * rounded to three significant digits there ("641,601 (≈ 6.42 × 10⁵)").
  */
 export function Count({ n, unit, showPower = true, stacked = false, dark = false }: { n: number | bigint; unit?: string; showPower?: boolean; stacked?: boolean; dark?: boolean }) {
   const p = showPower ? powerOfTen(n) : null;
@@ -18,6 +19,7 @@ export function Count({ n, unit, showPower = true, stacked = false, dark = false
         // stacked: the power of ten on its own line, for narrow table columns
         <span className={stacked ? `block text-xs ${soft ?? ''}` : soft}>
           {stacked ? '(' : ' ('}
+          {p.approximate ? '≈ ' : null}
           {p.mantissa === '1' ? null : <>{p.mantissa} × </>}
           10<sup className="text-[0.7em]">{p.exponent}</sup>
           {')'}
