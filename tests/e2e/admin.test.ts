@@ -129,7 +129,7 @@ describe('the admin console in the browser', () => {
     await expect.poll(() => trail.locator('tbody tr').count()).toBe(1);
     expect(await grant.textContent()).toContain('Ysolde Marchetti');
     expect(await grant.textContent()).toContain('pilot extended to the spring term');
-    expect(await grant.textContent()).toContain('credits: 1500');
+    expect(await grant.textContent()).toContain('credits: 1,500');
     await screenshot(page, 'admin-audit-trail');
 
     // the lab-wide trail also holds the allowance cut that put it over quota, with its reason
@@ -236,5 +236,21 @@ describe('the admin console in the browser', () => {
     await signIn(adminPage, admin.email, admin.password, '/admin?tab=storage');
     await adminPage.getByRole('table', { name: 'expired runs' }).locator('tbody tr', { hasText: 'An old draft nobody published' }).waitFor();
     await screenshot(adminPage, 'admin-storage-expired');
+  });
+
+  test('a site admin looking at another lab\'s run is not offered to compute it again (the API refuses: only members may)', async () => {
+    const db = stack.deps.db;
+    const [other] = await db.select().from(labs).where(eq(labs.name, DEMO_OTHER_LAB));
+    const owner = DEMO_SIGN_INS.find((d) => d.role === 'other lab')!;
+    const [who] = await db.select().from(users).where(eq(users.email, owner.email));
+    const [run] = await db
+      .insert(runs)
+      .values({ labId: other!.id, authorId: who!.id, title: 'A pile of the other lab', spec: runSpecSchema.parse({ lattice: { preset: 'square' }, chips: 16 }), status: 'failed', finishedAt: new Date() })
+      .returning();
+    const page = await newPage(browser, url);
+    await signIn(page, admin.email, admin.password, `/runs/${run!.id}`);
+    await page.getByRole('heading', { name: 'A pile of the other lab' }).waitFor();
+    await page.getByRole('link', { name: 'Duplicate' }).waitFor();
+    expect(await page.getByRole('button', { name: 'Re-run' }).count()).toBe(0);
   });
 });

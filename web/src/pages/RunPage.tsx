@@ -2,7 +2,7 @@ import { useEffect, useState } from 'react';
 import { Link, useNavigate, useParams } from 'react-router';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
-import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
+import { keys, useMe, useRun, useRunEvents, useRunJson } from '../api/queries.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runStatusHeading, runStatusWord } from '../labels.js';
@@ -36,6 +36,7 @@ export function RunPage() {
 function RunDetail({ run }: { run: Run }) {
   const qc = useQueryClient();
   const navigate = useNavigate();
+  const me = useMe();
   const cancel = useMutation({
     mutationFn: () => api<RunResponse>('POST', `/api/runs/${run.id}/cancel`),
     onSuccess: (r) => qc.setQueryData(keys.run(run.id), r),
@@ -52,6 +53,8 @@ function RunDetail({ run }: { run: Run }) {
   const computed = !expired && (run.status === 'finished' || (run.status === 'rendering' && run.stats !== null));
   const runJson = useRunJson({ kind: 'run', id: run.id }, computed);
   const active = ACTIVE.includes(run.status);
+  // computing again is charged to the run's lab, so only its members may (a site admin looking in may not)
+  const member = me.data?.labs.some((l) => l.id === run.labId) ?? false;
   const spec = run.spec;
   const wall = run.startedAt && run.finishedAt ? (Date.parse(run.finishedAt) - Date.parse(run.startedAt)) / 1000 : null;
   return (
@@ -79,11 +82,11 @@ function RunDetail({ run }: { run: Run }) {
               <Button tone="danger" busy={cancel.isPending} busyLabel="Cancelling…" onClick={() => confirm('Cancel this run? Work done so far is discarded.') && cancel.mutate()}>
                 Cancel run
               </Button>
-            ) : (
+            ) : member ? (
               <Button tone="quiet" busy={rerun.isPending} busyLabel="Queueing…" onClick={() => rerun.mutate()}>
                 Re-run
               </Button>
-            )}
+            ) : null}
           </>
         }
       />
