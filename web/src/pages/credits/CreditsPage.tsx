@@ -1,4 +1,4 @@
-import { useState } from 'react';
+import { useEffect, useState } from 'react';
 import { useSearchParams } from 'react-router';
 import { useAbandonPurchase, useCheckout, useCredits, useCreditUsage, useLab } from '../../api/queries.js';
 import { CHECKOUT_LIFETIME_MINUTES, FREE_MONTHLY_ALLOWANCE, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
@@ -17,14 +17,24 @@ import { UsageChart } from './UsageChart.js';
  */
 export function CreditsPage() {
   const me = useSignedIn();
-  const [params] = useSearchParams();
+  const [params, setParams] = useSearchParams();
   const labId = params.get('labId') ?? me.activeLabId;
+  // The checkout's way back (?paid=…, ?cancelled) is said on this visit only: kept here and dropped
+  // from the address, so a reload or a bookmark does not announce the purchase again.
+  const [back] = useState(() => ({ paid: params.get('paid'), cancelled: params.has('cancelled') }));
+  useEffect(() => {
+    if (!params.has('paid') && !params.has('cancelled')) return;
+    const rest = new URLSearchParams(params);
+    rest.delete('paid');
+    rest.delete('cancelled');
+    setParams(rest, { replace: true });
+  }, [params, setParams]);
   const membership = me.labs.find((l) => l.id === labId) ?? null;
   // a site admin reviewing a lab they do not belong to: its name comes from the lab itself
   const lab = useLab(membership ? null : labId);
   if (!labId) return <EmptyState title="No lab yet">Join or create a lab to buy and use compute credits.</EmptyState>;
   return (
-    <LabCredits labId={labId} labName={membership?.name ?? lab.data?.lab.name ?? 'Lab'} isManager={membership?.role === 'manager'} isAdmin={me.user.isAdmin} paid={params.get('paid')} cancelled={params.has('cancelled')} />
+    <LabCredits labId={labId} labName={membership?.name ?? lab.data?.lab.name ?? 'Lab'} isManager={membership?.role === 'manager'} isAdmin={me.user.isAdmin} paid={back.paid} cancelled={back.cancelled} />
   );
 }
 
