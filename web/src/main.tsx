@@ -9,7 +9,7 @@ import { QueryClientProvider } from '@tanstack/react-query';
 // the DOM build of the provider: it can commit a navigation at once when asked (flushSync, see useSignOut)
 import { RouterProvider } from 'react-router/dom';
 import { createQueryClient, setSignedOutHandler } from './api/queryClient.js';
-import { keys, SIGN_OUT } from './api/queries.js';
+import { keys } from './api/queries.js';
 import { createRouter } from './routes.js';
 import { signInPathFor } from './auth/nextPath.js';
 
@@ -17,9 +17,7 @@ const queryClient = createQueryClient();
 const router = createRouter();
 
 // A session that ends mid-visit (expired, revoked, signed out elsewhere) sends the person to sign in.
-// Not while they sign out here: a request caught by the revocation would bounce them from the front page.
 setSignedOutHandler(() => {
-  if (queryClient.isMutating({ mutationKey: SIGN_OUT }) > 0) return;
   queryClient.setQueryData(keys.me, null);
   const here = router.state.location;
   if (here.pathname !== '/sign-in') void router.navigate(signInPathFor(here), { replace: true });

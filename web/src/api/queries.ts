@@ -63,9 +63,6 @@ export function useSetActiveLab() {
   });
 }
 
-/** Marks the sign-out mutation, so a 401 answered while it runs is not taken for an ended session. */
-export const SIGN_OUT = ['sign-out'] as const;
-
 /**
  * Signs out and lands on the front page. The page leaves first, so no signed-in page renders without
  * a person: the navigation is committed at once (flushSync) rather than in a transition, which could
@@ -76,7 +73,6 @@ export function useSignOut() {
   const qc = useQueryClient();
   const navigate = useNavigate();
   return useMutation({
-    mutationKey: SIGN_OUT,
     mutationFn: () => api<void>('POST', '/api/auth/sign-out'),
     meta: { quiet401: true },
     onSettled: async () => {

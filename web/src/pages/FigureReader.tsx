@@ -14,6 +14,9 @@ import { certificateSentence, certificateTone } from '../../../shared/certificat
 import type { FigureRun } from '../../../shared/api/figures.js';
 import { infoJsonUrl } from '../viewer/runArtifacts.js';
 
+/** The view a published figure's deep zoom shows: its heights in the default palette. */
+const ZOOM_VIEW = ['heights', 'tidewater'] as const;
+
 // OpenSeadragon comes with the viewer chunk, only when the figure has tiles to show
 const FigureZoom = lazy(() => import('../viewer/FigureZoom.js').then((m) => ({ default: m.FigureZoom })));
 
@@ -28,7 +31,7 @@ export function FigureReader() {
   const { slug = '', version: versionParam } = useParams();
   const figure = useFigure(slug);
   const base = { kind: 'figure', slug } as const;
-  const drawn = useViewDrawn(base, 'heights', 'tidewater', figure.isSuccess && !figure.data.withdrawn);
+  const drawn = useViewDrawn(base, ...ZOOM_VIEW, figure.isSuccess && !figure.data.withdrawn);
   const runJson = useRunJson(base, drawn.data === true);
 
   if (figure.isPending) return <SkeletonBlock lines={8} />;
@@ -76,7 +79,7 @@ export function FigureReader() {
   const others = published.filter((v) => v !== shown);
   // the runs of the panels as shown (the published composition), each with its certificate
   const sources = panelRuns(latest?.spec ?? f.spec, f.runs);
-  const iiifUrl = `${window.location.origin}${infoJsonUrl(base, 'heights', 'tidewater')}`;
+  const iiifUrl = `${window.location.origin}${infoJsonUrl(base, ...ZOOM_VIEW)}`;
   return (
     <article>
       <title>{`${title} · Toppleworks`}</title>

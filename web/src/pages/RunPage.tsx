@@ -2,7 +2,8 @@ import { useEffect, useState } from 'react';
 import { Link, useNavigate, useParams } from 'react-router';
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
-import { keys, useMe, useRun, useRunEvents, useRunJson } from '../api/queries.js';
+import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
+import { useSignedIn } from '../auth/useSignedIn.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
 import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runStatusHeading, runStatusWord } from '../labels.js';
@@ -36,7 +37,7 @@ export function RunPage() {
 function RunDetail({ run }: { run: Run }) {
   const qc = useQueryClient();
   const navigate = useNavigate();
-  const me = useMe();
+  const me = useSignedIn();
   const cancel = useMutation({
     mutationFn: () => api<RunResponse>('POST', `/api/runs/${run.id}/cancel`),
     onSuccess: (r) => qc.setQueryData(keys.run(run.id), r),
@@ -54,7 +55,7 @@ function RunDetail({ run }: { run: Run }) {
   const runJson = useRunJson({ kind: 'run', id: run.id }, computed);
   const active = ACTIVE.includes(run.status);
   // computing again is charged to the run's lab, so only its members may (a site admin looking in may not)
-  const member = me.data?.labs.some((l) => l.id === run.labId) ?? false;
+  const member = me.labs.some((l) => l.id === run.labId);
   const spec = run.spec;
   const wall = run.startedAt && run.finishedAt ? (Date.parse(run.finishedAt) - Date.parse(run.startedAt)) / 1000 : null;
   return (
