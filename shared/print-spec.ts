@@ -85,7 +85,7 @@ export const figureSpecSchema = z
       ctx.addIssue({
         code: 'custom',
         path: ['grid'],
-        message: `${s.panels.length} panels do not fit a ${s.grid.rows} × ${s.grid.cols} grid`,
+        message: `${s.panels.length} ${s.panels.length === 1 ? 'panel does' : 'panels do'} not fit a ${s.grid.rows} × ${s.grid.cols} grid`,
       });
     }
   });

@@ -83,7 +83,7 @@ describe('figures in the browser', () => {
     // 'dpi: Too big: expected number to be <=1200'), and the figure cannot be created meanwhile
     await page.getByLabel('DPI', { exact: true }).fill('5000');
     await page.getByText('These settings are not valid yet').waitFor();
-    await page.getByText('dpi: must be at most 1,200', { exact: true }).waitFor();
+    await page.getByText('DPI: must be at most 1,200', { exact: true }).waitFor();
     expect(await page.getByRole('button', { name: 'Create the figure' }).isDisabled()).toBe(true);
     await page.getByLabel('DPI', { exact: true }).fill('300');
     await page.getByText('These settings are not valid yet').waitFor({ state: 'detached' });

@@ -26,6 +26,7 @@ import { rescaledUnitName } from './rescaledUnit.js';
 import { PrintSizeNote } from './PrintSizeNote.js';
 import { fixedPageMm } from './printSize.js';
 import { saveBlockedReason } from './saveBlocked.js';
+import { specIssueLines } from './specIssues.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
 const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled: 'toppled sites only', difference: 'difference from the background', odometer: 'odometer (log scale)' };
@@ -86,14 +87,14 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   const setPanel = (i: number, patch: Partial<PanelSpec>) =>
     setSpec({ panels: spec.panels.map((p, j) => (j === i ? { ...p, ...patch } : p)) });
 
-  // in the words of the other forms and of the API's answer ("dpi: must be at most 1,200")
+  // in the words of the other forms and of the API's answer ("must be at most 1,200"), each under its field's label
   const parsed = printableFigureSpecSchema.safeParse(spec, { error: friendlyMessage });
   const geometry = useMemo(
     () => runs.map((r) => ({ runId: r.id, shape: r.stats!.shape, origin: r.stats!.origin, chips: r.spec.chips })),
     [runs],
   );
   const layout = parsed.success ? layoutFigure(parsed.data, geometry) : null;
-  const issues = parsed.success ? [] : parsed.error.issues.map((i) => `${i.path.join('.') || 'figure'}: ${i.message}`);
+  const issues = parsed.success ? [] : specIssueLines(parsed.error.issues);
   // the same refusal the API makes: kept here so Save waits for another layer instead of failing
   const layerUnavailable = spec.panels.some((p) => {
     const run = runs.find((r) => r.id === p.runId);
@@ -294,7 +295,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
         </div>
 
         <div className="sticky top-6 flex flex-col gap-4">
-          <Section title="Proof" description={layout ? `${layout.page.widthMm.toFixed(1)} × ${layout.page.heightMm.toFixed(1)} mm · ${layout.page.widthPx.toLocaleString('en-US')} × ${layout.page.heightPx.toLocaleString('en-US')} px at ${layout.dpi} DPI` : 'fix the settings below the form to see the page'}>
+          <Section title="Proof" description={layout ? `${layout.page.widthMm.toFixed(1)} × ${layout.page.heightMm.toFixed(1)} mm · ${layout.page.widthPx.toLocaleString('en-US')} × ${layout.page.heightPx.toLocaleString('en-US')} px at ${layout.dpi} DPI` : 'fix the settings listed below to see the page'}>
             {layout && parsed.success ? <ProofPreview spec={parsed.data as FigureSpec} layout={layout} runs={runs} /> : null}
             {issues.length ? (
               <div className="mt-3">
