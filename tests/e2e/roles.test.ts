@@ -122,6 +122,28 @@ describe('demo roles in the browser', { timeout: 90_000 }, () => {
     await screenshot(page, 'author-admin-not-allowed');
   });
 
+  test('a mistyped address of a lab figure, a series or a receipt says there is nothing there and leads back, as a run does', async () => {
+    const page = await newPage(browser, stack.url);
+    await signIn(page, demo('manager').email, demo('manager').password);
+    const cases = [
+      // a slug no figure has; a series id that is not an id; a receipt typed in by its number
+      { path: '/lab/figures/no-such-figure', title: 'No figure at this address', back: "Your lab's figures", to: '/lab/figures' },
+      { path: '/series/not-an-id', title: 'No series at this address', back: 'Back to runs', to: '/runs' },
+      { path: '/lab/credits/receipts/TW-000001', title: 'No receipt at this address', back: 'Back to credits', to: '/lab/credits' },
+      { path: '/lab/credits/receipts/00000000-0000-4000-8000-000000000000', title: 'No receipt at this address', back: 'Back to credits', to: '/lab/credits' },
+    ];
+    for (const c of cases) {
+      await page.goto(c.path);
+      await page.getByText(c.title, { exact: true }).waitFor();
+      // the API's own words ("figure not found", "invalid request params: id: …") and request ids are for scripts
+      const main = (await page.locator('main').textContent()) ?? '';
+      expect(main, c.path).not.toMatch(/not found|invalid request|request [0-9a-f]{8}-/);
+      await screenshot(page, `not-here-${c.path.split('/')[2]}`);
+      await page.getByRole('link', { name: c.back }).click();
+      await page.waitForURL((u) => u.pathname === c.to);
+    }
+  });
+
   test('a signed-in page opened by its address keeps the masthead while it loads, and the console stays free of router warnings', async () => {
     const page = await newPage(browser, stack.url);
     const warnings: string[] = [];

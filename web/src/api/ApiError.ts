@@ -26,6 +26,12 @@ export function isStatus(e: unknown, status: number): boolean {
 }
 
 /**
+ * What a page opened by its address reads as "nothing here": the API hides other labs' things behind
+ * a 404 and refuses a malformed id or slug with a 400, and to a person both mean a wrong link.
+ */
+export const isAddressMissing = (e: unknown): boolean => isStatus(e, 404) || isStatus(e, 400);
+
+/**
  * The message for people: the API puts the field first ("spec: this run needs …") for scripts, and a
  * form already says where it is, so that prefix is left off.
  */

@@ -1,9 +1,9 @@
 import { Link } from 'react-router';
-import { isStatus } from '../api/ApiError.js';
+import { isAddressMissing } from '../api/ApiError.js';
 import { EmptyState, PageFrame } from '../ui/index.js';
 
 /** The API hides runs of other labs behind a 404 (and a malformed id behind a 400): both read as "not here". */
-export const isRunMissing = (error: unknown): boolean => isStatus(error, 404) || isStatus(error, 400);
+export const isRunMissing = isAddressMissing;
 
 /** What /runs/:id and its deep zoom say when the API has no such run for this person. */
 export function RunNotFound() {

@@ -1,7 +1,7 @@
 import { Link, useParams } from 'react-router';
 import { useQueries } from '@tanstack/react-query';
 import { useSeries } from '../api/queries.js';
-import { isStatus } from '../api/ApiError.js';
+import { isAddressMissing } from '../api/ApiError.js';
 import type { Run } from '../api/contract.js';
 import { backgroundOfSpec, latticeOfSpec } from '../labels.js';
 import { logLogSlope, seriesDimension, type RadiusPoint } from '../plots/plotData.js';
@@ -65,7 +65,7 @@ export function SeriesPage() {
 
   if (series.isPending) return <SkeletonBlock lines={8} />;
   if (series.isError) {
-    if (isStatus(series.error, 404)) return <EmptyState title="No series at this address" action={<Link to="/runs">Back to runs</Link>}>It may belong to another lab.</EmptyState>;
+    if (isAddressMissing(series.error)) return <EmptyState title="No series at this address" action={<Link to="/runs">Back to runs</Link>}>It may belong to another lab, or the link is mistyped.</EmptyState>;
     return <ErrorPanel error={series.error} />;
   }
   const s = series.data.series;

@@ -1,8 +1,9 @@
-import { useParams, useSearchParams } from 'react-router';
+import { Link, useParams, useSearchParams } from 'react-router';
+import { isAddressMissing } from '../../api/ApiError.js';
 import { usePurchase } from '../../api/queries.js';
 import { useSignedIn } from '../../auth/useSignedIn.js';
 import { formatDateTime } from '../../format.js';
-import { Button, Count, ErrorPanel, FactList, LinkButton, PageHeading, Section, SkeletonTable } from '../../ui/index.js';
+import { Button, Count, EmptyState, ErrorPanel, FactList, LinkButton, PageHeading, Section, SkeletonTable } from '../../ui/index.js';
 import { formatMoney } from './money.js';
 
 /** A printable receipt of one paid purchase. */
@@ -13,7 +14,17 @@ export function ReceiptPage() {
   const labId = params.get('labId') ?? me.activeLabId ?? '';
   const q = usePurchase(labId, id);
   if (q.isPending) return <SkeletonTable rows={4} columns={2} />;
-  if (q.isError) return <ErrorPanel error={q.error} />;
+  if (q.isError) {
+    // receipts are addressed by the purchase's id, not its number (TW-000001): a typed-in number is a 400
+    if (isAddressMissing(q.error)) {
+      return (
+        <EmptyState title="No receipt at this address" action={<Link to={labId ? `/lab/credits?labId=${labId}` : '/lab/credits'}>Back to credits</Link>}>
+          Open a receipt from the purchases on the lab's credits page; it may belong to another lab, or the link is mistyped.
+        </EmptyState>
+      );
+    }
+    return <ErrorPanel error={q.error} />;
+  }
   const { purchase: p, labName } = q.data;
   return (
     <div className="space-y-8">

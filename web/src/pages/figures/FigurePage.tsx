@@ -1,4 +1,5 @@
-import { Navigate, useParams } from 'react-router';
+import { Link, Navigate, useParams } from 'react-router';
+import { isAddressMissing } from '../../api/ApiError.js';
 import type { FigureVersion } from '../../api/contract.js';
 import { useFigureLive, useMe, useOrderPrint, usePublishFigure } from '../../api/queries.js';
 import { formatDateTime } from '../../format.js';
@@ -23,7 +24,17 @@ export function FigurePage() {
   const publish = usePublishFigure(slug);
   const me = useMe();
   if (q.isPending || me.isPending) return <SkeletonBlock lines={8} />;
-  if (q.isError) return <ErrorPanel error={q.error} />;
+  if (q.isError) {
+    // a draft of another lab is a 404, as a mistyped slug: the same words as the composer's "No figure to edit here"
+    if (isAddressMissing(q.error)) {
+      return (
+        <EmptyState title="No figure at this address" action={<Link to="/lab/figures">Your lab's figures</Link>}>
+          It may belong to a lab you are not a member of, or the link is mistyped.
+        </EmptyState>
+      );
+    }
+    return <ErrorPanel error={q.error} />;
+  }
   if (q.data.withdrawn) return <EmptyState title="Withdrawn">This figure was withdrawn and you are not a member of its lab.</EmptyState>;
   const f = q.data.figure;
   const reader = readerFor(f, me.data ?? null);
