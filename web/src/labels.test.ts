@@ -1,6 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import { RUN_STATUSES } from '../../shared/api/runs.js';
-import { backgroundOfSpec, runStatusHeading, runStatusWord } from './labels.js';
+import { backgroundOfSpec, runEndedText, runStatusHeading, runStatusWord } from './labels.js';
 import { runPicture } from './thumbnails.js';
 
 describe('backgroundOfSpec', () => {
@@ -30,6 +30,18 @@ describe('run status words', () => {
     // the run page's heading for a finished run and the list badge say the same word
     expect(runStatusHeading('finished')).toBe('Finished');
     expect(runStatusHeading('finished').toLowerCase()).toBe(runStatusWord('finished'));
+  });
+
+  test('a run page says how a run ended, not "finished" for one that was cancelled or failed', () => {
+    const at = (iso: string) => iso.slice(11, 16);
+    const ended = { startedAt: '2026-12-05T23:38:00Z', finishedAt: '2026-12-05T23:38:30Z' };
+    expect(runEndedText({ status: 'finished', ...ended }, at)).toBe('finished 23:38');
+    expect(runEndedText({ status: 'cancelled', ...ended }, at)).toBe('cancelled 23:38');
+    expect(runEndedText({ status: 'failed', ...ended }, at)).toBe('failed 23:38');
+    // cancelled while it waited: it never started
+    expect(runEndedText({ status: 'cancelled', startedAt: null, finishedAt: '2026-12-05T23:40:00Z' }, at)).toBe('cancelled 23:40');
+    expect(runEndedText({ status: 'computing', startedAt: '2026-12-05T23:41:00Z', finishedAt: null }, at)).toBe('started 23:41');
+    expect(runEndedText({ status: 'queued', startedAt: null, finishedAt: null }, at)).toBe('');
   });
 
   test('the picture boxes of unfinished runs use the same words', () => {

@@ -16,6 +16,15 @@ export function runStatusWord(s: RunStatus): string {
   return RUN_STATUS_WORDS[s];
 }
 
+/**
+ * The moment a run ended, named by how it ended: a run stopped by its author or refused by the
+ * engine was "cancelled" or "failed" at that time, not "finished". Before it ends: when it started.
+ */
+export function runEndedText(run: { status: RunStatus; startedAt: string | null; finishedAt: string | null }, when: (iso: string) => string): string {
+  if (run.finishedAt) return `${run.status === 'failed' || run.status === 'cancelled' ? RUN_STATUS_WORDS[run.status] : RUN_STATUS_WORDS.finished} ${when(run.finishedAt)}`;
+  return run.startedAt ? `started ${when(run.startedAt)}` : '';
+}
+
 /** The same word at the head of a section or notice: "Finished". */
 export function runStatusHeading(s: RunStatus): string {
   const w = RUN_STATUS_WORDS[s];

@@ -6,7 +6,7 @@ import { keys, useRun, useRunEvents, useRunJson } from '../api/queries.js';
 import { useSignedIn } from '../auth/useSignedIn.js';
 import { HeightBarsPlot, RadialProfilePlot } from '../plots/RunPlots.js';
 import type { Run, RunResponse, RunStatus } from '../api/contract.js';
-import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runStatusHeading, runStatusWord } from '../labels.js';
+import { backgroundOfSpec, drawingOfSpec, latticeOfSpec, runEndedText, runStatusHeading, runStatusWord } from '../labels.js';
 import { formatDateTime, formatDuration } from '../format.js';
 import { RunStatsTable } from './RunStatsTable.js';
 import { RunCertificate } from './RunCertificate.js';
@@ -58,6 +58,7 @@ function RunDetail({ run }: { run: Run }) {
   const member = me.labs.some((l) => l.id === run.labId);
   const spec = run.spec;
   const wall = run.startedAt && run.finishedAt ? (Date.parse(run.finishedAt) - Date.parse(run.startedAt)) / 1000 : null;
+  const ended = runEndedText(run, formatDateTime);
   return (
     <div className="space-y-8">
       <PageHeading
@@ -70,7 +71,7 @@ function RunDetail({ run }: { run: Run }) {
         lede={
           <span className="flex items-center gap-3">
             <StatusBadge status={run.status} /> by {run.author.name} · created {formatDateTime(run.createdAt)}
-            {run.finishedAt ? ` · finished ${formatDateTime(run.finishedAt)}` : run.startedAt ? ` · started ${formatDateTime(run.startedAt)}` : ''}
+            {ended ? ` · ${ended}` : ''}
           </span>
         }
         actions={
