@@ -135,7 +135,11 @@ describe('figures in the browser', () => {
       expect(Math.abs(r.height - (y1 - y0 + 1) * cell)).toBeLessThan(1.5);
     };
     await expectRect(-6, 3, -4, 5);
-    await field('xMin').fill('-2');
+    // typed key by key, as a person does: the minus sign on the way to "-2" is not turned into 0 ("0-2" → 2),
+    // and a field emptied on the way keeps the region as it was until a number is there again
+    await field('xMin').fill('');
+    await field('xMin').pressSequentially('-2', { delay: 30 });
+    expect(await field('xMin').inputValue()).toBe('-2');
     await field('yMax').fill('8');
     await expect.poll(async () => Math.round((await edges()).width / cell)).toBe(6);
     await expectRect(-2, 3, -4, 8);

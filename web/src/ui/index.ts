@@ -7,6 +7,7 @@ export * from './EmptyState.js';
 export * from './ErrorPanel.js';
 export * from './FileSize.js';
 export * from './Field.js';
+export * from './NumberField.js';
 export * from './formErrors.js';
 export * from './Notice.js';
 export * from './PageFrame.js';

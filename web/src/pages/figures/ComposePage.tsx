@@ -19,7 +19,7 @@ import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../
 import { isZeroBackground } from '../../../../shared/run-spec.js';
 import { latticeOfSpec } from '../../labels.js';
 import { drawnOf } from '../../viewer/drawnViews.js';
-import { Button, Count, EmptyState, ErrorPanel, FormError, friendlyMessage, Notice, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
+import { Button, Count, EmptyState, ErrorPanel, FormError, friendlyMessage, Notice, NumberField, PageHeading, Section, SelectField, SkeletonBlock, TextField } from '../../ui/index.js';
 import { RegionDrawer } from '../../viewer/RegionDrawer.js';
 import { ProofPreview } from './ProofPreview.js';
 import { rescaledUnitName } from './rescaledUnit.js';
@@ -169,8 +169,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 >
                   Add a panel
                 </Button>
-                <TextField label="Grid rows" type="number" min={1} max={8} value={spec.grid?.rows ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, rows: Number(e.target.value) } })} fieldClassName="w-24" />
-                <TextField label="Grid columns" type="number" min={1} max={8} value={spec.grid?.cols ?? 1} onChange={(e) => setSpec({ grid: { ...spec.grid, cols: Number(e.target.value) } })} fieldClassName="w-28" />
+                <NumberField label="Grid rows" round min={1} max={8} value={spec.grid?.rows ?? 1} onValue={(n) => setSpec({ grid: { ...spec.grid, rows: n } })} fieldClassName="w-24" />
+                <NumberField label="Grid columns" round min={1} max={8} value={spec.grid?.cols ?? 1} onValue={(n) => setSpec({ grid: { ...spec.grid, cols: n } })} fieldClassName="w-28" />
                 <SelectField label="Shared scale" value={spec.grid?.sharedScale ?? 'none'} onChange={(e) => setSpec({ grid: { ...spec.grid, sharedScale: e.target.value as 'none' } })}>
                   <option value="none">none: each panel fills its place</option>
                   <option value="lattice">the same lattice unit</option>
@@ -219,20 +219,20 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                       </option>
                     ))}
                   </SelectField>
-                  <TextField
+                  <NumberField
                     label="Height (mm)"
-                    type="number"
+                    optional
                     min={10}
                     placeholder="as the panels need"
-                    value={size.heightMm ?? ''}
-                    onChange={(e) => setSpec({ size: { ...size, heightMm: e.target.value ? Number(e.target.value) : undefined } })}
+                    value={size.heightMm}
+                    onValue={(n) => setSpec({ size: { ...size, heightMm: n } })}
                   />
                 </>
               ) : (
                 <>
-                  <TextField label={`Width (${size.unit ?? 'mm'})`} type="number" step="any" min={1} value={size.width} onChange={(e) => setSpec({ size: { ...size, width: Number(e.target.value) } })} />
+                  <NumberField label={`Width (${size.unit ?? 'mm'})`} step="any" min={1} value={size.width} onValue={(n) => n !== undefined && setSpec({ size: { ...size, width: n } })} />
                   <div className="flex gap-2">
-                    <TextField label={`Height (${size.unit ?? 'mm'})`} type="number" step="any" min={1} value={size.height} onChange={(e) => setSpec({ size: { ...size, height: Number(e.target.value) } })} />
+                    <NumberField label={`Height (${size.unit ?? 'mm'})`} step="any" min={1} value={size.height} onValue={(n) => n !== undefined && setSpec({ size: { ...size, height: n } })} />
                     <SelectField label="Unit" value={size.unit ?? 'mm'} onChange={(e) => setSpec({ size: { ...size, unit: e.target.value as 'mm' } })}>
                       <option value="mm">mm</option>
                       <option value="in">in</option>
@@ -248,7 +248,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                 ))}
                 <option value="other">other…</option>
               </SelectField>
-              <TextField label="DPI" type="number" min={MIN_DPI} max={MAX_DPI} value={spec.dpi ?? 300} onChange={(e) => setSpec({ dpi: Number(e.target.value) })} hint={`${MIN_DPI} to ${MAX_DPI}`} />
+              <NumberField label="DPI" min={MIN_DPI} max={MAX_DPI} value={spec.dpi ?? 300} onValue={(n) => setSpec({ dpi: n })} hint={`${MIN_DPI} to ${MAX_DPI}`} />
               <SelectField label="Panel labels" value={spec.labels ?? 'letters'} onChange={(e) => setSpec({ labels: e.target.value as 'letters' })}>
                 <option value="letters">(a), (b), …</option>
                 <option value="numbers">(1), (2), …</option>
@@ -258,7 +258,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
             <p className="mt-4 text-sm font-medium text-ink">Margins (mm)</p>
             <div className="mt-1.5 grid grid-cols-4 gap-4">
               {(['top', 'right', 'bottom', 'left'] as const).map((side) => (
-                <TextField
+                <NumberField
                   key={side}
                   // one short word on screen, so the four fields line up; the whole name for assistive technology
                   label={
@@ -268,11 +268,10 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
                       <span className="sr-only"> (mm)</span>
                     </>
                   }
-                  type="number"
                   min={0}
                   step="any"
                   value={spec.margins?.[side] ?? 10}
-                  onChange={(e) => setSpec({ margins: { top: 10, right: 10, bottom: 10, left: 10, ...spec.margins, [side]: Number(e.target.value) } })}
+                  onValue={(n) => n !== undefined && setSpec({ margins: { top: 10, right: 10, bottom: 10, left: 10, ...spec.margins, [side]: n } })}
                 />
               ))}
             </div>
@@ -405,7 +404,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
             <option value="fixed">fixed</option>
           </SelectField>
           {typeof panel.magnification === 'number' ? (
-            <TextField label="px per cell" type="number" min={1} max={256} value={panel.magnification} onChange={(e) => onChange({ magnification: Math.max(1, Math.round(Number(e.target.value))) })} fieldClassName="w-28" />
+            <NumberField label="px per cell" round min={1} max={256} value={panel.magnification} onValue={(n) => n !== undefined && onChange({ magnification: n })} fieldClassName="w-28" />
           ) : null}
         </div>
       </div>
@@ -415,7 +414,7 @@ function PanelFields({ index, panel, runs, onChange, onRemove }: { index: number
         </label>
         {region
           ? (['xMin', 'xMax', 'yMin', 'yMax'] as const).map((k) => (
-              <TextField key={k} label={k} mono type="number" value={region[k]} onChange={(e) => onChange({ region: { ...region, [k]: Math.round(Number(e.target.value)) } })} fieldClassName="w-24" />
+              <NumberField key={k} label={k} mono round value={region[k]} onValue={(n) => n !== undefined && onChange({ region: { ...region, [k]: n } })} fieldClassName="w-24" />
             ))
           : whole ? (
               <span className="pb-2 font-mono text-xs text-ink-soft">
