@@ -82,12 +82,18 @@ export interface PanelLayout {
   legendRow: number | null;
 }
 
+/** The legend band; `reach` is the page x a row of swatches may run on to (the content's right edge). */
+export interface LegendBox extends PxRect {
+  reach: number;
+}
+
 export interface FigureLayout {
   dpi: number;
   page: { widthMm: number; heightMm: number; widthPt: number; heightPt: number; widthPx: number; heightPx: number };
   content: PxRect;
   panels: PanelLayout[];
-  legend: PxRect | null;
+  /** set under the panels in their text column (`textColumn`), as the caption */
+  legend: LegendBox | null;
   caption: (PxRect & { text: string; fontPt: number }) | null;
   textPt: number;
   warnings: LayoutWarning[];
@@ -143,6 +149,26 @@ export function legendRowPx(textPt: number, dpi: number): number {
   return 3 * linePx(textPt, dpi) + legendRowGapPx(textPt, dpi);
 }
 
+/** The shortest measure of the legend and caption, in ems of their type: about 40 characters a line. */
+export const MIN_MEASURE_EM = 20;
+
+/**
+ * Where the legend and caption go across the page: from the left edge of the leftmost panel to the
+ * right edge of the rightmost, as a journal sets a figure's key and caption to the figure's own
+ * width. Left-aligned rather than centred, because the panel labels and scale bars already start at
+ * the panels' left edge, and a caption of several lines reads as a ragged-right paragraph, not as a
+ * centred block. Panels narrower than `minWidth` get a column of that width centred on them (a
+ * caption a few words wide is no paragraph), kept inside the content box; without panels, the content.
+ */
+export function textColumn(images: readonly PxRect[], content: { x: number; width: number }, minWidth: number): { x: number; width: number } {
+  if (images.length === 0) return { x: content.x, width: content.width };
+  const left = Math.min(...images.map((r) => r.x));
+  const right = Math.max(...images.map((r) => r.x + r.width));
+  const width = Math.min(content.width, Math.max(right - left, minWidth));
+  const centred = left - Math.floor((width - (right - left)) / 2);
+  return { x: Math.min(Math.max(centred, content.x), content.x + content.width - width), width };
+}
+
 /** n^(1/d) of a run: the length of one rescaled unit in lattice cells. */
 const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.max(1, run.chips), run.shape.length));
 
@@ -153,6 +179,17 @@ const unitCells = (run: RunGeometry): number => Math.max(1, naturalScale(Math.ma
  * @example layoutFigure(figureSpecSchema.parse({ size: { kind: 'paper', paper: 'A4' }, dpi: 600, panels: [{ runId: 'r1' }] }), [run]).page.widthPx // 4961
  */
 export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): FigureLayout {
+  // The caption's lines are reserved before the panels are sized, but its measure is the panels'
+  // width: lay out again at the measure found until the caption fits the lines reserved. A narrower
+  // measure only ever makes the band taller and the panels no wider, so this settles in a pass or two.
+  let l = layoutAtMeasure(spec, runs, null);
+  for (let pass = 0; pass < 4 && l.caption && l.caption.width < l.captionMeasure; pass++) l = layoutAtMeasure(spec, runs, l.caption.width);
+  const { captionMeasure: _assumed, ...layout } = l;
+  return layout;
+}
+
+/** layoutFigure with the caption's lines estimated at `captionMeasure` page pixels (null: the content width). */
+function layoutAtMeasure(spec: FigureSpec, runs: readonly RunGeometry[], captionMeasure: number | null): FigureLayout & { captionMeasure: number } {
   const { dpi } = spec;
   const warnings: LayoutWarning[] = [];
   const px = (v: number) => pixelsFor(v, dpi);
@@ -218,7 +255,8 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
   const slices = sliceNote(spec.panels.map((p, i) => ({ name: labels[i] ?? `panel ${i + 1}`, z: cells[i] && cells[i].run.shape.length === 3 ? cells[i].zIndex - cells[i].run.origin[0] : null })));
   const captionText = [spec.caption?.text, slices].filter((t): t is string => !!t).join('\n');
   const captionFont = spec.caption?.fontPt ?? DEFAULT_CAPTION_PT;
-  const captionLines = captionText ? estimateCaptionLines(captionText, captionFont, Math.max(1, contentW), dpi) : 0;
+  const measure = captionMeasure ?? contentW;
+  const captionLines = captionText ? estimateCaptionLines(captionText, captionFont, Math.max(1, measure), dpi) : 0;
   const captionBand = captionText ? pt2px(captionFont * 0.8) + captionLines * linePx(captionFont, dpi) : 0;
 
   // Page height: fixed, or (journal column without a height) at most what the panels need at the
@@ -391,11 +429,19 @@ export function layoutFigure(spec: FigureSpec, runs: readonly RunGeometry[]): Fi
     }
   }
 
-  const legend: PxRect | null = spec.legend ? { x: m.left, y: gridBottom + pt2px(spec.textPt * 0.8), width: contentW, height: legendBand - pt2px(spec.textPt * 0.8) } : null;
+  const column = textColumn(
+    panels.map((q) => q.image),
+    { x: m.left, width: contentW },
+    pt2px(MIN_MEASURE_EM * Math.max(spec.textPt, captionText ? captionFont : 0)),
+  );
+  const legend: LegendBox | null = spec.legend
+    ? { x: column.x, y: gridBottom + pt2px(spec.textPt * 0.8), width: column.width, height: legendBand - pt2px(spec.textPt * 0.8), reach: m.left + contentW }
+    : null;
   const caption = captionText
-    ? { x: m.left, y: gridBottom + legendBand + pt2px(captionFont * 0.8), width: contentW, height: captionBand - pt2px(captionFont * 0.8), text: captionText, fontPt: captionFont }
+    ? { x: column.x, y: gridBottom + legendBand + pt2px(captionFont * 0.8), width: column.width, height: captionBand - pt2px(captionFont * 0.8), text: captionText, fontPt: captionFont }
     : null;
   return {
+    captionMeasure: measure,
     dpi,
     page: { widthMm: sizeMm.width, heightMm, widthPt: pointsFor(sizeMm.width), heightPt: pointsFor(heightMm), widthPx, heightPx },
     content,

@@ -101,7 +101,7 @@ export function figureTextMarks(layout: FigureLayout, legends: readonly PanelLeg
     });
     for (const [row, g] of [...rows].sort((a, b) => a[0] - b[0])) {
       const title = g.labels.length > 0 && g.labels.length < legends.length ? `${g.labels.join(', ')} ${g.legend.title}` : g.legend.title;
-      legendRow(marks, g.legend, g.table, title.charAt(0).toUpperCase() + title.slice(1), layout.legend.x * k, layout.legend.y * k + row * rowPt, layout.legend.width * k, line, textPt, widthOf);
+      legendRow(marks, g.legend, g.table, title.charAt(0).toUpperCase() + title.slice(1), layout.legend.x * k, layout.legend.y * k + row * rowPt, layout.legend.width * k, layout.legend.reach * k, line, textPt, widthOf);
     }
   }
 
@@ -130,21 +130,23 @@ const opaque = (c: Rgba): Rgba => [c[0], c[1], c[2], 255];
 
 /**
  * One legend row: a bold title line, then swatches or a ramp on the second line with their labels
- * on the third, so every kind of row is the three lines the layout reserves.
+ * on the third, so every kind of row is the three lines the layout reserves. The ramp takes its
+ * length from the box; swatches may run on to `reach` (the content's edge), so a long key under a
+ * narrow panel keeps every entry the full width would show.
  */
-function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title: string, x: number, y: number, width: number, line: number, textPt: number, widthOf: TextWidth): void {
+function legendRow(marks: Mark[], legend: Legend, table: readonly Rgba[], title: string, x: number, y: number, width: number, reach: number, line: number, textPt: number, widthOf: TextWidth): void {
   const sw = textPt * 0.9;
   const text = (face: TextFace, tx: number, ty: number, s: string) => marks.push({ kind: 'text', face, sizePt: textPt, x: tx, y: ty, text: s });
   const labelWidth = (s: string) => widthOf('regular', textPt, s);
   text('bold', x, y, title);
   const y1 = y + line;
   if (legend.kind === 'discrete' && legend.entries.length <= 32) {
-    // each swatch centred over its label; entries that would leave the row are left out
+    // each swatch centred over its label; entries that would leave the content are left out
     let cx = x;
     for (const e of legend.entries) {
       const lw = labelWidth(e.label);
       const w = Math.max(sw, lw);
-      if (cx + w > x + width) break;
+      if (cx + w > reach) break;
       swatch(marks, cx + (w - sw) / 2, y1, sw, e.transparent ? null : e.colour);
       text('regular', cx + (w - lw) / 2, y1 + line, e.label);
       cx += w + textPt * 0.9;
