@@ -1,4 +1,5 @@
 import { useMemo, useState, type ReactNode } from 'react';
+import { ScrollFrame } from './ScrollFrame.js';
 
 export type SortOrder = 'asc' | 'desc';
 export interface SortState {
@@ -59,7 +60,7 @@ export function SortableTable<T>({ columns, rows, rowKey, sort, onSort, initialS
 
   const pad = dense ? 'px-3 py-2' : 'px-4 py-3';
   return (
-    <div className="overflow-x-auto rounded-lg border border-rule bg-sheet">
+    <ScrollFrame className="rounded-lg border border-rule bg-sheet">
       <table className="w-full border-collapse text-sm">
         {caption ? <caption className="sr-only">{caption}</caption> : null}
         <thead>
@@ -105,7 +106,7 @@ export function SortableTable<T>({ columns, rows, rowKey, sort, onSort, initialS
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollFrame>
   );
 }
 

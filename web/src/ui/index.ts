@@ -12,6 +12,7 @@ export * from './formErrors.js';
 export * from './Notice.js';
 export * from './PageFrame.js';
 export * from './ProgressBar.js';
+export * from './ScrollFrame.js';
 export * from './Section.js';
 export * from './Skeleton.js';
 export * from './SortableTable.js';

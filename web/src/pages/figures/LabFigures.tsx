@@ -2,7 +2,7 @@ import { Link } from 'react-router';
 import { useLabFigures, useMe } from '../../api/queries.js';
 import { latticeName } from '../../labels.js';
 import { formatDate } from '../../format.js';
-import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, SkeletonTable, Thumbnail } from '../../ui/index.js';
+import { Count, EmptyState, ErrorPanel, LinkButton, PageHeading, ScrollFrame, SkeletonTable, Thumbnail } from '../../ui/index.js';
 import { figurePicture } from '../../thumbnails.js';
 
 /** /lab/figures — the active lab's figures: drafts, printing, published and withdrawn. */
@@ -31,8 +31,8 @@ export function LabFigures() {
         </EmptyState>
       ) : (
         // a narrow screen scrolls the table inside its frame, not the page
-        <div className="overflow-x-auto">
-          <table className="w-full overflow-hidden rounded-lg border border-rule bg-sheet text-sm">
+        <ScrollFrame className="rounded-lg border border-rule bg-sheet">
+          <table className="w-full text-sm">
             <thead>
               <tr className="border-b border-rule text-left text-xs uppercase tracking-wider text-ink-faint">
                 <th className="w-32 px-4 py-2 font-medium">
@@ -70,7 +70,7 @@ export function LabFigures() {
               ))}
             </tbody>
           </table>
-        </div>
+        </ScrollFrame>
       )}
     </div>
   );
