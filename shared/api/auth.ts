@@ -43,6 +43,23 @@ export type PasswordResetRequest = z.infer<typeof passwordResetRequestSchema>;
 export const passwordResetCompleteRequestSchema = z.strictObject({ token: mailedTokenSchema, password: passwordSchema });
 export type PasswordResetCompleteRequest = z.infer<typeof passwordResetCompleteRequestSchema>;
 
+/**
+ * POST /api/auth/password-reset/check: whether a mailed reset link still works, asked when the page
+ * opens so a dead link is said at once rather than after the new password is typed. It uses nothing
+ * and names no account: the holder of the token learns only its state.
+ */
+export const passwordResetCheckRequestSchema = z.strictObject({ token: mailedTokenSchema });
+export type PasswordResetCheckRequest = z.infer<typeof passwordResetCheckRequestSchema>;
+/** Why a mailed link no longer works: never issued (or mistyped), already used (or outdone by a later reset), or past its time. */
+export const MAILED_LINK_REFUSALS = ['unknown', 'used', 'expired'] as const;
+export const mailedLinkRefusalSchema = z.enum(MAILED_LINK_REFUSALS);
+export type MailedLinkRefusal = z.infer<typeof mailedLinkRefusalSchema>;
+export const passwordResetCheckResponseSchema = z.discriminatedUnion('usable', [
+  z.object({ usable: z.literal(true), expiresAt: isoDateSchema }),
+  z.object({ usable: z.literal(false), reason: mailedLinkRefusalSchema }),
+]);
+export type PasswordResetCheckResponse = z.infer<typeof passwordResetCheckResponseSchema>;
+
 export const LAB_ROLES = ['author', 'manager'] as const;
 export const labRoleSchema = z.enum(LAB_ROLES);
 export type LabRole = z.infer<typeof labRoleSchema>;

@@ -1,9 +1,13 @@
 import { eq } from 'drizzle-orm';
+import supertest from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { sessions, users } from '../../drizzle/schema.js';
-import { meResponseSchema, userResponseSchema } from '../../shared/api/auth.js';
+import { emailTokens, sessions, users } from '../../drizzle/schema.js';
+import { createApp } from '../../api/src/app.js';
+import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
+import { randomToken, sha256Hex } from '../../api/src/auth/secrets.js';
+import { meResponseSchema, passwordResetCheckResponseSchema, userResponseSchema } from '../../shared/api/auth.js';
 import { apiErrorSchema } from '../../shared/api/errors.js';
-import { as, sessionFrom, signIn, startHarness, userByEmail, type Harness } from './support/harness.js';
+import { as, createUser, sessionFrom, signIn, startHarness, userByEmail, type Harness } from './support/harness.js';
 import { linkToken, mailsTo, waitForMail } from './support/outbox.js';
 
 let h: Harness;
@@ -151,5 +155,112 @@ describe('password reset by mail', () => {
     expect(short.status).toBe(400);
     expect(short.body.issues).toEqual([{ path: 'password', message: 'password must be at least 10 characters' }]);
     await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'long-enough-2' }).expect(200);
+  });
+});
+
+describe('checking a reset link before using it', () => {
+  const RESET_LINK = /reset-password\?token=([A-Za-z0-9_%-]+)/;
+  const check = (token: unknown) => h.http.post('/api/auth/password-reset/check').send({ token });
+
+  /** An account and the token of a reset link mailed to it, read from the mail fake. */
+  async function mailedResetToken(name: string): Promise<{ email: string; token: string }> {
+    const email = h.email(name);
+    await h.http.post('/api/auth/sign-up').send({ email, password: 'before-reset-1', name }).expect(201);
+    await h.http.post('/api/auth/password-reset').send({ email }).expect(202);
+    return { email, token: linkToken((await waitForMail(h.env, email, /new toppleworks password/i)).text, RESET_LINK) };
+  }
+  /** The token of the reset mail that came after the one holding `first`. */
+  async function secondMailedToken(email: string, first: string): Promise<string> {
+    const until = Date.now() + 5000;
+    for (;;) {
+      const tokens = (await mailsTo(h.env, email)).filter((m) => RESET_LINK.test(m.text)).map((m) => linkToken(m.text, RESET_LINK));
+      const other = tokens.find((t) => t !== first);
+      if (other) return other;
+      if (Date.now() > until) throw new Error(`no second reset mail to ${email}`);
+      await new Promise((r) => setTimeout(r, 100));
+    }
+  }
+  const usedAtOf = async (token: string) =>
+    (await h.deps.db.select({ usedAt: emailTokens.usedAt }).from(emailTokens).where(eq(emailTokens.tokenHash, sha256Hex(token))))[0]!.usedAt;
+
+  it('says a fresh link works and until when, names no account, and uses nothing', async () => {
+    const { email, token } = await mailedResetToken('check-good');
+    const first = await check(token);
+    expect(first.status).toBe(200);
+    const answer = passwordResetCheckResponseSchema.parse(first.body);
+    // nothing about the account: only the state and the end of the link's hour (api/src/auth/email-tokens.ts)
+    expect(Object.keys(first.body).sort()).toEqual(['expiresAt', 'usable']);
+    expect(JSON.stringify(first.body)).not.toContain(email);
+    if (!answer.usable) throw new Error(`a fresh link was refused: ${answer.reason}`);
+    expect(Math.abs(new Date(answer.expiresAt).getTime() - (Date.now() + 3600_000))).toBeLessThan(60_000);
+
+    // asking again changes nothing: the same answer, the row unused, and the link still sets the password
+    expect((await check(token)).body).toEqual(first.body);
+    expect(await usedAtOf(token)).toBeNull();
+    await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'after-reset-22' }).expect(200);
+    await signIn(h, email, 'after-reset-22');
+  });
+
+  it('says used after the link set a password, also for an earlier link of the same account', async () => {
+    const { email, token: earlier } = await mailedResetToken('check-used');
+    await h.http.post('/api/auth/password-reset').send({ email }).expect(202);
+    const later = await secondMailedToken(email, earlier);
+    await h.http.post('/api/auth/password-reset/complete').send({ token: later, password: 'after-reset-33' }).expect(200);
+    for (const token of [later, earlier]) {
+      const res = await check(token);
+      expect(res.status).toBe(200);
+      expect(res.body).toEqual({ usable: false, reason: 'used' });
+    }
+  });
+
+  it('says expired once the hour is over, and the form is refused at submission as before', async () => {
+    const { token } = await mailedResetToken('check-expired');
+    expect((await check(token)).body.usable).toBe(true);
+    // the hour passes between opening the page and saving (the row as a later clock would find it)
+    await h.deps.db.update(emailTokens).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(emailTokens.tokenHash, sha256Hex(token)));
+    expect((await check(token)).body).toEqual({ usable: false, reason: 'expired' });
+    const late = await h.http.post('/api/auth/password-reset/complete').send({ token, password: 'too-late-pass-4' });
+    expect(late.status).toBe(400);
+    expect(late.body.error).toBe('this password reset link is invalid, used or expired');
+    expect(await usedAtOf(token)).toBeNull();
+  });
+
+  it('says unknown for a token never issued and for a token of another purpose', async () => {
+    expect((await check(randomToken())).body).toEqual({ usable: false, reason: 'unknown' });
+    const u = await createUser(h, 'check-other-purpose', { verified: false });
+    const verifyToken = await issueEmailToken(h.deps.db, u.id, 'verify_email');
+    expect((await check(verifyToken)).body).toEqual({ usable: false, reason: 'unknown' });
+    // and the verification token is still good for what it was mailed for
+    expect(await usedAtOf(verifyToken)).toBeNull();
+    await h.http.post('/api/auth/verify-email').send({ token: verifyToken }).expect(200);
+  });
+
+  it('refuses a malformed token or body with 400 and the field at fault', async () => {
+    const { token } = await mailedResetToken('check-malformed');
+    // a link cut short in the mail client, characters a token never has, a wrong type, nothing at all
+    for (const bad of [token.slice(0, 12), `${token.slice(0, 30)}!*`, 42]) {
+      const res = await check(bad);
+      expect(res.status).toBe(400);
+      expect(res.body.issues).toEqual([{ path: 'token', message: bad === 42 ? expect.any(String) : 'not a valid token' }]);
+    }
+    const empty = await h.http.post('/api/auth/password-reset/check').send({});
+    expect(empty.status).toBe(400);
+    expect(empty.body.issues.map((i: { path: string }) => i.path)).toEqual(['token']);
+    const extra = await h.http.post('/api/auth/password-reset/check').send({ token, email: 'who@example.org' });
+    expect(extra.status).toBe(400);
+    expect(apiErrorSchema.parse(extra.body).error).toBeTruthy();
+    // none of those touched the real token
+    expect((await check(token)).body.usable).toBe(true);
+  });
+
+  it('shares the reset form\'s per-address limit outside tests: the 51st check in 15 minutes answers 429', async () => {
+    // the suite's own app skips the limiter (NODE_ENV=test); this one is configured as in development
+    const limited = supertest(createApp({ ...h.deps, env: { ...h.env, NODE_ENV: 'development' } }, { distDir: '/nonexistent' }));
+    const statuses: number[] = [];
+    for (let k = 0; k < 50; k++) statuses.push((await limited.post('/api/auth/password-reset/check').send({ token: randomToken() })).status);
+    expect(statuses.every((s) => s === 200)).toBe(true);
+    const last = await limited.post('/api/auth/password-reset/check').send({ token: randomToken() });
+    expect(last.status).toBe(429);
+    expect(last.body.error).toMatch(/too many attempts/);
   });
 });

@@ -141,6 +141,15 @@ const ROWS: Row[] = [
   { route: 'POST /api/auth/sign-out', expect: { ...signedIn(204) }, send: (a) => as(h.http.post('/api/auth/sign-out'), a.session) },
   { route: 'POST /api/auth/password-reset', expect: all(202), send: (a) => as(h.http.post('/api/auth/password-reset'), a.session).send({ email: h.email(`nobody-${fresh()}`) }) },
   {
+    route: 'POST /api/auth/password-reset/check',
+    expect: all(200),
+    send: async (a) => {
+      const u = await createUser(h, `reset-check-${fresh()}`);
+      const token = await issueEmailToken(h.deps.db, u.id, 'reset_password');
+      return as(h.http.post('/api/auth/password-reset/check'), a.session).send({ token });
+    },
+  },
+  {
     route: 'POST /api/auth/password-reset/complete',
     expect: all(200),
     send: async (a) => {
@@ -595,7 +604,7 @@ describe('the table covers every route the API mounts', () => {
       }
     }
     const inTable = new Set(ROWS.map((r) => r.route.replace(/ \(.*\)$/, '')));
-    expect(mounted.length).toBe(76);
+    expect(mounted.length).toBe(77);
     expect(mounted.filter((r) => !inTable.has(r))).toEqual([]);
     expect([...inTable].filter((r) => !mounted.includes(r))).toEqual([]);
   });

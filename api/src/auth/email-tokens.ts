@@ -1,10 +1,13 @@
 import { and, eq, gt, isNull } from 'drizzle-orm';
+import type { MailedLinkRefusal } from '../../../shared/api/auth.js';
 import { emailTokens } from '../../../drizzle/schema.js';
 import type { Db } from '../db/client.js';
 import { randomToken, sha256Hex } from './secrets.js';
 
 type Purpose = (typeof emailTokens.$inferInsert)['purpose'];
 type Executor = Pick<Db, 'insert' | 'update'>;
+
+export type EmailTokenState = { usable: true; expiresAt: Date } | { usable: false; reason: MailedLinkRefusal };
 
 export const EMAIL_TOKEN_TTL_MS: Record<Purpose, number> = {
   verify_email: 48 * 3600 * 1000,
@@ -38,4 +41,20 @@ export async function consumeEmailToken(db: Executor, token: string, purpose: Pu
     )
     .returning({ userId: emailTokens.userId });
   return row?.userId ?? null;
+}
+
+/**
+ * A token's state without using it, for a page to say on arrival whether its link still works.
+ * A token of another purpose is unknown here, as it is to `consumeEmailToken`.
+ */
+export async function inspectEmailToken(db: Pick<Db, 'select'>, token: string, purpose: Purpose): Promise<EmailTokenState> {
+  const [row] = await db
+    .select({ expiresAt: emailTokens.expiresAt, usedAt: emailTokens.usedAt })
+    .from(emailTokens)
+    .where(and(eq(emailTokens.tokenHash, sha256Hex(token)), eq(emailTokens.purpose, purpose)));
+  if (!row) return { usable: false, reason: 'unknown' };
+  if (row.usedAt) return { usable: false, reason: 'used' };
+  // the same comparison as consumeEmailToken's `expires_at > now`
+  if (row.expiresAt.getTime() <= Date.now()) return { usable: false, reason: 'expired' };
+  return { usable: true, expiresAt: row.expiresAt };
 }

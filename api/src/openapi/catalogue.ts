@@ -50,6 +50,7 @@ export const API_CATALOGUE: ApiRoute[] = [
   { method: 'post', path: '/auth/sign-in', tag: 'auth', summary: 'Sign in; sets the session and CSRF cookies', access: 'public', body: api.signInRequestSchema, responses: { 200: api.userResponseSchema } },
   { method: 'post', path: '/auth/sign-out', tag: 'auth', summary: 'End this session', access: 'user', responses: { 204: null } },
   { method: 'post', path: '/auth/password-reset', tag: 'auth', summary: 'Mail a password-reset link (always 202)', access: 'public', body: api.passwordResetRequestSchema, responses: { 202: ok } },
+  { method: 'post', path: '/auth/password-reset/check', tag: 'auth', summary: 'Whether a mailed password-reset token still works, and until when (uses nothing)', access: 'public', body: api.passwordResetCheckRequestSchema, responses: { 200: api.passwordResetCheckResponseSchema } },
   { method: 'post', path: '/auth/password-reset/complete', tag: 'auth', summary: 'Set a new password with the mailed token', access: 'public', body: api.passwordResetCompleteRequestSchema, responses: { 200: api.userResponseSchema } },
 
   { method: 'get', path: '/me', tag: 'me', summary: 'The caller, their labs and the active lab, or { signedIn: false }', access: 'public', responses: { 200: api.meStateResponseSchema } },

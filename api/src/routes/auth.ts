@@ -1,6 +1,8 @@
 import { and, eq, isNull } from 'drizzle-orm';
 import { Router } from 'express';
 import {
+  passwordResetCheckRequestSchema,
+  passwordResetCheckResponseSchema,
   passwordResetCompleteRequestSchema,
   passwordResetRequestSchema,
   signInRequestSchema,
@@ -10,7 +12,7 @@ import {
 } from '../../../shared/api/auth.js';
 import { emailTokens, users } from '../../../drizzle/schema.js';
 import { clearSessionCookies, setSessionCookies } from '../auth/cookies.js';
-import { consumeEmailToken, issueEmailToken } from '../auth/email-tokens.js';
+import { consumeEmailToken, inspectEmailToken, issueEmailToken } from '../auth/email-tokens.js';
 import { authOf, requireUser } from '../auth/middleware.js';
 import { dummyPasswordHash, hashPassword, verifyPassword } from '../auth/passwords.js';
 import { openSession, revokeAllSessions, revokeSession } from '../auth/sessions.js';
@@ -97,6 +99,14 @@ export function authRouter({ db, env, mailer }: AppDeps): Router {
     }
     // Same answer either way, so the form cannot be used to learn who has an account.
     res.status(202).json({ ok: true });
+  });
+
+  // Read-only (nothing is marked used): the reset page asks on arrival. POST keeps the token out of
+  // URLs and access logs; under /auth/password-reset it shares that route's rate limit (app.ts).
+  r.post('/auth/password-reset/check', async (req, res) => {
+    const { token } = validate.body(req, passwordResetCheckRequestSchema);
+    const state = await inspectEmailToken(db, token, 'reset_password');
+    respond(res, 200, passwordResetCheckResponseSchema, state.usable ? { usable: true, expiresAt: state.expiresAt.toISOString() } : state);
   });
 
   r.post('/auth/password-reset/complete', async (req, res) => {

@@ -5,6 +5,7 @@ import { api, apiUpload, withQuery } from './client.js';
 import type {
   AdminLabsResponse, AdminUsersResponse, FigureResponse, InvitationPreviewResponse, LabDetailResponse,
   ListFiguresQueryInput, ListFiguresResponse, ListRunsQueryInput, ListRunsResponse, MeResponse, MeStateResponse, OutboxResponse,
+  PasswordResetCheckResponse,
   RunResponse, TokensResponse, SeriesResponse, EstimateResponse, RunSpecInput, BackgroundUploadResponse,
 } from './contract.js';
 import type { CreateFigureRequest, FigureVersion, LabFiguresResponse, OrderPrintRequest, UpdateFigureRequest } from './contract.js';
@@ -29,6 +30,7 @@ export const keys = {
   figures: (q: ListFiguresQueryInput) => ['figures', q] as const,
   figure: (slug: string) => ['figure', slug] as const,
   invitation: (token: string) => ['invitation', token] as const,
+  resetLink: (token: string) => ['reset-link', token] as const,
   adminLabs: ['admin', 'labs'] as const,
   adminUsers: ['admin', 'users'] as const,
   outbox: ['dev', 'outbox'] as const,
@@ -226,6 +228,16 @@ export function useInvitation(token: string) {
   return useQuery({
     queryKey: keys.invitation(token),
     queryFn: () => api<InvitationPreviewResponse>('GET', `/api/invitations/${encodeURIComponent(token)}`),
+    meta: { quiet401: true },
+  });
+}
+
+/** Whether a mailed reset link still works, asked on arrival; uses nothing, so asking again is harmless. */
+export function useResetLinkCheck(token: string, enabled: boolean) {
+  return useQuery({
+    queryKey: keys.resetLink(token),
+    queryFn: () => api<PasswordResetCheckResponse>('POST', '/api/auth/password-reset/check', { token }),
+    enabled,
     meta: { quiet401: true },
   });
 }

@@ -7,7 +7,7 @@ export function EmptyState({ title, children, action }: { title: ReactNode; chil
       <EmptyMark />
       <p className="mt-4 text-base font-semibold text-ink">{title}</p>
       {children ? <div className="mx-auto mt-2 max-w-md text-sm text-ink-soft">{children}</div> : null}
-      {action ? <div className="mt-5 flex justify-center gap-3">{action}</div> : null}
+      {action ? <div className="mt-5 flex flex-wrap justify-center gap-3">{action}</div> : null}
     </div>
   );
 }
