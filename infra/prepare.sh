@@ -15,7 +15,13 @@ fail() { printf 'prepare: error: %s\n' "$*" >&2; exit 1; }
 if [ -L node_modules ]; then
   [ -f node_modules/.package-lock.json ] || fail "node_modules links to an empty install; run npm ci where it points"
 elif [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
-  say "installing npm dependencies (npm ci)"
+  # Say why: a reinstall in a checkout that already has node_modules is otherwise a surprise.
+  if [ -f node_modules/.package-lock.json ]; then
+    say "package-lock.json ($(date -r package-lock.json '+%F %T')) is newer than the installed dependencies ($(date -r node_modules/.package-lock.json '+%F %T'))"
+    say "reinstalling them with npm ci (a clean install from the lock file; about a minute)"
+  else
+    say "installing npm dependencies with npm ci (first run; about a minute)"
+  fi
   npm ci --no-audit --no-fund
   touch node_modules/.package-lock.json
 fi
