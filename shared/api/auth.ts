@@ -51,6 +51,19 @@ export type PasswordResetCompleteRequest = z.infer<typeof passwordResetCompleteR
 export const passwordResetCheckRequestSchema = z.strictObject({ token: mailedTokenSchema });
 export type PasswordResetCheckRequest = z.infer<typeof passwordResetCheckRequestSchema>;
 /** Why a mailed link no longer works: never issued (or mistyped), already used (or outdone by a later reset), or past its time. */
+/**
+ * How long each kind of mailed link works, in hours: the API stamps tokens with it and the mails
+ * and pages say it, so the words cannot drift from the rule.
+ */
+export const MAILED_LINK_HOURS = { verify_email: 48, reset_password: 1 } as const;
+export type MailedLinkPurpose = keyof typeof MAILED_LINK_HOURS;
+
+/** "one hour", "48 hours": a mailed link's lifetime in words. */
+export function mailedLinkLifetime(purpose: MailedLinkPurpose): string {
+  const h = MAILED_LINK_HOURS[purpose];
+  return h === 1 ? 'one hour' : `${h} hours`;
+}
+
 export const MAILED_LINK_REFUSALS = ['unknown', 'used', 'expired'] as const;
 export const mailedLinkRefusalSchema = z.enum(MAILED_LINK_REFUSALS);
 export type MailedLinkRefusal = z.infer<typeof mailedLinkRefusalSchema>;

@@ -5,7 +5,7 @@ import { emailTokens, sessions, users } from '../../drizzle/schema.js';
 import { createApp } from '../../api/src/app.js';
 import { issueEmailToken } from '../../api/src/auth/email-tokens.js';
 import { randomToken, sha256Hex } from '../../api/src/auth/secrets.js';
-import { meResponseSchema, passwordResetCheckResponseSchema, userResponseSchema } from '../../shared/api/auth.js';
+import { MAILED_LINK_HOURS, meResponseSchema, passwordResetCheckResponseSchema, userResponseSchema } from '../../shared/api/auth.js';
 import { apiErrorSchema } from '../../shared/api/errors.js';
 import { as, createUser, sessionFrom, signIn, startHarness, userByEmail, type Harness } from './support/harness.js';
 import { linkToken, mailsTo, waitForMail } from './support/outbox.js';
@@ -38,6 +38,9 @@ describe('sign-up, e-mail verification and sign-in', () => {
     await as(h.http.post('/api/auth/verify-email/resend'), early).expect(202);
     const mail = await waitForMail(h.env, email.toLowerCase(), /confirm your e-mail/i);
     expect(mail.text).toContain(`${h.env.PUBLIC_URL}/verify-email?token=`);
+    // the mail names the lifetime the token is stamped with (one constant for both)
+    expect(MAILED_LINK_HOURS.verify_email).toBe(48);
+    expect(mail.text).toContain('works once and for 48 hours');
     expect(mail.html).toContain('verify-email?token=');
     const token = linkToken(mail.text, /verify-email\?token=([A-Za-z0-9_%-]+)/);
 
@@ -167,7 +170,9 @@ describe('checking a reset link before using it', () => {
     const email = h.email(name);
     await h.http.post('/api/auth/sign-up').send({ email, password: 'before-reset-1', name }).expect(201);
     await h.http.post('/api/auth/password-reset').send({ email }).expect(202);
-    return { email, token: linkToken((await waitForMail(h.env, email, /new toppleworks password/i)).text, RESET_LINK) };
+    const mail = await waitForMail(h.env, email, /new toppleworks password/i);
+    expect(mail.text).toContain('works once and for one hour');
+    return { email, token: linkToken(mail.text, RESET_LINK) };
   }
   /** The token of the reset mail that came after the one holding `first`. */
   async function secondMailedToken(email: string, first: string): Promise<string> {
@@ -192,7 +197,8 @@ describe('checking a reset link before using it', () => {
     expect(Object.keys(first.body).sort()).toEqual(['expiresAt', 'usable']);
     expect(JSON.stringify(first.body)).not.toContain(email);
     if (!answer.usable) throw new Error(`a fresh link was refused: ${answer.reason}`);
-    expect(Math.abs(new Date(answer.expiresAt).getTime() - (Date.now() + 3600_000))).toBeLessThan(60_000);
+    expect(Math.abs(new Date(answer.expiresAt).getTime() - (Date.now() + MAILED_LINK_HOURS.reset_password * 3600_000))).toBeLessThan(60_000);
+    expect(MAILED_LINK_HOURS.reset_password).toBe(1);
 
     // asking again changes nothing: the same answer, the row unused, and the link still sets the password
     expect((await check(token)).body).toEqual(first.body);

@@ -1,5 +1,5 @@
 import { and, eq, gt, isNull } from 'drizzle-orm';
-import type { MailedLinkRefusal } from '../../../shared/api/auth.js';
+import { MAILED_LINK_HOURS, type MailedLinkRefusal } from '../../../shared/api/auth.js';
 import { emailTokens } from '../../../drizzle/schema.js';
 import type { Db } from '../db/client.js';
 import { randomToken, sha256Hex } from './secrets.js';
@@ -9,10 +9,6 @@ type Executor = Pick<Db, 'insert' | 'update'>;
 
 export type EmailTokenState = { usable: true; expiresAt: Date } | { usable: false; reason: MailedLinkRefusal };
 
-export const EMAIL_TOKEN_TTL_MS: Record<Purpose, number> = {
-  verify_email: 48 * 3600 * 1000,
-  reset_password: 3600 * 1000,
-};
 
 /** Issue a mailed token; returns the plain token for the link (only its hash is stored). */
 export async function issueEmailToken(db: Executor, userId: string, purpose: Purpose): Promise<string> {
@@ -21,7 +17,7 @@ export async function issueEmailToken(db: Executor, userId: string, purpose: Pur
     userId,
     purpose,
     tokenHash: sha256Hex(token),
-    expiresAt: new Date(Date.now() + EMAIL_TOKEN_TTL_MS[purpose]),
+    expiresAt: new Date(Date.now() + MAILED_LINK_HOURS[purpose] * 3600 * 1000),
   });
   return token;
 }

@@ -1,3 +1,4 @@
+import { mailedLinkLifetime } from '../../../shared/api/auth.js';
 import type { MailMessage } from './mailer.js';
 import { htmlMail } from './layout.js';
 
@@ -6,7 +7,7 @@ export function resetMail(publicUrl: string, to: string, name: string, token: st
   const lines = [
     `Hello ${name},`,
     'someone asked to choose a new password for your Toppleworks account.',
-    'The link below works once and for one hour; choosing a new password signs out every open session.',
+    `The link below works once and for ${mailedLinkLifetime('reset_password')}; choosing a new password signs out every open session.`,
     'If it was not you, ignore this mail: your password stays as it is.',
   ];
   return {

@@ -1,3 +1,4 @@
+import { mailedLinkLifetime } from '../../../shared/api/auth.js';
 import type { MailMessage } from './mailer.js';
 import { htmlMail } from './layout.js';
 
@@ -6,7 +7,7 @@ export function verificationMail(publicUrl: string, to: string, name: string, to
   const lines = [
     `Hello ${name},`,
     'please confirm that this address is yours so you can start runs and set up labs on Toppleworks.',
-    'The link works once and for 48 hours. If you did not sign up, ignore this mail and nothing happens.',
+    `The link works once and for ${mailedLinkLifetime('verify_email')}. If you did not sign up, ignore this mail and nothing happens.`,
   ];
   return {
     to,

@@ -4,7 +4,7 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { isStatus } from '../api/ApiError.js';
 import { keys, useResetLinkCheck } from '../api/queries.js';
-import { mailedTokenSchema, PASSWORD_MIN_LENGTH, passwordResetCompleteRequestSchema, type MailedLinkRefusal } from '../api/contract.js';
+import { mailedLinkLifetime, mailedTokenSchema, PASSWORD_MIN_LENGTH, passwordResetCompleteRequestSchema, type MailedLinkRefusal } from '../api/contract.js';
 import { formatDateTime } from '../format.js';
 import { Button, EmptyState, ErrorPanel, FormError, FormSheet, LinkButton, Notice, SkeletonBlock, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 
@@ -24,7 +24,7 @@ const REFUSALS: Record<MailedLinkRefusal | 'incomplete', { title: string; why: s
   },
   expired: {
     title: 'This reset link has expired',
-    why: 'A reset link works for one hour after it is mailed.',
+    why: `A reset link works for ${mailedLinkLifetime('reset_password')} after it is mailed.`,
   },
 };
 

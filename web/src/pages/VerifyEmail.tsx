@@ -4,7 +4,7 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { isStatus } from '../api/ApiError.js';
 import { keys, useMe } from '../api/queries.js';
-import { verifyEmailRequestSchema, type UserResponse } from '../api/contract.js';
+import { mailedLinkLifetime, verifyEmailRequestSchema, type UserResponse } from '../api/contract.js';
 import { signInPathFor } from '../auth/nextPath.js';
 import { Button, EmptyState, ErrorPanel, FormError, FormSheet, LinkButton, Notice, SkeletonBlock } from '../ui/index.js';
 import { OutboxHint } from './OutboxHint.js';
@@ -42,7 +42,7 @@ export function VerifyEmail() {
           </Link>
         </div>
       ) : verify.isError && isStatus(verify.error, 400) ? (
-        // the API's refusal of a link that is unknown, used or past its 48 hours
+        // the API's refusal of a link that is unknown, used or past its lifetime
         <DeadConfirmationLink />
       ) : verify.isError ? (
         <ErrorPanel title="Could not confirm" error={verify.error}>
@@ -79,7 +79,7 @@ function DeadConfirmationLink() {
     return (
       <div className="space-y-4">
         <Notice tone="success" title="Mail on its way">
-          A new confirmation link is in the inbox of {person?.user.email}. It works once, for 48 hours.
+          A new confirmation link is in the inbox of {person?.user.email}. It works once, for {mailedLinkLifetime('verify_email')}.
         </Notice>
         <OutboxHint />
       </div>
@@ -98,7 +98,7 @@ function DeadConfirmationLink() {
         )
       }
     >
-      It was used already, its 48 hours are over, or it was copied incompletely.
+      It was used already, its {mailedLinkLifetime('verify_email')} are over, or it was copied incompletely.
       {resend.isError ? <FormError error={resend.error} /> : null}
     </EmptyState>
   );
