@@ -18,7 +18,7 @@ export const envSchema = z.object({
   S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
   S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
   STRIPE_SECRET_KEY: z.string().default('sk_test_toppleworks_local'),
-  /** unset means the real Stripe API; locally it points at the payments fake */
+  /** the payments provider's API; unset, the local payments fake's address (production sets https://api.stripe.com) */
   STRIPE_API_BASE: z.url().optional().default('http://127.0.0.1:14570'),
   STRIPE_WEBHOOK_SECRET: z.string().default('whsec_toppleworks_local'),
   SMTP_URL: z.string().default('smtp://127.0.0.1:14525'),
@@ -38,7 +38,7 @@ export const envSchema = z.object({
   WORKER_LARGE_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(1),
   /** runs whose tile pyramids one worker draws at once */
   WORKER_RENDER_CONCURRENCY: z.coerce.number().int().min(0).max(64).default(1),
-  /** threads of the plain tiled engine per run, main thread included (unset: min(2, cores)) */
+  /** threads per run, main thread included: the plain tiled engine, and the seeded fast path on large grids (unset: min(2, cores)) */
   WORKER_THREADS: z.coerce.number().int().min(1).max(16).optional(),
   /** seconds between checkpoints of a long computation, kept in the object store until its arrays are */
   WORKER_CHECKPOINT_SECONDS: z.coerce.number().positive().max(86_400).default(60),

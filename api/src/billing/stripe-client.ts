@@ -3,8 +3,8 @@ import type { Env } from '../../../shared/env.js';
 import { badRequest } from '../http/http-error.js';
 
 /**
- * The official SDK, pointed at STRIPE_API_BASE (the local payments fake) when it is set, at Stripe
- * itself when it is not: switching to Stripe's test mode changes environment variables only.
+ * The official SDK, pointed at STRIPE_API_BASE (shared/env.ts: the local payments fake unless set,
+ * https://api.stripe.com in production): switching to Stripe changes environment variables only.
  */
 export function createStripe(env: Pick<Env, 'STRIPE_SECRET_KEY' | 'STRIPE_API_BASE'>): Stripe {
   const base = env.STRIPE_API_BASE ? new URL(env.STRIPE_API_BASE) : null;

@@ -29,7 +29,7 @@ export interface FarmWorkerOptions {
   largeConcurrency?: number;
   /** pyramids drawn at once, 0 = none (default env.WORKER_RENDER_CONCURRENCY) */
   renderConcurrency?: number;
-  /** threads of the plain tiled engine per run (default env.WORKER_THREADS, else the engine's own) */
+  /** threads per run, for the plain tiled engine and the fast path's strips (default env.WORKER_THREADS, else the engine's own) */
   threads?: number;
   /** seconds between checkpoints (default env.WORKER_CHECKPOINT_SECONDS) */
   checkpointSeconds?: number;
