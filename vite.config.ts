@@ -2,6 +2,7 @@
 import { defineConfig } from 'vite';
 import react from '@vitejs/plugin-react';
 import tailwindcss from '@tailwindcss/vite';
+import { profileFor } from './infra/lib/profile.js';
 
 /**
  * Run on their own, after all the others: files that compare a whole table (or the shared bucket's
@@ -29,7 +30,8 @@ const TEST_FILES = {
 export default defineConfig({
   plugins: [react(), tailwindcss()],
   build: { outDir: 'dist', emptyOutDir: true },
-  server: { proxy: { '/api': 'http://127.0.0.1:5180', '/tiles': 'http://127.0.0.1:5180' } },
+  // `npx vite` beside `npm start`: the API (tiles and IIIF included) answers on the dev profile's port
+  server: { proxy: { '/api': `http://127.0.0.1:${profileFor('dev').ports.api}` } },
   test: {
     projects: [
       {

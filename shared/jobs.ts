@@ -16,7 +16,7 @@ export const QUEUE_NAMES = {
   compute: 'tw-compute',
   /** exact stabilisation of runs predicted to hold a worker for long (the large lane, see computeLaneOf) */
   computeLarge: 'tw-compute-large',
-  /** tiles, previews and print files from finished arrays */
+  /** deep-zoom tiles and previews from a finished run's arrays (print files have their own queue) */
   render: 'tw-render',
   /** print files of figure versions (renderer/src/farm/print-run.ts): memory-bound, one at a time */
   print: 'tw-print',

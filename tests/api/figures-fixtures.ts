@@ -9,7 +9,7 @@ import type { Harness } from './support/harness.js';
  * them, for route tests that are not about computing (the farm tests print real runs).
  */
 
-/** A finished square-lattice run with n = 16 grains: 9 topplings over 5 sites (../shared/facts.md §3, computed only). */
+/** A finished square-lattice run with n = 16 grains: 9 topplings over 5 sites (regression value from an independent numpy run, computed only). */
 export async function finishedRun(h: Harness, labId: string, authorId: string, title = 'sixteen grains', background: 'constant' | 'checkerboard' = 'constant'): Promise<string> {
   const stats = runStatsSchema.parse({
     lattice: 'square',

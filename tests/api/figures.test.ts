@@ -237,7 +237,7 @@ describe('ordering, publishing and withdrawing', () => {
   });
 
   it('refuses an order the print engine could not make, quoting its reason', async () => {
-    // 7 cells at 200 px per cell = 1400 px, wider than a 90 mm column at 150 DPI (pixels = round(in × DPI), ../shared/facts.md §7)
+    // 7 cells at 200 px per cell = 1400 px, wider than a 90 mm column at 150 DPI (pixels = round(in × DPI), the arithmetic of journal artwork guidelines)
     const f = detail((await as(h.http.post('/api/figures'), author).send({ labId, title: `Too big ${h.tag}`, spec: { ...spec(runSquare), dpi: 150, panels: [{ runId: runSquare, magnification: 200 }] } }).expect(201)).body);
     expect(pixelsFor(90, 150)).toBe(531);
     const res = await as(h.http.post(`/api/figures/${f.slug}/versions`), author).send({});

@@ -158,7 +158,7 @@ describe('figures in the browser', () => {
     expect(sizes.map((t) => t.trim()).filter((t) => !/^\d[\d,.]* (kB|MB)$/.test(t))).toEqual([]);
     await screenshot(page, 'figures-ready');
 
-    // the PNG behind the listed link is the ordered size: 90 mm wide at 300 DPI = 1063 px (../shared/facts.md §7)
+    // the PNG behind the listed link is the ordered size: 90 mm wide at 300 DPI = 1063 px (pixels = round(in × DPI), journal artwork guidelines)
     const href = await files.getByRole('link', { name: 'a-thousand-grains-on-z2-v1.png' }).getAttribute('href');
     // with the signed-in page's cookies (the figure is still private), following the redirect to the object store
     const download = await page.request.get(new URL(href!, farm.stack.url).toString());

@@ -82,7 +82,7 @@ describe('backgrounds that cannot stabilize', () => {
     expect(() => resolveProblem(spec({ background: { kind: 'motif', cells: [[0, 1], [2, 7]] } }))).toThrow('background height 7 at (1, 1)');
   });
   it('a growing pile past the site budget stops with the documented message', async () => {
-    // checkerboard 3/2 looked explosive in an independent run (facts.md: computed only), so we only
+    // checkerboard 3/2 looked explosive in an independent run (computed only, not a published source), so we only
     // rely on it outgrowing a small budget
     const p = problem({ lattice: { preset: 'square' }, chips: 50, background: { kind: 'checkerboard', a: 3, b: 2 } });
     const err = await stabilize(p, { threads: 1, maxSites: 40_000 }).catch((e: unknown) => e);

@@ -35,7 +35,7 @@ describe('OEIS A349990: Z^2, nonempty sites after n grains at the origin, n = 0.
 });
 
 describe('OEIS A349991: the 6-neighbour (triangular) lattice, threshold 6', () => {
-  // OEIS A349991, DATA (offset 0): the terms quoted in ../shared/facts.md
+  // OEIS A349991, DATA (offset 0)
   const first42 = [0, 1, 1, 1, 1, 1, ...Array.from({ length: 5 }, () => [6, 7, 7, 7, 7, 7]).flat(), 18, 19, 19, 19, 19, 19];
   it('matches the published terms n = 0..41, a(54) = 18, a(72) = 24, a(73) = 25', async () => {
     const got: number[] = [];

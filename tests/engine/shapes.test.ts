@@ -73,7 +73,7 @@ describe('dihedral symmetry (the lattice and the source are symmetric; abelian p
   });
 });
 
-describe('regression values (independent computation, not a published source: ../shared/facts.md)', () => {
+describe('regression values (an independent numpy computation, not a published source)', () => {
   it('n = 10^4 on Z^2: 1830917 topplings in all, 7585 at the origin', async () => {
     const o = await stabilize(problem({ lattice: { preset: 'square' }, chips: 10_000 }), { threads: 2 });
     expect(o.stats.totalTopplings).toBe(1830917n);

@@ -78,7 +78,7 @@ describe('infra/deploy', () => {
       expect(res.status).toBe(201);
       const run = await runSettled(h, author, runResponseSchema.parse(res.body).run.id, 60_000);
       expect(run.status, worker.output()).toBe('finished');
-      // 18,226 topplings for n = 1000 on Z^2: regression value from an independent computation (../shared/facts.md §3, computed only)
+      // 18,226 topplings for n = 1000 on Z^2: regression value from an independent computation (an independent numpy run, computed only)
       expect(run.stats?.totalTopplings).toBe('18226');
     });
   });

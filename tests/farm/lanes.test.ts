@@ -66,7 +66,7 @@ describe('compute lanes', () => {
     const small = await submit('Small one', { lattice: { preset: 'square' }, chips: 1000 });
     const done = await runSettled(h, author, small.id, 60_000);
     expect(done.status).toBe('finished');
-    // 18,226 topplings for n = 1000 on Z^2: regression value from an independent computation (../shared/facts.md §3, computed only)
+    // 18,226 topplings for n = 1000 on Z^2: regression value from an independent computation (an independent numpy run, computed only)
     expect(done.stats?.totalTopplings).toBe('18226');
     // and the big one is still at work: the small one did not wait for it
     expect((await runSettledOrCurrent(big.id)).status).toBe('computing');

@@ -87,7 +87,7 @@ describe('the figure.print job', () => {
       expect(bytes?.length, file.key).toBe(file.bytes);
     }
 
-    // pixels = round(size in inches × DPI): 90 mm at 300 DPI = 1063 px, 80 mm = 945 px (../shared/facts.md §7)
+    // pixels = round(size in inches × DPI): 90 mm at 300 DPI = 1063 px, 80 mm = 945 px (journal artwork guidelines)
     const png = (await h.deps.blobs.get(row!.files.find((x) => x.format === 'png')!.key))!;
     const meta = await sharp(png).metadata();
     expect([meta.width, meta.height]).toEqual([pixelsFor(90, 300), pixelsFor(80, 300)]);

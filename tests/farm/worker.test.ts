@@ -34,7 +34,7 @@ describe('the renderer worker', () => {
     const run = await settled((await submit('A thousand grains', { lattice: { preset: 'square' }, chips: 1000 })).id);
     expect(run.status).toBe('finished');
     // 18,226 topplings over 421 sites for n = 1000 on Z^2: regression values from an independent
-    // computation (not a published source; ../shared/facts.md §3 "computed only")
+    // computation (an independent numpy run, not a published source: computed only)
     expect(run.stats).toMatchObject({ totalTopplings: '18226', toppledSites: 421, grainsIn: '1000', grainsOut: '1000' });
 
     const keys = arrayKeys(run.id);
@@ -53,7 +53,7 @@ describe('the renderer worker', () => {
   it('fails a run whose background can never stabilize at once, with the reason', async () => {
     // rows of 3 between rows of 0: the API accepts it (not every site is at 3; all-3 is refused at
     // submission), but the source sits on an infinite line of maximal sites, so one grain explodes
-    // (arXiv:1109.2908, Sadhu & Dhar; ../shared/facts.md §5)
+    // (arXiv:1109.2908, Sadhu & Dhar)
     const run = await settled((await submit('Rows of threes', { lattice: { preset: 'square' }, chips: 1, background: { kind: 'motif', cells: [[3], [0]] } })).id);
     expect(run.status).toBe('failed');
     expect(run.error).toMatch(/never stops/);

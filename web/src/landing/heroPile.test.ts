@@ -3,7 +3,7 @@ import { stabiliseSquare } from './heroPile.js';
 
 describe('landing-page pile', () => {
   test('16 grains on Z^2 topple 9 times over 5 sites', () => {
-    // ../shared/facts.md §3: independent numpy run, n=16: 9 topplings, 5 toppled sites (computed only)
+    // regression value from an independent numpy run (computed only, not a published source): n=16: 9 topplings, 5 toppled sites
     const pile = stabiliseSquare(16, 11);
     expect(pile.topplings).toBe(9);
     expect(pile.toppled.reduce((a, b) => a + b, 0)).toBe(5);
@@ -12,7 +12,7 @@ describe('landing-page pile', () => {
   });
 
   test('n = 1000 topples 18,226 times over 421 sites, and every height is stable', () => {
-    // ../shared/facts.md §3: n=1000: 18226 topplings, 421 toppled sites (independent numpy run)
+    // regression value from an independent numpy run (computed only): n=1000: 18226 topplings, 421 toppled sites
     const pile = stabiliseSquare(1000, 41);
     expect(pile.topplings).toBe(18226);
     expect(pile.toppled.reduce((a, b) => a + b, 0)).toBe(421);
