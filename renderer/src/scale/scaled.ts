@@ -10,8 +10,8 @@ import { guardUnstable, latticeKernel, pushAllUnstable, relaxSome, UnstableStack
 import { lowerOdometer, peel, untopple, windowOf } from './peel.js';
 import { collectGarbage } from './memory.js';
 import { StripRelaxer } from './strips.js';
-import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfold, unfoldedCells, type Fold, type FoldedBoundary } from './symmetry.js';
-import { applySeed, bulkGainOf, flatSafety, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
+import { foldBox, foldGrid, foldOf, foldXY, countToppledFolded, restoreBoundary, unfitSeedHarmless, unfold, unfoldedCells, type Fold, type FoldedBoundary } from './symmetry.js';
+import { applySeed, SEED_HEIGHT_LIMIT, bulkGainOf, flatSafety, peakOf, safetyAt, seedBox, seedError, type CoarseLevel, type SeedOptions } from './seed.js';
 
 export interface ScaleProgress {
   stage: string;
@@ -55,6 +55,8 @@ export interface ScaleOptions {
   alpha?: number;
   /** keep a copy of each seed and report its distance to the level's odometer in onLevel (tuning; 8 bytes per cell more) */
   measureSeed?: boolean;
+  /** (tests) largest |height| a seed may leave, default 2^30 (SEED_HEIGHT_LIMIT): a small one makes small runs meet it */
+  seedHeightLimit?: number;
   /**
    * threads for the relaxation, main thread included (default min(2, cores)): more than one relaxes
    * strips of rows concurrently (strips.ts), one uses a stack of unstable cells over the whole grid
@@ -272,13 +274,17 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (planeCells(grid) > maxSites) throw new NotStabilizedError(maxSites);
       k = latticeKernel(g, grid.W);
       grid.h[grid.oy * grid.W + grid.ox] += c;
-      if (!applySeed(grid, k, coarse, c, levelOpts, peak)) {
+      const limit = options.seedHeightLimit ?? SEED_HEIGHT_LIMIT;
+      const unfit = applySeed(grid, k, coarse, c, levelOpts, peak, limit);
+      if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
+      if (unfit.length > 0 && !(fb && unfitSeedHarmless(grid, fb, unfit, limit))) {
         // a seed this rough is useless: start the level from zero instead (still exact)
         grid = makeGrid(g, bg, box, wide);
         grid.h[grid.oy * grid.W + grid.ox] += c;
+        fb = null;
       }
     }
-    if (fold) fb = foldGrid(grid, g, fold, bg.uniform!, c);
+    if (fold && !fb) fb = foldGrid(grid, g, fold, bg.uniform!, c);
     const seedCopy = options.measureSeed ? { s: grid.od.slice(), W: grid.W, ox: grid.ox, oy: grid.oy, chips: c, opts: { ...levelOpts } } : null;
     const tLevel = performance.now();
     const repairsBefore = repairRounds;

@@ -187,13 +187,20 @@ export function safetyAt(o: SeedOptions, chips: number, X: number, Y: number): n
 /** The flat part of safetyAt, the same at every site away from the source. */
 export const flatSafety = (o: SeedOptions, chips: number): number => Math.max(o.offset, (o.offsetPerRootN ?? 0) * Math.sqrt(chips));
 
+/** Largest |height| a seed may leave in a cell (Int32 heights, with room for what relaxation adds). */
+export const SEED_HEIGHT_LIMIT = 2 ** 30;
+
 /**
  * Writes the seed into grid.od (non-guard cells) and the heights it leaves into grid.h:
  * h = background + sources - deg * s + (s summed over in-neighbours), computed in doubles so the
- * large terms cancel before anything is stored. Returns false when a height would leave Int32
- * (the caller then starts this level from a zero seed).
+ * large terms cancel before anything is stored. Returns the cells whose height would leave ±2^30
+ * (stored as 0). On a whole-plane grid any such cell means a seed too rough to use (the caller then
+ * starts the level from zero). On a folded grid the cells on the fold's edge miss their mirrored
+ * in-neighbours here, so next to the source they read about n − 2·u(0) (−1.6·n at n = 10^6, growing
+ * like n·log n: past 2^30 from n ≈ 6·10^8); foldGrid and restoreBoundary give those cells their true
+ * height before anything reads it, so there they do no harm (`unfitSeedHarmless`).
  */
-export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chips: number, o: SeedOptions, peak: Peak): boolean {
+export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chips: number, o: SeedOptions, peak: Peak, limit = SEED_HEIGHT_LIMIT): number[] {
   const { W, H, ox, oy, guard: G, h, od } = grid;
   const f = chips / c.chips;
   for (let y = G; y < H - G; y++) {
@@ -209,6 +216,7 @@ export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chi
     }
   }
   const { rstart, rdelta, deg } = k;
+  const unfit: number[] = [];
   for (let y = G; y < H - G; y++) {
     const row = y * W;
     for (let x = G; x < W - G; x++) {
@@ -216,8 +224,10 @@ export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chi
       const c0 = classAt(k, i);
       let v = h[i]! - deg[c0]! * od[i]!;
       for (let e = rstart[c0]!, e1 = rstart[c0 + 1]!; e < e1; e++) v += od[i + rdelta[e]!]!;
-      if (v >= 2 ** 30 || v <= -(2 ** 30)) return false;
-      h[i] = v;
+      if (v >= limit || v <= -limit) {
+        unfit.push(i);
+        h[i] = 0;
+      } else h[i] = v;
     }
   }
   // guard cells receive grains from seeded neighbours too (they never hold a seed themselves)
@@ -235,7 +245,7 @@ export function applySeed(grid: ScaleGrid, k: LatticeKernel, c: CoarseLevel, chi
       h[i] = v;
     }
   }
-  return true;
+  return unfit;
 }
 
 /** E = u - P over the finished grid, kept in single precision (it only steers the next guess). */

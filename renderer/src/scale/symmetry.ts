@@ -169,6 +169,25 @@ export function restoreBoundary(grid: ScaleGrid, fb: FoldedBoundary, stack: Unst
   return pushed;
 }
 
+/**
+ * Whether the cells whose seeded height did not fit (applySeed) are all ones the fold takes care of:
+ * outside the fundamental domain (frozen by foldGrid) or on its edge with a true height, counted with
+ * the mirrored in-neighbours as restoreBoundary will, inside ±limit.
+ */
+export function unfitSeedHarmless(grid: ScaleGrid, fb: FoldedBoundary, unfit: readonly number[], limit: number): boolean {
+  const { h, od } = grid;
+  const at = new Map<number, number>();
+  for (let c = 0; c < fb.cells.length; c++) at.set(fb.cells[c]!, c);
+  return unfit.every((i) => {
+    if (h[i] === -FROZEN) return true;
+    const c = at.get(i);
+    if (c === undefined) return false;
+    let v = fb.base + (i === fb.origin ? fb.chips : 0) - fb.deg[c]! * od[i]!;
+    for (let e = fb.from[c]!, e1 = fb.from[c + 1]!; e < e1; e++) v += od[fb.sources[e]!]!;
+    return Math.abs(v) < limit;
+  });
+}
+
 /** Toppled lattice sites a folded grid stands for (progress). */
 export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
   const { W, H, ox, oy, od } = grid;
