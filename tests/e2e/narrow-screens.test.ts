@@ -4,6 +4,7 @@ import { DEMO_FIGURE_SLUG, DEMO_SIGN_INS, type DemoSignIn } from '../../api/src/
 import { startingComposition } from '../../shared/print-spec.js';
 import { apiCall, newPage, screenshot, signIn } from './browser.js';
 import { useFarmInBrowser } from './farm-in-browser.js';
+import { expectNoSidewaysScroll } from './sideways.js';
 
 /** A tablet held upright, and the narrowest the signed-in pages are laid out for (styles.css: 768 px less a desktop scrollbar). */
 const TABLET = { width: 768, height: 1024 };
@@ -152,24 +153,3 @@ describe('signed-in pages at 768 px', { timeout: 120_000 }, () => {
     ]);
   });
 });
-
-/**
- * The page is no wider than the window, and nothing sticks out past its right edge except inside a
- * frame that clips or scrolls it (a wide table's own scroller); the failure names what sticks out.
- */
-async function expectNoSidewaysScroll(page: Page, name: string, width: number) {
-  const { scrollWidth, innerWidth, past } = await page.evaluate(() => {
-    const edge = document.documentElement.clientWidth + 0.5;
-    const clipped = (el: Element) => {
-      for (let a = el.parentElement; a && a !== document.body; a = a.parentElement) if (getComputedStyle(a).overflowX !== 'visible') return true;
-      return false;
-    };
-    const past = [...document.querySelectorAll('body *')]
-      .filter((el) => el.getBoundingClientRect().right > edge && !clipped(el))
-      .map((el) => `${el.tagName.toLowerCase()}.${el.getAttribute('class') ?? ''}`.slice(0, 100));
-    return { scrollWidth: document.documentElement.scrollWidth, innerWidth: window.innerWidth, past };
-  });
-  expect(innerWidth, name).toBe(width);
-  expect(past, name).toEqual([]);
-  expect(scrollWidth, name).toBeLessThanOrEqual(innerWidth);
-}

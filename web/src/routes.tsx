@@ -67,9 +67,10 @@ export function createRouter() {
             {
               element: <RequireSignIn />,
               children: [
-                { path: '/runs', ...lazyPage(() => import('./pages/RunsList.js'), (m) => m.RunsList) },
+                // a researcher checks a long run from a phone: the runs and a run's page fit one too
+                { path: '/runs', ...lazyPage(() => import('./pages/RunsList.js'), (m) => m.RunsList), handle: PHONES },
                 { path: '/runs/new', ...lazyPage(() => import('./pages/NewRunPage.js'), (m) => m.NewRunPage) },
-                { path: '/runs/:id', ...lazyPage(() => import('./pages/RunPage.js'), (m) => m.RunPage) },
+                { path: '/runs/:id', ...lazyPage(() => import('./pages/RunPage.js'), (m) => m.RunPage), handle: PHONES },
                 { path: '/series/:id', ...lazyPage(() => import('./pages/SeriesPage.js'), (m) => m.SeriesPage) },
                 { path: '/lab', ...lazyPage(() => import('./pages/LabPage.js'), (m) => m.LabPage) },
                 { path: '/lab/figures', ...lazyPage(() => import('./pages/figures/LabFigures.js'), (m) => m.LabFigures) },

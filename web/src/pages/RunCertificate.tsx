@@ -39,9 +39,10 @@ export function RunCertificate({ certificate }: { certificate: Certificate | nul
   const passed = tone === 'passed';
   return (
     <div data-testid="run-certificate" data-verdict={tone} className="text-sm">
-      <p className="flex items-baseline gap-3">
+      {/* on a phone the verdict stands above its sentence, on one line of its own */}
+      <p className="flex items-baseline gap-3 max-sm:flex-col max-sm:gap-2">
         <span
-          className={`rounded-full border px-2.5 py-0.5 text-xs font-semibold uppercase tracking-[0.08em] ${passed ? 'border-leaf/30 bg-leaf-tint text-leaf' : 'border-stamp/30 bg-stamp-tint text-stamp'}`}
+          className={`rounded-full border px-2.5 py-0.5 max-sm:whitespace-nowrap text-xs font-semibold uppercase tracking-[0.08em] ${passed ? 'border-leaf/30 bg-leaf-tint text-leaf' : 'border-stamp/30 bg-stamp-tint text-stamp'}`}
         >
           {certificateHeadline(certificate)}
         </span>

@@ -69,7 +69,8 @@ function RunDetail({ run }: { run: Run }) {
         }
         title={run.title}
         lede={
-          <span className="flex items-center gap-3">
+          // on a phone the words flow on beside the badge instead of standing as a column next to it
+          <span className="flex items-center gap-3 max-sm:block">
             <StatusBadge status={run.status} /> by {run.author.name} · created {formatDateTime(run.createdAt)}
             {ended ? ` · ${ended}` : ''}
           </span>

@@ -10,7 +10,9 @@ import {
   SortableTable, StatusBadge, Thumbnail, type Column, type SortState,
 } from '../ui/index.js';
 import { runPicture } from '../thumbnails.js';
+import { usePhoneWidth } from '../ui/phoneWidth.js';
 import { NewRunForm } from './NewRunForm.js';
+import { RunsOrderField, RunsStacked } from './RunsStacked.js';
 
 const PAGE_SIZE = 25;
 type SortKey = NonNullable<ListRunsQueryInput['sort']>;
@@ -88,6 +90,8 @@ export function RunsList() {
   const lab = useActiveLab();
   const [params, setParams] = useSearchParams();
   const [composing, setComposing] = useState(false);
+  // a phone reads the runs as stacked rows, ordered by a select instead of the table's headings
+  const phone = usePhoneWidth();
 
   const status = (RUN_STATUSES as readonly string[]).includes(params.get('status') ?? '') ? (params.get('status') as RunStatus) : undefined;
   const lattice = params.get('lattice') || undefined;
@@ -126,9 +130,12 @@ export function RunsList() {
       <PageHeading
         overline={lab.name}
         title="Runs"
-        lede="Every run of the lab, newest first. Sort by a column heading; filter to find one run among many."
+        lede={`Every run of the lab, newest first. ${phone ? 'Filter and order' : 'Sort by a column heading; filter'} to find one run among many.`}
         actions={
-          composing ? null : (
+          composing ? null : phone && me.user.emailVerified ? (
+            // the form's columns need a tablet: on a phone it opens as its own page, laid out as on a tablet
+            <LinkButton to="/runs/new">New run</LinkButton>
+          ) : (
             <Button onClick={() => setComposing(true)} disabled={!me.user.emailVerified} title={me.user.emailVerified ? undefined : 'confirm your e-mail first'}>
               New run
             </Button>
@@ -137,8 +144,9 @@ export function RunsList() {
       />
       {composing ? <NewRunForm labId={lab.id} onClose={() => setComposing(false)} /> : null}
 
-      <div className="mb-5 flex flex-wrap items-end gap-4">
-        <SelectField label="Status" value={status ?? ''} onChange={(e) => set({ status: e.target.value })} fieldClassName="w-44">
+      {/* on a phone the filters and the order share a two-column grid across the screen */}
+      <div className="mb-5 flex flex-wrap items-end gap-4 max-sm:grid max-sm:grid-cols-2 max-sm:gap-3">
+        <SelectField label="Status" value={status ?? ''} onChange={(e) => set({ status: e.target.value })} fieldClassName="w-44 max-sm:w-auto max-sm:min-w-0">
           <option value="">any status</option>
           {RUN_STATUSES.map((s) => (
             <option key={s} value={s}>
@@ -146,7 +154,7 @@ export function RunsList() {
             </option>
           ))}
         </SelectField>
-        <SelectField label="Lattice" value={lattice ?? ''} onChange={(e) => set({ lattice: e.target.value })} fieldClassName="w-48">
+        <SelectField label="Lattice" value={lattice ?? ''} onChange={(e) => set({ lattice: e.target.value })} fieldClassName="w-48 max-sm:w-auto max-sm:min-w-0">
           <option value="">any lattice</option>
           {[...LATTICE_PRESETS, 'periodic'].map((l) => (
             <option key={l} value={l}>
@@ -154,7 +162,7 @@ export function RunsList() {
             </option>
           ))}
         </SelectField>
-        <SelectField label="Author" value={author ?? ''} onChange={(e) => set({ author: e.target.value })} fieldClassName="w-56">
+        <SelectField label="Author" value={author ?? ''} onChange={(e) => set({ author: e.target.value })} fieldClassName="w-56 max-sm:w-auto max-sm:min-w-0">
           <option value="">anyone in the lab</option>
           {(members.data?.members ?? []).map((m) => (
             <option key={m.userId} value={m.userId}>
@@ -162,8 +170,9 @@ export function RunsList() {
             </option>
           ))}
         </SelectField>
+        {phone ? <RunsOrderField sort={sort} order={order} onChange={(s, o) => set({ sort: s, order: o })} className="min-w-0" /> : null}
         {filtered ? (
-          <Button tone="quiet" onClick={() => set({ status: undefined, lattice: undefined, author: undefined })}>
+          <Button tone="quiet" className="max-sm:col-span-2" onClick={() => set({ status: undefined, lattice: undefined, author: undefined })}>
             Clear filters
           </Button>
         ) : null}
@@ -181,7 +190,11 @@ export function RunsList() {
         ) : (
           <EmptyState
             title="No runs yet"
-            action={me.user.emailVerified && !composing ? <Button onClick={() => setComposing(true)}>Start the first run</Button> : undefined}
+            action={
+              me.user.emailVerified && !composing ? (
+                phone ? <LinkButton to="/runs/new">Start the first run</LinkButton> : <Button onClick={() => setComposing(true)}>Start the first run</Button>
+              ) : undefined
+            }
           >
             A run places n grains at the origin of a lattice over a background and topples until every site is stable.
             {me.user.emailVerified ? null : ' Confirm your e-mail address to start one.'}
@@ -189,14 +202,18 @@ export function RunsList() {
         )
       ) : (
         <>
-          <SortableTable
-            caption="runs"
-            columns={columns}
-            rows={runs.data.runs}
-            rowKey={(r) => r.id}
-            sort={{ key: sort, order }}
-            onSort={(s: SortState) => set({ sort: s.key, order: s.order })}
-          />
+          {phone ? (
+            <RunsStacked runs={runs.data.runs} />
+          ) : (
+            <SortableTable
+              caption="runs"
+              columns={columns}
+              rows={runs.data.runs}
+              rowKey={(r) => r.id}
+              sort={{ key: sort, order }}
+              onSort={(s: SortState) => set({ sort: s.key, order: s.order })}
+            />
+          )}
           <Pager page={runs.data.page} pageSize={runs.data.pageSize} total={runs.data.total} unit="runs" onPage={(p) => set({ page: String(p) })} />
         </>
       )}

@@ -1,8 +1,10 @@
 import type { ReactNode } from 'react';
 import { Link, NavLink, Outlet, useMatches } from 'react-router';
-import { useMe, useSetActiveLab } from '../api/queries.js';
-import type { MeResponse } from '../api/contract.js';
+import { useMe } from '../api/queries.js';
 import { buttonClass } from './Button.js';
+import { LabSwitcher } from './LabSwitcher.js';
+import { mainNav } from './mainNav.js';
+import { PhoneMenu } from './PhoneMenu.js';
 
 /**
  * The paper every page sits on: masthead with navigation, active lab and person, then the page (the
@@ -28,23 +30,27 @@ function Masthead() {
   const me = useMe();
   const signedIn = me.data ?? null;
   return (
-    <header className="border-b border-rule bg-sheet/80 backdrop-blur">
+    // relative: the phone's menu sheet hangs from the masthead's lower edge
+    <header className="relative border-b border-rule bg-sheet/80 backdrop-blur">
       <div className="mx-auto flex h-16 max-w-7xl items-center gap-3 px-4 sm:gap-8 sm:px-8">
         <Link to="/" className="flex items-center gap-2.5 text-ink no-underline" aria-label="Toppleworks">
           <Wordmark />
-          {/* signed in, the navigation and lab switcher need a tablet's width: the word waits for a laptop's */}
-          <span className={`hidden text-lg font-semibold tracking-tight ${signedIn ? 'lg:inline' : 'sm:inline'}`}>Toppleworks</span>
+          {/* signed in, the navigation and lab switcher need a tablet's width: the word waits for a laptop's,
+              except on a phone, where they fold into the menu and leave the word its room */}
+          <span className={`hidden text-lg font-semibold tracking-tight ${signedIn ? 'max-sm:inline lg:inline' : 'sm:inline'}`}>Toppleworks</span>
         </Link>
-        <nav aria-label="main" className="flex items-center text-sm sm:gap-1">
-          {signedIn ? <NavItem to="/runs">Runs</NavItem> : null}
-          <NavItem to="/figures">Figures</NavItem>
-          {signedIn ? <NavItem to="/lab">Lab</NavItem> : null}
-          {signedIn?.user.isAdmin ? <NavItem to="/admin">Site admin</NavItem> : null}
+        <nav aria-label="main" className={`flex items-center text-sm sm:gap-1 ${signedIn ? 'max-sm:hidden' : ''}`}>
+          {mainNav(signedIn).map((item) => (
+            <NavItem key={item.to} to={item.to}>
+              {item.label}
+            </NavItem>
+          ))}
         </nav>
         <div className="ml-auto flex items-center gap-3 sm:gap-4">
           {me.isPending ? null : signedIn ? (
             <>
               <LabSwitcher me={signedIn} />
+              <PhoneMenu me={signedIn} />
               <Link to="/account" className="flex items-center gap-2 text-sm text-ink no-underline hover:text-press" title="Your account">
                 <Initials name={signedIn.user.name} />
                 <span className="hidden max-w-40 truncate lg:inline" data-testid="signed-in-name">{signedIn.user.name}</span>
@@ -76,38 +82,6 @@ function NavItem({ to, children }: { to: string; children: ReactNode }) {
     >
       {children}
     </NavLink>
-  );
-}
-
-/** The active lab decides whose runs, quotas and credits the person sees. */
-function LabSwitcher({ me }: { me: MeResponse }) {
-  const setLab = useSetActiveLab();
-  if (me.labs.length === 0) {
-    return (
-      <Link to="/lab" className="text-xs text-ink-soft">
-        no lab yet
-      </Link>
-    );
-  }
-  return (
-    // on a phone (only pages that fit one) the lab is chosen on wider screens; the masthead keeps to one line
-    <label className="hidden min-w-0 items-center gap-2 text-xs text-ink-soft md:flex">
-      <span>Lab</span>
-      <select
-        aria-label="active lab"
-        className="max-w-44 rounded-md border border-rule bg-sheet px-2 py-1 text-sm text-ink lg:max-w-72"
-        value={me.activeLabId ?? ''}
-        disabled={setLab.isPending}
-        onChange={(e) => setLab.mutate(e.target.value)}
-      >
-        {me.activeLabId ? null : <option value="">choose a lab</option>}
-        {me.labs.map((l) => (
-          <option key={l.id} value={l.id}>
-            {l.name}
-          </option>
-        ))}
-      </select>
-    </label>
   );
 }
 

@@ -135,7 +135,8 @@ export function pagerSummary(page: number, pageSize: number, total: number, unit
 export function Pager({ page, pageSize, total, unit, onPage }: { page: number; pageSize: number; total: number; unit: string; onPage: (p: number) => void }) {
   const pages = Math.max(1, Math.ceil(total / pageSize));
   return (
-    <nav aria-label="pages" className="mt-3 flex items-center justify-between text-sm text-ink-soft">
+    // wraps only where the count and the buttons cannot share a phone's line
+    <nav aria-label="pages" className="mt-3 flex flex-wrap items-center justify-between gap-y-2 text-sm text-ink-soft">
       <span className="tnum">{pagerSummary(page, pageSize, total, unit)}</span>
       {pages === 1 && page === 1 ? null : (
         <span className="flex items-center gap-2">

@@ -102,6 +102,12 @@ export function DeepZoom({ infoUrl, label, onReady, onView, onHover, className =
     viewer.addHandler('viewport-change', () => {
       if (handle && !closed) callbacks.current.onView?.(handle);
     });
+    // a finger has no hover: a tap reads the cell under it, and the readout stays until the next tap
+    viewer.addHandler('canvas-click', (e) => {
+      const pointer = (e.originalEvent as PointerEvent).pointerType;
+      if (!handle || !e.quick || pointer === 'mouse' || pointer === undefined) return;
+      callbacks.current.onHover?.(handle.imagePoint(e.position.x, e.position.y), handle);
+    });
     const move = (e: MouseEvent) => {
       if (!handle) return;
       const r = element.getBoundingClientRect();

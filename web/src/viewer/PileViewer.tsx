@@ -170,7 +170,8 @@ export function PileViewer({
           </DarkButton>
         </div>
       </div>
-      <div className={`grid min-h-0 flex-1 ${panes.length > 1 ? 'grid-cols-2' : 'grid-cols-1'} gap-px bg-white/10`}>
+      {/* two panes side by side on a phone would each be a strip: there they sit one above the other */}
+      <div className={`grid min-h-0 flex-1 ${panes.length > 1 ? 'grid-cols-2 max-sm:grid-cols-1 max-sm:grid-rows-2' : 'grid-cols-1'} gap-px bg-white/10`}>
         {panes.map((p, i) => (
           <Pane
             key={`${i}:${JSON.stringify(p.base)}:${p.layer}:${p.palette}`}
@@ -294,7 +295,8 @@ function Centred({ children }: { children: ReactNode }) {
 
 export function DarkButton({ children, className = '', ...rest }: React.ButtonHTMLAttributes<HTMLButtonElement>) {
   return (
-    <button type="button" className={`rounded border border-white/20 bg-white/5 px-2.5 py-1 text-xs text-white hover:bg-white/15 ${className}`} {...rest}>
+    // a thumb's target on a phone; the mouse's smaller one from `sm` up
+    <button type="button" className={`rounded border border-white/20 bg-white/5 px-2.5 py-1 text-xs text-white hover:bg-white/15 max-sm:min-w-9 max-sm:py-2 ${className}`} {...rest}>
       {children}
     </button>
   );

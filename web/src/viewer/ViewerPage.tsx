@@ -111,10 +111,13 @@ export function ViewerPage() {
   if (run.isError && isRunMissing(run.error)) return <RunNotFoundPage />;
 
   return (
-    <div className="min-h-screen bg-night text-white">
+    // fits a phone as the run page it is opened from does (styles.css); outside the page frame, so it says so itself
+    <div className="min-h-screen bg-night text-white" data-fits-phones="">
       <title>{`${title} · deep zoom · Toppleworks`}</title>
-      <PileViewer panes={panes} lock={lock} toolbar={toolbar} initialView={opened} onViewChange={onViewChange} />
-      <section className="mx-auto grid max-w-6xl grid-cols-1 gap-10 px-8 py-10 text-sm md:grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)]">
+      {/* one pane on a phone leaves the downloads peeking below, so a finger finds the page's scroll beside the
+          pile's pan; two stacked panes need the whole screen */}
+      <PileViewer panes={panes} lock={lock} toolbar={toolbar} height={panes.length > 1 ? 'h-screen' : 'h-[72svh] sm:h-screen'} initialView={opened} onViewChange={onViewChange} />
+      <section className="mx-auto grid max-w-6xl grid-cols-1 gap-10 px-8 py-10 text-sm max-sm:px-4 md:grid-cols-[minmax(0,1fr)_minmax(0,1.6fr)]">
         <div>
           <h2 className="mb-3 text-base font-semibold">Downloads</h2>
           <ul className="space-y-1.5">
