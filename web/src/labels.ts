@@ -1,4 +1,4 @@
-import type { Background, LatticeChoice, RunSpec, RunStatus } from './api/contract.js';
+import type { Background, RunSpec, RunStatus } from './api/contract.js';
 import { LAYERS, paletteById, type Layer } from '../../shared/palettes.js';
 import { DEFAULT_RENDER, layerHasMaskedCells } from '../../shared/run-spec.js';
 
@@ -31,28 +31,10 @@ export function runStatusHeading(s: RunStatus): string {
   return w[0]!.toUpperCase() + w.slice(1);
 }
 
-/** Names of lattices and backgrounds as people in the trade say them. */
-const LATTICE_NAMES: Record<string, string> = {
-  line: 'Z¹ (line)',
-  square: 'Z² (square)',
-  cubic: 'Z³ (cubic)',
-  triangular: 'triangular',
-  honeycomb: 'honeycomb',
-  'f-lattice': 'F-lattice',
-  manhattan: 'Manhattan lattice',
-  periodic: 'periodic graph',
-};
+// lattices are named in shared/ (the API's mails say the same names)
+export { capitalized, latticeName, latticeOfSpec } from '../../shared/lattice-names.js';
 
-export function latticeName(key: string): string {
-  return LATTICE_NAMES[key] ?? key;
-}
-
-export function latticeOfSpec(l: LatticeChoice): string {
-  if ('preset' in l) return latticeName(l.preset);
-  const [px, py] = l.periodic.period;
-  return `${l.name ?? 'periodic graph'} (${px}×${py} cell)`;
-}
-
+/** Names of backgrounds as people in the trade say them. */
 const BACKGROUND_NAMES: Record<string, string> = {
   constant: 'constant',
   checkerboard: 'checkerboard',

@@ -4,13 +4,14 @@ import { formatDuration } from '../../../shared/duration.js';
 
 /**
  * `seconds`: from submission to the end, what the author waited; `farmSeconds`: the part a worker
- * spent on it, which the run page reports (null when the run never started).
+ * spent on it, which the run page reports (null when the run never started). `lattice`: its name as the
+ * pages say it (shared/lattice-names.ts).
  */
 export type RunOutcome = { id: string; title: string; status: 'finished' | 'failed'; chips: number; lattice: string; error: string | null; seconds: number; farmSeconds: number | null };
 
 export function runOutcomeMail(publicUrl: string, to: string, run: RunOutcome): MailMessage {
   const href = `${publicUrl.replace(/\/+$/, '')}/runs/${run.id}`;
-  const what = `${run.lattice} lattice, n = ${run.chips.toLocaleString('en-US')} grains`;
+  const what = `${run.lattice}, n = ${run.chips.toLocaleString('en-US')} grains`;
   // the wait and the farm time differ by the time in the queue: say both, so the mail and the run page agree
   const farm = run.farmSeconds === null ? '' : ` (${formatDuration(run.farmSeconds)} of farm time)`;
   const lines =

@@ -4,7 +4,7 @@ import type { Env } from '../../../shared/env.js';
 import type { Db } from '../db/client.js';
 import type { Mailer } from '../mail/mailer.js';
 import { runOutcomeMail } from '../mail/run-outcome-mail.js';
-import { latticeLabel } from './views.js';
+import { latticeOfSpec } from '../../../shared/lattice-names.js';
 
 /** Runs that took at least this long from submission to their end get a mail; shorter ones are watched live. */
 export const LONG_RUN_SECONDS = 60;
@@ -43,7 +43,7 @@ export async function sendRunOutcomeMail(
         title: run.title,
         status: run.status,
         chips: run.spec.chips,
-        lattice: latticeLabel(run.spec),
+        lattice: latticeOfSpec(run.spec.lattice),
         error: run.error,
         seconds,
         farmSeconds: run.startedAt ? (run.finishedAt.getTime() - run.startedAt.getTime()) / 1000 : null,
