@@ -15,6 +15,15 @@ export const CREDIT_PACKS = [
   { id: 'bale', name: 'Bale', credits: 25_000, amount: 40_000, currency: 'eur' },
 ] as const;
 export type CreditPackId = (typeof CREDIT_PACKS)[number]['id'];
+
+/**
+ * A pack's name wherever people read it (cards, purchases, receipts, the ledger's reason): packs are
+ * named like products, capitalised ("Ream"), while the id ("ream") stays in addresses and requests.
+ * A purchase row holds the id; one the price list no longer has keeps its id as its name.
+ */
+export function packName(id: string): string {
+  return CREDIT_PACKS.find((p) => p.id === id)?.name ?? id;
+}
 export const creditPackIdSchema = z.enum(CREDIT_PACKS.map((p) => p.id) as [CreditPackId, ...CreditPackId[]], {
   error: `pack must be one of ${CREDIT_PACKS.map((p) => p.id).join(', ')}`,
 });

@@ -203,6 +203,10 @@ describe('buying credits through the payments fake', () => {
     expect(mail.text).toContain('€20.00');
     expect(mail.text).toContain(p.receiptNumber);
     expect(await labLinesSum(labId)).toBe(0);
+    // the ledger names the pack as its card does ("Sheet"), not by its id ("sheet pack")
+    const { entries } = ledgerResponseSchema.parse((await as(h.http.get(`/api/labs/${labId}/credits/ledger`), sessions.manager).expect(200)).body);
+    const card = (await summary()).packs.find((x) => x.id === 'sheet')!;
+    expect(entries.filter((e) => e.kind === 'purchase').map((e) => e.reason)).toContain(`${card.name} pack`);
   });
 
   it('shows the declined test card 4000 0000 0000 0002 as declined and credits nothing', async () => {

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { and, desc, eq, isNull, lte } from 'drizzle-orm';
 import type Stripe from 'stripe';
 import { creditPurchases, labs, paymentEvents, users } from '../../../drizzle/schema.js';
-import { CHECKOUT_LIFETIME_MINUTES, CREDIT_PACKS, receiptNumber, type CreditPackId, type Purchase } from '../../../shared/api/credits.js';
+import { CHECKOUT_LIFETIME_MINUTES, CREDIT_PACKS, packName, receiptNumber, type CreditPackId, type Purchase } from '../../../shared/api/credits.js';
 import type { Env } from '../../../shared/env.js';
 import type { Db } from '../db/client.js';
 import type { Logger } from '../logger.js';
@@ -64,7 +64,7 @@ export async function startCheckout(
       mode: 'payment',
       // a checkout left open is no purchase: it lapses within the hour (checkout.session.expired)
       expires_at: Math.floor(Date.now() / 1000) + CHECKOUT_LIFETIME_MINUTES * 60,
-      line_items: [{ price_data: { currency: pack.currency, unit_amount: pack.amount, product_data: { name: `${pack.name}: ${pack.credits.toLocaleString('en-US')} compute credits` } }, quantity: 1 }],
+      line_items: [{ price_data: { currency: pack.currency, unit_amount: pack.amount, product_data: { name: `${packName(pack.id)}: ${pack.credits.toLocaleString('en-US')} compute credits` } }, quantity: 1 }],
       success_url: `${back}&paid={CHECKOUT_SESSION_ID}`,
       cancel_url: `${back}&cancelled=1`,
       client_reference_id: purchaseId,
@@ -176,14 +176,14 @@ async function apply(tx: Tx, event: Stripe.Event): Promise<{ outcome: string; pu
       // the purchase entry's key is the session, so a second "paid" event for it books nothing
       const booked = await post(
         tx,
-        { labId: p.labId, kind: 'purchase', idempotencyKey: `purchase:${s.id}`, purchaseId: p.id, actorId: p.buyerId, reason: `${p.pack} pack`, detail: { session: s.id, amount: p.amount, currency: p.currency } },
+        { labId: p.labId, kind: 'purchase', idempotencyKey: `purchase:${s.id}`, purchaseId: p.id, actorId: p.buyerId, reason: `${packName(p.pack)} pack`, detail: { session: s.id, amount: p.amount, currency: p.currency } },
         [
           { account: accounts.available(p.labId), amount: p.credits },
           { account: accounts.stripeClearing, amount: -p.credits },
         ],
       );
       // the trail records each billing event with the money it moved
-      if (booked) await audit(tx, { actorId: p.buyerId, labId: p.labId, action: 'credits.purchase', subjectType: 'purchase', subjectId: p.id, reason: `${p.pack} pack`, detail: { credits: p.credits, amount: p.amount, currency: p.currency, session: s.id } });
+      if (booked) await audit(tx, { actorId: p.buyerId, labId: p.labId, action: 'credits.purchase', subjectType: 'purchase', subjectId: p.id, reason: `${packName(p.pack)} pack`, detail: { credits: p.credits, amount: p.amount, currency: p.currency, session: s.id } });
       // paid is final: an "expired" or "declined" event arriving late never undoes it
       if (p.status !== 'paid') await tx.update(creditPurchases).set({ status: 'paid', paidAt: new Date(event.created * 1000), lastError: null }).where(eq(creditPurchases.id, p.id));
       return { outcome: booked ? `credited ${p.credits}` : 'already credited', purchaseId: p.id };

@@ -1,7 +1,7 @@
 import { useEffect, useState } from 'react';
 import { useSearchParams } from 'react-router';
 import { useAbandonPurchase, useCheckout, useCredits, useCreditUsage, useLab } from '../../api/queries.js';
-import { CHECKOUT_LIFETIME_MINUTES, FREE_MONTHLY_ALLOWANCE, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
+import { CHECKOUT_LIFETIME_MINUTES, FREE_MONTHLY_ALLOWANCE, packName, type CreditPack, type CreditsSummaryResponse, type Purchase, type UsageRow } from '../../api/contract.js';
 import { useSignedIn } from '../../auth/useSignedIn.js';
 import { formatDate, formatDateTime } from '../../format.js';
 import {
@@ -112,15 +112,15 @@ function PacksSection({ labId, packs }: { labId: string; packs: CreditPack[] }) 
       <div className="grid grid-cols-1 gap-6 md:grid-cols-3">
         {packs.map((p) => (
           <div key={p.id} className="rounded-lg border border-rule bg-paper px-5 py-4">
-            <p className="text-sm font-semibold text-ink">{p.name}</p>
+            <p className="text-sm font-semibold text-ink">{packName(p.id)}</p>
             <p className="mt-1 text-2xl font-semibold text-ink">
               <Count n={p.credits} unit="credits" showPower={false} />
             </p>
             <p className="text-sm text-ink-soft">
               {formatMoney(p.amount, p.currency)} · {formatMoney(Math.round((p.amount / p.credits) * 100), p.currency)} per 100 credits
             </p>
-            <Button className="mt-4 w-full" busy={checkout.isPending && checkout.variables === p.id} busyLabel="Opening checkout…" onClick={() => checkout.mutate(p.id)} aria-label={`Buy ${p.name}`}>
-              Buy {p.name}
+            <Button className="mt-4 w-full" busy={checkout.isPending && checkout.variables === p.id} busyLabel="Opening checkout…" onClick={() => checkout.mutate(p.id)} aria-label={`Buy ${packName(p.id)}`}>
+              Buy {packName(p.id)}
             </Button>
           </div>
         ))}
@@ -154,7 +154,7 @@ function AbandonButton({ labId, purchase }: { labId: string; purchase: Purchase 
     <span className="inline-flex flex-col items-end gap-1">
       <span className="text-xs text-ink-soft">Close this checkout? It can no longer be paid.</span>
       <span className="inline-flex gap-2">
-        <Button tone="danger" size="sm" busy={abandon.isPending} busyLabel="Closing…" onClick={() => abandon.mutate(purchase.id)} aria-label={`Abandon the ${purchase.pack} checkout`}>
+        <Button tone="danger" size="sm" busy={abandon.isPending} busyLabel="Closing…" onClick={() => abandon.mutate(purchase.id)} aria-label={`Abandon the ${packName(purchase.pack)} checkout`}>
           Abandon it
         </Button>
         <Button tone="quiet" size="sm" onClick={() => setAsking(false)}>
@@ -173,7 +173,7 @@ function PurchasesSection({ labId, purchases, isManager }: { labId: string; purc
   const columns: Column<Purchase>[] = [
     { key: 'createdAt', header: 'Started', sortValue: (p) => p.createdAt, cell: (p) => formatDate(p.createdAt) },
     { key: 'receipt', header: 'Receipt', sortValue: (p) => p.receiptNumber, cell: (p) => <span className="font-mono text-xs">{p.receiptNumber}</span> },
-    { key: 'pack', header: 'Pack', sortValue: (p) => p.pack, cell: (p) => p.pack },
+    { key: 'pack', header: 'Pack', sortValue: (p) => packName(p.pack), cell: (p) => packName(p.pack) },
     { key: 'credits', header: 'Credits', align: 'right', sortValue: (p) => p.credits, cell: (p) => <Count n={p.credits} showPower={false} /> },
     { key: 'amount', header: 'Amount', align: 'right', sortValue: (p) => p.amount, cell: (p) => formatMoney(p.amount, p.currency) },
     {

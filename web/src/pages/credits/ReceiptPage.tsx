@@ -4,6 +4,7 @@ import { usePurchase } from '../../api/queries.js';
 import { useSignedIn } from '../../auth/useSignedIn.js';
 import { formatDateTime } from '../../format.js';
 import { Button, Count, EmptyState, ErrorPanel, FactList, LinkButton, PageHeading, Section, SkeletonTable } from '../../ui/index.js';
+import { packName } from '../../api/contract.js';
 import { formatMoney } from './money.js';
 
 /** A printable receipt of one paid purchase. */
@@ -44,7 +45,7 @@ export function ReceiptPage() {
           items={[
             { term: 'Receipt', value: <span className="font-mono">{p.receiptNumber}</span> },
             { term: 'Lab', value: labName },
-            { term: 'Pack', value: p.pack },
+            { term: 'Pack', value: packName(p.pack) },
             { term: 'Credits', value: <Count n={p.credits} unit="credits" showPower={false} /> },
             { term: 'Amount', value: formatMoney(p.amount, p.currency) },
             { term: 'Bought by', value: p.buyer ? `${p.buyer.name} <${p.buyer.email}>` : '—' },
