@@ -267,8 +267,10 @@ export const auditEventSchema = z.object({
   action: z.string(),
   subjectType: z.string().nullable(),
   subjectId: z.string().nullable(),
-  /** the subject's name when the event is about a person */
+  /** the subject's name when the event is about a person, or a figure's title */
   subjectName: z.string().nullable().default(null),
+  /** where the trail's reader (a site admin) opens the subject in the app: a figure's lab page; null otherwise */
+  subjectHref: z.string().nullable().default(null),
   reason: z.string().nullable(),
   detail: z.record(z.string(), z.unknown()).nullable(),
 });

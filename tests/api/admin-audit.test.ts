@@ -84,6 +84,14 @@ describe('publication in the trail', () => {
       ['figure.unpublish', 'Audit Boss', f!.id],
       ['figure.publish', 'Audit Writer', f!.id],
     ]);
+    // named by its title and linked to its lab page, which site admins may open, as a person is named
+    expect(events.map((e) => [e.subjectName, e.subjectHref])).toEqual([
+      ['Audited', `/lab/figures/audited-${h.tag}`],
+      ['Audited', `/lab/figures/audited-${h.tag}`],
+    ]);
+    const admin = await as(h.http.get(`/api/figures/${f!.slug}`), s.admin);
+    expect(admin.status).toBe(200);
+    expect(admin.body.figure.title).toBe('Audited');
   });
 });
 

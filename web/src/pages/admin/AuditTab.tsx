@@ -1,4 +1,4 @@
-import { useSearchParams } from 'react-router';
+import { Link, useSearchParams } from 'react-router';
 import type { AuditEvent, AuditQueryInput } from '../../api/contract.js';
 import { useAdminLabs, useAdminUsers } from '../../api/queries.js';
 import { formatDateTime } from '../../format.js';
@@ -12,11 +12,23 @@ const columns: Column<AuditEvent>[] = [
   { key: 'at', header: 'When (UTC)', cell: (e) => <span className="tnum whitespace-nowrap">{formatDateTime(e.at)}</span>, sortValue: (e) => e.at },
   { key: 'actor', header: 'Who', cell: (e) => e.actorName ?? <span className="text-ink-faint">{e.actorId ? 'former account' : 'the system'}</span>, sortValue: (e) => e.actorName },
   { key: 'action', header: 'What', cell: (e) => <span className="font-mono text-xs">{e.action}</span>, sortValue: (e) => e.action },
-  { key: 'about', header: 'About', cell: (e) => e.subjectName ?? <span className="text-ink-faint">{e.subjectType ?? '—'}</span>, sortValue: (e) => e.subjectName ?? e.subjectType },
+  { key: 'about', header: 'About', cell: (e) => <AuditSubject event={e} />, sortValue: (e) => e.subjectName ?? e.subjectType },
   { key: 'lab', header: 'Lab', cell: (e) => e.labName ?? '—', sortValue: (e) => e.labName },
   { key: 'reason', header: 'Why', cell: (e) => e.reason ?? <span className="text-ink-faint">—</span>, sortValue: (e) => e.reason },
   { key: 'detail', header: 'Detail', cell: (e) => <span className="text-xs text-ink-soft">{auditDetailText(e.detail)}</span> },
 ];
+
+/** A person by name; a figure by its title, linked to its page; anything else by its kind. */
+function AuditSubject({ event: e }: { event: AuditEvent }) {
+  if (e.subjectName === null) return <span className="text-ink-faint">{e.subjectType ?? '—'}</span>;
+  if (e.subjectType !== 'figure') return <>{e.subjectName}</>;
+  return (
+    <>
+      <span className="text-ink-faint">figure </span>
+      {e.subjectHref ? <Link to={e.subjectHref}>{e.subjectName}</Link> : e.subjectName}
+    </>
+  );
+}
 
 export function AuditTab() {
   const [params, setParams] = useSearchParams();
