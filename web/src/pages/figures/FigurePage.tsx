@@ -7,8 +7,8 @@ import { Button, EmptyState, ErrorPanel, FormError, LinkButton, Notice, PageHead
 import { FileList } from './FileList.js';
 import { figureUrl, PermanentLink } from './PermanentLink.js';
 import { readerFor } from './readerFor.js';
+import { VERSION_STATUS_WORDS, versionEndedText } from './versionWords.js';
 
-const STATUS_WORDS: Record<FigureVersion['status'], string> = { queued: 'waiting for the farm', printing: 'printing', ready: 'ready', failed: 'failed' };
 
 function sizeText(v: FigureVersion): string {
   const s = v.spec.size;
@@ -82,13 +82,13 @@ export function FigurePage() {
                       Version {v.number} <span className="ml-2 text-sm font-normal text-ink-soft">{sizeText(v)}</span>
                     </h3>
                     <span className={`text-sm font-medium ${v.status === 'ready' ? 'text-leaf' : v.status === 'failed' ? 'text-stamp' : 'text-amber'}`} data-testid={`version-${v.number}-status`}>
-                      {STATUS_WORDS[v.status]}
+                      {VERSION_STATUS_WORDS[v.status]}
                     </span>
                   </div>
                   <p className="mt-1 text-xs text-ink-faint">
                     ordered {formatDateTime(v.createdAt)}
                     {v.orderedBy ? ` by ${v.orderedBy}` : ''}
-                    {v.finishedAt ? ` · done ${formatDateTime(v.finishedAt)}` : ''}
+                    {v.finishedAt ? ` · ${versionEndedText(v, formatDateTime)}` : ''}
                     {v.stage ? ` · ${v.stage}` : ''}
                     {v.publishedAt ? ` · published ${formatDateTime(v.publishedAt)}` : ''}
                   </p>
@@ -130,7 +130,7 @@ export function FigurePage() {
                 {draft
                   ? draft.status === 'ready'
                     ? `Version ${draft.number} has the changes: publish it to show them.`
-                    : `Version ${draft.number} has the changes and is ${STATUS_WORDS[draft.status]}; publish it once it is ready.`
+                    : `Version ${draft.number} has the changes and is ${VERSION_STATUS_WORDS[draft.status]}; publish it once it is ready.`
                   : 'Print again, then publish the new version to show them.'}
               </Notice>
             </div>
