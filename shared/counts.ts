@@ -73,6 +73,15 @@ export function formatCountText(n: number | bigint): string {
   return `${groupThousands(n)} (${p.approximate ? '≈ ' : ''}${tenPowerText(p.mantissa, p.exponent)})`;
 }
 
+/**
+ * "n = 10⁶" for powers of ten, "n = 40,000" otherwise: the grain count in titles a reader can scan
+ * (the API's series runs, the composer's suggested figure title), with the pages' superscripts.
+ */
+export function chipsLabel(n: number): string {
+  const p = powerOfTen(n);
+  return p && p.mantissa === '1' && !p.approximate ? `n = ${tenPowerText(1, p.exponent)}` : `n = ${groupThousands(n)}`;
+}
+
 const compact = new Intl.NumberFormat('en-US', { notation: 'compact', maximumSignificantDigits: 3 });
 
 /**

@@ -45,6 +45,20 @@ describe('figures in the browser', () => {
       .poll(async () => (await apiCall<{ run: { status: string } }>(page, 'GET', `/api/runs/${submitted.body.run.id}`)).body.run.status, { timeout: 90_000, interval: 500 })
       .toBe('finished');
 
+    // an address naming a run that does not exist says so and lets the author pick one: the newest run is not swapped in
+    await page.goto('/figures/new?run=00000000-0000-4000-8000-000000000000');
+    const refused = page.getByTestId('compose-run-refused');
+    await refused.getByText('That run cannot be found').waitFor();
+    expect(await page.getByTestId('panel-0').count()).toBe(0);
+    await screenshot(page, 'figures-compose-unknown-run');
+    await refused.getByLabel('Run to start from').selectOption(submitted.body.run.id);
+    await refused.getByRole('button', { name: 'Start from this run' }).click();
+    await page.getByTestId('panel-0').waitFor();
+    expect(new URL(page.url()).searchParams.get('run')).toBe(submitted.body.run.id);
+    expect(await page.getByTestId('panel-0').getByLabel('Run', { exact: true }).inputValue()).toBe(submitted.body.run.id);
+    // the title's example is that run's lattice and grain count, not a fixed "n = 10⁶"
+    expect(await page.getByLabel('Title').getAttribute('placeholder')).toBe('Square lattice (Z²), n = 10³');
+
     // compose: the proof follows the settings, the engine's warnings are shown in words
     await page.goto('/figures/new');
     // the run's background is 0 everywhere: its difference layer is not offered
@@ -300,6 +314,11 @@ describe('figures in the browser', () => {
     await screenshot(other, 'figures-other-lab-edit');
     await other.goto('/lab/figures/no-such-figure-here/edit');
     await other.getByText('No figure to edit here').waitFor();
+    // nor start a figure from its run: refused in words, and this lab has no finished run to offer instead
+    await other.goto(`/figures/new?run=${submitted.body.run.id}`);
+    await other.getByTestId('compose-run-refused').getByText('That run cannot be found').waitFor();
+    await other.getByTestId('compose-run-refused').getByText(/^Figures are composed from finished runs/).waitFor();
+    expect(await other.getByTestId('panel-0').count()).toBe(0);
     // the lab page of a published figure sends another lab's member to its permanent link
     await other.goto('/lab/figures/a-thousand-grains-on-z2');
     await other.waitForURL(/\/f\/a-thousand-grains-on-z2$/);

@@ -6,7 +6,7 @@
 import { formatDuration } from '../../shared/duration.js';
 
 // the count and duration rules live in shared/ so API-made titles follow them too; re-exported for the pages
-export { formatCountText, groupThousands, powerOfTen, superscriptDigits, withUnit, type PowerOfTen } from '../../shared/counts.js';
+export { chipsLabel, formatCountText, groupThousands, powerOfTen, superscriptDigits, withUnit, type PowerOfTen } from '../../shared/counts.js';
 export { formatDuration } from '../../shared/duration.js';
 
 

@@ -1,7 +1,7 @@
 import { asc, eq, sql } from 'drizzle-orm';
 import { Router } from 'express';
 import { createSeriesRequestSchema, seriesParamsSchema, seriesResponseSchema } from '../../../shared/api/series.js';
-import { groupThousands, powerOfTen, superscriptDigits } from '../../../shared/counts.js';
+import { chipsLabel } from '../../../shared/counts.js';
 import { runs, series, users } from '../../../drizzle/schema.js';
 import { authOf, checkLabAccess, requireUser, requireVerified } from '../auth/middleware.js';
 import type { AppDeps } from '../deps.js';
@@ -10,12 +10,6 @@ import { respond } from '../http/respond.js';
 import { validate } from '../http/validate.js';
 import { createRuns } from '../services/runs.js';
 import { runView } from '../services/views.js';
-
-/** "n = 10⁶" for powers of ten, "n = 40,000" otherwise: titles a reader can scan, with the pages' superscripts. */
-export function chipsLabel(n: number): string {
-  const p = powerOfTen(n);
-  return p && p.mantissa === '1' && !p.approximate ? `n = 10${superscriptDigits(p.exponent)}` : `n = ${groupThousands(n)}`;
-}
 
 export function seriesRouter({ db, queue, log }: AppDeps): Router {
   const r = Router();

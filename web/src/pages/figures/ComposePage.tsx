@@ -14,8 +14,8 @@ import {
 import { regionText, unreducedNote } from '../../../../shared/print-words.js';
 import { layoutFigure } from '../../../../shared/print-layout.js';
 import type { FigureDetail, FigureResponse, Run } from '../../api/contract.js';
-import { isStatus } from '../../api/ApiError.js';
-import { useCreateFigure, useFigure, useMe, useRuns, useUpdateFigure } from '../../api/queries.js';
+import { isApiError, isStatus } from '../../api/ApiError.js';
+import { useCreateFigure, useFigure, useMe, useRun, useRuns, useUpdateFigure } from '../../api/queries.js';
 import { isZeroBackground } from '../../../../shared/run-spec.js';
 import { latticeOfSpec } from '../../labels.js';
 import { drawnOf } from '../../viewer/drawnViews.js';
@@ -27,6 +27,8 @@ import { PrintSizeNote } from './PrintSizeNote.js';
 import { fixedPageMm } from './printSize.js';
 import { saveBlockedReason } from './saveBlocked.js';
 import { specIssueLines } from './specIssues.js';
+import { NO_FINISHED_RUNS, startingRun } from './startingRun.js';
+import { titleHint } from './titleHint.js';
 
 const DPI_PRESETS = [150, 300, 600, 1200] as const;
 const LAYER_NAMES: Record<string, string> = { heights: 'final heights', toppled: 'toppled sites only', difference: 'difference from the background', odometer: 'odometer (log scale)' };
@@ -67,12 +69,64 @@ export function ComposePage() {
   }
   if (!labId) return <EmptyState title="No lab yet">Join or create a lab to compose figures from its runs.</EmptyState>;
   const finished = runs.data.runs.filter((r) => r.stats);
-  if (finished.length === 0) {
-    return <EmptyState title="No finished runs yet">Figures are composed from finished runs; submit a run and come back when it is done.</EmptyState>;
-  }
   const figure = slug && existing.data && !existing.data.withdrawn ? existing.data.figure : null;
-  const first = finished.find((r) => r.id === params.get('run')) ?? finished[0]!;
-  return <Composer key={figure?.id ?? 'new'} labId={labId} runs={finished} figure={figure} firstRunId={first.id} />;
+  if (figure) {
+    if (finished.length === 0) return <EmptyState title={NO_FINISHED_RUNS.title}>{NO_FINISHED_RUNS.text}</EmptyState>;
+    return <Composer key={figure.id} labId={labId} runs={finished} figure={figure} firstRunId={finished[0]!.id} />;
+  }
+  return <NewFigure labId={labId} finished={finished} asked={params.get('run')} />;
+}
+
+/** A new figure starts from the run its address names, or the newest; a run it cannot use is said, not swapped. */
+function NewFigure({ labId, finished, asked }: { labId: string; finished: Run[]; asked: string | null }) {
+  const unlisted = asked !== null && asked !== '' && !finished.some((r) => r.id === asked);
+  const lookup = useRun(unlisted ? asked : '');
+  // a 4xx is the API's "no such run for you"; anything else is an outage, not an answer about the run
+  if (lookup.isError && !isClientError(lookup.error)) return <ErrorPanel error={lookup.error} />;
+  const start = startingRun(asked, finished, labId, { pending: unlisted && lookup.isPending, run: lookup.data?.run ?? null });
+  if (start.kind === 'looking') return <SkeletonBlock lines={10} />;
+  if (start.kind === 'refused') {
+    if (!unlisted) return <EmptyState title={start.title}>{start.text}</EmptyState>;
+    return <PickARun title={start.title} text={start.text} runs={finished} />;
+  }
+  // a run older than the listed ones is still the lab's own: offered beside them
+  const runs = finished.includes(start.run) ? finished : [start.run, ...finished];
+  return <Composer key="new" labId={labId} runs={runs} figure={null} firstRunId={start.run.id} />;
+}
+
+const isClientError = (e: unknown) => isApiError(e) && e.status >= 400 && e.status < 500;
+
+function PickARun({ title, text, runs }: { title: string; text: string; runs: Run[] }) {
+  const navigate = useNavigate();
+  const [picked, setPicked] = useState(runs[0]?.id ?? '');
+  return (
+    <div className="flex max-w-2xl flex-col gap-6" data-testid="compose-run-refused">
+      <PageHeading overline="New figure" title="Compose a figure" />
+      <Notice tone="warning" title={title}>
+        {text}
+      </Notice>
+      {runs.length === 0 ? (
+        <p className="text-sm text-ink-soft">{NO_FINISHED_RUNS.text}</p>
+      ) : (
+        <form
+          className="flex flex-wrap items-end gap-3"
+          onSubmit={(e) => {
+            e.preventDefault();
+            navigate(`/figures/new?run=${encodeURIComponent(picked)}`, { replace: true });
+          }}
+        >
+          <SelectField label="Run to start from" value={picked} onChange={(e) => setPicked(e.target.value)} fieldClassName="min-w-0 flex-1">
+            {runs.map((r) => (
+              <option key={r.id} value={r.id}>
+                {r.title}
+              </option>
+            ))}
+          </SelectField>
+          <Button type="submit">Start from this run</Button>
+        </form>
+      )}
+    </div>
+  );
 }
 
 function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Run[]; figure: FigureDetail | null; firstRunId: string }) {
@@ -114,6 +168,8 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
   const live = figure && figure.publishedVersion !== null && figure.withdrawnAt === null;
 
   const size = spec.size;
+  // the title's example follows the run the figure shows first
+  const firstPanelRun = runs.find((r) => r.id === spec.panels[0]?.runId);
   const rescaled = rescaledUnitName(spec.panels.flatMap((p) => runs.find((r) => r.id === p.runId)?.stats?.shape.length ?? []));
   // a page past the pixel limit does not parse, yet its size and the DPI that would fit are still shown
   const pageMm = layout ? { width: layout.page.widthMm, height: layout.page.heightMm } : fixedPageMm(size);
@@ -135,7 +191,7 @@ function Composer({ labId, runs, figure, firstRunId }: { labId: string; runs: Ru
         <div className="flex flex-col gap-6">
           <Section title="Title and caption">
             <div className="flex flex-col gap-4">
-              <TextField label="Title" value={draft.title} required maxLength={200} onChange={(e) => setDraft({ ...draft, title: e.target.value })} placeholder="Square lattice, n = 10⁶" />
+              <TextField label="Title" value={draft.title} required maxLength={200} onChange={(e) => setDraft({ ...draft, title: e.target.value })} placeholder={firstPanelRun ? titleHint(firstPanelRun.spec) : undefined} />
               <label className="flex flex-col gap-1.5 text-sm font-medium text-ink">
                 Caption (printed under the panels, and shown on the reader page)
                 <textarea
