@@ -84,7 +84,7 @@ describe('certificates in the browser', () => {
     // two runs: each line names its own run; no figure-wide "Grains at the origin" of the first run alone,
     // and no empty caption box (this figure has none)
     expect(await reader.getByText('Grains at the origin').count()).toBe(0);
-    await reader.getByText(/2,000 .*grains on Z² \(square\), constant background/).first().waitFor();
+    await reader.getByText(/2,000 .*grains on square lattice \(Z²\), constant background/).first().waitFor();
     expect(await reader.getByTestId('figure-caption').count()).toBe(0);
     await reader.getByRole('heading', { name: 'The runs' }).scrollIntoViewIfNeeded();
     await screenshot(reader, 'cert-figure-reader');
