@@ -11,7 +11,7 @@ import { backgroundField } from '../../renderer/src/engine/background.js';
 import { periodicLattice } from '../../renderer/src/engine/lattice.js';
 import { shutdownWorkers } from '../../renderer/src/engine/parallel.js';
 import { stabilizeScaled, type LevelInfo, type ScaleProgress } from '../../renderer/src/scale/scaled.js';
-import { foldOf, foldXY, multiplicity } from '../../renderer/src/scale/symmetry.js';
+import { countToppledFolded, foldOf, foldXY, inDomain, multiplicity } from '../../renderer/src/scale/symmetry.js';
 import { comparable, problem } from '../engine/helpers.js';
 
 afterAll(() => shutdownWorkers());
@@ -50,6 +50,25 @@ describe('which runs fold', () => {
     expect(foldXY('quadrant', -3, 5)).toEqual([3, 5]);
     // 8 images off the axes and the diagonal, 4 on them, 1 at the origin (common practice: D4 orbits)
     expect([multiplicity('octant', 3, 1), multiplicity('octant', 3, 0), multiplicity('octant', 2, 2), multiplicity('octant', 0, 0)]).toEqual([8, 4, 4, 1]);
+  });
+
+  it('counts the sites a folded grid stands for row by row as the images of each cell add up', () => {
+    // random toppled cells inside each fold's domain (cells outside never topple); the reference sums
+    // the multiplicity of every cell, the count under test corrects only the axis and the mirror line
+    let seed = 12345;
+    const rand = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+    for (const f of ['octant', 'quadrant', 'half', 'wedge'] as const) {
+      const W = 41, H = 37, ox = 9, oy = 17;
+      const od = new Uint32Array(W * H);
+      let reference = 0;
+      for (let y = 0; y < H; y++)
+        for (let x = 0; x < W; x++)
+          if (inDomain(f, x - ox, y - oy) && rand() < 0.7) {
+            od[y * W + x] = 1 + Math.floor(rand() * 9);
+            reference += multiplicity(f, x - ox, y - oy);
+          }
+      expect([f, countToppledFolded({ W, H, ox, oy, od }, f)]).toEqual([f, reference]);
+    }
   });
 
   it('folds sites onto the half plane X ≥ 0', () => {

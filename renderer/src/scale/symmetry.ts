@@ -188,12 +188,32 @@ export function unfitSeedHarmless(grid: ScaleGrid, fb: FoldedBoundary, unfit: re
   });
 }
 
-/** Toppled lattice sites a folded grid stands for (progress). */
-export function countToppledFolded(grid: ScaleGrid, f: Fold): number {
+/**
+ * Toppled lattice sites a folded grid stands for (progress). A row's cells share one multiplicity
+ * except on the axis and the mirror line, so each row is counted with a plain loop and those one or
+ * two cells corrected (a multiplicity per cell took 1.2–1.6 s on the 1.3·10^8 cells of square 10^9's
+ * eighth, on every progress report). Cells outside the domain hold no topplings.
+ */
+export function countToppledFolded(grid: Pick<ScaleGrid, 'W' | 'H' | 'ox' | 'oy' | 'od'>, f: Fold): number {
   const { W, H, ox, oy, od } = grid;
   let n = 0;
-  for (let y = 0; y < H; y++)
-    for (let x = 0; x < W; x++) if (od[y * W + x] !== 0) n += multiplicity(f, x - ox, y - oy);
+  for (let y = 0; y < H; y++) {
+    const Y = y - oy;
+    const row = y * W;
+    let c = 0;
+    for (let i = row, e = row + W; i < e; i++) c += +(od[i] !== 0);
+    if (c === 0) continue;
+    // the multiplicity of a cell off the special ones: X > 0, off the mirror line
+    const common = multiplicity(f, Math.abs(Y) === 1 ? 2 : 1, Y);
+    n += common * c;
+    const special = f === 'octant' ? [0, Y] : f === 'wedge' ? [0, Math.abs(Y)] : [0];
+    for (let s = 0; s < special.length; s++) {
+      const X = special[s]!;
+      if (s > 0 && X === special[0]) continue;
+      const x = X + ox;
+      if (x >= 0 && x < W && od[row + x] !== 0) n += multiplicity(f, X, Y) - common;
+    }
+  }
   return n;
 }
 
