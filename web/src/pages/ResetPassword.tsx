@@ -6,7 +6,7 @@ import { isStatus } from '../api/ApiError.js';
 import { keys, useResetLinkCheck } from '../api/queries.js';
 import { mailedLinkLifetime, mailedTokenSchema, PASSWORD_MIN_LENGTH, passwordResetCompleteRequestSchema, type MailedLinkRefusal } from '../api/contract.js';
 import { formatDateTime } from '../format.js';
-import { Button, EmptyState, ErrorPanel, FormError, FormSheet, LinkButton, Notice, SkeletonBlock, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
+import { Button, EmptyState, ErrorPanel, FormError, FormSheet, LinkButton, NewPasswordField, Notice, SkeletonBlock, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 
 /** Why a link is refused, in words, with what to do about it; every case offers a new link. */
 const REFUSALS: Record<MailedLinkRefusal | 'incomplete', { title: string; why: string }> = {
@@ -95,15 +95,7 @@ export function ResetPassword() {
   } else {
     body = (
       <form noValidate onSubmit={submit} className="space-y-5">
-        <TextField
-          label="New password"
-          name="password"
-          type="password"
-          autoComplete="new-password"
-          error={errors.password}
-          hint={`At least ${PASSWORD_MIN_LENGTH} characters.`}
-          autoFocus
-        />
+        <NewPasswordField label="New password" minLength={PASSWORD_MIN_LENGTH} error={errors.password} autoFocus />
         <TextField label="Repeat it" name="repeat" type="password" autoComplete="new-password" error={errors.repeat} />
         {errors.token ? <FormError error={new Error(`link: ${errors.token}`)} /> : null}
         {complete.isError && !Object.keys(errors).length ? (

@@ -4,7 +4,7 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { api } from '../api/client.js';
 import { keys } from '../api/queries.js';
 import { PASSWORD_MIN_LENGTH, signUpRequestSchema, type UserResponse } from '../api/contract.js';
-import { Button, FormError, FormSheet, LinkButton, Notice, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
+import { Button, FormError, FormSheet, LinkButton, NewPasswordField, Notice, TextField, validate, serverFieldErrors, type FieldErrors } from '../ui/index.js';
 import { OutboxHint } from './OutboxHint.js';
 import { safeNext } from '../auth/nextPath.js';
 
@@ -63,14 +63,7 @@ export function SignUp() {
       <form noValidate onSubmit={submit} className="space-y-5">
         <TextField label="Your name" name="name" autoComplete="name" error={errors.name} autoFocus />
         <TextField label="E-mail" name="email" type="email" autoComplete="email" error={errors.email} defaultValue={params.get('email') ?? undefined} />
-        <TextField
-          label="Password"
-          name="password"
-          type="password"
-          autoComplete="new-password"
-          error={errors.password}
-          hint={`At least ${PASSWORD_MIN_LENGTH} characters.`}
-        />
+        <NewPasswordField minLength={PASSWORD_MIN_LENGTH} error={errors.password} />
         {signUp.isError && !Object.keys(errors).length ? <FormError error={signUp.error} /> : null}
         {errors.body ? <FormError error={new Error(errors.body)} /> : null}
         <div className="flex justify-end">

@@ -57,6 +57,14 @@ export function TextField({ label, hint, error, mono, fieldClassName, className 
   );
 }
 
+/**
+ * A password being chosen (sign-up, reset): the rule shown up front and the browser told it is new,
+ * so password managers offer to generate and save one.
+ */
+export function NewPasswordField({ label = 'Password', minLength, ...rest }: Omit<TextFieldProps, 'type' | 'autoComplete' | 'hint' | 'name' | 'label'> & { label?: string; minLength: number }) {
+  return <TextField label={label} name="password" type="password" autoComplete="new-password" hint={`At least ${minLength} characters.`} {...rest} />;
+}
+
 interface SelectFieldProps extends Omit<SelectHTMLAttributes<HTMLSelectElement>, 'id'> {
   label: ReactNode;
   hint?: ReactNode;
