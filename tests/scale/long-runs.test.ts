@@ -79,6 +79,30 @@ describe('progress and cancellation', () => {
     expect(seen.some((s) => typeof s.secondsLeft === 'number' && s.secondsLeft > 0)).toBe(true);
   }, 120_000);
 
+  it('a resumed run goes on from the fraction its checkpoint had reached, and times what is left by its own pace', async () => {
+    // checkpoints at every pause of the finest level; the one kept is the last, with the fraction
+    // reported just before it was written (saves follow the report of the same pause)
+    const p = problem({ lattice: { preset: 'square' }, chips: 2_000_000 });
+    let saved: Snapshot | null = null;
+    let lastFraction = 0, savedFraction = 0;
+    await stabilizeScaled(p, {
+      threads: 1,
+      onProgress: (pr) => (lastFraction = pr.fraction),
+      checkpoint: { everySeconds: 0, save: (s) => s.kind === 'seeded' && s.level === 0 && ((saved = structuredClone(s)), (savedFraction = lastFraction)) },
+    });
+    const snap = saved as Snapshot | null;
+    if (snap?.kind !== 'seeded') throw new Error('no checkpoint of the finest level was written');
+    expect(snap.levelEvents).toBeGreaterThan(0);
+    expect(savedFraction).toBeGreaterThan(0.3);
+    const seen: ScaleProgress[] = [];
+    await stabilizeScaled(p, { threads: 1, resume: snap, onProgress: (pr) => seen.push(pr) });
+    // before the level's events were kept, the fraction fell back to the level's start (0.08 here)
+    expect(seen[0]!.fraction).toBeGreaterThanOrEqual(savedFraction);
+    // what this process has done so far is all the time left is based on: nothing yet, no estimate
+    expect(seen[0]!.secondsLeft).toBeNull();
+    expect(seen.at(-1)!.fraction).toBe(1);
+  }, 120_000);
+
   it('an abort stops the run promptly with the signal reason', async () => {
     const ac = new AbortController();
     let abortedAt = 0;

@@ -36,6 +36,8 @@ export interface SeededSnapshot extends SnapshotBase {
   coarse: CoarseLevel | null;
   repairRounds: number;
   prevEvents: number;
+  /** toppling events of this level so far (progress carries on from them after a resume) */
+  levelEvents?: number;
   /** the grid covers the fundamental domain of this mirror symmetry only (scale/symmetry.ts) */
   fold?: 'quadrant' | 'octant' | 'wedge' | 'half';
 }
@@ -108,6 +110,7 @@ const headerSchema = z.discriminatedUnion('kind', [
     level: int.min(0),
     repairRounds: int.min(0),
     prevEvents: z.number().min(0),
+    levelEvents: z.number().min(0).optional(),
     fold: z.enum(['quadrant', 'octant', 'wedge', 'half']).optional(),
     grid: z.strictObject({ W: int.min(1), H: int.min(1), ox: int, oy: int, guard: int.min(1) }),
     coarse: z.strictObject({ chips: int.min(0), W: int.min(1), H: int.min(1), ox: int, oy: int, gain: z.number().nullable(), toppled: box }).nullable(),
@@ -144,7 +147,7 @@ export function encodeSnapshot(s: Snapshot): Uint8Array[] {
       arrays.push(['coarseU', u]);
       if (err) arrays.push(['coarseErr', err]);
     }
-    meta = { level: s.level, repairRounds: s.repairRounds, prevEvents: s.prevEvents, grid, coarse, ...(s.fold ? { fold: s.fold } : {}) };
+    meta = { level: s.level, repairRounds: s.repairRounds, prevEvents: s.prevEvents, ...(s.levelEvents ? { levelEvents: s.levelEvents } : {}), grid, coarse, ...(s.fold ? { fold: s.fold } : {}) };
   } else {
     arrays = [['h', s.h], ['od', s.od], ['reserves', s.reserves]];
     meta = { tiles: s.tiles, origin: s.origin, injected: s.injected, roundFed: s.roundFed };
@@ -218,7 +221,7 @@ export function decodeSnapshot(bytes: Uint8Array): Snapshot {
       const cc = head.coarse.W * head.coarse.H;
       coarse = { ...head.coarse, u: needOdometer('coarseU', cc), err: got.has('coarseErr') ? need('coarseErr', Float32Array, cc) : null };
     }
-    return { kind: 'seeded', format: SNAPSHOT_FORMAT, engineVersion: head.engineVersion, specKey: head.specKey, level: head.level, grid, coarse, repairRounds: head.repairRounds, prevEvents: head.prevEvents, ...(head.fold ? { fold: head.fold } : {}) };
+    return { kind: 'seeded', format: SNAPSHOT_FORMAT, engineVersion: head.engineVersion, specKey: head.specKey, level: head.level, grid, coarse, repairRounds: head.repairRounds, prevEvents: head.prevEvents, ...(head.levelEvents ? { levelEvents: head.levelEvents } : {}), ...(head.fold ? { fold: head.fold } : {}) };
   }
   const h = got.get('h');
   if (!(h instanceof Int32Array)) throw new SnapshotError("the checkpoint's array h is missing or has the wrong type");

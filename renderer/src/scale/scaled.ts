@@ -209,6 +209,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
   let resumeGrid: ScaleGrid | null = null;
   let repairRounds = 0;
   let prevEvents = 0;
+  /** events the resumed level had done before its checkpoint (progress goes on from there) */
+  let resumedEvents = 0;
   /** the last level's peeling marks, lent to the certificate with the stack (peak memory) */
   let lastMark: Uint8Array | null = null;
 
@@ -219,9 +221,12 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     resumeGrid = s.grid;
     repairRounds = s.repairRounds;
     prevEvents = s.prevEvents;
+    resumedEvents = s.levelEvents ?? 0;
   }
 
   let best = 0;
+  /** the fraction when this process began: a resumed run's time left comes from its own pace */
+  let startFraction: number | null = null;
   let lastReport = 0;
   let lastYield = performance.now();
   let lastSave = performance.now();
@@ -236,7 +241,9 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     for (let l = L - 1; l > level; l--) done += weights[l]!;
     const f = stage === 'done' ? 1 : Math.min(0.99, (done + weights[level]! * Math.min(0.99, inLevel)) / totalWeight);
     best = Math.max(best, f);
+    startFraction ??= options.resume ? best : 0;
     const elapsed = (now - t0) / 1000;
+    const gained = best - startFraction;
     let toppled = knownToppled;
     if (grid) {
       // counting reads the whole grid (0.1 s per 10^7 cells): between forced reports it runs at most
@@ -252,7 +259,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     }
     options.onProgress({
       stage, fraction: best, toppledSites: toppled, level: L - 1 - level, levels: L,
-      secondsLeft: stage === 'done' ? 0 : best > 0.01 ? (elapsed * (1 - best)) / best : null,
+      secondsLeft: stage === 'done' ? 0 : gained > 0.01 ? (elapsed * (1 - best)) / gained : null,
     });
   };
 
@@ -301,7 +308,8 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
     const repairsBefore = repairRounds;
     let tRepair = tLevel;
     const expected = Math.max(1, prevEvents * 12);
-    let events = 0;
+    let events = resumedEvents;
+    resumedEvents = 0;
     let lowered = false;
     // between batches of topplings (a legal state): timers, progress, abort requests and checkpoints
     const pauseIfDue = async (eventsNow: number) => {
@@ -311,7 +319,7 @@ export async function stabilizeScaled(problem: Problem, options: ScaleOptions = 
       if (options.signal?.aborted) throw abortError(options.signal);
       report('relax', level, prevEvents ? eventsNow / expected : 0.5, grid, false, fb?.fold ?? null);
       if (options.checkpoint && lastYield - lastSave > options.checkpoint.everySeconds * 1000) {
-        options.checkpoint.save({ ...(base ??= snapshotBase(problem)), kind: 'seeded', level, grid, coarse, repairRounds, prevEvents, ...(fb ? { fold: fb.fold } : {}) });
+        options.checkpoint.save({ ...(base ??= snapshotBase(problem)), kind: 'seeded', level, grid, coarse, repairRounds, prevEvents, levelEvents: eventsNow, ...(fb ? { fold: fb.fold } : {}) });
         lastSave = performance.now();
       }
     };
