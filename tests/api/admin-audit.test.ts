@@ -95,6 +95,17 @@ describe('publication in the trail', () => {
   });
 });
 
+describe('runs in the trail', () => {
+  it('names a run by its title and links its page, which a site admin may open', async () => {
+    const created = await as(h.http.post('/api/runs'), s.writer).send({ labId, title: `Audited run ${h.tag}`, spec: { lattice: { preset: 'square' }, chips: 5 } });
+    expect(created.status).toBe(201);
+    const id: string = created.body.run.id;
+    const events = (await trail(`labId=${labId}&kind=run.`)).filter((e) => e.subjectId === id);
+    expect(events.map((e) => [e.action, e.actorName, e.subjectName, e.subjectHref])).toEqual([['run.create', 'Audit Writer', `Audited run ${h.tag}`, `/runs/${id}`]]);
+    expect((await as(h.http.get(`/api/runs/${id}`), s.admin)).status).toBe(200);
+  });
+});
+
 describe('filtering by person', () => {
   it('finds what was done to someone as well as what they did', async () => {
     const res = await as(h.http.put(`/api/labs/${labId}/members/${p.writer.id}/role`), s.boss).send({ role: 'manager', reason: 'co-runs the lab now' });
