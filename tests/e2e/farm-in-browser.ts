@@ -30,3 +30,23 @@ export function useFarmInBrowser(options: { demo: boolean }): FarmInBrowser {
   });
   return farm;
 }
+
+export interface StackInBrowser {
+  stack: Stack;
+  browser: Browser;
+}
+
+/** The same without a farm worker: the API on its services and a browser, for pages that need no computed run. */
+export function useStackInBrowser(options: { demo: boolean }): StackInBrowser {
+  const ctx = {} as StackInBrowser;
+  beforeAll(async () => {
+    ctx.stack = await startStack();
+    if (options.demo) await seedDemo(ctx.stack.env);
+    ctx.browser = await launchBrowser();
+  });
+  afterAll(async () => {
+    await ctx.browser?.close();
+    await ctx.stack?.close();
+  });
+  return ctx;
+}

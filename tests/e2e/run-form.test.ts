@@ -1,12 +1,12 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
 import { and, eq } from 'drizzle-orm';
 import { memberships, users } from '../../drizzle/schema.js';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
+import { DEMO_SIGN_INS } from '../../api/src/seed/demo.js';
 import { estimateRun } from '../../shared/estimate.js';
 import { newRunSpecSchema } from '../../shared/run-spec.js';
-import { apiCall, launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { apiCall, newPage, screenshot, signIn } from './browser.js';
+import { useStackInBrowser } from './farm-in-browser.js';
 
 const author = DEMO_SIGN_INS.find((d) => d.role === 'author')!;
 const otherLab = DEMO_SIGN_INS.find((d) => d.role === 'other lab')!;
@@ -35,21 +35,10 @@ function refusals(page: Page): string[] {
  * refusal says the same by the button) and a run of no grains (refused beside the field, nothing sent).
  */
 describe('the new-run form with grain counts out of range', () => {
-  let stack: Stack;
-  let browser: Browser;
-
-  beforeAll(async () => {
-    stack = await startStack();
-    await seedDemo(stack.env);
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await stack?.close();
-  });
+  const e2e = useStackInBrowser({ demo: true });
 
   test('n = 10^12: the estimate refuses it for its memory, not its cost, and so does the submit', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await signIn(page, author.email, author.password);
     const refused = refusals(page);
     // the browser logs every 4xx fetch as "Failed to load resource": the estimate's answer must not be one
@@ -102,7 +91,7 @@ describe('the new-run form with grain counts out of range', () => {
   });
 
   test('n = 1e20: the hint names the largest count accepted and why; a line\'s motif speaks of the line', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await signIn(page, author.email, author.password);
     await page.goto('/runs/new');
     await page.getByLabel('Title').fill('Too many grains');
@@ -131,7 +120,7 @@ describe('the new-run form with grain counts out of range', () => {
   });
 
   test('n = 0 on the runs page: refused beside the field with the shared schema\'s message, nothing sent', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     const posted: string[] = [];
     page.on('request', (r) => {
       if (r.method() === 'POST' && new URL(r.url()).pathname === '/api/runs') posted.push(r.url());
@@ -173,7 +162,7 @@ describe('the new-run form with grain counts out of range', () => {
   });
 
   test('background heights: errors on the field as typed, and a background that can never stabilize refused there, nothing sent', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     const posted: string[] = [];
     page.on('request', (r) => {
       if (r.method() === 'POST' && new URL(r.url()).pathname === '/api/runs') posted.push(r.url());
@@ -212,7 +201,7 @@ describe('the new-run form with grain counts out of range', () => {
   });
 
   test('over the quota and short of credits: each refusal said once, in whole sentences, with the credits page as a link', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await signIn(page, author.email, author.password);
     // a quota with one credit left this month, and a run that costs more; set before the form opens,
     // whose default of 10^6 grains would otherwise fetch (and cache) the credit check under the old quota
@@ -220,8 +209,8 @@ describe('the new-run form with grain counts out of range', () => {
     expect(estimateRun(spec).credits).toBeGreaterThanOrEqual(2);
     const me = await apiCall<{ activeLabId: string; user: { id: string } }>(page, 'GET', '/api/me');
     const summary = await apiCall<{ me: { usedThisMonth: number } }>(page, 'GET', `/api/labs/${me.body.activeLabId}/credits`);
-    const [row] = await stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
-    await stack.deps.db.update(memberships).set({ monthlyQuota: summary.body.me.usedThisMonth + 1 }).where(and(eq(memberships.labId, me.body.activeLabId), eq(memberships.userId, row!.id)));
+    const [row] = await e2e.stack.deps.db.select({ id: users.id }).from(users).where(eq(users.email, author.email));
+    await e2e.stack.deps.db.update(memberships).set({ monthlyQuota: summary.body.me.usedThisMonth + 1 }).where(and(eq(memberships.labId, me.body.activeLabId), eq(memberships.userId, row!.id)));
     await page.goto('/runs/new');
 
     await page.getByLabel('Title').fill('Over the quota');
@@ -235,7 +224,7 @@ describe('the new-run form with grain counts out of range', () => {
     await screenshot(page, 'run-form-over-quota-submit');
 
     // the other lab has spent its small allowance and its paid credits
-    const other = await newPage(browser, stack.url);
+    const other = await newPage(e2e.browser, e2e.stack.url);
     await signIn(other, otherLab.email, otherLab.password);
     await other.goto('/runs/new');
     await other.getByLabel('Title').fill('Other lab try');

@@ -1,13 +1,13 @@
 import { randomBytes } from 'node:crypto';
 import { eq } from 'drizzle-orm';
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
 import { emailTokens } from '../../drizzle/schema.js';
 import type { OutboxMessage } from '../../shared/api/dev.js';
 import { sha256Hex } from '../../api/src/auth/secrets.js';
-import { launchBrowser, newPage, screenshot } from './browser.js';
+import { newPage, screenshot } from './browser.js';
 import { linkTo, waitForMail } from './outbox.js';
-import { startStack, type Stack } from './stack.js';
+import { useStackInBrowser } from './farm-in-browser.js';
 
 /** The link to `pathname` of a mail to `to` other than `seen`: a second mail of the same kind. */
 async function nextMailLink(outboxUrl: string, to: string, subject: RegExp, pathname: string, seen: string): Promise<string> {
@@ -24,20 +24,10 @@ async function nextMailLink(outboxUrl: string, to: string, subject: RegExp, path
 
 /** Mailed links end to end: sign-up confirmation from the development outbox, and a password reset. */
 describe('mailed links in the browser', () => {
-  let stack: Stack;
-  let browser: Browser;
-
-  beforeAll(async () => {
-    stack = await startStack();
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await stack?.close();
-  });
+  const e2e = useStackInBrowser({ demo: false });
 
   test('the form checks input with the shared schema, then the mailed link confirms the address', async () => {
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     const email = `ada.quill+${Date.now()}@example.org`;
     let signUpRequests = 0;
     page.on('request', (r) => {
@@ -63,7 +53,7 @@ describe('mailed links in the browser', () => {
     await screenshot(page, 'sign-up-done');
 
     // The same address twice is refused by the API, and its message is shown.
-    const again = await newPage(browser, stack.url);
+    const again = await newPage(e2e.browser, e2e.stack.url);
     await again.goto('/sign-up');
     await again.getByLabel('Your name').fill('Ada Quill');
     await again.getByLabel('E-mail').fill(email);
@@ -72,9 +62,9 @@ describe('mailed links in the browser', () => {
     await again.getByRole('alert').first().waitFor();
     expect(await again.getByRole('alert').first().textContent()).toMatch(/e-mail|exists|already/i);
 
-    const mail = await waitForMail(stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i);
+    const mail = await waitForMail(e2e.stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i);
     const link = linkTo(mail, '/verify-email');
-    expect(link.startsWith(`${stack.url}/verify-email?token=`)).toBe(true);
+    expect(link.startsWith(`${e2e.stack.url}/verify-email?token=`)).toBe(true);
 
     // Follow it the way a developer would: from the outbox page.
     await page.goto('/dev/outbox');
@@ -96,18 +86,18 @@ describe('mailed links in the browser', () => {
 
   test('a confirmation link that no longer works says so on arrival and offers a new one', async () => {
     const email = `dora.grain+${Date.now()}@example.org`;
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await page.goto('/sign-up');
     await page.getByLabel('Your name').fill('Dora Grain');
     await page.getByLabel('E-mail').fill(email);
     await page.getByLabel('Password').fill('a long enough passphrase');
     await page.getByRole('button', { name: 'Create account' }).click();
     await page.getByRole('heading', { name: 'Check your e-mail' }).waitFor();
-    const first = linkTo(await waitForMail(stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i), '/verify-email');
+    const first = linkTo(await waitForMail(e2e.stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i), '/verify-email');
 
     // well formed, never mailed: a reader who is not signed in is sent to sign in first
     const dead = `/verify-email?token=${randomBytes(32).toString('base64url')}`;
-    const stranger = await newPage(browser, stack.url);
+    const stranger = await newPage(e2e.browser, e2e.stack.url);
     await stranger.goto(dead);
     await stranger.getByText('This confirmation link no longer works').waitFor();
     await stranger.getByRole('link', { name: 'Sign in to get a new link' }).waitFor();
@@ -118,28 +108,28 @@ describe('mailed links in the browser', () => {
     await page.getByRole('button', { name: 'Mail a new link' }).click();
     await page.getByText('Mail on its way').waitFor();
     await screenshot(page, 'verify-email-new-link');
-    const second = await nextMailLink(stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i, '/verify-email', first);
+    const second = await nextMailLink(e2e.stack.env.MAIL_OUTBOX_URL!, email, /confirm|verif/i, '/verify-email', first);
     await page.goto(second);
     await page.getByText('E-mail confirmed').waitFor();
   });
 
   test('a forgotten password is reset from the mailed link, and only the new one signs in', async () => {
     const email = `bram.ledger+${Date.now()}@example.org`;
-    const created = await fetch(`${stack.url}/api/auth/sign-up`, {
+    const created = await fetch(`${e2e.stack.url}/api/auth/sign-up`, {
       method: 'POST',
       headers: { 'Content-Type': 'application/json' },
       body: JSON.stringify({ email, password: 'the first passphrase', name: 'Bram Ledger' }),
     });
     expect(created.status).toBe(201);
 
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await page.goto('/sign-in');
     await page.getByRole('link', { name: 'Forgot your password?' }).click();
     await page.getByLabel('E-mail').fill(email);
     await page.getByRole('button', { name: 'Send reset link' }).click();
     await page.getByText('Mail on its way').waitFor();
 
-    const mail = await waitForMail(stack.env.MAIL_OUTBOX_URL!, email, /password|reset/i);
+    const mail = await waitForMail(e2e.stack.env.MAIL_OUTBOX_URL!, email, /password|reset/i);
     await page.goto(linkTo(mail, '/reset-password'));
     await page.getByLabel('New password').fill('the second passphrase');
     await page.getByLabel('Repeat it').fill('the second passphrase!');
@@ -166,18 +156,18 @@ describe('mailed links in the browser', () => {
 
   test('a reset link says on arrival whether it still works, and a dead one offers a new link instead of the form', async () => {
     const email = `cara.sifter+${Date.now()}@example.org`;
-    const created = await fetch(`${stack.url}/api/auth/sign-up`, {
+    const created = await fetch(`${e2e.stack.url}/api/auth/sign-up`, {
       method: 'POST',
       headers: { 'Content-Type': 'application/json' },
       body: JSON.stringify({ email, password: 'the first passphrase', name: 'Cara Sifter' }),
     });
     expect(created.status).toBe(201);
-    const asked = await fetch(`${stack.url}/api/auth/password-reset`, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ email }) });
+    const asked = await fetch(`${e2e.stack.url}/api/auth/password-reset`, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ email }) });
     expect(asked.status).toBe(202);
-    const link = linkTo(await waitForMail(stack.env.MAIL_OUTBOX_URL!, email, /password|reset/i), '/reset-password');
+    const link = linkTo(await waitForMail(e2e.stack.env.MAIL_OUTBOX_URL!, email, /password|reset/i), '/reset-password');
     const token = new URL(link).searchParams.get('token')!;
 
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     const sent: string[] = [];
     page.on('request', (r) => {
       if (r.url().includes('/api/auth/password-reset')) sent.push(new URL(r.url()).pathname);
@@ -205,7 +195,7 @@ describe('mailed links in the browser', () => {
     await screenshot(page, 'reset-link-good');
 
     // the hour runs out while the page is open: saving still says so, with the way to a new link
-    await stack.deps.db.update(emailTokens).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(emailTokens.tokenHash, sha256Hex(token)));
+    await e2e.stack.deps.db.update(emailTokens).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(emailTokens.tokenHash, sha256Hex(token)));
     await page.getByLabel('New password').fill('the second passphrase');
     await page.getByLabel('Repeat it').fill('the second passphrase');
     await page.getByRole('button', { name: 'Save password' }).click();

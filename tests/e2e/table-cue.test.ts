@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, test } from 'vitest';
-import type { Browser, Page } from 'playwright-core';
-import { DEMO_SIGN_INS, seedDemo } from '../../api/src/seed/demo.js';
-import { launchBrowser, newPage, screenshot, signIn } from './browser.js';
-import { startStack, type Stack } from './stack.js';
+import { describe, expect, test } from 'vitest';
+import type { Page } from 'playwright-core';
+import { DEMO_SIGN_INS } from '../../api/src/seed/demo.js';
+import { newPage, screenshot, signIn } from './browser.js';
+import { useStackInBrowser } from './farm-in-browser.js';
 
 const TABLET = { width: 768, height: 1024 };
 const LAPTOP = { width: 1280, height: 800 };
@@ -39,21 +39,11 @@ async function expectCuesWhereColumnsHide(page: Page, name: string) {
  * edge the frame says so with a soft fade there, and only then.
  */
 describe('the cue on wide tables', { timeout: 90_000 }, () => {
-  let stack: Stack;
-  let browser: Browser;
-  beforeAll(async () => {
-    stack = await startStack();
-    await seedDemo(stack.env);
-    browser = await launchBrowser();
-  });
-  afterAll(async () => {
-    await browser?.close();
-    await stack?.close();
-  });
+  const e2e = useStackInBrowser({ demo: true });
 
   test('at 768 px the runs table shows it until scrolled to its last column; at 1,280 px it never shows', async () => {
     const author = DEMO_SIGN_INS.find((s) => s.role === 'author')!;
-    const page = await newPage(browser, stack.url);
+    const page = await newPage(e2e.browser, e2e.stack.url);
     await page.setViewportSize(TABLET);
     await signIn(page, author.email, author.password);
     await page.goto('/runs');
@@ -105,7 +95,7 @@ describe('the cue on wide tables', { timeout: 90_000 }, () => {
     let overflowing = 0;
     for (const role of ['author', 'manager', 'admin'] as const) {
       const who = DEMO_SIGN_INS.find((s) => s.role === role)!;
-      const page = await newPage(browser, stack.url);
+      const page = await newPage(e2e.browser, e2e.stack.url);
       await page.setViewportSize(TABLET);
       await signIn(page, who.email, who.password);
       for (const v of visits.filter((x) => x.role === role)) {
