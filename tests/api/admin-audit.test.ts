@@ -95,7 +95,7 @@ describe('publication in the trail', () => {
   });
 });
 
-describe('runs in the trail', () => {
+describe('runs and series in the trail', () => {
   it('names a run by its title and links its page, which a site admin may open', async () => {
     const created = await as(h.http.post('/api/runs'), s.writer).send({ labId, title: `Audited run ${h.tag}`, spec: { lattice: { preset: 'square' }, chips: 5 } });
     expect(created.status).toBe(201);
@@ -103,6 +103,15 @@ describe('runs in the trail', () => {
     const events = (await trail(`labId=${labId}&kind=run.`)).filter((e) => e.subjectId === id);
     expect(events.map((e) => [e.action, e.actorName, e.subjectName, e.subjectHref])).toEqual([['run.create', 'Audit Writer', `Audited run ${h.tag}`, `/runs/${id}`]]);
     expect((await as(h.http.get(`/api/runs/${id}`), s.admin)).status).toBe(200);
+  });
+
+  it('names a series by its title and links its page, which a site admin may open', async () => {
+    const created = await as(h.http.post('/api/series'), s.writer).send({ labId, title: `Audited series ${h.tag}`, spec: { lattice: { preset: 'square' } }, chips: [5, 20] });
+    expect(created.status).toBe(201);
+    const id: string = created.body.series.id;
+    const events = (await trail(`labId=${labId}&kind=series.`)).filter((e) => e.subjectId === id);
+    expect(events.map((e) => [e.action, e.subjectName, e.subjectHref])).toEqual([['series.create', `Audited series ${h.tag}`, `/series/${id}`]]);
+    expect((await as(h.http.get(`/api/series/${id}`), s.admin)).status).toBe(200);
   });
 });
 

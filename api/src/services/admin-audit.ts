@@ -1,6 +1,6 @@
 import { and, desc, eq, gte, like, lt, or, sql } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/pg-core';
-import { auditEvents, figures, labs, runs, users } from '../../../drizzle/schema.js';
+import { auditEvents, figures, labs, runs, series, users } from '../../../drizzle/schema.js';
 import type { AuditEvent, auditQuerySchema } from '../../../shared/api/admin.js';
 import type { z } from 'zod';
 import type { Db } from '../db/client.js';
@@ -18,13 +18,14 @@ const nextDay = (day: string) => new Date(Date.parse(`${day}T00:00:00Z`) + 86400
 export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
   const kind = q.kind ? (q.kind.endsWith('.') ? like(auditEvents.action, `${q.kind}%`) : eq(auditEvents.action, q.kind)) : undefined;
   const rows = await db
-    .select({ e: auditEvents, actorName: users.name, labName: labs.name, personName: subjectUser.name, figure: { title: figures.title, slug: figures.slug }, runTitle: runs.title })
+    .select({ e: auditEvents, actorName: users.name, labName: labs.name, personName: subjectUser.name, figure: { title: figures.title, slug: figures.slug }, runTitle: runs.title, seriesTitle: series.title })
     .from(auditEvents)
     .leftJoin(users, eq(users.id, auditEvents.actorId))
     .leftJoin(labs, eq(labs.id, auditEvents.labId))
     .leftJoin(subjectUser, and(eq(auditEvents.subjectType, 'user'), eq(sql`${subjectUser.id}::text`, auditEvents.subjectId)))
     .leftJoin(figures, and(eq(auditEvents.subjectType, 'figure'), eq(sql`${figures.id}::text`, auditEvents.subjectId)))
     .leftJoin(runs, and(eq(auditEvents.subjectType, 'run'), eq(sql`${runs.id}::text`, auditEvents.subjectId)))
+    .leftJoin(series, and(eq(auditEvents.subjectType, 'series'), eq(sql`${series.id}::text`, auditEvents.subjectId)))
     .where(
       and(
         q.labId ? eq(auditEvents.labId, q.labId) : undefined,
@@ -37,7 +38,7 @@ export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
     )
     .orderBy(desc(auditEvents.at), desc(auditEvents.id))
     .limit(q.limit);
-  return rows.map(({ e, actorName, labName, personName, figure, runTitle }) => ({
+  return rows.map(({ e, actorName, labName, personName, figure, runTitle, seriesTitle }) => ({
     id: e.id,
     at: e.at.toISOString(),
     actorId: e.actorId,
@@ -47,13 +48,19 @@ export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
     action: e.action,
     subjectType: e.subjectType,
     subjectId: e.subjectId,
-    subjectName: personName ?? figure?.title ?? runTitle ?? null,
+    subjectName: personName ?? figure?.title ?? runTitle ?? seriesTitle ?? null,
     // site admins read every figure's lab page, drafts and withdrawn ones included (figureAccess)
-    // and every run page (lab access in read mode lets site admins in: checkLabAccess)
-    subjectHref: figure ? `/lab/figures/${encodeURIComponent(figure.slug)}` : runTitle !== null && e.subjectId ? `/runs/${e.subjectId}` : null,
+    // and every run's and series' page (lab access in read mode lets site admins in: checkLabAccess)
+    subjectHref: subjectHref(e.subjectId, figure?.slug ?? null, runTitle !== null, seriesTitle !== null),
     reason: e.reason,
     detail: (e.detail as Record<string, unknown> | null) ?? null,
   }));
+}
+
+function subjectHref(id: string | null, figureSlug: string | null, isRun: boolean, isSeries: boolean): string | null {
+  if (figureSlug !== null) return `/lab/figures/${encodeURIComponent(figureSlug)}`;
+  if (id === null) return null;
+  return isRun ? `/runs/${id}` : isSeries ? `/series/${id}` : null;
 }
 
 /** Every action name recorded so far, for the kind filter. */

@@ -18,7 +18,7 @@ const columns: Column<AuditEvent>[] = [
   { key: 'detail', header: 'Detail', cell: (e) => <span className="text-xs text-ink-soft">{auditDetailText(e.detail)}</span> },
 ];
 
-/** A person by name; a figure or a run by its kind and title, linked to its page; anything else by its kind. */
+/** A person by name; a figure, run or series by its kind and title, linked to its page; anything else by its kind. */
 function AuditSubject({ event: e }: { event: AuditEvent }) {
   if (e.subjectName === null) return <span className="text-ink-faint">{e.subjectType ?? '—'}</span>;
   if (e.subjectType === 'user') return <>{e.subjectName}</>;
