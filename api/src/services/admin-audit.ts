@@ -51,16 +51,17 @@ export async function auditTrail(db: Db, q: AuditQuery): Promise<AuditEvent[]> {
     subjectName: personName ?? figure?.title ?? runTitle ?? seriesTitle ?? null,
     // site admins read every figure's lab page, drafts and withdrawn ones included (figureAccess)
     // and every run's and series' page (lab access in read mode lets site admins in: checkLabAccess)
-    subjectHref: subjectHref(e.subjectId, figure?.slug ?? null, runTitle !== null, seriesTitle !== null),
+    subjectHref: figure || runTitle !== null || seriesTitle !== null ? subjectHref(e.subjectType, e.subjectId, figure?.slug ?? null) : null,
     reason: e.reason,
     detail: (e.detail as Record<string, unknown> | null) ?? null,
   }));
 }
 
-function subjectHref(id: string | null, figureSlug: string | null, isRun: boolean, isSeries: boolean): string | null {
-  if (figureSlug !== null) return `/lab/figures/${encodeURIComponent(figureSlug)}`;
+/** The page of an event's subject that still exists, for the kinds that have one (a figure's address is its slug). */
+function subjectHref(type: string | null, id: string | null, figureSlug: string | null): string | null {
+  if (type === 'figure') return figureSlug === null ? null : `/lab/figures/${encodeURIComponent(figureSlug)}`;
   if (id === null) return null;
-  return isRun ? `/runs/${id}` : isSeries ? `/series/${id}` : null;
+  return type === 'run' ? `/runs/${id}` : type === 'series' ? `/series/${id}` : null;
 }
 
 /** Every action name recorded so far, for the kind filter. */

@@ -153,20 +153,27 @@ export function foldGrid(grid: ScaleGrid, g: LatticeGraph, f: Fold, base: number
  * what it toppled) and empties the sinks. Pushes the cells that became unstable; returns how many.
  */
 export function restoreBoundary(grid: ScaleGrid, fb: FoldedBoundary, stack: UnstableStack): number {
-  const { h, od } = grid;
+  const { h } = grid;
   for (let s = 0; s < fb.sinks.length; s++) h[fb.sinks[s]!] = -FROZEN;
   stack.reserve(fb.cells.length);
   let pushed = 0;
   for (let c = 0; c < fb.cells.length; c++) {
     const i = fb.cells[c]!;
     const d = fb.deg[c]!;
-    let v = fb.base + (i === fb.origin ? fb.chips : 0) - d * od[i]!;
-    for (let e = fb.from[c]!, e1 = fb.from[c + 1]!; e < e1; e++) v += od[fb.sources[e]!]!;
+    const v = boundaryHeight(grid, fb, c);
     const old = h[i]!;
     h[i] = v;
     if (old < d && v >= d) (stack.data[stack.sp++] = i), pushed++;
   }
   return pushed;
+}
+
+/** The true height of boundary cell c of the fold (its odometer and its mirrored in-neighbours'), in doubles. */
+function boundaryHeight({ od }: Pick<ScaleGrid, 'od'>, fb: FoldedBoundary, c: number): number {
+  const i = fb.cells[c]!;
+  let v = fb.base + (i === fb.origin ? fb.chips : 0) - fb.deg[c]! * od[i]!;
+  for (let e = fb.from[c]!, e1 = fb.from[c + 1]!; e < e1; e++) v += od[fb.sources[e]!]!;
+  return v;
 }
 
 /**
@@ -175,16 +182,12 @@ export function restoreBoundary(grid: ScaleGrid, fb: FoldedBoundary, stack: Unst
  * the mirrored in-neighbours as restoreBoundary will, inside ±limit.
  */
 export function unfitSeedHarmless(grid: ScaleGrid, fb: FoldedBoundary, unfit: readonly number[], limit: number): boolean {
-  const { h, od } = grid;
   const at = new Map<number, number>();
   for (let c = 0; c < fb.cells.length; c++) at.set(fb.cells[c]!, c);
   return unfit.every((i) => {
-    if (h[i] === -FROZEN) return true;
+    if (grid.h[i] === -FROZEN) return true;
     const c = at.get(i);
-    if (c === undefined) return false;
-    let v = fb.base + (i === fb.origin ? fb.chips : 0) - fb.deg[c]! * od[i]!;
-    for (let e = fb.from[c]!, e1 = fb.from[c + 1]!; e < e1; e++) v += od[fb.sources[e]!]!;
-    return Math.abs(v) < limit;
+    return c !== undefined && Math.abs(boundaryHeight(grid, fb, c)) < limit;
   });
 }
 

@@ -1,3 +1,5 @@
+import { capitalized } from '../../labels.js';
+
 /**
  * The composer's refused settings in the words of its own fields: the proof lists "Panel 1: region
  * needs …" and "Top margin: must be at least 0", never the schema's paths ("panels.0.region",
@@ -5,8 +7,6 @@
  */
 
 type Path = readonly PropertyKey[];
-
-const capitalise = (s: string) => s.charAt(0).toUpperCase() + s.slice(1);
 
 /** Panel fields under the labels the panel editor gives them. */
 const PANEL_FIELDS: Record<string, string> = {
@@ -39,9 +39,9 @@ export function fieldOfPath(path: Path): string {
   }
   if (head === 'grid') return typeof rest[0] === 'string' ? GRID_FIELDS[rest[0]] ?? 'Grid' : 'Grid';
   if (head === 'size') return typeof rest[0] === 'string' && SIZE_FIELDS[rest[0]] ? `Page ${SIZE_FIELDS[rest[0]]!.toLowerCase()}` : 'Page size';
-  if (head === 'margins') return typeof rest[0] === 'string' ? `${capitalise(rest[0])} margin` : 'Margins';
+  if (head === 'margins') return typeof rest[0] === 'string' ? `${capitalized(rest[0])} margin` : 'Margins';
   if (head === 'caption') return rest[0] === 'fontPt' ? 'Caption size' : 'Caption';
-  return TOP_FIELDS[String(head)] ?? capitalise(String(head));
+  return TOP_FIELDS[String(head)] ?? capitalized(String(head));
 }
 
 /** One line per refused setting, for the proof's "not valid yet" list. */
